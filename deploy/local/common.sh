@@ -1,0 +1,46 @@
+# Shared settings for stack-up.sh and stack-down.sh (sourced, not run).
+# Every path and port can be moved with an environment variable so that several checkouts,
+# or a checkout and CI, can live on one machine.
+
+LOCAL_DIR="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"
+REPO_ROOT="$(cd "$LOCAL_DIR/../.." && pwd)"
+
+STACK_DIR="${STREAMFENCE_STACK_DIR:-$REPO_ROOT/.stack}"
+CACHE_DIR="${STREAMFENCE_CACHE:-${XDG_CACHE_HOME:-$HOME/.cache}/streamfence}"
+
+KAFKA_VERSION="$(sed -n 's:.*<kafka.version>\(.*\)</kafka.version>.*:\1:p' "$LOCAL_DIR/kafka/pom.xml")"
+KAFKA_HOME="$CACHE_DIR/kafka-$KAFKA_VERSION"
+KAFKA_PORT="${STREAMFENCE_KAFKA_PORT:-9092}"
+KAFKA_CONTROLLER_PORT="${STREAMFENCE_KAFKA_CONTROLLER_PORT:-9093}"
+KAFKA_DIR="$STACK_DIR/kafka"
+KAFKA_PID_FILE="$KAFKA_DIR/kafka.pid"
+KAFKA_BROKERS="127.0.0.1:$KAFKA_PORT"
+
+# The machine's Redis is used when it answers; otherwise we start our own on this port.
+REDIS_URL_WANTED="${STREAMFENCE_REDIS_URL:-redis://127.0.0.1:6379}"
+OWN_REDIS_PORT="${STREAMFENCE_STACK_REDIS_PORT:-6390}"
+REDIS_DIR="$STACK_DIR/redis"
+REDIS_PID_FILE="$REDIS_DIR/redis.pid"
+
+ENV_FILE="$STACK_DIR/env"
+
+say() { printf 'stack: %s\n' "$*"; }
+die() {
+  printf 'stack: ERROR: %s\n' "$*" >&2
+  exit 1
+}
+
+# True when pid file names a live process whose command line contains the marker; guards against
+# a stale pid file whose number the kernel has since given to an unrelated process.
+pid_alive() {
+  local file="$1" marker="$2" pid
+  [[ -f "$file" ]] || return 1
+  pid="$(cat "$file" 2>/dev/null)"
+  [[ "$pid" =~ ^[0-9]+$ ]] || return 1
+  [[ -r "/proc/$pid/cmdline" ]] || return 1
+  tr '\0' ' ' <"/proc/$pid/cmdline" | grep -qF -- "$marker"
+}
+
+port_open() {
+  timeout 1 bash -c "exec 3<>/dev/tcp/127.0.0.1/$1" 2>/dev/null
+}
