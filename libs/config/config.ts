@@ -1,0 +1,190 @@
+/**
+ * The engine config file: `{ defaults: {...}, sensors: [ { match: "<glob>", ...overrides } ] }`.
+ * Validation refuses unknown keys, wrong types and contradictions with a message that names the
+ * key and says what to change. The first `sensors` entry whose glob matches a sensor id wins.
+ */
+import picomatch from 'picomatch';
+import YAML from 'yaml';
+import { StreamfenceError } from '../errors/index.js';
+import { parseDuration, formatDuration } from './duration.js';
+import { DEFAULT_SETTINGS, SETTING_BOUNDS, SETTING_KEYS, type SensorSettings } from './settings.js';
+
+export interface SensorRule {
+  match: string;
+  overrides: Partial<SensorSettings>;
+}
+
+export interface EngineConfig {
+  defaults: SensorSettings;
+  sensors: SensorRule[];
+}
+
+export function defaultConfig(): EngineConfig {
+  return { defaults: { ...DEFAULT_SETTINGS }, sensors: [] };
+}
+
+/** Parse config text (YAML is a superset of JSON, so one parser reads both). */
+export function parseConfigText(text: string, source = 'config'): EngineConfig {
+  let raw: unknown;
+  try {
+    raw = YAML.parse(text);
+  } catch (e) {
+    throw new StreamfenceError('CONFIG_INVALID', `${source}: not valid YAML or JSON (${(e as Error).message.split('\n')[0]})`);
+  }
+  return validateConfig(raw ?? {}, source);
+}
+
+export function validateConfig(raw: unknown, source = 'config'): EngineConfig {
+  if (typeof raw !== 'object' || raw === null || Array.isArray(raw)) {
+    throw new StreamfenceError('CONFIG_INVALID', `${source}: the top level must be an object with "defaults" and/or "sensors"`);
+  }
+  const top = raw as Record<string, unknown>;
+  for (const k of Object.keys(top)) {
+    if (k !== 'defaults' && k !== 'sensors') {
+      throw new StreamfenceError('CONFIG_UNKNOWN_KEY', `${source}: unknown top-level key "${k}"; allowed: defaults, sensors`);
+    }
+  }
+  const defaultsPart = parseSettings(top.defaults ?? {}, `${source}: defaults`, false);
+  const defaults: SensorSettings = { ...DEFAULT_SETTINGS, ...defaultsPart };
+  checkContradictions(defaults, `${source}: defaults`);
+
+  const sensors: SensorRule[] = [];
+  if (top.sensors !== undefined) {
+    if (!Array.isArray(top.sensors)) {
+      throw new StreamfenceError('CONFIG_INVALID', `${source}: "sensors" must be a list of { match: "<glob>", ...overrides }`);
+    }
+    top.sensors.forEach((entry, i) => {
+      const where = `${source}: sensors[${i}]`;
+      if (typeof entry !== 'object' || entry === null || Array.isArray(entry)) {
+        throw new StreamfenceError('CONFIG_INVALID', `${where} must be an object with a "match" glob`);
+      }
+      const { match, ...rest } = entry as Record<string, unknown>;
+      if (typeof match !== 'string' || match.length === 0) {
+        throw new StreamfenceError('CONFIG_INVALID', `${where}: "match" must be a non-empty glob on the sensor id`);
+      }
+      const overrides = parseSettings(rest, where, true);
+      checkContradictions({ ...defaults, ...overrides }, `${where} (match "${match}")`);
+      sensors.push({ match, overrides });
+    });
+  }
+  return { defaults, sensors };
+}
+
+type Parsed = Partial<SensorSettings>;
+
+function parseSettings(raw: unknown, where: string, isOverride: boolean): Parsed {
+  if (typeof raw !== 'object' || raw === null || Array.isArray(raw)) {
+    throw new StreamfenceError('CONFIG_INVALID', `${where} must be an object of settings`);
+  }
+  const out: Record<string, unknown> = {};
+  for (const [k, v] of Object.entries(raw as Record<string, unknown>)) {
+    if (!(SETTING_KEYS as string[]).includes(k)) {
+      throw new StreamfenceError(
+        'CONFIG_UNKNOWN_KEY',
+        `${where}: unknown key "${k}"; allowed: ${isOverride ? 'match, ' : ''}${SETTING_KEYS.join(', ')}`,
+      );
+    }
+    out[k] = parseOne(k as keyof SensorSettings, v, where);
+  }
+  return out as Parsed;
+}
+
+function bad(where: string, key: string, want: string, got: unknown): never {
+  throw new StreamfenceError('CONFIG_INVALID', `${where}: "${key}" must be ${want}, got ${JSON.stringify(got)}`);
+}
+
+function parseOne(key: keyof SensorSettings, v: unknown, where: string): unknown {
+  const positive = (want = 'a positive number') => {
+    if (typeof v !== 'number' || !Number.isFinite(v) || v <= 0) bad(where, key, want, v);
+    return v;
+  };
+  const count = (min: number, max = Number.MAX_SAFE_INTEGER) => {
+    if (typeof v !== 'number' || !Number.isInteger(v) || v < min || v > max) {
+      bad(where, key, `a whole number from ${min} to ${max}`, v);
+    }
+    return v;
+  };
+  switch (key) {
+    case 'fenceK':
+    case 'outerK':
+    case 'zLimit':
+    case 'zCritical':
+      return positive();
+    case 'trigger':
+      if (v !== 'fence' && v !== 'z' && v !== 'either' && v !== 'both') bad(where, key, 'one of fence, z, either, both', v);
+      return v;
+    case 'direction':
+      if (v !== 'both' && v !== 'high' && v !== 'low') bad(where, key, 'one of both, high, low', v);
+      return v;
+    case 'min':
+    case 'max':
+      if (v === null) return null;
+      if (typeof v !== 'number' || !Number.isFinite(v)) bad(where, key, 'a finite number or null', v);
+      return v;
+    case 'minSamples':
+      return count(2);
+    case 'flatlineAfter':
+      return count(0);
+    case 'raiseAfter':
+      return count(1, SETTING_BOUNDS.maxRaiseWindow);
+    case 'raiseWindow':
+      return count(1, SETTING_BOUNDS.maxRaiseWindow);
+    case 'clearAfter':
+      return count(1);
+    case 'buckets':
+      return count(1, SETTING_BOUNDS.maxBuckets);
+    case 'learnWhileRaised':
+      if (typeof v !== 'boolean') bad(where, key, 'true or false', v);
+      return v;
+    case 'window': {
+      const ms = parseDuration(v);
+      if (ms === null || ms < SETTING_BOUNDS.minWindowMs || ms > SETTING_BOUNDS.maxWindowMs) {
+        bad(where, key, `a duration from 1s to 31d such as "24h" or "90m"`, v);
+      }
+      return ms;
+    }
+  }
+}
+
+function contradiction(where: string, msg: string): never {
+  throw new StreamfenceError('CONFIG_CONTRADICTION', `${where}: ${msg}`);
+}
+
+function checkContradictions(s: SensorSettings, where: string): void {
+  if (s.outerK <= s.fenceK) contradiction(where, `outerK (${s.outerK}) must be greater than fenceK (${s.fenceK})`);
+  if (s.zCritical <= s.zLimit) contradiction(where, `zCritical (${s.zCritical}) must be greater than zLimit (${s.zLimit})`);
+  if (s.raiseAfter > s.raiseWindow) {
+    contradiction(where, `raiseAfter (${s.raiseAfter}) cannot exceed raiseWindow (${s.raiseWindow})`);
+  }
+  if (s.min !== null && s.max !== null && s.min >= s.max) contradiction(where, `min (${s.min}) must be below max (${s.max})`);
+  if (s.window % s.buckets !== 0) {
+    contradiction(where, `window (${formatDuration(s.window)}) must split evenly into ${s.buckets} buckets`);
+  }
+}
+
+/** Resolves the effective settings of a sensor id: the first matching rule wins over defaults. */
+export class SettingsResolver {
+  private readonly matchers: { test: (s: string) => boolean; settings: SensorSettings }[];
+  constructor(readonly config: EngineConfig) {
+    this.matchers = config.sensors.map((r) => ({
+      test: picomatch(r.match, { dot: true }),
+      settings: Object.freeze({ ...config.defaults, ...r.overrides }),
+    }));
+    Object.freeze(config.defaults);
+  }
+
+  resolve(sensor: string): SensorSettings {
+    for (const m of this.matchers) if (m.test(sensor)) return m.settings;
+    return this.config.defaults;
+  }
+}
+
+/** The config as plain JSON (window as a duration string), suitable for summaries and as a --config file. */
+export function configToJson(c: EngineConfig): Record<string, unknown> {
+  const conv = (s: Partial<SensorSettings>) => {
+    const o: Record<string, unknown> = { ...s };
+    if (s.window !== undefined) o.window = formatDuration(s.window);
+    return o;
+  };
+  return { defaults: conv(c.defaults), sensors: c.sensors.map((r) => ({ match: r.match, ...conv(r.overrides) })) };
+}

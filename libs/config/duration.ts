@@ -1,0 +1,17 @@
+/** Durations in config and on the command line: "250ms", "30s", "15m", "24h", "7d" or plain milliseconds. */
+const UNIT_MS: Record<string, number> = { ms: 1, s: 1000, m: 60_000, h: 3_600_000, d: 86_400_000 };
+
+export function parseDuration(raw: unknown): number | null {
+  if (typeof raw === 'number') return Number.isFinite(raw) && raw >= 0 ? raw : null;
+  if (typeof raw !== 'string') return null;
+  const m = /^\s*(\d+(?:\.\d+)?)\s*(ms|s|m|h|d)?\s*$/.exec(raw);
+  if (!m) return null;
+  return Math.round(Number(m[1]) * UNIT_MS[m[2] ?? 'ms']);
+}
+
+export function formatDuration(ms: number): string {
+  for (const [u, f] of [['d', 86_400_000], ['h', 3_600_000], ['m', 60_000], ['s', 1000]] as const) {
+    if (ms >= f && ms % f === 0) return `${ms / f}${u}`;
+  }
+  return `${ms}ms`;
+}

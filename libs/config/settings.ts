@@ -1,0 +1,69 @@
+/**
+ * Per-sensor detection settings: the config keys, their defaults and their meaning.
+ * One table drives validation, documentation and the effective config in summaries.
+ */
+export type Trigger = 'fence' | 'z' | 'either' | 'both';
+export type Direction = 'both' | 'high' | 'low';
+
+export interface SensorSettings {
+  /** Inner Tukey fence multiplier: Q1 - k*IQR, Q3 + k*IQR -> warning. */
+  fenceK: number;
+  /** Outer fence multiplier -> critical. Must exceed fenceK. */
+  outerK: number;
+  /** |z| above this -> warning. */
+  zLimit: number;
+  /** |z| above this -> critical. Must exceed zLimit. */
+  zCritical: number;
+  /** Which statistical rules flag a reading. */
+  trigger: Trigger;
+  /** Which side is abnormal for this sensor. */
+  direction: Direction;
+  /** Physical lower limit: a reading below it is critical (limit_low). */
+  min: number | null;
+  /** Physical upper limit: a reading above it is critical (limit_high). */
+  max: number | null;
+  /** Readings needed in the baseline before any statistical judgement. */
+  minSamples: number;
+  /** Identical consecutive readings that make a stuck sensor (0 turns the rule off). */
+  flatlineAfter: number;
+  /** Flagged readings among the last raiseWindow needed to raise an alert. */
+  raiseAfter: number;
+  raiseWindow: number;
+  /** Consecutive unflagged readings needed to clear a raised alert. */
+  clearAfter: number;
+  /** Baseline window length in milliseconds (config accepts "24h", "90m", "3600s" or ms). */
+  window: number;
+  /** Number of buckets the window is split into; the window must divide evenly. */
+  buckets: number;
+  /** Whether readings taken while an alert is raised feed the baseline. */
+  learnWhileRaised: boolean;
+}
+
+export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
+  fenceK: 1.5,
+  outerK: 3,
+  zLimit: 3,
+  zCritical: 5,
+  trigger: 'either',
+  direction: 'both',
+  min: null,
+  max: null,
+  minSamples: 100,
+  flatlineAfter: 60,
+  raiseAfter: 1,
+  raiseWindow: 1,
+  clearAfter: 3,
+  window: 24 * 3600 * 1000,
+  buckets: 12,
+  learnWhileRaised: true,
+});
+
+export const SETTING_KEYS = Object.keys(DEFAULT_SETTINGS) as (keyof SensorSettings)[];
+
+/** Hard ceilings that keep per-sensor memory bounded whatever the config says. */
+export const SETTING_BOUNDS = {
+  maxBuckets: 48,
+  maxRaiseWindow: 64,
+  minWindowMs: 1000,
+  maxWindowMs: 31 * 24 * 3600 * 1000,
+} as const;

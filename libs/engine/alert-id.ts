@@ -1,0 +1,9 @@
+/**
+ * Alert ids are a pure function of the sensor and the raising reading (its event time and its
+ * position in the sensor's lifetime), so replays, live runs and restarts give the same id.
+ */
+import { createHash } from 'node:crypto';
+
+export function alertId(sensor: string, ts: number, seen: number): string {
+  return createHash('sha256').update(`${sensor}\u0000${ts}\u0000${seen}`).digest('hex').slice(0, 24);
+}

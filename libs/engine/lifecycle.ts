@@ -1,0 +1,87 @@
+/**
+ * Alert lifecycle of one sensor: debounce on the way up (raiseAfter of the last raiseWindow
+ * readings flagged, the current one included), hysteresis on the way down (clearAfter
+ * consecutive unflagged readings), and `updated` when the severity changes while raised.
+ */
+import type { SensorSettings } from '../config/settings.js';
+import { alertId } from './alert-id.js';
+import type { Severity } from './judge.js';
+
+export interface ActiveAlert {
+  id: string;
+  severity: Severity;
+  reasons: string[];
+  raisedTs: number;
+  flaggedReadings: number;
+  clearRun: number;
+}
+
+export interface LifecycleState {
+  /** Ring of the last raiseWindow flags (1 = flagged). */
+  ring: Uint8Array;
+  ringPos: number;
+  ringFlagged: number;
+  active: ActiveAlert | null;
+}
+
+export type Transition = 'raised' | 'updated' | 'cleared' | null;
+
+export function newLifecycle(s: SensorSettings): LifecycleState {
+  return { ring: new Uint8Array(s.raiseWindow), ringPos: 0, ringFlagged: 0, active: null };
+}
+
+/**
+ * Advance the lifecycle by one judged reading (`seen` is its lifetime position, part of the id).
+ * Returns the transition, if any; the state is updated in place.
+ */
+export function step(
+  st: LifecycleState,
+  s: SensorSettings,
+  flagged: boolean,
+  severity: Severity | null,
+  reasons: string[],
+  sensor: string,
+  ts: number,
+  seen: number,
+): Transition {
+  const bit = flagged ? 1 : 0;
+  st.ringFlagged += bit - st.ring[st.ringPos];
+  st.ring[st.ringPos] = bit;
+  st.ringPos = (st.ringPos + 1) % st.ring.length;
+
+  const a = st.active;
+  if (a === null) {
+    if (flagged && st.ringFlagged >= s.raiseAfter) {
+      st.active = {
+        id: alertId(sensor, ts, seen),
+        severity: severity!,
+        reasons,
+        raisedTs: ts,
+        flaggedReadings: st.ringFlagged,
+        clearRun: 0,
+      };
+      return 'raised';
+    }
+    return null;
+  }
+  if (flagged) {
+    a.clearRun = 0;
+    a.flaggedReadings += 1;
+    if (severity !== a.severity) {
+      a.severity = severity!;
+      a.reasons = reasons;
+      return 'updated';
+    }
+    a.reasons = reasons;
+    return null;
+  }
+  a.clearRun += 1;
+  if (a.clearRun >= s.clearAfter) {
+    // Forget the debounce history so flags from before the clear cannot re-raise at once.
+    st.ring.fill(0);
+    st.ringFlagged = 0;
+    st.active = null;
+    return 'cleared';
+  }
+  return null;
+}

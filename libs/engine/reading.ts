@@ -1,0 +1,151 @@
+/**
+ * Reading validation: every input line or message becomes either an accepted Reading or a
+ * rejection with a stable reason code. Nothing is dropped without a reason.
+ */
+export interface Reading {
+  sensor: string;
+  /** Event time, epoch milliseconds. */
+  ts: number;
+  value: number;
+}
+
+export type RejectReason =
+  | 'line_too_long'
+  | 'not_json'
+  | 'not_object'
+  | 'sensor_missing'
+  | 'sensor_empty'
+  | 'sensor_too_long'
+  | 'sensor_bad_chars'
+  | 'value_missing'
+  | 'value_not_number'
+  | 'value_not_finite'
+  | 'ts_missing'
+  | 'ts_invalid'
+  | 'ts_out_of_range'
+  | 'late';
+
+export const REJECT_REASONS: readonly RejectReason[] = [
+  'line_too_long',
+  'not_json',
+  'not_object',
+  'sensor_missing',
+  'sensor_empty',
+  'sensor_too_long',
+  'sensor_bad_chars',
+  'value_missing',
+  'value_not_number',
+  'value_not_finite',
+  'ts_missing',
+  'ts_invalid',
+  'ts_out_of_range',
+  'late',
+];
+
+/** Documented input limits. */
+export const LIMITS = {
+  /** Longest accepted input line or message, in characters. */
+  maxLineLength: 65_536,
+  /** Longest sensor id, in characters. */
+  maxSensorLength: 200,
+  /** Accepted event times: 1970-01-01T00:00:00Z up to 9999-12-31T23:59:59.999Z. */
+  minTs: 0,
+  maxTs: 253_402_300_799_999,
+} as const;
+
+export type ParseResult = { ok: true; reading: Reading } | { ok: false; reason: RejectReason; detail: string };
+
+const reject = (reason: RejectReason, detail: string): ParseResult => ({ ok: false, reason, detail });
+
+// ISO-8601 date-time with an explicit zone; a time without a zone would be read in the host's
+// zone, so two machines could disagree about the same reading.
+const ISO_RE = /^\d{4}-\d{2}-\d{2}[T ]\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?(Z|[+-]\d{2}:?\d{2})$/i;
+// C0 and C1 control characters (and DEL) are refused in sensor ids: they break logs, terminals and keys.
+// eslint-disable-next-line no-control-regex
+const CONTROL_RE = /[\u0000-\u001f\u007f-\u009f]/;
+
+export function parseTimestamp(raw: unknown): { ok: true; ts: number } | { ok: false; reason: RejectReason; detail: string } {
+  let ts: number;
+  if (typeof raw === 'number') {
+    if (!Number.isFinite(raw)) return { ok: false, reason: 'ts_invalid', detail: 'timestamp is not a finite number' };
+    ts = Math.round(raw);
+  } else if (typeof raw === 'string') {
+    const s = raw.trim();
+    if (/^-?\d+(\.\d+)?$/.test(s)) {
+      ts = Math.round(Number(s));
+    } else {
+      if (!ISO_RE.test(s)) {
+        return { ok: false, reason: 'ts_invalid', detail: `timestamp "${clip(s)}" is not ISO-8601 with a zone (e.g. 2026-05-01T08:00:00Z) nor epoch milliseconds` };
+      }
+      ts = Date.parse(s.replace(' ', 'T'));
+      if (Number.isNaN(ts)) return { ok: false, reason: 'ts_invalid', detail: `timestamp "${clip(s)}" is not a real date` };
+    }
+  } else if (raw === undefined || raw === null) {
+    return { ok: false, reason: 'ts_missing', detail: 'field "ts" is missing' };
+  } else {
+    return { ok: false, reason: 'ts_invalid', detail: 'field "ts" must be an ISO-8601 string or epoch milliseconds' };
+  }
+  if (ts < LIMITS.minTs || ts > LIMITS.maxTs) {
+    return { ok: false, reason: 'ts_out_of_range', detail: `timestamp ${ts} is outside 1970..9999` };
+  }
+  return { ok: true, ts };
+}
+
+/** Validate the three fields, whatever the container (JSON object or CSV row). */
+export function validateFields(sensor: unknown, ts: unknown, value: unknown, valueFromText = false): ParseResult {
+  if (sensor === undefined || sensor === null) return reject('sensor_missing', 'field "sensor" is missing');
+  if (typeof sensor !== 'string') return reject('sensor_missing', 'field "sensor" must be a string');
+  if (sensor.length === 0 || sensor.trim().length === 0) return reject('sensor_empty', 'field "sensor" is empty');
+  if (sensor.length > LIMITS.maxSensorLength) {
+    return reject('sensor_too_long', `sensor id has ${sensor.length} characters; the limit is ${LIMITS.maxSensorLength}`);
+  }
+  if (CONTROL_RE.test(sensor)) return reject('sensor_bad_chars', 'sensor id contains control characters');
+
+  let v: number;
+  if (value === undefined || value === null || (valueFromText && value === '')) {
+    return reject('value_missing', 'field "value" is missing');
+  }
+  if (typeof value === 'number') {
+    v = value;
+  } else if (valueFromText && typeof value === 'string' && /^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$/.test(value)) {
+    v = Number(value);
+  } else if (valueFromText && typeof value === 'string' && /^\s*[-+]?(inf|infinity|nan)\s*$/i.test(value)) {
+    return reject('value_not_finite', `value "${clip(value)}" is not a finite number`);
+  } else {
+    return reject('value_not_number', `field "value" must be a number, got ${describe(value)}`);
+  }
+  if (!Number.isFinite(v)) return reject('value_not_finite', 'value is not a finite number');
+
+  const t = parseTimestamp(ts);
+  if (!t.ok) return t;
+  return { ok: true, reading: { sensor, ts: t.ts, value: v } };
+}
+
+/** Parse one NDJSON line or one message payload. Never throws. */
+export function parseJsonReading(line: string): ParseResult {
+  if (line.length > LIMITS.maxLineLength) {
+    return reject('line_too_long', `line has ${line.length} characters; the limit is ${LIMITS.maxLineLength}`);
+  }
+  let obj: unknown;
+  try {
+    obj = JSON.parse(line);
+  } catch {
+    return reject('not_json', 'line is not valid JSON');
+  }
+  if (typeof obj !== 'object' || obj === null || Array.isArray(obj)) {
+    return reject('not_object', 'a reading must be a JSON object {"sensor","ts","value"}');
+  }
+  const o = obj as Record<string, unknown>;
+  return validateFields(o.sensor, o.ts, o.value);
+}
+
+function clip(s: string): string {
+  return s.length > 40 ? `${s.slice(0, 40)}...` : s;
+}
+
+function describe(v: unknown): string {
+  if (typeof v === 'string') return `the string "${clip(v)}"`;
+  if (typeof v === 'boolean') return 'a boolean';
+  if (Array.isArray(v)) return 'an array';
+  return typeof v;
+}

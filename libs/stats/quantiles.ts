@@ -1,0 +1,47 @@
+/**
+ * Exact sample quantiles for audits and tests. Conventions follow Hyndman and Fan (1996),
+ * "Sample quantiles in statistical packages": type 7 (R and NumPy default) and type 6
+ * (ranks at p(n+1), as in the NIST e-Handbook). Inputs must be sorted ascending.
+ */
+export function quantileType7(sorted: ArrayLike<number>, p: number): number {
+  const n = sorted.length;
+  if (n === 0) return NaN;
+  const h = (n - 1) * p;
+  const lo = Math.floor(h);
+  const hi = Math.min(n - 1, lo + 1);
+  return sorted[lo] + (h - lo) * (sorted[hi] - sorted[lo]);
+}
+
+export function quantileType6(sorted: ArrayLike<number>, p: number): number {
+  const n = sorted.length;
+  if (n === 0) return NaN;
+  const h = (n + 1) * p;
+  if (h <= 1) return sorted[0];
+  if (h >= n) return sorted[n - 1];
+  const lo = Math.floor(h);
+  return sorted[lo - 1] + (h - lo) * (sorted[lo] - sorted[lo - 1]);
+}
+
+/**
+ * Exact mid-rank percentile rank of x in sorted data, as a fraction in [0, 1]:
+ * (count below + half the count equal) / n.
+ */
+export function exactRank(sorted: ArrayLike<number>, x: number): number {
+  const n = sorted.length;
+  if (n === 0) return NaN;
+  let lo = 0;
+  let hi = n;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (sorted[mid] < x) lo = mid + 1;
+    else hi = mid;
+  }
+  const below = lo;
+  hi = n;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (sorted[mid] <= x) lo = mid + 1;
+    else hi = mid;
+  }
+  return (below + (lo - below) / 2) / n;
+}
