@@ -1,0 +1,5 @@
+// Placeholder until the alerts command lands in this session; replaced by its real module.
+export async function main(_argv: string[]): Promise<number> {
+  process.stderr.write('streamfence alerts: not built yet\n');
+  return 2;
+}
