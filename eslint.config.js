@@ -3,7 +3,7 @@ import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
 
 export default tseslint.config(
-  { ignores: ['dist/**', 'node_modules/**', '.cache/**', '.stack/**', 'test-artifacts/**'] },
+  { ignores: ['dist/**', 'dist-bench/**', 'node_modules/**', '.cache/**', '.stack/**', 'test-artifacts/**'] },
   js.configs.recommended,
   ...tseslint.configs.recommended,
   {
