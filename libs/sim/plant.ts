@@ -1,0 +1,312 @@
+/**
+ * The plant simulator: a seeded, deterministic stream of sensor readings from an invented plant,
+ * with injected and labelled faults. Readings are generated lazily in event-time order (all
+ * sensors interleaved), so memory does not grow with the duration; only the fault labels are
+ * planned up front.
+ */
+import { StreamfenceError } from '../errors/index.js';
+import { planFaults, type FaultKind, type PlannedFault } from './faults.js';
+import { Prng, subSeed } from './prng.js';
+import {
+  DEFAULT_SCENARIO,
+  SCENARIO_DEFS,
+  sensorsPerUnit,
+  typicalSpread,
+  type MachineTemplate,
+  type ScenarioDef,
+  type SensorTemplate,
+} from './scenarios.js';
+
+export type { FaultKind } from './faults.js';
+export { FAULT_KINDS } from './faults.js';
+export { DEFAULT_SCENARIO } from './scenarios.js';
+
+export interface SimOptions {
+  seed: number;
+  /** Epoch ms of the first reading slot. */
+  start: number;
+  durationMs: number;
+  /** Per-sensor reading interval. */
+  intervalMs: number;
+  /** How many sensors (default: the scenario's set). */
+  sensors?: number;
+  /** Inject faults (default true). */
+  faults?: boolean;
+  /** Scenario name (default 'harbour-brewery'). */
+  scenario?: string;
+}
+
+export interface SimReading {
+  sensor: string;
+  ts: number;
+  value: number;
+}
+
+/** A fault as ground truth: it affects readings of `sensor` with start <= ts <= end (epoch ms). */
+export interface FaultLabel {
+  sensor: string;
+  start: number;
+  end: number;
+  kind: FaultKind;
+}
+
+export interface SensorInfo {
+  id: string;
+  unit: string;
+  description: string;
+  machine: string;
+}
+
+export const SCENARIOS: Record<string, { title: string; description: string }> = Object.fromEntries(
+  Object.entries(SCENARIO_DEFS).map(([k, d]) => [k, { title: d.title, description: d.description }]),
+);
+
+/** Upper bounds that keep the up-front fault plan and the sensor table small. */
+export const SIM_LIMITS = { maxSensors: 5000, maxDurationMs: 400 * 86_400_000, minIntervalMs: 100 } as const;
+
+const DAY = 86_400_000;
+
+/** Shared load factor of one machine (Ornstein-Uhlenbeck, mean 0, sd 1). */
+interface MachineRun {
+  rng: Prng;
+  load: number;
+  /** Per-slot autocorrelation exp(-interval/tau). */
+  keep: number;
+}
+
+interface SensorRun {
+  info: SensorInfo;
+  t: SensorTemplate;
+  machine: MachineRun;
+  rng: Prng;
+  /** Offset of this sensor's readings inside each slot, so sensors interleave in time order. */
+  offsetMs: number;
+  lagged: number;
+  lagGain: number;
+  spread: number;
+  scale: number;
+  faults: PlannedFault[];
+  faultPos: number;
+  /** Last reading emitted (the value a stuck sensor repeats). */
+  last: number;
+}
+
+function checkOptions(o: SimOptions): ScenarioDef {
+  const fail = (msg: string): never => {
+    throw new StreamfenceError('ARGS_INVALID', msg);
+  };
+  const name = o.scenario ?? DEFAULT_SCENARIO;
+  const def = SCENARIO_DEFS[name];
+  if (def === undefined)
+    fail(`unknown scenario "${name}"; choose one of ${Object.keys(SCENARIO_DEFS).join(', ')}`);
+  if (!Number.isInteger(o.seed)) fail(`seed must be a whole number, got ${o.seed}`);
+  if (!Number.isFinite(o.start) || o.start < 0) fail('start must be an epoch-ms time after 1970');
+  if (!Number.isFinite(o.durationMs) || o.durationMs <= 0 || o.durationMs > SIM_LIMITS.maxDurationMs) {
+    fail('duration must be more than 0 and at most 400 days');
+  }
+  if (!Number.isFinite(o.intervalMs) || o.intervalMs < SIM_LIMITS.minIntervalMs) {
+    fail(`interval must be at least ${SIM_LIMITS.minIntervalMs} ms`);
+  }
+  if (
+    o.sensors !== undefined &&
+    (!Number.isInteger(o.sensors) || o.sensors < 1 || o.sensors > SIM_LIMITS.maxSensors)
+  ) {
+    fail(`sensors must be a whole number from 1 to ${SIM_LIMITS.maxSensors}`);
+  }
+  return def!;
+}
+
+export class PlantSimulator {
+  readonly scenario: string;
+  private readonly def: ScenarioDef;
+  private readonly runs: SensorRun[];
+  private readonly machines: MachineRun[];
+  private readonly slots: number;
+  private slot = 0;
+  private idx = 0;
+  private readonly faultLabels: FaultLabel[];
+
+  constructor(private readonly opts: SimOptions) {
+    this.def = checkOptions(opts);
+    this.scenario = opts.scenario ?? DEFAULT_SCENARIO;
+    const per = sensorsPerUnit(this.def);
+    const count = opts.sensors ?? per * this.def.defaultUnits;
+    this.slots = Math.ceil(opts.durationMs / opts.intervalMs);
+    this.runs = [];
+    this.machines = [];
+    const faultsOn = opts.faults ?? true;
+    for (let u = 1; this.runs.length < count; u++) {
+      for (const m of this.def.machines) {
+        if (this.runs.length >= count) break;
+        const machine = this.newMachine(`${this.def.unitName}-${u}/${m.name}`, m);
+        for (const t of m.sensors) {
+          if (this.runs.length >= count) break;
+          this.runs.push(
+            this.newSensor(`${this.def.unitName}-${u}/${m.name}/${t.name}`, t, machine, faultsOn),
+          );
+        }
+      }
+    }
+    // Offsets spread the sensors over the slot in table order, keeping the stream time-ordered.
+    this.runs.forEach((r, i) => (r.offsetMs = Math.floor((i * opts.intervalMs) / this.runs.length)));
+    this.faultLabels = this.runs
+      .flatMap((r) =>
+        r.faults.map((f) => ({
+          sensor: r.info.id,
+          start: this.tsOf(f.startSlot, r),
+          end: this.tsOf(f.endSlot, r),
+          kind: f.kind,
+        })),
+      )
+      .sort((a, b) => a.start - b.start || (a.sensor < b.sensor ? -1 : a.sensor > b.sensor ? 1 : 0));
+  }
+
+  private newMachine(id: string, m: MachineTemplate): MachineRun {
+    const rng = new Prng(subSeed(this.opts.seed, `load:${id}`));
+    const run = { rng, load: rng.normal(), keep: Math.exp(-this.opts.intervalMs / (m.loadTauMin * 60_000)) };
+    this.machines.push(run);
+    return run;
+  }
+
+  private newSensor(id: string, t: SensorTemplate, machine: MachineRun, faultsOn: boolean): SensorRun {
+    const rng = new Prng(subSeed(this.opts.seed, `noise:${id}`));
+    const spread = typicalSpread(t);
+    const faults = faultsOn
+      ? planFaults(new Prng(subSeed(this.opts.seed, `faults:${id}`)), {
+          slots: this.slots,
+          intervalMs: this.opts.intervalMs,
+          warmupMs: this.def.warmupMs,
+          oneSided: t.direction === 'both' ? null : t.direction,
+        })
+      : [];
+    return {
+      info: { id, unit: t.unit, description: t.description, machine: id.slice(0, id.lastIndexOf('/')) },
+      t,
+      machine,
+      rng,
+      offsetMs: 0,
+      lagged: machine.load,
+      lagGain: t.loadLagMin > 0 ? 1 - Math.exp(-this.opts.intervalMs / (t.loadLagMin * 60_000)) : 1,
+      spread,
+      scale: 10 ** t.decimals,
+      faults,
+      faultPos: 0,
+      last: t.base,
+    };
+  }
+
+  private tsOf(slot: number, r: SensorRun): number {
+    return this.opts.start + slot * this.opts.intervalMs + r.offsetMs;
+  }
+
+  sensors(): SensorInfo[] {
+    return this.runs.map((r) => ({ ...r.info }));
+  }
+
+  /** Ground truth of every injected fault, ordered by start time. */
+  labels(): FaultLabel[] {
+    return this.faultLabels.map((l) => ({ ...l }));
+  }
+
+  /** The next reading in event-time order, or null when the duration is used up. */
+  next(): SimReading | null {
+    const end = this.opts.start + this.opts.durationMs;
+    for (;;) {
+      if (this.slot >= this.slots) return null;
+      if (this.idx === 0) this.advanceLoads();
+      const r = this.runs[this.idx];
+      const slot = this.slot;
+      if (++this.idx === this.runs.length) {
+        this.idx = 0;
+        this.slot++;
+      }
+      const ts = this.tsOf(slot, r);
+      const value = this.valueOf(r, slot, ts);
+      if (value === null || ts >= end) continue;
+      return { sensor: r.info.id, ts, value };
+    }
+  }
+
+  [Symbol.iterator](): Iterator<SimReading> {
+    return {
+      next: (): IteratorResult<SimReading> => {
+        const r = this.next();
+        return r === null ? { done: true, value: undefined } : { done: false, value: r };
+      },
+    };
+  }
+
+  private advanceLoads(): void {
+    for (const m of this.machines) m.load = m.load * m.keep + Math.sqrt(1 - m.keep * m.keep) * m.rng.normal();
+  }
+
+  /** The sensor's reading for this slot, or null during a dropout. */
+  private valueOf(r: SensorRun, slot: number, ts: number): number | null {
+    const t = r.t;
+    r.lagged += (r.machine.load - r.lagged) * r.lagGain;
+    // Draw both normals every slot so a fault never shifts the random stream of later readings.
+    const noise = r.rng.normal();
+    const extra = r.rng.normal();
+    const phase = (2 * Math.PI * (ts - this.def.dailyPeakHour * 3_600_000)) / DAY;
+    const structure = t.daily * Math.cos(phase) + t.loadGain * r.lagged;
+    let value =
+      t.shape === 'lognormal'
+        ? t.base * Math.exp(t.noise * noise + structure / t.base)
+        : t.base + structure + t.noise * noise;
+
+    while (r.faultPos < r.faults.length && r.faults[r.faultPos].endSlot < slot) r.faultPos++;
+    const f = r.faults[r.faultPos];
+    if (f !== undefined && f.startSlot <= slot) {
+      const push = f.sign * f.size * r.spread;
+      switch (f.kind) {
+        case 'spike':
+        case 'step':
+          value += push;
+          break;
+        case 'drift':
+          value += (push * (slot - f.startSlot + 1)) / (f.endSlot - f.startSlot + 1);
+          break;
+        case 'noise':
+          value +=
+            f.sign > 0 && t.direction === 'high'
+              ? Math.abs(extra) * f.size * r.spread
+              : extra * f.size * r.spread;
+          break;
+        case 'stuck':
+          return r.last;
+        case 'dropout':
+          return null;
+      }
+    }
+    if (t.shape === 'lognormal' && value < 0) value = 0;
+    const rounded = Math.round(value * r.scale) / r.scale;
+    r.last = rounded;
+    return rounded;
+  }
+}
+
+/**
+ * A config object (for libs/config validateConfig) that suits the scenario at 1-minute readings:
+ * a 6 h window so a short data set warms up, a flatline rule for stuck values, and per-sensor
+ * entries for one-sided sensors and physical limits.
+ */
+export function suggestedConfig(scenario: string): unknown {
+  const def = SCENARIO_DEFS[scenario];
+  if (def === undefined) {
+    throw new StreamfenceError(
+      'ARGS_INVALID',
+      `unknown scenario "${scenario}"; choose one of ${Object.keys(SCENARIO_DEFS).join(', ')}`,
+    );
+  }
+  const sensors: Record<string, unknown>[] = [];
+  for (const m of def.machines) {
+    for (const t of m.sensors) {
+      const entry: Record<string, unknown> = { match: `${def.unitName}-*/${m.name}/${t.name}` };
+      if (t.direction !== 'both') entry.direction = t.direction;
+      if (t.min !== null) entry.min = t.min;
+      if (t.max !== null) entry.max = t.max;
+      if (Object.keys(entry).length > 1) sensors.push(entry);
+    }
+  }
+  return { defaults: { ...def.defaults }, sensors };
+}
