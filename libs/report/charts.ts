@@ -1,0 +1,218 @@
+/**
+ * The report's charts, each a self-contained SVG string with a bounded number of elements:
+ * a sensor chart draws at most one point per time bin, however many readings the bins hold.
+ */
+import type { Bin } from './bins.js';
+import { coord, esc } from './escape.js';
+import {
+  axes,
+  bandPath,
+  DEFAULT_FRAME,
+  fmtNum,
+  linearScale,
+  linePath,
+  logScale,
+  markerPath,
+  niceTicks,
+  timeTicks,
+  valueDomain,
+  type Frame,
+} from './svg.js';
+
+export interface AlertMarker {
+  ts: number;
+  value: number;
+  state: 'raised' | 'updated' | 'cleared';
+  severity: 'warning' | 'critical';
+}
+
+export interface SensorChartInput {
+  /** Unique within the page (used for the clip path id); any text, it is sanitised. */
+  key: string;
+  title: string;
+  bins: readonly Bin[];
+  widthMs: number;
+  markers: readonly AlertMarker[];
+  frame?: Frame;
+}
+
+/** Channels a sensor series samples per bin. */
+export const FENCE_CHANNELS = ['median', 'lower', 'upper', 'lowerOuter', 'upperOuter'] as const;
+
+function svgOpen(f: Frame, cls: string, label: string): string {
+  return `<svg class="${cls}" xmlns="http://www.w3.org/2000/svg" width="${f.width}" height="${f.height}" viewBox="0 0 ${f.width} ${f.height}" role="img" aria-label="${esc(label)}">`;
+}
+
+const safeId = (key: string): string => key.replace(/[^A-Za-z0-9_-]/g, '_');
+
+export function markerShape(m: AlertMarker): 'triangle' | 'diamond' | 'circle' | 'dot' {
+  if (m.state === 'cleared') return 'circle';
+  if (m.state === 'updated') return 'dot';
+  return m.severity === 'critical' ? 'diamond' : 'triangle';
+}
+
+/**
+ * Readings as a min/max band per bin (so spikes stay visible), the baseline median line, the
+ * inner and outer fence bands, and alert markers. The value axis follows the readings and the
+ * inner fences; outer fences far outside are clipped to the plot.
+ */
+export function sensorChart(input: SensorChartInput): string {
+  const f = input.frame ?? DEFAULT_FRAME;
+  const bins = input.bins;
+  const label = `${input.title}: readings, baseline median, fences and alerts`;
+  if (bins.length === 0)
+    return `${svgOpen(f, 'chart sensor-chart', label)}<text x="20" y="40">no readings</text></svg>`;
+  const from = bins[0].start;
+  const to = bins[bins.length - 1].start + input.widthMs;
+  const values: number[] = [];
+  for (const b of bins) values.push(b.min, b.max, b.last.lower, b.last.upper);
+  for (const m of input.markers) values.push(m.value);
+  const [vLo, vHi] = valueDomain(values);
+  const x = linearScale(from, to, f.left, f.width - f.right);
+  const y = linearScale(vLo, vHi, f.height - f.bottom, f.top);
+  const { ticks, label: tLabel } = timeTicks(from, to);
+  const clip = `clip-${safeId(input.key)}`;
+  const mid = (b: Bin): number => x(b.start + input.widthMs / 2);
+  const band = (lo: string, hi: string): string =>
+    bandPath(bins.map((b) => [mid(b), y(b.last[lo]), y(b.last[hi])] as const));
+  // A bin whose readings are all equal still gets a visible 1.5 px band.
+  const readings = bandPath(
+    bins.map((b) => {
+      if (b.count === 0) return [mid(b), NaN, NaN] as const;
+      const lo = y(b.min);
+      const hi = y(b.max);
+      return lo - hi < 1.5 ? ([mid(b), lo + 0.75, hi - 0.75] as const) : ([mid(b), lo, hi] as const);
+    }),
+  );
+  const median = linePath(bins.map((b) => [mid(b), y(b.last.median)] as const));
+  const marks = input.markers
+    .map((m) => {
+      const shape = markerShape(m);
+      const cls = `mark ${m.state} ${m.severity}`;
+      const title = `${m.state} ${m.severity} ${new Date(m.ts).toISOString()} value ${fmtNum(m.value)}`;
+      return `<path class="${cls}" d="${markerPath(shape, x(m.ts), y(m.value))}"><title>${esc(title)}</title></path>`;
+    })
+    .join('');
+  return [
+    svgOpen(f, 'chart sensor-chart', label),
+    `<defs><clipPath id="${clip}"><rect x="${f.left}" y="${f.top}" width="${f.width - f.left - f.right}" height="${f.height - f.top - f.bottom}"/></clipPath></defs>`,
+    axes(
+      f,
+      { ticks, scale: x, label: tLabel, title: 'event time (UTC)' },
+      { ticks: niceTicks(vLo, vHi), scale: y, label: fmtNum, title: 'value' },
+    ),
+    `<g clip-path="url(#${clip})">`,
+    `<path class="fence-outer" d="${band('lowerOuter', 'upperOuter')}"/>`,
+    `<path class="fence-inner" d="${band('lower', 'upper')}"/>`,
+    `<path class="readings" d="${readings}"/>`,
+    `<path class="median" d="${median}"/>`,
+    marks,
+    '</g></svg>',
+  ].join('');
+}
+
+export interface RateChartInput {
+  bins: readonly Bin[];
+  widthMs: number;
+  /** Sum channel holding raised alerts per bin. */
+  channel: string;
+  budgetPerHour: number;
+  floodPerHour: number;
+  frame?: Frame;
+}
+
+/** Alerts raised per hour in each bin as bars, against the budget and flood lines. */
+export function rateChart(input: RateChartInput): string {
+  const f = input.frame ?? { ...DEFAULT_FRAME, height: 220 };
+  const label = 'alerts raised per hour over event time, with budget and flood lines';
+  if (input.bins.length === 0)
+    return `${svgOpen(f, 'chart rate-chart', label)}<text x="20" y="40">no readings</text></svg>`;
+  const hours = input.widthMs / 3_600_000;
+  const from = input.bins[0].start;
+  const to = input.bins[input.bins.length - 1].start + input.widthMs;
+  const rates = input.bins.map((b) => (b.sum[input.channel] ?? 0) / hours);
+  const top = Math.max(...rates, input.budgetPerHour) * 1.15 || 1;
+  const x = linearScale(from, to, f.left, f.width - f.right);
+  const y = linearScale(0, top, f.height - f.bottom, f.top);
+  const { ticks, label: tLabel } = timeTicks(from, to);
+  const bw = Math.max(1, x(from + input.widthMs) - x(from) - 0.5);
+  const bars = input.bins
+    .map((b, i) => {
+      if (rates[i] === 0) return '';
+      const over = rates[i] > input.budgetPerHour ? ' over' : '';
+      const py = y(rates[i]);
+      return `<rect class="bar${over}" x="${coord(x(b.start))}" y="${coord(py)}" width="${coord(bw)}" height="${coord(y(0) - py)}"><title>${esc(`${new Date(b.start).toISOString()}: ${fmtNum(rates[i])} raised/h`)}</title></rect>`;
+    })
+    .join('');
+  const line = (v: number, cls: string, text: string): string => {
+    if (v > top) return '';
+    const py = coord(y(v));
+    return `<line class="${cls}" x1="${f.left}" x2="${f.width - f.right}" y1="${py}" y2="${py}"/><text class="line-label" x="${f.width - f.right - 4}" y="${coord(y(v) - 4)}" text-anchor="end">${esc(text)}</text>`;
+  };
+  return [
+    svgOpen(f, 'chart rate-chart', label),
+    axes(
+      f,
+      { ticks, scale: x, label: tLabel, title: 'event time (UTC)' },
+      { ticks: niceTicks(0, top), scale: y, label: fmtNum, title: 'raised / h' },
+    ),
+    bars,
+    line(input.budgetPerHour, 'budget', `budget ${fmtNum(input.budgetPerHour)}/h`),
+    line(input.floodPerHour, 'flood', `flood ${fmtNum(input.floodPerHour)}/h`),
+    '</svg>',
+  ].join('');
+}
+
+export interface ScatterPoint {
+  label: string;
+  alertsPerHour: number;
+  recall: number | null;
+  precision: number | null;
+  recommended: boolean;
+}
+
+/**
+ * Tuning grid: alert rate (x, log scale) against recall (y); precision sets marker size and
+ * shade; the budget is a vertical line; the recommended point is ringed and labelled.
+ */
+export function tuneScatter(points: readonly ScatterPoint[], budgetPerHour: number, frame?: Frame): string {
+  const f = frame ?? { ...DEFAULT_FRAME, height: 340, bottom: 40 };
+  const label = 'tuning grid: alert rate against recall, precision as marker size';
+  const rated = points.filter((p) => p.recall !== null && Number.isFinite(p.alertsPerHour));
+  if (rated.length === 0)
+    return `${svgOpen(f, 'chart tune-chart', label)}<text x="20" y="40">no grid points with a recall</text></svg>`;
+  const positive = rated.map((p) => p.alertsPerHour).filter((v) => v > 0);
+  const lo = Math.min(...positive, budgetPerHour) / 2 || 0.01;
+  const hi = Math.max(...positive, budgetPerHour) * 2 || 10;
+  const x = logScale(lo, hi, f.left, f.width - f.right);
+  const y = linearScale(0, 1, f.height - f.bottom, f.top);
+  const decades: number[] = [];
+  for (let e = Math.floor(Math.log10(lo)); e <= Math.ceil(Math.log10(hi)); e++) decades.push(10 ** e);
+  const dots = rated
+    .map((p) => {
+      const prec = p.precision ?? 0;
+      const r = 3 + 7 * prec;
+      const cls = p.recommended ? 'pt recommended' : 'pt';
+      const px = x(Math.max(p.alertsPerHour, lo));
+      const py = y(p.recall as number);
+      const title = `${p.label}: ${fmtNum(p.alertsPerHour)} alerts/h, recall ${fmtNum(p.recall as number)}, precision ${p.precision === null ? 'n/a' : fmtNum(prec)}`;
+      const ring = p.recommended
+        ? `<circle class="ring" cx="${coord(px)}" cy="${coord(py)}" r="${coord(r + 5)}"/><text class="line-label" x="${coord(px + r + 8)}" y="${coord(py - r - 4)}">recommended</text>`
+        : '';
+      return `<circle class="${cls}" cx="${coord(px)}" cy="${coord(py)}" r="${coord(r)}" fill-opacity="${coord(0.25 + 0.65 * prec)}"><title>${esc(title)}</title></circle>${ring}`;
+    })
+    .join('');
+  const bx = coord(x(budgetPerHour));
+  return [
+    svgOpen(f, 'chart tune-chart', label),
+    axes(
+      f,
+      { ticks: decades, scale: x, label: fmtNum, title: 'alerts per hour (log)' },
+      { ticks: [0, 0.25, 0.5, 0.75, 1], scale: y, label: fmtNum, title: 'recall' },
+    ),
+    `<line class="budget" x1="${bx}" x2="${bx}" y1="${f.top}" y2="${f.height - f.bottom}"/>`,
+    `<text class="line-label" x="${coord(x(budgetPerHour) + 4)}" y="${f.top + 12}">budget ${fmtNum(budgetPerHour)}/h</text>`,
+    dots,
+    '</svg>',
+  ].join('');
+}

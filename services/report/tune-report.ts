@@ -1,0 +1,126 @@
+/**
+ * The tune report: `renderTuneReport(tuning)` turns the tune command's tuning.json into one
+ * self-contained HTML page (grid summary, recall/alert-rate chart with precision as marker size,
+ * the table of points, the recommendation and its reason, the caution). Rendering is pure; the
+ * caller writes the file.
+ */
+import { tuneScatter, type ScatterPoint } from '../../libs/report/charts.js';
+import { esc } from '../../libs/report/escape.js';
+import { page, table, type Cell } from '../../libs/report/html.js';
+import { fmtNum } from '../../libs/report/svg.js';
+
+/** One grid point as the tune command writes it (fields the report reads; others are ignored). */
+export interface TunePointDoc {
+  settings: Record<string, unknown>;
+  recall: number | null;
+  precision: number | null;
+  alertsPerHour: number;
+  worst10min?: number | null;
+  recallByKind?: Record<string, number | null>;
+}
+
+export interface TuningDoc {
+  points?: TunePointDoc[];
+  /** Accepted as another name for `points`. */
+  grid?: TunePointDoc[];
+  recommended?: (Partial<TunePointDoc> & { reason?: string; index?: number }) | null;
+  budgetPerHour?: number;
+  [key: string]: unknown;
+}
+
+export const DEFAULT_BUDGET_PER_HOUR = 6;
+
+const settingsLabel = (s: Record<string, unknown>): string =>
+  Object.entries(s)
+    .map(([k, v]) => `${k}=${typeof v === 'string' ? v : JSON.stringify(v)}`)
+    .join(' ');
+
+/** Index of the recommended point: by `index` when given, else the point with the same settings. */
+function recommendedIndex(points: readonly TunePointDoc[], rec: TuningDoc['recommended']): number {
+  if (!rec) return -1;
+  if (typeof rec.index === 'number' && rec.index >= 0 && rec.index < points.length) return rec.index;
+  if (rec.settings === undefined) return -1;
+  const want = settingsLabel(rec.settings);
+  return points.findIndex((p) => settingsLabel(p.settings) === want);
+}
+
+const pct = (v: number | null | undefined): Cell =>
+  v === null || v === undefined ? null : `${(v * 100).toFixed(1)} %`;
+
+export function renderTuneReport(tuning: TuningDoc): string {
+  const points = tuning.points ?? tuning.grid ?? [];
+  const budget =
+    typeof tuning.budgetPerHour === 'number' && tuning.budgetPerHour > 0
+      ? tuning.budgetPerHour
+      : DEFAULT_BUDGET_PER_HOUR;
+  const recIdx = recommendedIndex(points, tuning.recommended);
+  const kinds = [...new Set(points.flatMap((p) => Object.keys(p.recallByKind ?? {})))].sort();
+  const settingKeys = [...new Set(points.flatMap((p) => Object.keys(p.settings)))];
+
+  const scatter: ScatterPoint[] = points.map((p, i) => ({
+    label: settingsLabel(p.settings),
+    alertsPerHour: p.alertsPerHour,
+    recall: p.recall,
+    precision: p.precision,
+    recommended: i === recIdx,
+  }));
+  const withinBudget = points.filter((p) => p.alertsPerHour <= budget).length;
+  const bestRecall = Math.max(...points.map((p) => p.recall ?? -1));
+
+  // Table order: recall descending, then alert rate ascending (what an engineer scans for).
+  const order = points
+    .map((_, i) => i)
+    .sort(
+      (a, b) =>
+        (points[b].recall ?? -1) - (points[a].recall ?? -1) ||
+        points[a].alertsPerHour - points[b].alertsPerHour,
+    );
+  const rows = order.map((i) => {
+    const p = points[i];
+    return [
+      ...settingKeys.map((k): Cell => (p.settings[k] === undefined ? null : String(p.settings[k]))),
+      pct(p.recall),
+      pct(p.precision),
+      fmtNum(p.alertsPerHour),
+      p.worst10min ?? null,
+      ...kinds.map((k) => pct(p.recallByKind?.[k])),
+    ];
+  });
+  const numericCols = Array.from({ length: 4 + kinds.length }, (_, j) => settingKeys.length + j);
+
+  const rec = recIdx >= 0 ? points[recIdx] : null;
+  const recHtml = rec
+    ? `<p><strong>${esc(settingsLabel(rec.settings))}</strong>: recall ${esc(pct(rec.recall) ?? '–')}, precision ${esc(pct(rec.precision) ?? '–')}, ${esc(fmtNum(rec.alertsPerHour))} alerts/h${rec.worst10min !== undefined && rec.worst10min !== null ? `, worst 10 minutes ${esc(rec.worst10min)} raised` : ''}.</p>`
+    : '<p>No point was recommended.</p>';
+  const reason = tuning.recommended?.reason ? `<p>Reason: ${esc(tuning.recommended.reason)}</p>` : '';
+
+  const body = [
+    '<h2>Grid</h2>',
+    table(
+      ['grid points', 'within budget', 'best recall', 'budget'],
+      [[points.length, withinBudget, pct(bestRecall < 0 ? null : bestRecall), `${fmtNum(budget)} alerts/h`]],
+      { numeric: [0, 1, 2] },
+    ),
+    '<h2>Recommendation</h2>',
+    recHtml,
+    reason,
+    '<h2>Recall against alert rate</h2>',
+    '<p class="note">Each dot is one grid point: alerts per hour (log scale) across, recall up; bigger and darker dots have higher precision. The dashed line is the alert budget; the ringed dot is the recommendation.</p>',
+    tuneScatter(scatter, budget),
+    '<h2>All points</h2>',
+    '<p class="note">Sorted by recall (highest first), then by alert rate (lowest first). The recommended row is highlighted.</p>',
+    table(
+      [...settingKeys, 'recall', 'precision', 'alerts/h', 'worst 10 min', ...kinds.map((k) => `recall ${k}`)],
+      rows,
+      {
+        pick: (ri) => order[ri] === recIdx,
+        numeric: numericCols,
+      },
+    ),
+  ].join('\n');
+  return page(
+    'streamfence tuning report',
+    `${points.length} grid points, alert budget ${fmtNum(budget)}/h`,
+    body,
+  );
+}
