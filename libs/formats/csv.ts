@@ -1,0 +1,116 @@
+/**
+ * CSV rows of readings: a header naming `sensor`, `ts` and `value` (any order, other columns
+ * ignored, names matched case-insensitively after trimming), then one reading per physical line.
+ * Fields follow RFC 4180 quoting (commas and doubled quotes inside double quotes). A quoted field
+ * cannot span lines here: one line is one record, so line numbers stay exact and a bad line never
+ * swallows the ones after it. Parsing is lenient (an unterminated quote runs to the end of the
+ * line); the field validation then decides whether the row is a usable reading.
+ */
+import { LIMITS, validateFields, type ParseResult } from '../engine/reading.js';
+
+export interface CsvColumns {
+  sensor: number;
+  ts: number;
+  value: number;
+  /** Fields needed to reach the right-most of the three. */
+  needed: number;
+}
+
+export const REQUIRED_COLUMNS = ['sensor', 'ts', 'value'] as const;
+
+/** Split a CSV line into at most `limit` fields (the rest of the line is not scanned). */
+export function splitCsvLine(line: string, limit = Number.MAX_SAFE_INTEGER): string[] {
+  const out: string[] = [];
+  if (line.indexOf('"') < 0) {
+    // Fast path for the common unquoted row.
+    let start = 0;
+    while (out.length < limit) {
+      const c = line.indexOf(',', start);
+      if (c < 0) {
+        out.push(line.slice(start));
+        break;
+      }
+      out.push(line.slice(start, c));
+      start = c + 1;
+    }
+    return out;
+  }
+  let i = 0;
+  const n = line.length;
+  while (out.length < limit) {
+    if (i < n && line.charCodeAt(i) === 34) {
+      // Quoted field: doubled quotes are one quote; text after the closing quote up to the comma is kept.
+      let field = '';
+      let j = i + 1;
+      for (;;) {
+        const q = line.indexOf('"', j);
+        if (q < 0) {
+          field += line.slice(j);
+          j = n;
+          break;
+        }
+        field += line.slice(j, q);
+        if (line.charCodeAt(q + 1) === 34) {
+          field += '"';
+          j = q + 2;
+        } else {
+          j = q + 1;
+          break;
+        }
+      }
+      const c = line.indexOf(',', j);
+      if (c < 0) {
+        out.push(field + line.slice(j));
+        break;
+      }
+      out.push(field + line.slice(j, c));
+      i = c + 1;
+    } else {
+      const c = line.indexOf(',', i);
+      if (c < 0) {
+        out.push(line.slice(i));
+        break;
+      }
+      out.push(line.slice(i, c));
+      i = c + 1;
+    }
+  }
+  return out;
+}
+
+/** Locate the three required columns in a header line; an error message when one is missing. */
+export function parseCsvHeader(
+  line: string,
+): { ok: true; columns: CsvColumns } | { ok: false; message: string } {
+  const names = splitCsvLine(line).map((f) => f.trim().toLowerCase());
+  const idx = (name: string) => names.indexOf(name);
+  const missing = REQUIRED_COLUMNS.filter((c) => idx(c) < 0);
+  if (missing.length > 0) {
+    const found = names.slice(0, 10).join(', ') + (names.length > 10 ? ', ...' : '');
+    return {
+      ok: false,
+      message: `the CSV header must name the columns sensor, ts and value (missing: ${missing.join(', ')}; found: ${found.slice(0, 200)})`,
+    };
+  }
+  const sensor = idx('sensor');
+  const ts = idx('ts');
+  const value = idx('value');
+  return { ok: true, columns: { sensor, ts, value, needed: Math.max(sensor, ts, value) + 1 } };
+}
+
+/**
+ * One CSV row to a reading. A field absent from a short row counts as missing, and so does an
+ * empty `ts` cell; the sensor id is taken as written (not trimmed), like the NDJSON form.
+ */
+export function parseCsvReading(line: string, cols: CsvColumns): ParseResult {
+  if (line.length > LIMITS.maxLineLength) {
+    return {
+      ok: false,
+      reason: 'line_too_long',
+      detail: `line has ${line.length} characters; the limit is ${LIMITS.maxLineLength}`,
+    };
+  }
+  const f = splitCsvLine(line, cols.needed);
+  const ts = f[cols.ts];
+  return validateFields(f[cols.sensor], ts === '' ? undefined : ts, f[cols.value], true);
+}
