@@ -1,5 +1,113 @@
-// Placeholder until the demo command lands in this session; replaced by its real module.
-export async function main(_argv: string[]): Promise<number> {
-  process.stderr.write('streamfence demo: not built yet\n');
-  return 2;
+/**
+ * `streamfence demo`: the simulated plant, judged by the real engine, shown on the operator board.
+ * Everything is in-process (no Kafka, no Redis), so it is the quickest way to see the product.
+ */
+import { parseDuration } from '../../../libs/config/duration.js';
+import { NOTICE } from '../../../libs/schema/notice.js';
+import { DEFAULT_SCENARIO, SCENARIOS } from '../../../libs/sim/plant.js';
+import { boardTokenFor } from '../../board/auth.js';
+import { DemoFeed } from '../../board/demo-feed.js';
+import { BoardHub } from '../../board/hub.js';
+import { createBoardMetrics } from '../../board/metrics.js';
+import { startBoardServer } from '../../board/server.js';
+import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
+
+const CMD = 'demo';
+
+const HELP = `streamfence demo: run an invented plant through the engine and serve the operator board
+
+Usage: streamfence demo [options]
+
+Options:
+  --port N            HTTP port (default 8080; 0 picks a free one)
+  --host ADDR         address to listen on (default 127.0.0.1; any other needs --board-token)
+  --speed N           plant time runs N times faster than the clock (default 60: one plant hour per minute)
+  --scenario NAME     ${Object.keys(SCENARIOS).join(', ')} (default ${DEFAULT_SCENARIO})
+  --seed N            simulator seed (default 7)
+  --preroll DURATION  plant history simulated at start, e.g. 8h (default 8h; at least the 6h window)
+  --board-token T     token operators' actions must carry (or STREAMFENCE_BOARD_TOKEN)
+  -h, --help          this help
+
+Serves: /  the board   /api/alerts   /api/events (live)   /metrics   /healthz
+${NOTICE}
+`;
+
+function intOption(raw: string | undefined, name: string, def: number, min: number, max: number): number {
+  if (raw === undefined) return def;
+  const n = Number(raw);
+  if (!Number.isFinite(n) || n < min || n > max)
+    usageError(`--${name} must be a number from ${min} to ${max}, got "${raw}"`, CMD);
+  return n;
+}
+
+export async function main(argv: string[]): Promise<number> {
+  const args = parseCommandArgs(
+    CMD,
+    argv,
+    {
+      port: { type: 'string' },
+      host: { type: 'string' },
+      speed: { type: 'string' },
+      scenario: { type: 'string' },
+      seed: { type: 'string' },
+      preroll: { type: 'string' },
+      'board-token': { type: 'string' },
+    },
+    false,
+  );
+  if (args.help) return printHelp(HELP);
+  const port = intOption(stringOption(args, 'port', CMD), 'port', 8080, 0, 65535);
+  const host = stringOption(args, 'host', CMD) ?? '127.0.0.1';
+  const speed = intOption(stringOption(args, 'speed', CMD), 'speed', 60, 1, 3600);
+  const seed = Math.trunc(intOption(stringOption(args, 'seed', CMD), 'seed', 7, 0, 2 ** 31 - 1));
+  const scenario = stringOption(args, 'scenario', CMD) ?? DEFAULT_SCENARIO;
+  if (!(scenario in SCENARIOS))
+    usageError(`unknown scenario "${scenario}"; choose one of ${Object.keys(SCENARIOS).join(', ')}`, CMD);
+  const prerollRaw = stringOption(args, 'preroll', CMD) ?? '8h';
+  const prerollMs = parseDuration(prerollRaw);
+  if (prerollMs === null || prerollMs < 6 * 3_600_000 || prerollMs > 7 * 86_400_000) {
+    usageError(
+      `--preroll must be a duration from 6h to 7d (the baseline window is 6h), got "${prerollRaw}"`,
+      CMD,
+    );
+  }
+  const token = boardTokenFor(
+    host,
+    stringOption(args, 'board-token', CMD) ?? process.env.STREAMFENCE_BOARD_TOKEN,
+  );
+
+  printBanner(CMD);
+  const wallStart = Date.now();
+  let feed: DemoFeed | null = null;
+  const hub = new BoardHub({
+    mode: 'demo',
+    speed,
+    clock: { wall: () => Date.now(), plant: () => (feed ? feed.plantTimeAt(Date.now()) : wallStart) },
+  });
+  feed = new DemoFeed(hub, { scenario, seed, speed, prerollMs, wallStart });
+  const metrics = createBoardMetrics(hub);
+  const t0 = performance.now();
+  const pre = feed.advanceTo(wallStart);
+  metrics.readings.inc(pre);
+  process.stderr.write(
+    `streamfence demo: ${feed.sensorCount} sensors, ${(prerollMs / 3_600_000).toFixed(1)} h of history pre-rolled (${pre} readings in ${Math.round(performance.now() - t0)} ms); plant time now runs ${speed}x\n`,
+  );
+
+  const board = await startBoardServer({ hub, metrics, host, port, token });
+  process.stdout.write(`streamfence demo: board at ${board.url}/\n`);
+
+  const pump = setInterval(() => {
+    const n = feed.advanceTo(feed.plantTimeAt(Date.now()));
+    metrics.readings.inc(n);
+  }, 250);
+
+  await new Promise<void>((resolve) => {
+    const stop = () => resolve();
+    process.once('SIGINT', stop);
+    process.once('SIGTERM', stop);
+  });
+  clearInterval(pump);
+  await board.close();
+  process.stderr.write('streamfence demo: stopped\n');
+  return 0;
 }

@@ -1,0 +1,62 @@
+/**
+ * Alert-rate meter: how many alerts were raised in the last 10 minutes and the last hour, against
+ * an operator budget. The budget of 6 alerts per hour and the flood mark of more than 10 alerts in
+ * 10 minutes are common practice in alarm management guidance (ANSI/ISA-18.2 and EEMUA 191 use
+ * figures of this order); they are settings here, not laws.
+ */
+export const RATE_DEFAULTS = { budgetPerHour: 6, floodPer10Min: 10 } as const;
+
+const TEN_MIN = 10 * 60_000;
+const HOUR = 60 * 60_000;
+
+export interface RateReading {
+  last10Min: number;
+  lastHour: number;
+  budgetPerHour: number;
+  /** lastHour over the budget (1 = at budget). */
+  budgetUse: number;
+  overBudget: boolean;
+  flood: boolean;
+  floodPer10Min: number;
+}
+
+export class RateMeter {
+  /** Raise times (epoch ms), ascending; only the last hour is kept so memory stays bounded. */
+  private times: number[] = [];
+
+  constructor(
+    readonly budgetPerHour: number = RATE_DEFAULTS.budgetPerHour,
+    readonly floodPer10Min: number = RATE_DEFAULTS.floodPer10Min,
+  ) {}
+
+  record(ts: number): void {
+    const t = this.times;
+    // Keep ascending order even if a raise arrives slightly out of order.
+    let i = t.length;
+    while (i > 0 && t[i - 1] > ts) i--;
+    t.splice(i, 0, ts);
+  }
+
+  read(now: number): RateReading {
+    const t = this.times;
+    let drop = 0;
+    while (drop < t.length && t[drop] <= now - HOUR) drop++;
+    if (drop > 0) t.splice(0, drop);
+    let hour = 0;
+    let ten = 0;
+    for (const x of t) {
+      if (x > now) continue; // not yet happened at `now`
+      hour++;
+      if (x > now - TEN_MIN) ten++;
+    }
+    return {
+      last10Min: ten,
+      lastHour: hour,
+      budgetPerHour: this.budgetPerHour,
+      budgetUse: hour / this.budgetPerHour,
+      overBudget: hour > this.budgetPerHour,
+      flood: ten > this.floodPer10Min,
+      floodPer10Min: this.floodPer10Min,
+    };
+  }
+}

@@ -1,0 +1,49 @@
+/**
+ * Recent readings per sensor for the board's small charts: a fixed-size ring per sensor and a cap
+ * on the number of sensors, so memory stays bounded however many sensors stream.
+ */
+export interface SeriesPoint {
+  ts: number;
+  value: number;
+  flagged: boolean;
+}
+
+export class RecentSeries {
+  private readonly rings = new Map<string, { pts: SeriesPoint[]; pos: number }>();
+
+  constructor(
+    readonly perSensor = 120,
+    readonly maxSensors = 2000,
+  ) {}
+
+  add(sensor: string, p: SeriesPoint): void {
+    let r = this.rings.get(sensor);
+    if (r === undefined) {
+      if (this.rings.size >= this.maxSensors) {
+        // Evict the sensor touched longest ago (Map keeps insertion order; we re-insert on touch).
+        const oldest = this.rings.keys().next().value as string;
+        this.rings.delete(oldest);
+      }
+      r = { pts: [], pos: 0 };
+    } else {
+      this.rings.delete(sensor);
+    }
+    this.rings.set(sensor, r);
+    if (r.pts.length < this.perSensor) r.pts.push(p);
+    else {
+      r.pts[r.pos] = p;
+      r.pos = (r.pos + 1) % this.perSensor;
+    }
+  }
+
+  /** The sensor's points, oldest first. */
+  get(sensor: string): SeriesPoint[] {
+    const r = this.rings.get(sensor);
+    if (r === undefined) return [];
+    return r.pts.length < this.perSensor ? [...r.pts] : [...r.pts.slice(r.pos), ...r.pts.slice(0, r.pos)];
+  }
+
+  get sensorCount(): number {
+    return this.rings.size;
+  }
+}

@@ -1,0 +1,263 @@
+/**
+ * The operators' alert board as a pure state machine. Alert events (raised/updated/cleared) and
+ * operator actions (acknowledge/shelve/unshelve) go in; the board's list comes out. Every method
+ * that depends on time takes `now` (epoch ms of the server clock) so the store stays deterministic
+ * and tests can move time freely.
+ *
+ * Statuses: `active` (raised, not shelved), `shelved` (hidden until `shelvedUntil`, or until
+ * unshelved), `cleared` (kept in a bounded "recently cleared" list, newest first).
+ */
+import type { AlertEvent } from '../schema/alert-event.js';
+
+export type BoardStatus = 'active' | 'shelved' | 'cleared';
+
+export interface BoardAlert extends AlertEvent {
+  status: BoardStatus;
+  acknowledged: boolean;
+  acknowledgedBy: string | null;
+  /** ISO-8601, server clock. */
+  acknowledgedAt: string | null;
+  shelvedUntil: string | null;
+  shelveReason: string | null;
+  shelvedBy: string | null;
+  /** ISO-8601 (server clock) of the last change the board saw: event or action. */
+  changedAt: string;
+}
+
+export type ActionKind = 'acknowledge' | 'shelve' | 'unshelve';
+
+export interface OperatorAction {
+  kind: ActionKind;
+  id: string;
+  by: string;
+  /** ISO-8601, server clock of the board that took the action. */
+  at: string;
+  /** shelve only */
+  reason?: string;
+  /** shelve only: ISO-8601 end of the shelf. */
+  until?: string;
+}
+
+export type ActionResult =
+  | { ok: true; alert: BoardAlert }
+  | { ok: false; error: 'not_found' | 'conflict' | 'invalid'; message: string };
+
+export const UNNAMED = 'unnamed';
+export const SHELF_LIMITS = { maxReasonChars: 500, minMinutes: 0.05, maxMinutes: 1440 } as const;
+export const OPERATOR_NAME_MAX = 80;
+
+const SEVERITY_RANK = { critical: 2, warning: 1 } as const;
+
+export interface BoardOptions {
+  /** How many cleared alerts stay listed. */
+  clearedKeep?: number;
+}
+
+export class AlertBoard {
+  private readonly open = new Map<string, BoardAlert>();
+  private readonly cleared: BoardAlert[] = [];
+  private readonly clearedKeep: number;
+
+  constructor(opts: BoardOptions = {}) {
+    this.clearedKeep = opts.clearedKeep ?? 20;
+  }
+
+  /** Apply one alert event; returns the alert as it now stands (null for a clear of an unknown id). */
+  applyEvent(ev: AlertEvent, now: number): BoardAlert | null {
+    const at = new Date(now).toISOString();
+    const prev = this.open.get(ev.id);
+    if (ev.state === 'cleared') {
+      const base = prev ?? this.cleared.find((a) => a.id === ev.id);
+      if (prev === undefined && base !== undefined) return base; // duplicate clear (replayed topic)
+      const done: BoardAlert = {
+        ...(base ?? blank(at)),
+        ...ev,
+        // A clear carries no reasons; keep the last known ones so the history says why it was raised.
+        reasons: base?.reasons ?? ev.reasons,
+        severity: base?.severity ?? ev.severity,
+        status: 'cleared',
+        shelvedUntil: null,
+        changedAt: at,
+      };
+      this.open.delete(ev.id);
+      this.cleared.unshift(done);
+      if (this.cleared.length > this.clearedKeep) this.cleared.length = this.clearedKeep;
+      return done;
+    }
+    if (prev === undefined) {
+      if (this.cleared.some((a) => a.id === ev.id)) return null; // late duplicate of a cleared alert
+      const a: BoardAlert = { ...blank(at), ...ev, status: 'active' };
+      this.open.set(ev.id, a);
+      return a;
+    }
+    // Escalation undoes an acknowledgement: the operator saw a milder alert than the one now standing.
+    const escalated = SEVERITY_RANK[ev.severity] > SEVERITY_RANK[prev.severity];
+    const next: BoardAlert = { ...prev, ...ev, status: prev.status, changedAt: at };
+    if (escalated) {
+      next.acknowledged = false;
+      next.acknowledgedBy = null;
+      next.acknowledgedAt = null;
+    }
+    this.open.set(ev.id, next);
+    return next;
+  }
+
+  /** Apply an operator action (already validated by checkAction, or replayed from the shared log). */
+  applyAction(act: OperatorAction, now: number): ActionResult {
+    const a = this.open.get(act.id);
+    if (a === undefined) {
+      if (this.cleared.some((c) => c.id === act.id)) {
+        return {
+          ok: false,
+          error: 'conflict',
+          message: `alert ${act.id} has already cleared; nothing to ${act.kind}`,
+        };
+      }
+      return {
+        ok: false,
+        error: 'not_found',
+        message: `no alert with id ${act.id} on this board; reload the list`,
+      };
+    }
+    const at = new Date(now).toISOString();
+    let next: BoardAlert;
+    switch (act.kind) {
+      case 'acknowledge':
+        next = { ...a, acknowledged: true, acknowledgedBy: act.by, acknowledgedAt: act.at, changedAt: at };
+        break;
+      case 'shelve': {
+        if (act.until === undefined || act.reason === undefined) {
+          return { ok: false, error: 'invalid', message: 'a shelve needs a reason and an end time' };
+        }
+        if (Date.parse(act.until) <= now) {
+          // A replayed shelf that has already run out changes nothing.
+          return { ok: true, alert: a };
+        }
+        next = {
+          ...a,
+          status: 'shelved',
+          shelvedUntil: act.until,
+          shelveReason: act.reason,
+          shelvedBy: act.by,
+          changedAt: at,
+        };
+        break;
+      }
+      case 'unshelve':
+        if (a.status !== 'shelved') {
+          return { ok: false, error: 'conflict', message: `alert ${act.id} is not shelved` };
+        }
+        next = { ...a, status: 'active', shelvedUntil: null, changedAt: at };
+        break;
+    }
+    this.open.set(act.id, next);
+    return { ok: true, alert: next };
+  }
+
+  /** Return shelved alerts whose shelf has ended to the active list; returns those that came back. */
+  expireShelves(now: number): BoardAlert[] {
+    const back: BoardAlert[] = [];
+    const at = new Date(now).toISOString();
+    for (const a of this.open.values()) {
+      if (a.status === 'shelved' && a.shelvedUntil !== null && Date.parse(a.shelvedUntil) <= now) {
+        const next: BoardAlert = { ...a, status: 'active', shelvedUntil: null, changedAt: at };
+        this.open.set(a.id, next);
+        back.push(next);
+      }
+    }
+    return back;
+  }
+
+  get(id: string): BoardAlert | undefined {
+    return this.open.get(id) ?? this.cleared.find((a) => a.id === id);
+  }
+
+  /** Active (most severe, then oldest first), then shelved (soonest back first), then recently cleared. */
+  list(): BoardAlert[] {
+    const active: BoardAlert[] = [];
+    const shelved: BoardAlert[] = [];
+    for (const a of this.open.values()) (a.status === 'shelved' ? shelved : active).push(a);
+    active.sort(
+      (x, y) =>
+        SEVERITY_RANK[y.severity] - SEVERITY_RANK[x.severity] ||
+        Date.parse(x.since) - Date.parse(y.since) ||
+        (x.id < y.id ? -1 : x.id > y.id ? 1 : 0),
+    );
+    shelved.sort((x, y) => Date.parse(x.shelvedUntil ?? '') - Date.parse(y.shelvedUntil ?? ''));
+    return [...active, ...shelved, ...this.cleared];
+  }
+
+  /** Sensors that currently have an alert on the board (open or recently cleared). */
+  sensorsShown(): Set<string> {
+    const s = new Set<string>();
+    for (const a of this.open.values()) s.add(a.sensor);
+    for (const a of this.cleared) s.add(a.sensor);
+    return s;
+  }
+
+  get openCount(): number {
+    return this.open.size;
+  }
+}
+
+function blank(at: string): Omit<BoardAlert, keyof AlertEvent | 'status'> {
+  return {
+    acknowledged: false,
+    acknowledgedBy: null,
+    acknowledgedAt: null,
+    shelvedUntil: null,
+    shelveReason: null,
+    shelvedBy: null,
+    changedAt: at,
+  };
+}
+
+export type CheckedAction = { ok: true; action: OperatorAction } | { ok: false; message: string };
+
+/**
+ * Validate an operator action request body (untrusted JSON) into an action stamped with `now`.
+ * Unnamed operators are recorded as "unnamed".
+ */
+export function checkAction(kind: ActionKind, id: string, body: unknown, now: number): CheckedAction {
+  if (body !== undefined && (typeof body !== 'object' || body === null || Array.isArray(body))) {
+    return { ok: false, message: 'the request body must be a JSON object' };
+  }
+  const b = (body ?? {}) as Record<string, unknown>;
+  const allowed = kind === 'shelve' ? ['by', 'reason', 'minutes'] : ['by'];
+  for (const k of Object.keys(b)) {
+    if (!allowed.includes(k))
+      return { ok: false, message: `unknown field "${k}"; allowed: ${allowed.join(', ')}` };
+  }
+  let by = UNNAMED;
+  if (b.by !== undefined && b.by !== null) {
+    if (typeof b.by !== 'string') return { ok: false, message: '"by" must be the operator name as a string' };
+    const t = b.by.trim();
+    if (t.length > OPERATOR_NAME_MAX)
+      return { ok: false, message: `"by" must be at most ${OPERATOR_NAME_MAX} characters` };
+    if (t.length > 0) by = t;
+  }
+  const at = new Date(now).toISOString();
+  if (kind !== 'shelve') return { ok: true, action: { kind, id, by, at } };
+
+  if (typeof b.reason !== 'string' || b.reason.trim().length === 0) {
+    return { ok: false, message: '"reason" is required to shelve: say why the alert can wait' };
+  }
+  const reason = b.reason.trim();
+  if (reason.length > SHELF_LIMITS.maxReasonChars) {
+    return { ok: false, message: `"reason" must be at most ${SHELF_LIMITS.maxReasonChars} characters` };
+  }
+  const m = b.minutes;
+  if (
+    typeof m !== 'number' ||
+    !Number.isFinite(m) ||
+    m < SHELF_LIMITS.minMinutes ||
+    m > SHELF_LIMITS.maxMinutes
+  ) {
+    return {
+      ok: false,
+      message: `"minutes" must be a number from ${SHELF_LIMITS.minMinutes} to ${SHELF_LIMITS.maxMinutes} (e.g. 15, 60 or 480)`,
+    };
+  }
+  const until = new Date(now + Math.round(m * 60_000)).toISOString();
+  return { ok: true, action: { kind, id, by, at, reason, until } };
+}

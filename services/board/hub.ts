@@ -1,0 +1,140 @@
+/**
+ * The board's in-process state for one server: the pure store, the rate meter, recent readings for
+ * the charts, and the SSE listeners. Demo and live mode both drive it; live mode adds a hook that
+ * shares operator actions (Redis + Kafka) before they are applied here.
+ */
+import {
+  AlertBoard,
+  checkAction,
+  type ActionKind,
+  type ActionResult,
+  type BoardAlert,
+  type OperatorAction,
+} from '../../libs/board/store.js';
+import { RateMeter, type RateReading } from '../../libs/board/rate.js';
+import { RecentSeries, type SeriesPoint } from '../../libs/board/series.js';
+import type { AlertEvent } from '../../libs/schema/alert-event.js';
+
+export type HubMessage =
+  | { type: 'alert'; alert: BoardAlert }
+  | { type: 'action'; action: OperatorAction; alert: BoardAlert }
+  | { type: 'returned'; alert: BoardAlert };
+
+export interface HubClock {
+  /** Server wall clock: action stamps and shelf expiry. */
+  wall(): number;
+  /** Plant clock: event time "now" for the rate meter and relative times (equals wall in live mode). */
+  plant(): number;
+}
+
+export interface HubOptions {
+  mode: 'demo' | 'live';
+  clock: HubClock;
+  /** Simulated-time speed factor (1 in live mode). */
+  speed?: number;
+  clearedKeep?: number;
+  /** Called with a validated action before it is applied locally (live mode persists and publishes it). */
+  share?: (action: OperatorAction) => Promise<void>;
+}
+
+export type ActRequest = { ok: true; alert: BoardAlert } | { ok: false; status: number; message: string };
+
+export class BoardHub {
+  readonly store: AlertBoard;
+  readonly rate = new RateMeter();
+  readonly series = new RecentSeries();
+  private readonly listeners = new Set<(m: HubMessage) => void>();
+  readonly counts = {
+    events: 0,
+    actions: { acknowledge: 0, shelve: 0, unshelve: 0 } as Record<ActionKind, number>,
+  };
+
+  constructor(readonly opts: HubOptions) {
+    this.store = new AlertBoard({ clearedKeep: opts.clearedKeep });
+  }
+
+  get clock(): HubClock {
+    return this.opts.clock;
+  }
+
+  subscribe(fn: (m: HubMessage) => void): () => void {
+    this.listeners.add(fn);
+    return () => this.listeners.delete(fn);
+  }
+
+  get listenerCount(): number {
+    return this.listeners.size;
+  }
+
+  private emit(m: HubMessage): void {
+    for (const fn of this.listeners) fn(m);
+  }
+
+  applyEvent(ev: AlertEvent): void {
+    this.counts.events++;
+    if (ev.state === 'raised') this.rate.record(Date.parse(ev.since));
+    const a = this.store.applyEvent(ev, this.clock.wall());
+    if (a !== null) this.emit({ type: 'alert', alert: a });
+  }
+
+  addReading(sensor: string, p: SeriesPoint): void {
+    this.series.add(sensor, p);
+  }
+
+  /** An action that another board took (from the shared log); applied without sharing again. */
+  applyRemoteAction(act: OperatorAction): void {
+    const r = this.store.applyAction(act, this.clock.wall());
+    if (r.ok) this.emit({ type: 'action', action: act, alert: r.alert });
+  }
+
+  /** An operator's request from this board's API: validate, share (live mode), apply, announce. */
+  async act(kind: ActionKind, id: string, body: unknown): Promise<ActRequest> {
+    const checked = checkAction(kind, id, body, this.clock.wall());
+    if (!checked.ok) return { ok: false, status: 400, message: checked.message };
+    // Dry-run the state check first so a refused action is never shared.
+    const current = this.store.get(id);
+    if (current === undefined)
+      return { ok: false, status: 404, message: `no alert with id ${id} on this board; reload the list` };
+    if (current.status === 'cleared')
+      return { ok: false, status: 409, message: `alert ${id} has already cleared; nothing to ${kind}` };
+    if (kind === 'unshelve' && current.status !== 'shelved')
+      return { ok: false, status: 409, message: `alert ${id} is not shelved` };
+    if (this.opts.share) await this.opts.share(checked.action);
+    const r: ActionResult = this.store.applyAction(checked.action, this.clock.wall());
+    if (!r.ok)
+      return {
+        ok: false,
+        status: r.error === 'not_found' ? 404 : r.error === 'conflict' ? 409 : 400,
+        message: r.message,
+      };
+    this.counts.actions[kind]++;
+    this.emit({ type: 'action', action: checked.action, alert: r.alert });
+    return { ok: true, alert: r.alert };
+  }
+
+  /** Bring back alerts whose shelf has ended; call on a timer. */
+  tick(): void {
+    for (const a of this.store.expireShelves(this.clock.wall())) this.emit({ type: 'returned', alert: a });
+  }
+
+  rateNow(): RateReading {
+    return this.rate.read(this.clock.plant());
+  }
+
+  /** Everything the page needs in one response. */
+  snapshot(extra: Record<string, unknown> = {}): Record<string, unknown> {
+    const alerts = this.store.list();
+    const series: Record<string, SeriesPoint[]> = {};
+    for (const a of alerts) if (!(a.sensor in series)) series[a.sensor] = this.series.get(a.sensor);
+    return {
+      mode: this.opts.mode,
+      speed: this.opts.speed ?? 1,
+      wallNow: new Date(this.clock.wall()).toISOString(),
+      plantNow: new Date(this.clock.plant()).toISOString(),
+      rate: this.rateNow(),
+      alerts,
+      series,
+      ...extra,
+    };
+  }
+}

@@ -1,0 +1,227 @@
+/**
+ * The board's HTTP server: the page, the JSON API, the live event stream (SSE), metrics and health.
+ * Plain node:http; every response is small and every request body is size-limited.
+ */
+import { createServer, type IncomingMessage, type Server, type ServerResponse } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import type { ActionKind } from '../../libs/board/store.js';
+import { NOTICE } from '../../libs/schema/notice.js';
+import { authorized } from './auth.js';
+import type { BoardHub, HubMessage } from './hub.js';
+import type { BoardMetrics } from './metrics.js';
+import { BOARD_CSS } from './page/style.js';
+import { BOARD_HTML } from './page/html.js';
+import { BOARD_JS } from './page/script.js';
+
+export const MAX_BODY_BYTES = 4096;
+const SSE_HEARTBEAT_MS = 15_000;
+
+export interface BoardServerOptions {
+  hub: BoardHub;
+  metrics: BoardMetrics;
+  host: string;
+  port: number;
+  /** Bearer token required on POSTs; null = none (loopback only, see auth.ts). */
+  token: string | null;
+  /** How often shelves are checked for expiry. */
+  tickMs?: number;
+}
+
+export interface RunningBoard {
+  server: Server;
+  url: string;
+  close(): Promise<void>;
+}
+
+const SECURITY_HEADERS = {
+  'x-content-type-options': 'nosniff',
+  'referrer-policy': 'no-referrer',
+  'x-frame-options': 'DENY',
+};
+
+const PAGE_CSP =
+  "default-src 'self'; img-src 'self' data:; style-src 'self'; script-src 'self'; connect-src 'self'; frame-ancestors 'none'";
+
+function send(
+  res: ServerResponse,
+  status: number,
+  type: string,
+  body: string | Buffer,
+  extra: Record<string, string> = {},
+): void {
+  res.writeHead(status, { 'content-type': type, 'cache-control': 'no-store', ...SECURITY_HEADERS, ...extra });
+  res.end(body);
+}
+
+function json(res: ServerResponse, status: number, body: unknown): void {
+  send(res, status, 'application/json; charset=utf-8', JSON.stringify(body));
+}
+
+function fail(res: ServerResponse, status: number, error: string, message: string): void {
+  json(res, status, { error, message });
+}
+
+class BodyError extends Error {
+  constructor(
+    readonly status: number,
+    message: string,
+  ) {
+    super(message);
+  }
+}
+
+async function readJsonBody(req: IncomingMessage): Promise<unknown> {
+  const type = (req.headers['content-type'] ?? '').split(';')[0].trim().toLowerCase();
+  if (type !== 'application/json') {
+    throw new BodyError(415, 'send the body as JSON with "Content-Type: application/json"');
+  }
+  const declared = Number(req.headers['content-length'] ?? '0');
+  if (declared > MAX_BODY_BYTES) throw new BodyError(413, `the body must be at most ${MAX_BODY_BYTES} bytes`);
+  const chunks: Buffer[] = [];
+  let size = 0;
+  for await (const c of req) {
+    size += (c as Buffer).length;
+    if (size > MAX_BODY_BYTES) throw new BodyError(413, `the body must be at most ${MAX_BODY_BYTES} bytes`);
+    chunks.push(c as Buffer);
+  }
+  const text = Buffer.concat(chunks).toString('utf8').trim();
+  if (text.length === 0) return undefined;
+  try {
+    return JSON.parse(text);
+  } catch {
+    throw new BodyError(400, 'the body is not valid JSON');
+  }
+}
+
+const ACTION_ROUTE = /^\/api\/alerts\/([^/]+)\/(acknowledge|shelve|unshelve)$/;
+
+export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard> {
+  const { hub, metrics, token } = opts;
+  const streams = new Set<ServerResponse>();
+
+  const handle = async (req: IncomingMessage, res: ServerResponse): Promise<void> => {
+    const url = new URL(req.url ?? '/', 'http://board.local');
+    const path = url.pathname;
+    const method = req.method ?? 'GET';
+
+    if (method === 'POST') {
+      const m = ACTION_ROUTE.exec(path);
+      if (!m) return fail(res, 404, 'not_found', `no such endpoint: POST ${path}`);
+      if (!authorized(token, req.headers.authorization)) {
+        return fail(
+          res,
+          401,
+          'unauthorized',
+          'this board needs the board token: send "Authorization: Bearer <token>"',
+        );
+      }
+      let body: unknown;
+      try {
+        body = await readJsonBody(req);
+      } catch (e) {
+        if (e instanceof BodyError) return fail(res, e.status, 'bad_request', e.message);
+        throw e;
+      }
+      let id: string;
+      try {
+        id = decodeURIComponent(m[1]);
+      } catch {
+        return fail(res, 400, 'bad_request', 'the alert id in the path is not valid URL encoding');
+      }
+      const r = await hub.act(m[2] as ActionKind, id, body);
+      if (!r.ok) {
+        const code = r.status === 404 ? 'not_found' : r.status === 409 ? 'conflict' : 'bad_request';
+        return fail(res, r.status, code, r.message);
+      }
+      return json(res, 200, r.alert);
+    }
+    if (method !== 'GET' && method !== 'HEAD') {
+      return fail(res, 405, 'method_not_allowed', `${method} is not supported here; use GET or POST`);
+    }
+    switch (path) {
+      case '/':
+      case '/index.html':
+        return send(res, 200, 'text/html; charset=utf-8', BOARD_HTML, {
+          'content-security-policy': PAGE_CSP,
+        });
+      case '/assets/board.js':
+        return send(res, 200, 'text/javascript; charset=utf-8', BOARD_JS);
+      case '/assets/board.css':
+        return send(res, 200, 'text/css; charset=utf-8', BOARD_CSS);
+      case '/api/alerts':
+        return json(res, 200, hub.store.list());
+      case '/api/board':
+        return json(res, 200, hub.snapshot({ notice: NOTICE, tokenRequired: token !== null }));
+      case '/api/events':
+        return openStream(req, res);
+      case '/metrics': {
+        const text = await metrics.registry.metrics();
+        return send(res, 200, metrics.registry.contentType, text);
+      }
+      case '/healthz':
+        return json(res, 200, { ok: true, mode: hub.opts.mode, alertsOpen: hub.store.openCount });
+      default:
+        return fail(res, 404, 'not_found', `no such page or endpoint: ${path}`);
+    }
+  };
+
+  const openStream = (req: IncomingMessage, res: ServerResponse): void => {
+    res.writeHead(200, {
+      'content-type': 'text/event-stream; charset=utf-8',
+      'cache-control': 'no-store',
+      connection: 'keep-alive',
+      ...SECURITY_HEADERS,
+    });
+    res.write(
+      `retry: 3000\nevent: hello\ndata: ${JSON.stringify({ notice: NOTICE, mode: hub.opts.mode })}\n\n`,
+    );
+    const off = hub.subscribe((m: HubMessage) => {
+      res.write(`event: ${m.type}\ndata: ${JSON.stringify(m)}\n\n`);
+    });
+    streams.add(res);
+    const done = () => {
+      off();
+      streams.delete(res);
+    };
+    req.on('close', done);
+    res.on('error', done);
+  };
+
+  const server = createServer((req, res) => {
+    handle(req, res).catch((e: unknown) => {
+      if (!res.headersSent) fail(res, 500, 'internal', `the board failed to answer: ${(e as Error).message}`);
+      else res.end();
+    });
+  });
+  server.requestTimeout = 30_000;
+  server.headersTimeout = 10_000;
+
+  const ticker = setInterval(() => hub.tick(), opts.tickMs ?? 1000);
+  ticker.unref();
+  const heartbeat = setInterval(() => {
+    for (const s of streams) s.write(': keep-alive\n\n');
+  }, SSE_HEARTBEAT_MS);
+  heartbeat.unref();
+
+  return new Promise((resolve, reject) => {
+    server.once('error', reject);
+    server.listen(opts.port, opts.host, () => {
+      server.off('error', reject);
+      const addr = server.address() as AddressInfo;
+      const hostPart = addr.family === 'IPv6' ? `[${addr.address}]` : addr.address;
+      resolve({
+        server,
+        url: `http://${hostPart}:${addr.port}`,
+        close: () =>
+          new Promise<void>((done) => {
+            clearInterval(ticker);
+            clearInterval(heartbeat);
+            for (const s of streams) s.end();
+            streams.clear();
+            server.close(() => done());
+            server.closeAllConnections();
+          }),
+      });
+    });
+  });
+}
