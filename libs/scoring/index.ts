@@ -1,0 +1,2 @@
+export * from './labels.js';
+export * from './score.js';

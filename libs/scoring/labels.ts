@@ -1,0 +1,124 @@
+/**
+ * Fault labels (ground truth) as CSV: a header naming `sensor,start,end` and optionally `kind`
+ * (any order), then one incident per line. Times are ISO-8601 with a zone (or epoch ms); an
+ * incident covers start <= ts <= end. Errors give the line number and say what to fix.
+ */
+import { StreamfenceError } from '../errors/index.js';
+import { parseTimestamp } from '../engine/reading.js';
+
+export interface Incident {
+  sensor: string;
+  start: number;
+  end: number;
+  /** Fault kind (e.g. spike, drift); "" when the file has no kind column or leaves it blank. */
+  kind: string;
+}
+
+const REQUIRED = ['sensor', 'start', 'end'] as const;
+
+/** Split one CSV line; double-quoted fields may hold commas and "" for a quote. Null when quotes are unbalanced. */
+export function splitCsvLine(line: string): string[] | null {
+  const out: string[] = [];
+  let i = 0;
+  for (;;) {
+    if (line[i] === '"') {
+      let field = '';
+      i++;
+      for (;;) {
+        if (i >= line.length) return null;
+        if (line[i] === '"') {
+          if (line[i + 1] === '"') {
+            field += '"';
+            i += 2;
+            continue;
+          }
+          i++;
+          break;
+        }
+        field += line[i++];
+      }
+      out.push(field);
+      if (i < line.length && line[i] !== ',') return null;
+    } else {
+      const comma = line.indexOf(',', i);
+      const stop = comma < 0 ? line.length : comma;
+      out.push(line.slice(i, stop).trim());
+      i = stop;
+    }
+    if (i >= line.length) return out;
+    i++; // past the comma
+  }
+}
+
+function csvField(s: string): string {
+  return /[",\n\r]/.test(s) || s !== s.trim() ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+export function parseLabelsCsv(text: string, source = 'labels'): Incident[] {
+  const fail = (line: number, msg: string): never => {
+    throw new StreamfenceError('INPUT_UNREADABLE', `${source} line ${line}: ${msg}`);
+  };
+  const lines = text.split(/\r?\n/);
+  let col: Record<string, number> | null = null;
+  const out: Incident[] = [];
+  lines.forEach((raw, i) => {
+    const lineNo = i + 1;
+    const line = i === 0 ? raw.replace(/^\uFEFF/, '') : raw;
+    if (line.trim() === '') return;
+    const fields = splitCsvLine(line);
+    if (fields === null) fail(lineNo, 'unbalanced double quotes');
+    if (col === null) {
+      const names = fields!.map((f) => f.trim().toLowerCase());
+      const c: Record<string, number> = {};
+      for (const n of [...REQUIRED, 'kind']) {
+        const at = names.indexOf(n);
+        if (at >= 0) c[n] = at;
+      }
+      const missing = REQUIRED.filter((n) => c[n] === undefined);
+      if (missing.length > 0) {
+        fail(
+          lineNo,
+          `the header must name the columns sensor, start, end (and optionally kind); missing ${missing.join(', ')}`,
+        );
+      }
+      col = c;
+      return;
+    }
+    const get = (n: string): string => (col![n] === undefined ? '' : (fields![col![n]] ?? ''));
+    const sensor = get('sensor');
+    if (sensor === '') fail(lineNo, 'the sensor is empty');
+    const times: number[] = [];
+    for (const n of ['start', 'end']) {
+      const t = parseTimestamp(get(n));
+      if (!t.ok) fail(lineNo, `${n}: ${t.detail}`);
+      else times.push(t.ts);
+    }
+    if (times[1] < times[0]) fail(lineNo, `end (${get('end')}) is before start (${get('start')})`);
+    out.push({ sensor, start: times[0], end: times[1], kind: get('kind') });
+  });
+  if (col === null) {
+    throw new StreamfenceError(
+      'INPUT_UNREADABLE',
+      `${source}: empty; expected a header "sensor,start,end,kind" and one line per incident`,
+    );
+  }
+  return out;
+}
+
+/** Labels as CSV text (header sensor,start,end,kind; ISO-8601 UTC times), the format parseLabelsCsv reads. */
+export function formatLabelsCsv(
+  labels: readonly { sensor: string; start: number; end: number; kind?: string }[],
+): string {
+  const rows = ['sensor,start,end,kind'];
+  for (const l of labels) {
+    rows.push(
+      [
+        csvField(l.sensor),
+        new Date(l.start).toISOString(),
+        new Date(l.end).toISOString(),
+        csvField(l.kind ?? ''),
+      ].join(','),
+    );
+  }
+  return `${rows.join('\n')}\n`;
+}

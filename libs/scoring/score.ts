@@ -1,0 +1,172 @@
+/**
+ * Scoring raised alerts against labelled incidents.
+ *
+ * - An incident is CAUGHT when an alert is raised for its sensor with start <= ts <= end + grace.
+ * - A raised alert is TRUE when it falls in such an interval [start, end + grace] of any incident
+ *   of its sensor (of any kind, dropouts included).
+ * - recall = caught / incidents, over the kinds counted in the headline (dropouts are left out by
+ *   default: the engine has no missing-data rule, so a dropout is caught only when readings around
+ *   it trip a rule); null when there are no such incidents. Per-kind recall covers every kind.
+ * - precision = true raised / raised; null when nothing was raised.
+ * - alertsPerHour = raised / hours of data (last reading ts - first reading ts); null for a zero span.
+ * - worst10min = the most alerts raised in any 10-minute window [t, t + 10 min); flood = worst10min
+ *   > 10 (11 or more; exactly 10 is not a flood).
+ */
+import type { Incident } from './labels.js';
+
+export interface RaisedAlert {
+  sensor: string;
+  ts: number;
+}
+
+export interface ScoreOptions {
+  /** Extra time after an incident's end in which an alert still counts (ms, default 120 000). */
+  graceMs?: number;
+  /** First and last reading times of the data (for the alert rate). */
+  dataStart: number;
+  dataEnd: number;
+  /** Kinds left out of the headline recall (default ["dropout"]). */
+  excludeFromRecall?: readonly string[];
+}
+
+export interface KindScore {
+  incidents: number;
+  caught: number;
+  recall: number | null;
+}
+
+export interface Score {
+  incidents: number;
+  caught: number;
+  recall: number | null;
+  raised: number;
+  trueRaised: number;
+  precision: number | null;
+  hours: number;
+  alertsPerHour: number | null;
+  worst10min: number;
+  flood: boolean;
+  recallByKind: Record<string, KindScore>;
+}
+
+export const DEFAULT_GRACE_MS = 120_000;
+export const FLOOD_WINDOW_MS = 600_000;
+/** More than this many raised alerts in FLOOD_WINDOW_MS is a flood (an alarm-management convention). */
+export const FLOOD_LIMIT = 10;
+/** The kind name incidents without a kind are reported under. */
+export const NO_KIND = '(none)';
+
+interface SensorIntervals {
+  starts: number[];
+  /** Running maximum of end + grace over intervals sorted by start. */
+  reach: number[];
+}
+
+function indexIncidents(incidents: readonly Incident[], grace: number): Map<string, SensorIntervals> {
+  const by = new Map<string, { start: number; stop: number }[]>();
+  for (const i of incidents) {
+    let list = by.get(i.sensor);
+    if (list === undefined) by.set(i.sensor, (list = []));
+    list.push({ start: i.start, stop: i.end + grace });
+  }
+  const out = new Map<string, SensorIntervals>();
+  for (const [sensor, list] of by) {
+    list.sort((a, b) => a.start - b.start);
+    const reach: number[] = [];
+    let max = -Infinity;
+    for (const x of list) reach.push((max = Math.max(max, x.stop)));
+    out.set(sensor, { starts: list.map((x) => x.start), reach });
+  }
+  return out;
+}
+
+/** Index of the last element <= x in a sorted array, or -1. */
+function lastAtOrBefore(sorted: readonly number[], x: number): number {
+  let lo = 0;
+  let hi = sorted.length - 1;
+  let ans = -1;
+  while (lo <= hi) {
+    const mid = (lo + hi) >> 1;
+    if (sorted[mid] <= x) {
+      ans = mid;
+      lo = mid + 1;
+    } else hi = mid - 1;
+  }
+  return ans;
+}
+
+/** The most timestamps in any window [t, t + width). */
+export function worstWindow(times: readonly number[], width: number): number {
+  const ts = [...times].sort((a, b) => a - b);
+  let best = 0;
+  let lo = 0;
+  for (let hi = 0; hi < ts.length; hi++) {
+    while (ts[hi] - ts[lo] >= width) lo++;
+    best = Math.max(best, hi - lo + 1);
+  }
+  return best;
+}
+
+export function score(
+  incidents: readonly Incident[],
+  raised: readonly RaisedAlert[],
+  opts: ScoreOptions,
+): Score {
+  const grace = opts.graceMs ?? DEFAULT_GRACE_MS;
+  const exclude = new Set(opts.excludeFromRecall ?? ['dropout']);
+
+  // Alert times per sensor, sorted, for "any alert in [start, end + grace]".
+  const alertsBy = new Map<string, number[]>();
+  for (const a of raised) {
+    let list = alertsBy.get(a.sensor);
+    if (list === undefined) alertsBy.set(a.sensor, (list = []));
+    list.push(a.ts);
+  }
+  for (const list of alertsBy.values()) list.sort((a, b) => a - b);
+
+  const byKind: Record<string, KindScore> = {};
+  let counted = 0;
+  let caught = 0;
+  for (const inc of incidents) {
+    const list = alertsBy.get(inc.sensor);
+    const at = list === undefined ? -1 : lastAtOrBefore(list, inc.end + grace);
+    const hit = at >= 0 && list![at] >= inc.start;
+    const kind = inc.kind === '' ? NO_KIND : inc.kind;
+    const k = (byKind[kind] ??= { incidents: 0, caught: 0, recall: null });
+    k.incidents++;
+    if (hit) k.caught++;
+    if (!exclude.has(kind)) {
+      counted++;
+      if (hit) caught++;
+    }
+  }
+  for (const k of Object.values(byKind)) k.recall = k.caught / k.incidents;
+
+  const intervals = indexIncidents(incidents, grace);
+  let trueRaised = 0;
+  for (const a of raised) {
+    const iv = intervals.get(a.sensor);
+    if (iv === undefined) continue;
+    const at = lastAtOrBefore(iv.starts, a.ts);
+    if (at >= 0 && iv.reach[at] >= a.ts) trueRaised++;
+  }
+
+  const hours = Math.max(0, opts.dataEnd - opts.dataStart) / 3_600_000;
+  const worst = worstWindow(
+    raised.map((a) => a.ts),
+    FLOOD_WINDOW_MS,
+  );
+  return {
+    incidents: counted,
+    caught,
+    recall: counted === 0 ? null : caught / counted,
+    raised: raised.length,
+    trueRaised,
+    precision: raised.length === 0 ? null : trueRaised / raised.length,
+    hours,
+    alertsPerHour: hours > 0 ? raised.length / hours : null,
+    worst10min: worst,
+    flood: worst > FLOOD_LIMIT,
+    recallByKind: byKind,
+  };
+}

@@ -1,0 +1,21 @@
+/**
+ * Apply a grid point to a config: the point's settings go into `defaults` AND into every
+ * `sensors[]` override that sets one of those keys (an override would otherwise shadow the
+ * tuned value for its sensors). Other override keys (direction, limits, ...) stay as they are.
+ */
+import { configToJson, validateConfig, type EngineConfig } from '../config/config.js';
+import type { SensorSettings } from '../config/settings.js';
+import type { GridPoint } from './grid.js';
+
+export function applyPoint(base: EngineConfig, p: GridPoint): EngineConfig {
+  const tuned = p as unknown as Partial<SensorSettings>;
+  const keys = Object.keys(p) as (keyof SensorSettings)[];
+  const sensors = base.sensors.map((r) => {
+    const overrides: Partial<SensorSettings> = { ...r.overrides };
+    for (const k of keys) if (k in overrides) (overrides as Record<string, unknown>)[k] = tuned[k];
+    return { match: r.match, overrides };
+  });
+  const cfg: EngineConfig = { defaults: { ...base.defaults, ...tuned }, sensors };
+  // Round-trip through validation so a result that replay/run would refuse never leaves here.
+  return validateConfig(configToJson(cfg), 'tuned config');
+}

@@ -1,0 +1,3 @@
+export * from './grid.js';
+export * from './apply.js';
+export * from './recommend.js';
