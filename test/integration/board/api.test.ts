@@ -1,0 +1,256 @@
+/**
+ * The board's HTTP API on a real server on 127.0.0.1: listing, actions, validation, 404s, token,
+ * body limits and the live event stream. The hub is fed alert events directly (no simulator), with
+ * a wall clock the test can move.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { request } from 'node:http';
+import { BoardHub, type HubMessage } from '../../../services/board/hub.js';
+import { createBoardMetrics } from '../../../services/board/metrics.js';
+import { MAX_BODY_BYTES, startBoardServer, type RunningBoard } from '../../../services/board/server.js';
+import type { AlertEvent } from '../../../libs/schema/alert-event.js';
+import { NOTICE } from '../../../libs/schema/notice.js';
+
+const T0 = Date.parse('2026-05-10T06:00:00Z');
+let wall = T0;
+
+function ev(id: string, state: AlertEvent['state'], severity: AlertEvent['severity']): AlertEvent {
+  return {
+    id,
+    sensor: `kiln-3/${id}`,
+    state,
+    severity,
+    reasons: state === 'cleared' ? [] : ['fence_high'],
+    value: 42,
+    ts: new Date(T0).toISOString(),
+    since: new Date(T0).toISOString(),
+    flaggedReadings: 2,
+    baseline: {
+      q1: 1,
+      median: 2,
+      q3: 3,
+      iqr: 2,
+      lowerFence: -2,
+      upperFence: 6,
+      lowerOuterFence: -5,
+      upperOuterFence: 9,
+      mean: 2,
+      stdDev: 1,
+      count: 100,
+      from: null,
+      to: null,
+    },
+    z: 40,
+    robustZ: 30,
+    percentileRank: 100,
+    message: `${id} reads 42, above the upper fence`,
+    notice: NOTICE,
+  };
+}
+
+async function call(
+  base: string,
+  method: string,
+  path: string,
+  body?: unknown,
+  headers: Record<string, string> = {},
+) {
+  const h: Record<string, string> = { ...headers };
+  if (body !== undefined && !('content-type' in h)) h['content-type'] = 'application/json';
+  const res = await fetch(base + path, {
+    method,
+    headers: h,
+    body: body === undefined ? undefined : typeof body === 'string' ? body : JSON.stringify(body),
+  });
+  const text = await res.text();
+  let json: unknown = null;
+  try {
+    json = JSON.parse(text);
+  } catch {
+    /* not JSON */
+  }
+  return {
+    status: res.status,
+    json: json as Record<string, unknown> & Record<string, unknown>[],
+    text,
+    type: res.headers.get('content-type'),
+  };
+}
+
+describe('board API (loopback, no token)', () => {
+  let hub: BoardHub;
+  let board: RunningBoard;
+  beforeAll(async () => {
+    hub = new BoardHub({ mode: 'demo', clock: { wall: () => wall, plant: () => wall } });
+    board = await startBoardServer({
+      hub,
+      metrics: createBoardMetrics(hub),
+      host: '127.0.0.1',
+      port: 0,
+      token: null,
+      tickMs: 50,
+    });
+    hub.applyEvent(ev('press', 'raised', 'warning'));
+    hub.applyEvent(ev('fan', 'raised', 'critical'));
+    hub.applyEvent(ev('old', 'raised', 'warning'));
+    hub.applyEvent(ev('old', 'cleared', 'warning'));
+  });
+  afterAll(() => board.close());
+
+  it('serves the page with the caution, the assets, health and metrics', async () => {
+    const page = await call(board.url, 'GET', '/');
+    expect(page.status).toBe(200);
+    expect(page.text).toContain(NOTICE);
+    expect((await call(board.url, 'GET', '/assets/board.js')).type).toMatch(/javascript/);
+    expect((await call(board.url, 'GET', '/healthz')).json).toMatchObject({ ok: true, alertsOpen: 2 });
+    const m = await call(board.url, 'GET', '/metrics');
+    expect(m.text).toMatch(/streamfence_board_alerts\{status="active"\} 2/);
+    expect(m.text).toMatch(/streamfence_board_alerts\{status="cleared"\} 1/);
+  });
+
+  it('lists active, shelved and cleared alerts with the board fields', async () => {
+    const r = await call(board.url, 'GET', '/api/alerts');
+    expect(r.status).toBe(200);
+    const list = r.json as unknown as Record<string, unknown>[];
+    expect(list.map((a) => `${a.status}:${a.id}`)).toEqual(['active:fan', 'active:press', 'cleared:old']);
+    expect(list[0]).toMatchObject({
+      severity: 'critical',
+      acknowledged: false,
+      acknowledgedBy: null,
+      acknowledgedAt: null,
+      shelvedUntil: null,
+      shelveReason: null,
+      notice: NOTICE,
+    });
+  });
+
+  it('acknowledges, shelves (with expiry on the server clock) and unshelves', async () => {
+    const a = await call(board.url, 'POST', '/api/alerts/press/acknowledge', { by: 'Tamsin Vey' });
+    expect(a.status).toBe(200);
+    expect(a.json).toMatchObject({
+      acknowledged: true,
+      acknowledgedBy: 'Tamsin Vey',
+      acknowledgedAt: new Date(wall).toISOString(),
+    });
+    const s = await call(board.url, 'POST', '/api/alerts/fan/shelve', {
+      reason: 'belt being replaced',
+      minutes: 15,
+    });
+    expect(s.status).toBe(200);
+    expect(s.json).toMatchObject({
+      status: 'shelved',
+      shelveReason: 'belt being replaced',
+      shelvedBy: 'unnamed',
+      shelvedUntil: new Date(wall + 15 * 60_000).toISOString(),
+    });
+    wall += 15 * 60_000; // the server clock reaches the end of the shelf; the ticker brings it back
+    await expect
+      .poll(
+        async () =>
+          (
+            (await call(board.url, 'GET', '/api/alerts')).json as unknown as { id: string; status: string }[]
+          ).find((x) => x.id === 'fan')?.status,
+      )
+      .toBe('active');
+    await call(board.url, 'POST', '/api/alerts/fan/shelve', { reason: 'again', minutes: 60 });
+    const u = await call(board.url, 'POST', '/api/alerts/fan/unshelve', {});
+    expect(u.json).toMatchObject({ status: 'active', shelvedUntil: null });
+  });
+
+  it('refuses bad input with a clear 4xx JSON error', async () => {
+    const cases: [string, unknown, Record<string, string>, number, RegExp][] = [
+      ['/api/alerts/press/shelve', { minutes: 15 }, {}, 400, /reason/],
+      ['/api/alerts/press/shelve', { reason: 'x', minutes: 5000 }, {}, 400, /minutes/],
+      ['/api/alerts/press/shelve', { reason: 'x'.repeat(501), minutes: 5 }, {}, 400, /500/],
+      ['/api/alerts/press/acknowledge', '{not json', {}, 400, /not valid JSON/],
+      [
+        '/api/alerts/press/acknowledge',
+        { by: 'x' },
+        { 'content-type': 'text/plain' },
+        415,
+        /application\/json/,
+      ],
+      ['/api/alerts/press/acknowledge', { by: 'x'.repeat(MAX_BODY_BYTES) }, {}, 413, /at most/],
+      ['/api/alerts/nope/acknowledge', {}, {}, 404, /no alert with id nope/],
+      ['/api/alerts/old/acknowledge', {}, {}, 409, /already cleared/],
+      ['/api/alerts/press/unshelve', {}, {}, 409, /not shelved/],
+      ['/api/alerts/press/explode', {}, {}, 404, /no such endpoint/],
+    ];
+    for (const [path, body, headers, status, msg] of cases) {
+      const r = await call(board.url, 'POST', path, body, headers);
+      expect({ path, status: r.status }).toEqual({ path, status });
+      expect(r.type).toMatch(/application\/json/);
+      expect(String(r.json.message)).toMatch(msg);
+    }
+    expect((await call(board.url, 'GET', '/nowhere')).status).toBe(404);
+    expect((await call(board.url, 'DELETE', '/api/alerts')).status).toBe(405);
+  });
+
+  it('streams alert events and operator actions over SSE', async () => {
+    const got: string[] = [];
+    const req = request(board.url + '/api/events');
+    const done = new Promise<void>((resolve) => {
+      req.on('response', (res) => {
+        res.setEncoding('utf8');
+        res.on('data', (chunk: string) => {
+          for (const block of chunk.split('\n\n')) {
+            const type = /^event: (\w+)/m.exec(block)?.[1];
+            const data = /^data: (.*)$/m.exec(block)?.[1];
+            if (type)
+              got.push(type === 'hello' ? 'hello' : `${type}:${(JSON.parse(data!) as HubMessage).alert.id}`);
+          }
+          if (got.length >= 3) resolve();
+        });
+      });
+    });
+    req.end();
+    await expect.poll(() => hub.listenerCount).toBe(1);
+    hub.applyEvent(ev('pump', 'raised', 'warning'));
+    await call(board.url, 'POST', '/api/alerts/pump/acknowledge', {});
+    await done;
+    req.destroy();
+    expect(got).toEqual(['hello', 'alert:pump', 'action:pump']);
+  });
+});
+
+describe('board API with a token', () => {
+  it('refuses actions without the bearer token and accepts them with it', async () => {
+    const hub = new BoardHub({ mode: 'demo', clock: { wall: () => wall, plant: () => wall } });
+    const board = await startBoardServer({
+      hub,
+      metrics: createBoardMetrics(hub),
+      host: '127.0.0.1',
+      port: 0,
+      token: 'kiln-secret',
+    });
+    try {
+      hub.applyEvent(ev('press', 'raised', 'warning'));
+      const no = await call(board.url, 'POST', '/api/alerts/press/acknowledge', {});
+      expect(no.status).toBe(401);
+      expect(String(no.json.message)).toMatch(/Authorization: Bearer/);
+      expect(
+        (
+          await call(
+            board.url,
+            'POST',
+            '/api/alerts/press/acknowledge',
+            {},
+            { authorization: 'Bearer wrong' },
+          )
+        ).status,
+      ).toBe(401);
+      const ok = await call(
+        board.url,
+        'POST',
+        '/api/alerts/press/acknowledge',
+        {},
+        { authorization: 'Bearer kiln-secret' },
+      );
+      expect(ok.status).toBe(200);
+      // Reading stays open: the board is for looking at.
+      expect((await call(board.url, 'GET', '/api/alerts')).status).toBe(200);
+    } finally {
+      await board.close();
+    }
+  });
+});
