@@ -12,6 +12,32 @@ export const ENV = {
   statePrefix: 'STREAMFENCE_STATE_PREFIX',
   /** TCP port of the Prometheus metrics endpoint. */
   metricsPort: 'STREAMFENCE_METRICS_PORT',
+  /** Live monitor (streamfence run / inspect): each mirrors the command-line option of the same name. */
+  inputTopic: 'STREAMFENCE_INPUT_TOPIC',
+  alertTopic: 'STREAMFENCE_ALERT_TOPIC',
+  rejectedTopic: 'STREAMFENCE_REJECTED_TOPIC',
+  group: 'STREAMFENCE_GROUP',
+  configFile: 'STREAMFENCE_CONFIG',
+  checkpointMs: 'STREAMFENCE_CHECKPOINT_MS',
+  checkpointReadings: 'STREAMFENCE_CHECKPOINT_READINGS',
+  logLevel: 'STREAMFENCE_LOG_LEVEL',
+  /** Kafka TLS: "true" turns it on; CA / client certificate / key are PEM file paths. */
+  kafkaTls: 'STREAMFENCE_KAFKA_TLS',
+  kafkaCaFile: 'STREAMFENCE_KAFKA_CA_FILE',
+  kafkaCertFile: 'STREAMFENCE_KAFKA_CERT_FILE',
+  kafkaKeyFile: 'STREAMFENCE_KAFKA_KEY_FILE',
+  /** Kafka SASL: plain, scram-sha-256 or scram-sha-512; the password from the env or a file. */
+  kafkaSaslMechanism: 'STREAMFENCE_KAFKA_SASL_MECHANISM',
+  kafkaSaslUsername: 'STREAMFENCE_KAFKA_SASL_USERNAME',
+  kafkaSaslPassword: 'STREAMFENCE_KAFKA_SASL_PASSWORD',
+  kafkaSaslPasswordFile: 'STREAMFENCE_KAFKA_SASL_PASSWORD_FILE',
+  /** Redis ACL user and password (override any in the URL); TLS files for rediss:// URLs. */
+  redisUsername: 'STREAMFENCE_REDIS_USERNAME',
+  redisPassword: 'STREAMFENCE_REDIS_PASSWORD',
+  redisPasswordFile: 'STREAMFENCE_REDIS_PASSWORD_FILE',
+  redisCaFile: 'STREAMFENCE_REDIS_CA_FILE',
+  redisCertFile: 'STREAMFENCE_REDIS_CERT_FILE',
+  redisKeyFile: 'STREAMFENCE_REDIS_KEY_FILE',
 } as const;
 
 export type EnvKey = keyof typeof ENV;

@@ -1,5 +1,154 @@
-// Placeholder until the run command lands in this session; replaced by its real module.
-export async function main(_argv: string[]): Promise<number> {
-  process.stderr.write('streamfence run: not built yet\n');
-  return 2;
+/**
+ * `streamfence run`: the live monitor. Prints the NOTICE banner, connects (waiting out outages),
+ * serves /metrics /healthz /readyz, and on SIGTERM/SIGINT stops cleanly within 10 s.
+ */
+import { readFileSync } from 'node:fs';
+import { hostname } from 'node:os';
+import { defaultConfig, parseConfigText } from '../../../libs/config/config.js';
+import { ENGINE_VERSION } from '../../../libs/engine/engine.js';
+import { StreamfenceError } from '../../../libs/errors/index.js';
+import { NOTICE } from '../../../libs/schema/notice.js';
+import { createKafka } from '../../kafka/client.js';
+import { createLogger, safeUrl } from '../../log.js';
+import { startMetricsServer } from '../../metrics/http.js';
+import { createMetrics } from '../../metrics/metrics.js';
+import { Monitor } from '../../monitor/monitor.js';
+import { optionsHelp, parseRunOptions, RUN_OPTIONS } from '../../monitor/options.js';
+import { createRedis } from '../../redis/client.js';
+
+const STOP_DEADLINE_MS = 9_500;
+
+export async function main(argv: string[]): Promise<number> {
+  const parsed = parseRunOptions(argv, process.env);
+  if (parsed.help) {
+    process.stdout.write(
+      [
+        'Usage: streamfence run [options]',
+        '',
+        'The live monitor: consumes readings {sensor, ts, value} (keyed by sensor id) from Kafka, judges',
+        'each against its sensor baseline, publishes alert events, keeps exact state in Redis.',
+        '',
+        optionsHelp(RUN_OPTIONS),
+        '  --help                             this help',
+        '',
+        `Secrets are read from the environment or files only, never from flags.`,
+        `  ${NOTICE}`,
+        '',
+      ].join('\n'),
+    );
+    return 0;
+  }
+  const o = parsed.opts;
+  const log = createLogger('streamfence-run', o.logLevel);
+  log.info({ notice: NOTICE, engine: ENGINE_VERSION }, `streamfence run: ${NOTICE}`);
+
+  let config = defaultConfig();
+  if (o.configFile) {
+    let text: string;
+    try {
+      text = readFileSync(o.configFile, 'utf8');
+    } catch (e) {
+      throw new StreamfenceError(
+        'INPUT_UNREADABLE',
+        `cannot read the config file ${o.configFile}: ${(e as Error).message}`,
+      );
+    }
+    config = parseConfigText(text, o.configFile);
+  }
+
+  const metrics = createMetrics();
+  const redis = createRedis({ url: o.redisUrl, ...o.redis });
+  const kafka = createKafka(
+    {
+      clientId: `streamfence-${hostname()}-${process.pid}`,
+      brokers: o.brokers,
+      tls: o.kafka.tls,
+      caFile: o.kafka.caFile,
+      certFile: o.kafka.certFile,
+      keyFile: o.kafka.keyFile,
+      sasl: o.kafka.sasl,
+    },
+    log,
+  );
+  log.info(
+    {
+      brokers: o.brokers.map(safeUrl),
+      redis: safeUrl(o.redisUrl),
+      kafkaTls: o.kafka.tls,
+      sasl: o.kafka.sasl?.mechanism ?? null,
+      inputTopic: o.inputTopic,
+      alertTopic: o.alertTopic,
+      rejectedTopic: o.rejectedTopic,
+      group: o.group,
+      statePrefix: o.statePrefix,
+      config: o.configFile,
+    },
+    'starting',
+  );
+
+  const monitor = new Monitor(
+    kafka,
+    redis,
+    config,
+    {
+      statePrefix: o.statePrefix,
+      inputTopic: o.inputTopic,
+      alertTopic: o.alertTopic,
+      rejectedTopic: o.rejectedTopic,
+      group: o.group,
+      checkpointMs: o.checkpointMs,
+      checkpointReadings: o.checkpointReadings,
+    },
+    log,
+    metrics,
+  );
+  const http = await startMetricsServer(metrics.registry, o.metricsPort, () => monitor.readiness());
+  log.info({ port: http.port }, `metrics listening on port ${http.port}`);
+
+  let stopping: Promise<number> | null = null;
+  const stop = (signal: string): Promise<number> => {
+    if (stopping) return stopping;
+    log.info({ signal }, 'stop requested');
+    const deadline = setTimeout(() => {
+      log.error(
+        'could not stop cleanly within 10 s; exiting (the next start re-reads from the last checkpoint)',
+      );
+      process.exit(1);
+    }, STOP_DEADLINE_MS);
+    deadline.unref();
+    stopping = monitor
+      .stop()
+      .then(
+        () => 0,
+        (e: unknown) => {
+          log.error(
+            { err: (e as Error).message },
+            'stop failed; the next start re-reads from the last checkpoint',
+          );
+          return 1;
+        },
+      )
+      .finally(async () => {
+        await http.close();
+        redis.disconnect();
+        clearTimeout(deadline);
+      });
+    return stopping;
+  };
+
+  return new Promise<number>((resolve) => {
+    const onSignal = (sig: NodeJS.Signals) => {
+      if (stopping) {
+        log.warn({ signal: sig }, 'second stop signal: exiting now');
+        process.exit(130);
+      }
+      void stop(sig).then(resolve);
+    };
+    process.on('SIGTERM', onSignal);
+    process.on('SIGINT', onSignal);
+    monitor.start().catch((e: unknown) => {
+      log.error({ err: (e as Error).message }, 'monitor failed to start');
+      void stop('start-failure').then(() => resolve(e instanceof StreamfenceError ? 2 : 1));
+    });
+  });
 }

@@ -1,0 +1,458 @@
+/**
+ * The live monitor: a kafkajs consumer group on the input topic, one Engine per owned partition,
+ * alert events out to Kafka, partition checkpoints in Redis.
+ *
+ * Exactness rests on three rules:
+ *  1. A partition's Redis checkpoint (sensor states + the next offset) is the truth. On taking a
+ *     partition the monitor claims it, loads the checkpoint and reads from that offset: earlier
+ *     messages are skipped, later ones are (re-)processed, so each reading counts exactly once.
+ *  2. Alert events and rejections are awaited on Kafka (acks=all, idempotent producer) before any
+ *     checkpoint that covers their readings: after a crash they may be sent again (same ids), never
+ *     lost.
+ *  3. Checkpoints are fenced by an owner token: a monitor that lost a partition cannot overwrite
+ *     the new owner's checkpoint; it drops its copy instead.
+ * All partition work (batches, checkpoints, hand-overs) runs one at a time under one lock.
+ */
+import { randomUUID } from 'node:crypto';
+import type { Admin, Consumer, EachBatchPayload, Kafka, Message, Producer, TopicMessages } from 'kafkajs';
+import type { Redis } from 'ioredis';
+import { Engine } from '../../libs/engine/engine.js';
+import type { EngineConfig } from '../../libs/config/config.js';
+import { configToJson } from '../../libs/config/config.js';
+import type { RejectReason } from '../../libs/engine/reading.js';
+import type { Logger } from '../log.js';
+import type { Metrics } from '../metrics/metrics.js';
+import { CheckpointStore } from '../redis/checkpoint-store.js';
+import { configKey } from '../redis/keys.js';
+import { withBackoff, type BackoffHooks } from './backoff.js';
+import { parseMessage, rejectionRecord } from './message.js';
+
+export interface MonitorSettings {
+  statePrefix: string;
+  inputTopic: string;
+  alertTopic: string;
+  rejectedTopic: string;
+  group: string;
+  checkpointMs: number;
+  checkpointReadings: number;
+}
+
+interface PartitionWorker {
+  partition: number;
+  engine: Engine;
+  /** Next offset to process: the in-memory state holds exactly the readings before it. */
+  next: bigint;
+  /** Offset stored with the last successful checkpoint. */
+  checkpointed: bigint;
+  dirty: Set<string>;
+  sinceCheckpoint: number;
+  /** First batch after a claim: verify it starts at `next` (seek there once if it does not). */
+  start: 'verify' | 'seeked' | 'done';
+}
+
+/** Messages waiting to be published; always emptied before a checkpoint. */
+interface Outbox {
+  alerts: Message[];
+  rejects: Message[];
+}
+
+// Publish in slices so a long batch does not hold unsent events, and heartbeats keep flowing.
+const FLUSH_EVERY = 5_000;
+
+export class Monitor {
+  readonly token = randomUUID();
+  private readonly workers = new Map<number, PartitionWorker>();
+  private readonly outbox: Outbox = { alerts: [], rejects: [] };
+  private readonly store: CheckpointStore;
+  private readonly consumer: Consumer;
+  private readonly producer: Producer;
+  private readonly admin: Admin;
+  private lockTail: Promise<unknown> = Promise.resolve();
+  private assigned = new Set<number>();
+  private joined = false;
+  private stopping = false;
+  private timer: NodeJS.Timeout | null = null;
+
+  constructor(
+    private readonly kafka: Kafka,
+    private readonly redis: Redis,
+    private readonly config: EngineConfig,
+    private readonly s: MonitorSettings,
+    private readonly log: Logger,
+    private readonly metrics: Metrics,
+  ) {
+    this.store = new CheckpointStore(redis, s.statePrefix, s.group, s.inputTopic, this.token);
+    this.consumer = kafka.consumer({
+      groupId: s.group,
+      sessionTimeout: 30_000,
+      rebalanceTimeout: 60_000,
+      heartbeatInterval: 3_000,
+      maxBytesPerPartition: 1_048_576,
+      // Never give up on the group: retriable failures restart the consumer after a pause.
+      retry: { retries: 10, initialRetryTime: 300, maxRetryTime: 10_000, restartOnFailure: async () => true },
+    });
+    this.producer = kafka.producer({
+      idempotent: true,
+      maxInFlightRequests: 1,
+      allowAutoTopicCreation: false,
+    });
+    this.admin = kafka.admin();
+  }
+
+  /** Connect (retrying while dependencies are down) and start consuming. */
+  async start(): Promise<void> {
+    await this.retry('redis', () => this.redis.ping());
+    await this.retry('redis', () =>
+      this.redis.set(
+        configKey(this.s.statePrefix, this.s.group, this.s.inputTopic),
+        JSON.stringify(configToJson(this.config)),
+      ),
+    );
+    await this.retry('kafka', () => this.admin.connect());
+    await this.retry('kafka', () => this.producer.connect());
+    await this.retry('kafka', () => this.consumer.connect());
+    this.wireEvents();
+    await this.retry('kafka', () =>
+      this.consumer.subscribe({ topic: this.s.inputTopic, fromBeginning: true }),
+    );
+    await this.consumer.run({
+      autoCommit: false,
+      eachBatchAutoResolve: false,
+      partitionsConsumedConcurrently: 1,
+      eachBatch: (p) => this.locked(() => this.onBatch(p)),
+    });
+    this.timer = setInterval(() => {
+      void this.locked(() => this.checkpointDue()).catch((e: unknown) =>
+        this.log.error({ err: errText(e) }, 'periodic checkpoint failed'),
+      );
+      this.updateGauges();
+    }, this.s.checkpointMs);
+    this.log.info({ topic: this.s.inputTopic, group: this.s.group, owner: this.token }, 'consuming');
+  }
+
+  /** Joined the group and Redis answers. */
+  async readiness(): Promise<{ ready: boolean; detail: Record<string, unknown> }> {
+    let redisOk = false;
+    try {
+      redisOk = (await withTimeout(this.redis.ping(), 1_000)) === 'PONG';
+    } catch {
+      redisOk = false;
+    }
+    return {
+      ready: this.joined && redisOk && !this.stopping,
+      detail: { joined: this.joined, redis: redisOk, partitions: [...this.assigned].sort((a, b) => a - b) },
+    };
+  }
+
+  /** Graceful stop: finish the batch, publish, checkpoint, commit, hand partitions back, leave. */
+  async stop(): Promise<void> {
+    if (this.stopping) return;
+    this.stopping = true;
+    if (this.timer) clearInterval(this.timer);
+    this.log.info('stopping: finishing the current batch');
+    await this.consumer.stop();
+    await this.locked(async () => {
+      for (const w of [...this.workers.values()]) {
+        if (await this.checkpoint(w)) await this.store.release(w.partition).catch(() => undefined);
+      }
+    });
+    await this.consumer.disconnect();
+    await this.producer.disconnect();
+    await this.admin.disconnect();
+    this.log.info('stopped: state checkpointed, group left');
+  }
+
+  private wireEvents(): void {
+    const ev = this.consumer.events;
+    this.consumer.on(ev.GROUP_JOIN, (e) => {
+      const mine = e.payload.memberAssignment[this.s.inputTopic] ?? [];
+      this.assigned = new Set(mine);
+      this.joined = true;
+      this.metrics.assignedPartitions.set(mine.length);
+      this.log.info(
+        { partitions: [...mine].sort((a, b) => a - b), leader: e.payload.isLeader },
+        'partitions assigned',
+      );
+      // Partitions we held but no longer own: checkpoint (if still ours) and let go.
+      void this.locked(async () => {
+        for (const w of [...this.workers.values()]) {
+          if (this.assigned.has(w.partition)) continue;
+          if (await this.checkpoint(w)) await this.store.release(w.partition).catch(() => undefined);
+          this.drop(w, 'revoked');
+        }
+      }).catch((err: unknown) => this.log.error({ err: errText(err) }, 'hand-over after rebalance failed'));
+    });
+    this.consumer.on(ev.REBALANCING, () => {
+      this.joined = false;
+      this.log.info('group rebalancing: checkpointing owned partitions');
+      void this.locked(() => this.checkpointAll()).catch((err: unknown) =>
+        this.log.warn(
+          { err: errText(err) },
+          'checkpoint before rebalance failed; the next owner re-reads from the last one',
+        ),
+      );
+    });
+    this.consumer.on(ev.CRASH, (e) => {
+      this.joined = false;
+      this.metrics.backoff.inc({ dependency: 'kafka' });
+      this.log.warn(
+        { err: errText(e.payload.error), restart: e.payload.restart },
+        'consumer failed; restarting',
+      );
+    });
+    this.consumer.on(ev.STOP, () => {
+      this.joined = false;
+    });
+  }
+
+  /** Serialise partition work: each task starts when the previous one has finished. */
+  private locked<T>(task: () => Promise<T>): Promise<T> {
+    const run = this.lockTail.then(task, task);
+    this.lockTail = run.catch(() => undefined);
+    return run;
+  }
+
+  private retry<T>(
+    dependency: 'kafka' | 'redis',
+    fn: () => Promise<T>,
+    extra: Partial<BackoffHooks> = {},
+  ): Promise<T> {
+    return withBackoff(fn, {
+      onRetry: (attempt, delayMs, err) => {
+        this.metrics.backoff.inc({ dependency });
+        this.log.warn(
+          { dependency, attempt, delayMs, err: errText(err) },
+          `${dependency} call failed; retrying`,
+        );
+      },
+      ...extra,
+    });
+  }
+
+  private async claim(partition: number, heartbeat: () => Promise<void>): Promise<PartitionWorker> {
+    const cp = await this.retry('redis', () => this.store.claim(partition), { whileWaiting: heartbeat });
+    const engine = new Engine(this.config);
+    for (const bytes of cp.states.values()) engine.restore(bytes);
+    let next: bigint;
+    if (cp.offset !== null) next = BigInt(cp.offset);
+    else {
+      // Never checkpointed: the state is empty, which is exact only from the start of the log.
+      const offsets = await this.retry('kafka', () => this.admin.fetchTopicOffsets(this.s.inputTopic));
+      const p = offsets.find((o) => o.partition === partition);
+      next = BigInt(p?.low ?? '0');
+    }
+    const w: PartitionWorker = {
+      partition,
+      engine,
+      next,
+      checkpointed: cp.offset === null ? -1n : next,
+      dirty: new Set(),
+      sinceCheckpoint: 0,
+      start: 'verify',
+    };
+    this.workers.set(partition, w);
+    this.log.info(
+      { partition, sensors: engine.sensorCount, offset: next.toString() },
+      'partition state loaded',
+    );
+    return w;
+  }
+
+  private async onBatch(p: EachBatchPayload): Promise<void> {
+    const { batch, resolveOffset, heartbeat, isRunning, isStale } = p;
+    if (this.stopping || batch.messages.length === 0 || isStale()) return;
+    const part = batch.partition;
+    const w = this.workers.get(part) ?? (await this.claim(part, heartbeat));
+    const msgs = batch.messages;
+
+    if (w.start !== 'done') {
+      const first = BigInt(msgs[0].offset);
+      if (first > w.next && w.start === 'verify') {
+        // The fetch began past our checkpoint (e.g. group offsets ahead of the Redis state): go back.
+        this.log.info(
+          { partition: part, from: first.toString(), to: w.next.toString() },
+          'seeking to checkpoint',
+        );
+        this.consumer.seek({ topic: batch.topic, partition: part, offset: w.next.toString() });
+        w.start = 'seeked';
+        return;
+      }
+      if (first > w.next) {
+        this.log.warn(
+          { partition: part, expected: w.next.toString(), got: first.toString() },
+          'readings after the checkpoint are gone from Kafka (retention?); continuing from the oldest available',
+        );
+      }
+      w.start = 'done';
+    }
+
+    const now = Date.now();
+    let accepted = 0;
+    let rejected = 0;
+    let since = 0;
+    for (const m of msgs) {
+      if (!isRunning() || isStale() || this.stopping) break;
+      const off = BigInt(m.offset);
+      if (off < w.next) {
+        resolveOffset(m.offset); // already in the checkpointed state
+        continue;
+      }
+      const res = parseMessage(m.key, m.value);
+      if (!res.ok) {
+        this.reject(res.reason, res.detail, m, batch.topic, part);
+        rejected++;
+      } else {
+        const out = w.engine.process(res.reading);
+        if (!out.accepted) {
+          this.reject(out.reason, out.detail, m, batch.topic, part);
+          rejected++;
+        } else {
+          accepted++;
+          w.dirty.add(res.reading.sensor);
+          this.metrics.eventDelay.observe(Math.max(0, now - res.reading.ts) / 1000);
+          for (const e of out.events) {
+            this.outbox.alerts.push({ key: e.sensor, value: JSON.stringify(e) });
+            this.metrics.alerts.inc({ state: e.state, severity: e.severity });
+          }
+        }
+      }
+      w.next = off + 1n;
+      w.sinceCheckpoint++;
+      resolveOffset(m.offset);
+      if (++since >= FLUSH_EVERY) {
+        since = 0;
+        await this.flush(heartbeat);
+        await heartbeat();
+      }
+    }
+    if (accepted) this.metrics.readings.inc({ outcome: 'accepted' }, accepted);
+    if (rejected) this.metrics.readings.inc({ outcome: 'rejected' }, rejected);
+    await this.flush(heartbeat);
+    this.metrics.partitionLag.set({ partition: String(part) }, Number(BigInt(batch.highWatermark) - w.next));
+    if (w.sinceCheckpoint >= this.s.checkpointReadings) await this.checkpoint(w, heartbeat);
+  }
+
+  private reject(
+    reason: RejectReason,
+    detail: string,
+    m: Message & { offset: string },
+    topic: string,
+    part: number,
+  ) {
+    const rec = rejectionRecord(
+      reason,
+      detail,
+      { key: (m.key as Buffer | null) ?? null, value: (m.value as Buffer | null) ?? null, offset: m.offset },
+      topic,
+      part,
+    );
+    this.outbox.rejects.push({ key: m.key ?? null, value: JSON.stringify(rec) });
+    this.metrics.rejected.inc({ reason });
+  }
+
+  /** Publish everything waiting, retrying while Kafka is down (the batch holds its place). */
+  private async flush(heartbeat?: () => Promise<void>): Promise<void> {
+    const { alerts, rejects } = this.outbox;
+    if (alerts.length === 0 && rejects.length === 0) return;
+    const topicMessages: TopicMessages[] = [];
+    if (alerts.length) topicMessages.push({ topic: this.s.alertTopic, messages: alerts.slice() });
+    if (rejects.length) topicMessages.push({ topic: this.s.rejectedTopic, messages: rejects.slice() });
+    await this.retry('kafka', () => this.producer.sendBatch({ acks: -1, topicMessages }), {
+      whileWaiting: heartbeat,
+    });
+    alerts.length = 0;
+    rejects.length = 0;
+  }
+
+  private async checkpointDue(): Promise<void> {
+    for (const w of [...this.workers.values()]) {
+      if (w.next !== w.checkpointed || w.dirty.size > 0) await this.checkpoint(w);
+    }
+  }
+
+  private async checkpointAll(): Promise<void> {
+    for (const w of [...this.workers.values()]) await this.checkpoint(w);
+  }
+
+  /**
+   * Write the partition's dirty sensors and offset. Returns false when the partition now belongs
+   * to another monitor (its copy here is dropped and reloaded if the partition comes back).
+   */
+  private async checkpoint(w: PartitionWorker, heartbeat?: () => Promise<void>): Promise<boolean> {
+    if (this.workers.get(w.partition) !== w) return false;
+    if (w.next === w.checkpointed && w.dirty.size === 0) return true;
+    await this.flush(heartbeat);
+    const entries: [string, Uint8Array][] = [];
+    for (const sensor of w.dirty) {
+      const bytes = w.engine.encode(sensor);
+      if (bytes) entries.push([sensor, bytes]);
+    }
+    const offset = w.next;
+    const end = this.metrics.checkpointDuration.startTimer();
+    const ok = await this.retry('redis', () => this.store.save(w.partition, offset.toString(), entries), {
+      whileWaiting: heartbeat,
+    });
+    end();
+    if (!ok) {
+      this.metrics.checkpoints.inc({ result: 'fenced' });
+      this.log.warn({ partition: w.partition }, 'partition now owned by another monitor; dropping our copy');
+      this.drop(w, 'fenced');
+      return false;
+    }
+    this.metrics.checkpoints.inc({ result: 'written' });
+    w.dirty.clear();
+    w.checkpointed = offset;
+    w.sinceCheckpoint = 0;
+    this.log.debug(
+      { partition: w.partition, offset: offset.toString(), sensors: entries.length },
+      'checkpoint',
+    );
+    // A hint only (the Redis offset is the truth): lets a fresh group start near the right place.
+    await this.consumer
+      .commitOffsets([{ topic: this.s.inputTopic, partition: w.partition, offset: offset.toString() }])
+      .catch((e: unknown) => this.log.debug({ err: errText(e) }, 'offset commit skipped'));
+    return true;
+  }
+
+  private drop(w: PartitionWorker, why: string): void {
+    this.workers.delete(w.partition);
+    this.metrics.partitionLag.remove({ partition: String(w.partition) });
+    this.log.info({ partition: w.partition, why }, 'partition released');
+  }
+
+  private updateGauges(): void {
+    let sensors = 0;
+    let active = 0;
+    for (const w of this.workers.values()) {
+      sensors += w.engine.sensorCount;
+      active += w.engine.activeAlertCount();
+    }
+    this.metrics.sensorsTracked.set(sensors);
+    this.metrics.activeAlerts.set(active);
+  }
+
+  /** For tests and the bench: sensors held in memory across owned partitions. */
+  get partitions(): number[] {
+    return [...this.workers.keys()];
+  }
+}
+
+function errText(e: unknown): string {
+  return e instanceof Error ? e.message : String(e);
+}
+
+function withTimeout<T>(p: Promise<T>, ms: number): Promise<T> {
+  return new Promise<T>((resolve, reject) => {
+    const t = setTimeout(() => reject(new Error(`timed out after ${ms} ms`)), ms);
+    p.then(
+      (v) => {
+        clearTimeout(t);
+        resolve(v);
+      },
+      (e: unknown) => {
+        clearTimeout(t);
+        reject(e as Error);
+      },
+    );
+  });
+}

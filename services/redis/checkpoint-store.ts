@@ -1,0 +1,93 @@
+/**
+ * Partition checkpoints in Redis. Two Lua scripts, each atomic on one hash-tagged slot:
+ *  - claim: make this process the partition's owner and read its state and offset in one step;
+ *  - save:  write dirty sensor states and the new offset, only if this process is still the owner.
+ * The owner check fences a monitor that lost a partition in a rebalance but has not noticed yet:
+ * its late write would otherwise mix its sensors with the new owner's newer ones.
+ */
+import type { Redis } from 'ioredis';
+import { partitionKeys, type PartitionKeys } from './keys.js';
+
+const CLAIM_LUA = `
+redis.call('SET', KEYS[3], ARGV[1])
+local off = redis.call('GET', KEYS[2])
+local st = redis.call('HGETALL', KEYS[1])
+return {off or false, st}
+`;
+
+// ARGV: token, offset, then sensor/bytes pairs. Returns 1 when written, 0 when fenced.
+const SAVE_LUA = `
+if redis.call('GET', KEYS[3]) ~= ARGV[1] then return 0 end
+for i = 3, #ARGV, 2 do
+  redis.call('HSET', KEYS[1], ARGV[i], ARGV[i + 1])
+end
+redis.call('SET', KEYS[2], ARGV[2])
+return 1
+`;
+
+// Release ownership only if still ours (graceful hand-over; the next owner claims without waiting).
+const RELEASE_LUA = `
+if redis.call('GET', KEYS[3]) == ARGV[1] then redis.call('DEL', KEYS[3]) return 1 end
+return 0
+`;
+
+interface ScriptedRedis extends Redis {
+  sfClaimBuffer(
+    state: string,
+    offset: string,
+    owner: string,
+    token: string,
+  ): Promise<[Buffer | null, Buffer[]]>;
+  sfSave(state: string, offset: string, owner: string, ...args: (string | Buffer)[]): Promise<number>;
+  sfRelease(state: string, offset: string, owner: string, token: string): Promise<number>;
+}
+
+export interface PartitionCheckpoint {
+  /** Next offset to read; null when the partition has never been checkpointed. */
+  offset: string | null;
+  states: Map<string, Buffer>;
+}
+
+export class CheckpointStore {
+  private readonly r: ScriptedRedis;
+
+  constructor(
+    redis: Redis,
+    readonly prefix: string,
+    readonly group: string,
+    readonly topic: string,
+    /** Identifies this process as a partition owner. */
+    readonly token: string,
+  ) {
+    redis.defineCommand('sfClaim', { numberOfKeys: 3, lua: CLAIM_LUA });
+    redis.defineCommand('sfSave', { numberOfKeys: 3, lua: SAVE_LUA });
+    redis.defineCommand('sfRelease', { numberOfKeys: 3, lua: RELEASE_LUA });
+    this.r = redis as ScriptedRedis;
+  }
+
+  keys(partition: number): PartitionKeys {
+    return partitionKeys(this.prefix, this.group, this.topic, partition);
+  }
+
+  async claim(partition: number): Promise<PartitionCheckpoint> {
+    const k = this.keys(partition);
+    const [off, flat] = await this.r.sfClaimBuffer(k.state, k.offset, k.owner, this.token);
+    const states = new Map<string, Buffer>();
+    for (let i = 0; i + 1 < flat.length; i += 2) states.set(flat[i].toString('utf8'), flat[i + 1]);
+    return { offset: off === null ? null : off.toString('utf8'), states };
+  }
+
+  /** Returns false when another process owns the partition now (nothing was written). */
+  async save(partition: number, offset: string, dirty: Iterable<[string, Uint8Array]>): Promise<boolean> {
+    const k = this.keys(partition);
+    const args: (string | Buffer)[] = [this.token, offset];
+    for (const [sensor, bytes] of dirty)
+      args.push(sensor, Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength));
+    return (await this.r.sfSave(k.state, k.offset, k.owner, ...args)) === 1;
+  }
+
+  async release(partition: number): Promise<void> {
+    const k = this.keys(partition);
+    await this.r.sfRelease(k.state, k.offset, k.owner, this.token);
+  }
+}

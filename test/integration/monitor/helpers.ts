@@ -1,0 +1,325 @@
+/**
+ * Shared pieces of the live-monitor integration tests: a seeded invented data set, producing it,
+ * spawning the built CLI as a child process, reading topics back, and the in-process reference
+ * (the same Engine code replay uses) to compare against.
+ */
+import { spawn, type ChildProcess } from 'node:child_process';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { logLevel, type Kafka } from 'kafkajs';
+import type { Redis } from 'ioredis';
+import { parseConfigText, type EngineConfig } from '../../../libs/config/config.js';
+import { Engine } from '../../../libs/engine/engine.js';
+import type { Reading } from '../../../libs/engine/reading.js';
+import type { AlertEvent } from '../../../libs/schema/alert-event.js';
+import { storedSensors } from '../../../services/monitor/inspect-state.js';
+import { partitionKeys } from '../../../services/redis/keys.js';
+import { kafkaBrokers, kafkaClient, redisUrl, uniqueName } from '../../harness/services.js';
+
+export const REPO_ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../..');
+export const CLI = path.join(REPO_ROOT, 'dist/services/cli/main.js');
+
+/** A short window so alerts appear after a few hundred readings per sensor. */
+export const TEST_CONFIG_TEXT = `
+defaults:
+  window: "10m"
+  buckets: 10
+  minSamples: 20
+  clearAfter: 3
+  flatlineAfter: 0
+`;
+
+export function testConfig(): EngineConfig {
+  return parseConfigText(TEST_CONFIG_TEXT, 'test config');
+}
+
+export function writeTestConfig(): string {
+  const dir = mkdtempSync(path.join(tmpdir(), 'sf-monitor-'));
+  const file = path.join(dir, 'engine.yaml');
+  writeFileSync(file, TEST_CONFIG_TEXT);
+  return file;
+}
+
+/** mulberry32: a small seeded generator so every run produces the same invented readings. */
+export function seeded(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+/**
+ * Invented plant readings: `sensors` sensors (ids like "kiln-3.temp-07"), one reading a second
+ * each, noisy around a per-sensor level, with short spikes now and then that raise and clear
+ * alerts. Interleaved in event-time order, as a plant gateway would send them.
+ */
+export function generateReadings(sensors: number, perSensor: number, seed = 7): Reading[] {
+  const rnd = seeded(seed);
+  const t0 = Date.UTC(2026, 2, 14, 6, 0, 0);
+  const ids = Array.from({ length: sensors }, (_, i) => `kiln-${i % 4}.temp-${String(i).padStart(2, '0')}`);
+  const levels = ids.map((_, i) => 100 + i * 7);
+  const out: Reading[] = [];
+  for (let k = 0; k < perSensor; k++) {
+    for (let i = 0; i < sensors; i++) {
+      const noise = (rnd() + rnd() + rnd() - 1.5) * 2;
+      // A spike of 4 readings every ~150 readings, at a sensor-specific phase.
+      const spike = k > 150 && (k + i * 37) % 150 < 4 ? 40 + rnd() * 10 : 0;
+      out.push({
+        sensor: ids[i],
+        ts: t0 + k * 1000 + i,
+        value: Math.round((levels[i] + noise + spike) * 1000) / 1000,
+      });
+    }
+  }
+  return out;
+}
+
+/** The reference: the same readings, in order, through one in-process Engine. */
+export function referenceEvents(readings: Reading[], config: EngineConfig): Map<string, AlertEvent[]> {
+  const engine = new Engine(config);
+  const bySensor = new Map<string, AlertEvent[]>();
+  for (const r of readings) {
+    const out = engine.process(r);
+    for (const e of out.events) {
+      const list = bySensor.get(e.sensor) ?? [];
+      list.push(e);
+      bySensor.set(e.sensor, list);
+    }
+  }
+  return bySensor;
+}
+
+export function countBySensor(readings: Reading[]): Map<string, number> {
+  const m = new Map<string, number>();
+  for (const r of readings) m.set(r.sensor, (m.get(r.sensor) ?? 0) + 1);
+  return m;
+}
+
+export async function produceReadings(
+  kafka: Kafka,
+  topic: string,
+  readings: Reading[],
+  extra: { key: string | null; value: string | Buffer | null }[] = [],
+): Promise<void> {
+  const producer = kafka.producer({ idempotent: true, maxInFlightRequests: 1 });
+  await producer.connect();
+  try {
+    const msgs = readings.map((r) => ({ key: r.sensor, value: JSON.stringify(r) }));
+    const all: { key: string | null; value: string | Buffer | null }[] = [...msgs, ...extra];
+    for (let i = 0; i < all.length; i += 2000) {
+      await producer.send({ topic, acks: -1, messages: all.slice(i, i + 2000) });
+    }
+  } finally {
+    await producer.disconnect();
+  }
+}
+
+/** Every message on a topic (all partitions), read from the start up to the current end. */
+export async function readTopic(
+  topic: string,
+): Promise<{ key: string | null; value: Buffer | null; partition: number }[]> {
+  const kafka = kafkaClient();
+  const admin = kafka.admin();
+  await admin.connect();
+  const ends = await admin.fetchTopicOffsets(topic);
+  await admin.disconnect();
+  const remaining = new Map(ends.map((e) => [e.partition, BigInt(e.high)]));
+  const out: { key: string | null; value: Buffer | null; partition: number }[] = [];
+  const done = () => [...remaining.entries()].every(([, high]) => high <= 0n);
+  if (done()) return out;
+  const consumer = kafka.consumer({ groupId: uniqueName('reader') });
+  await consumer.connect();
+  await consumer.subscribe({ topic, fromBeginning: true });
+  await new Promise<void>((resolve, reject) => {
+    const timer = setTimeout(() => reject(new Error(`timed out reading ${topic}`)), 60_000);
+    void consumer.run({
+      eachMessage: async ({ partition, message }) => {
+        out.push({ key: message.key?.toString() ?? null, value: message.value, partition });
+        const high = remaining.get(partition)!;
+        if (BigInt(message.offset) + 1n >= high) remaining.set(partition, 0n);
+        if (done()) {
+          clearTimeout(timer);
+          resolve();
+        }
+      },
+    });
+  });
+  await consumer.disconnect();
+  return out;
+}
+
+export async function readAlertEvents(topic: string): Promise<AlertEvent[]> {
+  return (await readTopic(topic)).map((m) => JSON.parse(m.value!.toString('utf8')) as AlertEvent);
+}
+
+export interface MonitorProc {
+  child: ChildProcess;
+  logs: string[];
+  exited: Promise<number | null>;
+  /** Resolves with the first log line matching re. */
+  waitForLog(re: RegExp, timeoutMs?: number): Promise<string>;
+  metricsPort(): Promise<number>;
+}
+
+export interface MonitorArgs {
+  topic: string;
+  alertTopic: string;
+  rejectedTopic: string;
+  group: string;
+  prefix: string;
+  configFile: string;
+  extra?: string[];
+  env?: Record<string, string>;
+}
+
+export function spawnMonitor(a: MonitorArgs): MonitorProc {
+  const args = [
+    CLI,
+    'run',
+    '--brokers',
+    kafkaBrokers().join(','),
+    '--redis',
+    redisUrl(),
+    '--state-prefix',
+    a.prefix,
+    '--input-topic',
+    a.topic,
+    '--alert-topic',
+    a.alertTopic,
+    '--rejected-topic',
+    a.rejectedTopic,
+    '--group',
+    a.group,
+    '--config',
+    a.configFile,
+    '--metrics-port',
+    '0',
+    '--checkpoint-ms',
+    '200',
+    '--checkpoint-readings',
+    '2000',
+    '--log-level',
+    'debug',
+    ...(a.extra ?? []),
+  ];
+  const child = spawn(process.execPath, args, {
+    stdio: ['ignore', 'pipe', 'pipe'],
+    env: { ...process.env, ...a.env },
+  });
+  const logs: string[] = [];
+  const waiters: { re: RegExp; resolve: (l: string) => void }[] = [];
+  let buf = '';
+  child.stderr!.on('data', (d: Buffer) => {
+    buf += d.toString('utf8');
+    let i;
+    while ((i = buf.indexOf('\n')) >= 0) {
+      const line = buf.slice(0, i);
+      buf = buf.slice(i + 1);
+      logs.push(line);
+      if (process.env.STREAMFENCE_TEST_MONITOR_LOG === '1')
+        process.stderr.write(`[monitor ${child.pid}] ${line}\n`);
+      for (const w of [...waiters]) {
+        if (w.re.test(line)) {
+          waiters.splice(waiters.indexOf(w), 1);
+          w.resolve(line);
+        }
+      }
+    }
+  });
+  child.stdout!.resume();
+  const exited = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));
+  const waitForLog = (re: RegExp, timeoutMs = 30_000) => {
+    const hit = logs.find((l) => re.test(l));
+    if (hit) return Promise.resolve(hit);
+    return new Promise<string>((resolve, reject) => {
+      const t = setTimeout(
+        () =>
+          reject(
+            new Error(
+              `no log line matching ${re} within ${timeoutMs} ms; last lines:\n${logs.slice(-15).join('\n')}`,
+            ),
+          ),
+        timeoutMs,
+      );
+      waiters.push({
+        re,
+        resolve: (l) => {
+          clearTimeout(t);
+          resolve(l);
+        },
+      });
+    });
+  };
+  return {
+    child,
+    logs,
+    exited,
+    waitForLog,
+    metricsPort: async () => (JSON.parse(await waitForLog(/metrics listening/)) as { port: number }).port,
+  };
+}
+
+export const quietKafka = () => logLevel.NOTHING;
+
+/** Waits until the Redis checkpoints of every partition reach the topic's end offsets. */
+export async function waitCheckpointedToEnd(
+  redis: Redis,
+  prefix: string,
+  group: string,
+  topic: string,
+  timeoutMs = 60_000,
+): Promise<void> {
+  const admin = kafkaClient().admin();
+  await admin.connect();
+  const ends = await admin.fetchTopicOffsets(topic);
+  await admin.disconnect();
+  const deadline = Date.now() + timeoutMs;
+  for (;;) {
+    let behind = 0;
+    for (const e of ends) {
+      const stored = await redis.get(partitionKeys(prefix, group, topic, e.partition).offset);
+      const end = BigInt(e.high);
+      if (end > 0n && (stored === null || BigInt(stored) < end)) behind++;
+    }
+    if (behind === 0) return;
+    if (Date.now() > deadline)
+      throw new Error(`${behind} partitions not checkpointed to the end within ${timeoutMs} ms`);
+    await new Promise((r) => setTimeout(r, 200));
+  }
+}
+
+/** sensor -> lifetime readings, from the checkpoints in Redis. */
+export async function storedSeen(
+  redis: Redis,
+  prefix: string,
+  group: string,
+  topic: string,
+  config: EngineConfig,
+) {
+  const seen = new Map<string, number>();
+  for await (const s of storedSensors(redis, prefix, { group, topic, config }))
+    seen.set(s.state.sensor, s.state.seen);
+  return seen;
+}
+
+/** Compare per sensor: same ids, states and severities in the same order. */
+export function eventsBySensor(events: AlertEvent[]): Map<string, AlertEvent[]> {
+  const m = new Map<string, AlertEvent[]>();
+  for (const e of events) {
+    const l = m.get(e.sensor) ?? [];
+    l.push(e);
+    m.set(e.sensor, l);
+  }
+  return m;
+}
+
+export const summary = (events: AlertEvent[] | undefined) =>
+  (events ?? []).map((e) => `${e.id}:${e.state}:${e.severity}`);
+
+export const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
