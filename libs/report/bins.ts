@@ -94,6 +94,28 @@ export class AdaptiveBins {
     }
   }
 
+  /**
+   * Add a value and sample every "last" channel at once (one slot lookup: the hot path of a
+   * replay). `samples[c]` goes to channel c; NaN samples are skipped.
+   */
+  addSampled(ts: number, value: number, samples: ArrayLike<number>): void {
+    const p = this.slotFor(ts);
+    if (this.count[p] === 0) {
+      this.min[p] = value;
+      this.max[p] = value;
+    } else {
+      if (value < this.min[p]) this.min[p] = value;
+      if (value > this.max[p]) this.max[p] = value;
+    }
+    this.count[p]++;
+    for (let c = 0; c < this.lastVal.length; c++) {
+      const v = samples[c];
+      if (Number.isNaN(v) || ts < this.lastTs[c][p]) continue;
+      this.lastVal[c][p] = v;
+      this.lastTs[c][p] = ts;
+    }
+  }
+
   /** Add to a "sum" channel at ts. */
   addSum(ts: number, channel: number, amount = 1): void {
     const p = this.slotFor(ts);

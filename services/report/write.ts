@@ -1,0 +1,21 @@
+/** Writing report pages next to the replay or tune output. */
+import { writeFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import { StreamfenceError } from '../../libs/errors/index.js';
+
+export const REPORT_FILE = 'report.html';
+
+/** Write `html` to dir/name and return the path. */
+export async function writeReport(dir: string, html: string, name = REPORT_FILE): Promise<string> {
+  const path = join(dir, name);
+  try {
+    await writeFile(path, html);
+  } catch (err) {
+    throw new StreamfenceError(
+      'OUTPUT_UNWRITABLE',
+      `cannot write the report "${path}": ${(err as Error).message}; choose another output directory`,
+      { cause: err },
+    );
+  }
+  return path;
+}
