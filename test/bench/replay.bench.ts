@@ -1,0 +1,181 @@
+/**
+ * Replay throughput: end-to-end `runReplay` over a generated file of 2,000,000 readings (1,000
+ * sensors, one reading a minute each, ~33 h so the engine judges most of them) as NDJSON and as
+ * CSV, against raw baselines measured in the same run on the same file: bare stream + line split,
+ * bare split + JSON.parse (NDJSON) or split(',') (CSV), node:readline, and the reader alone
+ * (split + parse + validate, no engine). Figures are rows/s and ratios to the raw baselines.
+ */
+import { createReadStream, createWriteStream, rmSync, mkdtempSync, statSync } from 'node:fs';
+import { once } from 'node:events';
+import { createInterface } from 'node:readline';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { defaultConfig } from '../../libs/config/config.js';
+import { readInput, type InputFormat } from '../../services/replay/input.js';
+import { runReplay } from '../../services/replay/replay.js';
+
+const SENSORS = 1000;
+const PER_SENSOR = 2000;
+const START = Date.parse('2026-01-05T00:00:00Z');
+
+function prng(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+async function generate(dir: string): Promise<{ ndjson: string; csv: string; rows: number }> {
+  const rand = prng(7);
+  const gauss = () => Math.sqrt(-2 * Math.log(Math.max(rand(), 1e-12))) * Math.cos(2 * Math.PI * rand());
+  const ids = Array.from(
+    { length: SENSORS },
+    (_, i) => `bench-works/line-${Math.floor(i / 50)}/probe-${i % 50}`,
+  );
+  const ndjson = join(dir, 'bench.ndjson');
+  const csv = join(dir, 'bench.csv');
+  const wj = createWriteStream(ndjson);
+  const wc = createWriteStream(csv);
+  wc.write('sensor,ts,value,unit\n');
+  for (let k = 0; k < PER_SENSOR; k++) {
+    const ts = START + k * 60_000;
+    let j = '';
+    let c = '';
+    for (let s = 0; s < SENSORS; s++) {
+      const v = (50 + (s % 7) * 3 + gauss() * (1 + (s % 5))).toFixed(3);
+      j += `{"sensor":"${ids[s]}","ts":${ts},"value":${v}}\n`;
+      c += `${ids[s]},${ts},${v},degC\n`;
+    }
+    if (!wj.write(j)) await once(wj, 'drain');
+    if (!wc.write(c)) await once(wc, 'drain');
+  }
+  wj.end();
+  wc.end();
+  await Promise.all([once(wj, 'finish'), once(wc, 'finish')]);
+  return { ndjson, csv, rows: SENSORS * PER_SENSOR };
+}
+
+async function timed<T>(f: () => Promise<T>): Promise<{ secs: number; value: T }> {
+  (globalThis as { gc?: () => void }).gc?.();
+  const t0 = performance.now();
+  const value = await f();
+  return { secs: (performance.now() - t0) / 1000, value };
+}
+
+/** Bare baseline: stream the file as text and split lines with indexOf; `each` sees every line. */
+async function bareLines(path: string, each: (line: string) => void): Promise<number> {
+  let n = 0;
+  let carry = '';
+  const stream = createReadStream(path, { highWaterMark: 256 * 1024, encoding: 'utf8' });
+  for await (const chunk of stream as AsyncIterable<string>) {
+    let start = 0;
+    let nl = chunk.indexOf('\n');
+    if (nl >= 0 && carry) {
+      each(carry + chunk.slice(0, nl));
+      n++;
+      carry = '';
+      start = nl + 1;
+      nl = chunk.indexOf('\n', start);
+    }
+    while (nl >= 0) {
+      each(chunk.slice(start, nl));
+      n++;
+      start = nl + 1;
+      nl = chunk.indexOf('\n', start);
+    }
+    carry += chunk.slice(start);
+  }
+  if (carry) {
+    each(carry);
+    n++;
+  }
+  return n;
+}
+
+async function readlineLines(path: string): Promise<number> {
+  let n = 0;
+  const rl = createInterface({
+    input: createReadStream(path, { highWaterMark: 256 * 1024 }),
+    crlfDelay: Infinity,
+  });
+  for await (const _line of rl) n++;
+  return n;
+}
+
+async function readerOnly(path: string, format: InputFormat): Promise<number> {
+  let n = 0;
+  let ok = 0;
+  for await (const batch of readInput(path, format)) {
+    n += batch.length;
+    for (const r of batch) if (r.result.ok) ok++;
+  }
+  if (ok !== n) throw new Error(`reader rejected ${n - ok} generated lines`);
+  return n;
+}
+
+const rate = (rows: number, secs: number) => Math.round(rows / secs);
+
+export async function run(): Promise<Record<string, unknown>> {
+  const dir = mkdtempSync(join(tmpdir(), 'streamfence-replay-bench-'));
+  try {
+    const gen = await timed(() => generate(dir));
+    const { ndjson, csv, rows } = gen.value;
+    const out: Record<string, unknown> = {
+      rows,
+      sensors: SENSORS,
+      fileMB: {
+        ndjson: +(statSync(ndjson).size / 1e6).toFixed(1),
+        csv: +(statSync(csv).size / 1e6).toFixed(1),
+      },
+      generateSeconds: +gen.secs.toFixed(1),
+    };
+    for (const [format, path] of [
+      ['ndjson', ndjson],
+      ['csv', csv],
+    ] as const) {
+      const split = await timed(() => bareLines(path, () => {}));
+      let sink = 0;
+      const parse = await timed(() =>
+        bareLines(path, (l) => {
+          sink += format === 'ndjson' ? (JSON.parse(l) as { value: number }).value : l.split(',').length;
+        }),
+      );
+      const rl = await timed(() => readlineLines(path));
+      const reader = await timed(() => readerOnly(path, format));
+      const outDir = join(dir, `out-${format}`);
+      const rssBefore = process.memoryUsage().rss;
+      const e2e = await timed(() =>
+        runReplay({
+          source: readInput(path, format),
+          config: defaultConfig(),
+          outDir,
+          inputInfo: { path, format },
+        }),
+      );
+      const s = e2e.value;
+      if (s.readings !== rows) throw new Error(`replay accepted ${s.readings} of ${rows}`);
+      out[format] = {
+        rawSplitRowsPerSec: rate(rows, split.secs),
+        rawParseRowsPerSec: rate(rows, parse.secs),
+        readlineRowsPerSec: rate(rows, rl.secs),
+        readerRowsPerSec: rate(rows, reader.secs),
+        endToEndRowsPerSec: rate(rows, e2e.secs),
+        endToEndSeconds: +e2e.secs.toFixed(2),
+        ratioEndToEndVsRawSplit: +(split.secs / e2e.secs).toFixed(3),
+        ratioEndToEndVsRawParse: +(parse.secs / e2e.secs).toFixed(3),
+        ratioReaderVsRawParse: +(parse.secs / reader.secs).toFixed(3),
+        evaluated: s.evaluated,
+        alertsRaised: s.alerts.raised,
+        rssGrowthMB: +((process.memoryUsage().rss - rssBefore) / 1e6).toFixed(1),
+        sink: sink > 0,
+      };
+    }
+    return out;
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
