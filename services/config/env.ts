@@ -38,6 +38,8 @@ export const ENV = {
   redisCaFile: 'STREAMFENCE_REDIS_CA_FILE',
   redisCertFile: 'STREAMFENCE_REDIS_CERT_FILE',
   redisKeyFile: 'STREAMFENCE_REDIS_KEY_FILE',
+  /** Kafka consumer group session timeout (ms): how long a silent monitor keeps its partitions. */
+  kafkaSessionTimeoutMs: 'STREAMFENCE_KAFKA_SESSION_TIMEOUT_MS',
 } as const;
 
 export type EnvKey = keyof typeof ENV;

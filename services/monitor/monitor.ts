@@ -35,6 +35,7 @@ export interface MonitorSettings {
   group: string;
   checkpointMs: number;
   checkpointReadings: number;
+  sessionTimeoutMs: number;
 }
 
 interface PartitionWorker {
@@ -84,9 +85,9 @@ export class Monitor {
     this.store = new CheckpointStore(redis, s.statePrefix, s.group, s.inputTopic, this.token);
     this.consumer = kafka.consumer({
       groupId: s.group,
-      sessionTimeout: 30_000,
-      rebalanceTimeout: 60_000,
-      heartbeatInterval: 3_000,
+      sessionTimeout: s.sessionTimeoutMs,
+      rebalanceTimeout: Math.max(60_000, s.sessionTimeoutMs),
+      heartbeatInterval: Math.max(100, Math.floor(s.sessionTimeoutMs / 10)),
       maxBytesPerPartition: 1_048_576,
       // Never give up on the group: retriable failures restart the consumer after a pause.
       retry: { retries: 10, initialRetryTime: 300, maxRetryTime: 10_000, restartOnFailure: async () => true },

@@ -22,6 +22,7 @@ export interface MonitorOptions {
   configFile: string | null;
   checkpointMs: number;
   checkpointReadings: number;
+  sessionTimeoutMs: number;
   logLevel: LogLevel;
   kafka: {
     tls: boolean;
@@ -70,6 +71,11 @@ export const RUN_OPTIONS: Record<string, Spec> = {
     env: ENV.checkpointReadings,
     def: '50000',
     help: 'also checkpoint a partition after this many readings',
+  },
+  'session-timeout-ms': {
+    env: ENV.kafkaSessionTimeoutMs,
+    def: '30000',
+    help: 'consumer group session timeout: a crashed monitor keeps its partitions this long (ms)',
   },
   'log-level': { env: ENV.logLevel, def: 'info', help: `log level: ${LOG_LEVELS.join(', ')}` },
   'kafka-tls': { env: ENV.kafkaTls, type: 'boolean', help: 'connect to Kafka over TLS' },
@@ -210,6 +216,7 @@ export function parseRunOptions(
       configFile: get('config') ?? null,
       checkpointMs: positiveInt(get('checkpoint-ms')!, 'checkpoint-ms', 10),
       checkpointReadings: positiveInt(get('checkpoint-readings')!, 'checkpoint-readings', 1),
+      sessionTimeoutMs: positiveInt(get('session-timeout-ms')!, 'session-timeout-ms', 1000),
       logLevel,
       kafka: {
         tls: flag('kafka-tls'),

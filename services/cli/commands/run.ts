@@ -98,6 +98,7 @@ export async function main(argv: string[]): Promise<number> {
       group: o.group,
       checkpointMs: o.checkpointMs,
       checkpointReadings: o.checkpointReadings,
+      sessionTimeoutMs: o.sessionTimeoutMs,
     },
     log,
     metrics,

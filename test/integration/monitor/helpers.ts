@@ -206,6 +206,8 @@ export function spawnMonitor(a: MonitorArgs): MonitorProc {
     '2000',
     '--log-level',
     'debug',
+    '--session-timeout-ms',
+    '6000',
     ...(a.extra ?? []),
   ];
   const child = spawn(process.execPath, args, {
