@@ -33,6 +33,11 @@ export interface HubOptions {
   /** Simulated-time speed factor (1 in live mode). */
   speed?: number;
   clearedKeep?: number;
+  /**
+   * Current flagged-reading count of an open alert, when the board runs the engine itself (demo).
+   * Alert events carry the count only when they are emitted, so it goes stale between events.
+   */
+  flaggedNow?: (sensor: string, id: string) => number | null;
   /** Called with a validated action before it is applied locally (live mode persists and publishes it). */
   share?: (action: OperatorAction) => Promise<void>;
 }
@@ -125,7 +130,12 @@ export class BoardHub {
   snapshot(extra: Record<string, unknown> = {}): Record<string, unknown> {
     const alerts = this.store.list();
     const series: Record<string, SeriesPoint[]> = {};
-    for (const a of alerts) if (!(a.sensor in series)) series[a.sensor] = this.series.get(a.sensor);
+    const flaggedNow: Record<string, number> = {};
+    for (const a of alerts) {
+      if (!(a.sensor in series)) series[a.sensor] = this.series.get(a.sensor);
+      const n = a.status === 'cleared' || !this.opts.flaggedNow ? null : this.opts.flaggedNow(a.sensor, a.id);
+      if (n !== null) flaggedNow[a.id] = n;
+    }
     return {
       mode: this.opts.mode,
       speed: this.opts.speed ?? 1,
@@ -134,6 +144,7 @@ export class BoardHub {
       rate: this.rateNow(),
       alerts,
       series,
+      flaggedNow,
       ...extra,
     };
   }

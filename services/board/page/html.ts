@@ -13,6 +13,7 @@ export const BOARD_HTML = `<!doctype html>
 <meta charset="utf-8">
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>streamfence board</title>
+<link rel="icon" href="data:,">
 <link rel="stylesheet" href="/assets/board.css">
 </head>
 <body>
@@ -53,7 +54,7 @@ export const BOARD_HTML = `<!doctype html>
     <h2 id="shelve-title">Shelve alert</h2>
     <p id="shelve-what" class="muted"></p>
     <label for="shelve-reason">Reason (required)</label>
-    <textarea id="shelve-reason" maxlength="500" rows="3" required></textarea>
+    <textarea id="shelve-reason" maxlength="500" rows="3" aria-required="true"></textarea>
     <fieldset>
       <legend>Shelve for</legend>
       <label><input type="radio" name="shelve-minutes" value="15" checked> 15 minutes</label>

@@ -11,7 +11,7 @@ export const BOARD_JS = String.raw`
   var NAME_KEY = 'streamfence.board.operator';
   var LARGE_KEY = 'streamfence.board.large';
   var TOKEN_KEY = 'streamfence.board.token';
-  var state = { data: null, fetchedAt: 0, timer: null, shelveId: null };
+  var state = { data: null, fetchedAt: 0, timer: null, shelveId: null, marked: false };
   var $ = function (id) { return document.getElementById(id); };
 
   function el(tag, attrs, kids) {
@@ -122,14 +122,16 @@ export const BOARD_JS = String.raw`
     var since = Date.parse(a.since);
     var facts = el('p', { cls: 'facts' });
     facts.appendChild(el('span', {}, ['Since ', el('b', { text: absTime(a.since) }), ' (' + relTime(plantNow() - since) + ')']));
-    facts.appendChild(el('span', {}, ['Flagged readings ', el('b', { text: String(a.flaggedReadings) })]));
+    var live = state.data.flaggedNow && state.data.flaggedNow[a.id];
+    facts.appendChild(el('span', {}, ['Flagged readings ', el('b', { text: String(Math.max(a.flaggedReadings, live || 0)) })]));
     facts.appendChild(el('span', {}, ['Last value ', el('b', { text: fmt(a.value) }), ' at ' + absTime(a.ts)]));
     if (a.status === 'cleared') facts.appendChild(el('span', {}, ['Cleared ', el('b', { text: absTime(a.ts) })]));
     li.appendChild(facts);
     var pts = (state.data.series && state.data.series[a.sensor]) || [];
     if (a.status !== 'cleared') {
       li.appendChild(chart(a, pts));
-      li.appendChild(el('p', { cls: 'legend', text: 'Line: recent readings. Shaded: normal band between the fences. Dashed: median. Diamonds: flagged readings.' }));
+      var bl = a.baseline || {};
+      li.appendChild(el('p', { cls: 'legend', text: 'Shaded: normal band ' + fmt(bl.lowerFence) + ' to ' + fmt(bl.upperFence) + '. Dashed: median ' + fmt(bl.median) + '. Diamonds: flagged readings. ' + pts.length + ' recent readings.' }));
     }
     if (a.acknowledged) {
       li.appendChild(el('p', { cls: 'ack yes', text: '✓ Acknowledged by ' + a.acknowledgedBy + ' at ' + absTime(a.acknowledgedAt) }));
@@ -175,6 +177,8 @@ export const BOARD_JS = String.raw`
     var active = [], shelved = [], cleared = [];
     d.alerts.forEach(function (a) { (a.status === 'active' ? active : a.status === 'shelved' ? shelved : cleared).push(a); });
     fill('active', active);
+    // Marks the first time alerts are on screen, for the page-load measurement.
+    if (active.length && !state.marked && window.performance && performance.mark) { performance.mark('board-first-alert'); state.marked = true; }
     fill('shelved', shelved);
     fill('cleared', cleared);
     renderRate(d.rate);

@@ -83,6 +83,10 @@ export async function main(argv: string[]): Promise<number> {
     mode: 'demo',
     speed,
     clock: { wall: () => Date.now(), plant: () => (feed ? feed.plantTimeAt(Date.now()) : wallStart) },
+    flaggedNow: (sensor, id) => {
+      const a = feed?.engine.get(sensor)?.life.active;
+      return a && a.id === id ? a.flaggedReadings : null;
+    },
   });
   feed = new DemoFeed(hub, { scenario, seed, speed, prerollMs, wallStart });
   const metrics = createBoardMetrics(hub);
