@@ -28,6 +28,11 @@ export interface ReplayObserver {
   onReject?(rec: InputRecord | { line: number; raw: string }, reason: string, detail: string): void;
   /** Once, after the last record, before summary.json is written. */
   onEnd?(engine: Engine): void | Promise<void>;
+  /**
+   * Extra top-level fields for summary.json (e.g. a report's audit), asked after onEnd. They follow
+   * the core fields; a name that is already taken is refused, so the core counts stay trustworthy.
+   */
+  summaryFields?(): Record<string, unknown>;
 }
 
 export interface ReplayOptions {
@@ -55,6 +60,8 @@ export interface ReplaySummary {
   /** Alerts still raised when the input ended. */
   activeAtEnd: number;
   config: Record<string, unknown>;
+  /** Fields added by observers (summaryFields). */
+  [extra: string]: unknown;
 }
 
 function sortedCounts(m: Map<string, number>): Record<string, number> {
@@ -143,6 +150,14 @@ export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
     activeAtEnd: engine.activeAlertCount(),
     config: configToJson(config),
   };
+  for (const o of observers) {
+    const extra = o.summaryFields?.() ?? {};
+    for (const k of Object.keys(extra)) {
+      if (k in summary)
+        throw new Error(`replay observer summary field "${k}" clashes with an existing summary field`);
+      summary[k] = extra[k];
+    }
+  }
   try {
     await writeFile(join(outDir, REPLAY_FILES.summary), `${JSON.stringify(summary, null, 2)}\n`);
   } catch (err) {

@@ -144,6 +144,7 @@ describe('runReplay', () => {
         seen.ends++;
         expect(engine.sensorCount).toBe(1);
       },
+      summaryFields: () => ({ extraPart: { ok: seen.ends } }),
     };
     const counts: number[] = [];
     await runReplay({
@@ -156,7 +157,19 @@ describe('runReplay', () => {
     });
     expect(seen).toEqual({ readings: 2, late: 1, rejects: ['2:not_json', '3:late'], ends: 1 });
     expect(counts).toEqual([2, 3]);
-    expect(JSON.parse(read(join(dir, 'obs'), REPLAY_FILES.summary)).input).toEqual({ from: 'test' });
+    const written = JSON.parse(read(join(dir, 'obs'), REPLAY_FILES.summary));
+    expect(written.input).toEqual({ from: 'test' });
+    expect(Object.keys(written).slice(-2)).toEqual(['config', 'extraPart']);
+    expect(written.extraPart).toEqual({ ok: 1 });
+    await expect(
+      runReplay({
+        source: source(),
+        config: defaultConfig(),
+        outDir: join(dir, 'obs2'),
+        inputInfo: {},
+        observers: [{ summaryFields: () => ({ readings: -1 }) }],
+      }),
+    ).rejects.toThrow(/clashes/);
   });
 
   it('removes a stale summary.json first, so a failed run never looks finished', async () => {
