@@ -14,7 +14,16 @@
  * All partition work (batches, checkpoints, hand-overs) runs one at a time under one lock.
  */
 import { randomUUID } from 'node:crypto';
-import type { Admin, Consumer, EachBatchPayload, Kafka, Message, Producer, TopicMessages } from 'kafkajs';
+import {
+  Partitioners,
+  type Admin,
+  type Consumer,
+  type EachBatchPayload,
+  type Kafka,
+  type Message,
+  type Producer,
+  type TopicMessages,
+} from 'kafkajs';
 import type { Redis } from 'ioredis';
 import { Engine } from '../../libs/engine/engine.js';
 import type { EngineConfig } from '../../libs/config/config.js';
@@ -96,6 +105,7 @@ export class Monitor {
       idempotent: true,
       maxInFlightRequests: 1,
       allowAutoTopicCreation: false,
+      createPartitioner: Partitioners.DefaultPartitioner,
     });
     this.admin = kafka.admin();
   }

@@ -1,0 +1,134 @@
+/**
+ * Redis stops answering mid-stream (a dedicated redis-server is SIGSTOPped for several seconds, longer
+ * than the monitor's command timeout): the monitor backs off, counts it, resumes when Redis is back,
+ * and its state is exact.
+ */
+import { spawn, type ChildProcess } from 'node:child_process';
+import { createServer } from 'node:net';
+import { afterAll, describe, expect, it } from 'vitest';
+import { Redis } from 'ioredis';
+import { createTopic, deleteTopics, kafkaClient, uniqueName } from '../../harness/services.js';
+import {
+  countBySensor,
+  eventsBySensor,
+  generateReadings,
+  produceReadings,
+  readAlertEvents,
+  referenceEvents,
+  sleep,
+  spawnMonitor,
+  storedSeen,
+  testConfig,
+  waitCheckpointedToEnd,
+  writeTestConfig,
+  type MonitorProc,
+} from './helpers.js';
+
+async function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const s = createServer();
+    s.once('error', reject);
+    s.listen(0, '127.0.0.1', () => {
+      const port = (s.address() as { port: number }).port;
+      s.close(() => resolve(port));
+    });
+  });
+}
+
+describe('streamfence run: Redis outage', () => {
+  const topic = uniqueName('readings');
+  const alertTopic = uniqueName('alerts');
+  const rejectedTopic = uniqueName('rejected');
+  const group = uniqueName('group');
+  const prefix = uniqueName('sf');
+  let server: ChildProcess | undefined;
+  let redis: Redis | undefined;
+  let mon: MonitorProc | undefined;
+
+  afterAll(async () => {
+    if (mon && mon.child.exitCode === null) mon.child.kill('SIGKILL');
+    redis?.disconnect();
+    if (server && server.exitCode === null) {
+      server.kill('SIGCONT');
+      server.kill('SIGTERM');
+    }
+    await deleteTopics(topic, alertTopic, rejectedTopic);
+  });
+
+  it('waits out a paused Redis and recovers with exact state', async () => {
+    const port = await freePort();
+    server = spawn(
+      'redis-server',
+      ['--port', String(port), '--bind', '127.0.0.1', '--save', '', '--appendonly', 'no'],
+      {
+        stdio: 'ignore',
+      },
+    );
+    const url = `redis://127.0.0.1:${port}`;
+    redis = new Redis(url, { maxRetriesPerRequest: 2, lazyConnect: true });
+    redis.on('error', () => {}); // refused until the server is up; the loop below retries
+    for (let i = 0; ; i++) {
+      try {
+        await redis.connect();
+        await redis.ping();
+        break;
+      } catch (e) {
+        if (i > 50) throw e;
+        await sleep(100);
+      }
+    }
+
+    const readings = generateReadings(20, 1000, 5);
+    const config = testConfig();
+    await createTopic(topic, 4);
+    await createTopic(alertTopic, 2);
+    await createTopic(rejectedTopic, 1);
+    const kafka = kafkaClient();
+    const slices = 10;
+    const per = Math.ceil(readings.length / slices);
+    await produceReadings(kafka, topic, readings.slice(0, per));
+
+    mon = spawnMonitor({
+      topic,
+      alertTopic,
+      rejectedTopic,
+      group,
+      prefix,
+      configFile: writeTestConfig(),
+      extra: ['--redis', url],
+    });
+    await mon.waitForLog(/"msg":"checkpoint"/, 45_000);
+
+    server.kill('SIGSTOP');
+    const producing = (async () => {
+      for (let i = 1; i < slices; i++) {
+        await produceReadings(kafka, topic, readings.slice(i * per, (i + 1) * per));
+        await sleep(200);
+      }
+    })();
+    await sleep(7_000);
+    server.kill('SIGCONT');
+    await producing;
+
+    await waitCheckpointedToEnd(redis, prefix, group, topic, 60_000);
+    const seen = await storedSeen(redis, prefix, group, topic, config);
+    expect(Object.fromEntries(seen)).toEqual(Object.fromEntries(countBySensor(readings)));
+    expect(mon.logs.some((l) => /"dependency":"redis".*retrying/.test(l))).toBe(true);
+
+    const metricsPort = await mon.metricsPort();
+    const text = await (await fetch(`http://127.0.0.1:${metricsPort}/metrics`)).text();
+    expect(
+      Number(/^streamfence_backoff_total\{dependency="redis"\} (\S+)$/m.exec(text)?.[1]),
+    ).toBeGreaterThan(0);
+
+    const reference = referenceEvents(readings, config);
+    const live = eventsBySensor(await readAlertEvents(alertTopic));
+    for (const [sensor, events] of reference) {
+      const got = new Set((live.get(sensor) ?? []).map((e) => `${e.id}:${e.state}:${e.ts}`));
+      for (const e of events)
+        expect(got.has(`${e.id}:${e.state}:${e.ts}`), `${sensor} ${e.state}`).toBe(true);
+    }
+    mon.child.kill('SIGTERM');
+    expect(await mon.exited).toBe(0);
+  });
+});
