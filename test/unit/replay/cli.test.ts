@@ -80,6 +80,13 @@ describe('streamfence replay (command)', () => {
     expect((await codeOf([dir, '--format', 'csv'])).message).toContain('directory');
   });
 
+  it('refuses an output directory that cannot be created with OUTPUT_UNWRITABLE', async () => {
+    expect(await codeOf([input, '--out', join(input, 'sub')])).toMatchObject({
+      code: 'OUTPUT_UNWRITABLE',
+      message: expect.stringContaining('choose another with --out'),
+    });
+  });
+
   it('refuses a bad config with its CONFIG_* code', async () => {
     const cfg = (name: string, text: string) => {
       const p = join(dir, name);
