@@ -13,6 +13,7 @@
  *   - north-basin/pump-2/flow:         no fault (a clean control)
  */
 import { writeFileSync } from 'node:fs';
+import process from 'node:process';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
