@@ -40,6 +40,8 @@ export const ENV = {
   redisKeyFile: 'STREAMFENCE_REDIS_KEY_FILE',
   /** Kafka consumer group session timeout (ms): how long a silent monitor keeps its partitions. */
   kafkaSessionTimeoutMs: 'STREAMFENCE_KAFKA_SESSION_TIMEOUT_MS',
+  /** Token operators' actions on the board must carry (streamfence board / demo). */
+  boardToken: 'STREAMFENCE_BOARD_TOKEN',
 } as const;
 
 export type EnvKey = keyof typeof ENV;
