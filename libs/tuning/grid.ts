@@ -25,7 +25,7 @@ export interface GridSpec {
 }
 
 /** The settings one grid point changes. outerK and zCritical follow fenceK and zLimit so the config stays valid. */
-export interface GridPoint {
+export type GridPoint = {
   fenceK: number;
   outerK: number;
   zLimit: number;
@@ -35,7 +35,7 @@ export interface GridPoint {
   raiseWindow: number;
   clearAfter: number;
   flatlineAfter: number;
-}
+};
 
 export const GRID_KEYS = ['fenceK', 'zLimit', 'trigger', 'debounce', 'clearAfter', 'flatlineAfter'] as const;
 const TRIGGERS: readonly Trigger[] = ['fence', 'z', 'either', 'both'];

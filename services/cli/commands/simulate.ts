@@ -1,5 +1,160 @@
-// Placeholder until the simulate command lands in this session; replaced by its real module.
-export async function main(_argv: string[]): Promise<number> {
-  process.stderr.write('streamfence simulate: not built yet\n');
-  return 2;
+/**
+ * `streamfence simulate`: generate an invented plant data set with labelled faults, to a file or
+ * a Kafka topic. Deterministic: the same options and seed give byte-identical files.
+ */
+import { parseDuration } from '../../../libs/config/duration.js';
+import { parseTimestamp } from '../../../libs/engine/reading.js';
+import { formatLabelsCsv } from '../../../libs/scoring/labels.js';
+import { DEFAULT_SCENARIO, PlantSimulator, SCENARIOS, suggestedConfig } from '../../../libs/sim/plant.js';
+import { ENV } from '../../config/env.js';
+import { Progress, formatCount, formatSeconds } from '../../progress.js';
+import {
+  configText,
+  formatFromPath,
+  produceReadings,
+  writeReadings,
+  writeText,
+} from '../../simulate/write.js';
+import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
+
+const CMD = 'simulate';
+const DEFAULT_START = '2026-01-05T00:00:00Z';
+
+export const HELP = `Usage: streamfence simulate (--out FILE | --kafka TOPIC) [options]
+
+Generate readings from an invented plant, with injected faults and their labels.
+
+  --scenario NAME     ${Object.keys(SCENARIOS).join(' or ')} (default ${DEFAULT_SCENARIO})
+  --duration D        how much data, e.g. 2d, 36h (default 2d)
+  --interval D        reading interval of each sensor, e.g. 60s, 1m (default 1m)
+  --sensors N         how many sensors (default: the scenario's set; more repeat its units)
+  --seed N            random seed (default 1); same seed, same data
+  --start ISO         time of the first reading (default ${DEFAULT_START})
+  --out FILE          readings file: .ndjson or .csv (or say --format)
+  --format F          ndjson or csv
+  --labels FILE       fault labels as CSV: sensor,start,end,kind (ISO-8601 UTC times)
+  --no-faults         no injected faults
+  --kafka TOPIC       produce the readings to this Kafka topic (created if missing), keyed by sensor
+  --brokers LIST      Kafka brokers host:port,... (default $${ENV.brokers} or 127.0.0.1:9092)
+  --config-out FILE   the scenario's suggested engine config (.json for JSON, otherwise YAML)
+  --list              list the scenarios and their sensors, then exit
+  -h, --help          this help
+
+Fault kinds: spike, step, drift, stuck, noise, dropout. The suggested config assumes readings about
+once a minute (minSamples and flatlineAfter count readings).
+`;
+
+function positiveInt(v: string, name: string): number {
+  if (!/^\d+$/.test(v) || Number(v) < 1)
+    usageError(`--${name} must be a positive whole number, got "${v}"`, CMD);
+  return Number(v);
+}
+
+function duration(v: string, name: string): number {
+  const ms = parseDuration(v);
+  if (ms === null || ms <= 0)
+    usageError(`--${name} must be a duration such as 30s, 15m, 2d; got "${v}"`, CMD);
+  return ms!;
+}
+
+function listScenarios(): string {
+  const lines: string[] = [];
+  for (const [name, s] of Object.entries(SCENARIOS)) {
+    lines.push(`${name}: ${s.title}`, `  ${s.description}`);
+    const sim = new PlantSimulator({
+      seed: 1,
+      start: 0,
+      durationMs: 1000,
+      intervalMs: 1000,
+      scenario: name,
+      faults: false,
+    });
+    for (const x of sim.sensors()) lines.push(`    ${x.id.padEnd(44)} ${x.unit.padEnd(6)} ${x.description}`);
+  }
+  return `${lines.join('\n')}\n`;
+}
+
+export async function main(argv: string[]): Promise<number> {
+  const args = parseCommandArgs(
+    CMD,
+    argv,
+    {
+      scenario: { type: 'string' },
+      duration: { type: 'string' },
+      interval: { type: 'string' },
+      sensors: { type: 'string' },
+      seed: { type: 'string' },
+      start: { type: 'string' },
+      out: { type: 'string' },
+      format: { type: 'string' },
+      labels: { type: 'string' },
+      'no-faults': { type: 'boolean' },
+      kafka: { type: 'string' },
+      brokers: { type: 'string' },
+      'config-out': { type: 'string' },
+      list: { type: 'boolean' },
+    },
+    false,
+  );
+  if (args.help) return printHelp(HELP);
+  if (args.values.list === true) {
+    process.stdout.write(listScenarios());
+    return 0;
+  }
+  const s = (n: string) => stringOption(args, n, CMD);
+  const out = s('out');
+  const topic = s('kafka');
+  const configOut = s('config-out');
+  const labelsOut = s('labels');
+  if (out === undefined && topic === undefined && configOut === undefined && labelsOut === undefined) {
+    usageError('say where the data goes: --out FILE (.ndjson or .csv) or --kafka TOPIC', CMD);
+  }
+  if (out !== undefined && topic !== undefined) usageError('give either --out or --kafka, not both', CMD);
+  const format = out !== undefined ? formatFromPath(out, s('format')) : undefined;
+  const seedText = s('seed') ?? '1';
+  if (!/^-?\d+$/.test(seedText) || Math.abs(Number(seedText)) > 2 ** 32) {
+    usageError(`--seed must be a whole number, got "${seedText}"`, CMD);
+  }
+  const startText = s('start') ?? DEFAULT_START;
+  const start = parseTimestamp(startText);
+  if (!start.ok) usageError(`--start: ${start.detail}`, CMD);
+  const scenario = s('scenario') ?? DEFAULT_SCENARIO;
+
+  const opts = {
+    seed: Number(seedText),
+    start: (start as { ts: number }).ts,
+    durationMs: duration(s('duration') ?? '2d', 'duration'),
+    intervalMs: duration(s('interval') ?? '1m', 'interval'),
+    sensors: s('sensors') === undefined ? undefined : positiveInt(s('sensors')!, 'sensors'),
+    faults: args.values['no-faults'] !== true,
+    scenario,
+  };
+  const sim = new PlantSimulator(opts);
+
+  printBanner(CMD);
+  if (configOut !== undefined) await writeText(configOut, configText(configOut, suggestedConfig(scenario)));
+  if (labelsOut !== undefined) await writeText(labelsOut, formatLabelsCsv(sim.labels()));
+
+  const expected = sim.sensors().length * Math.ceil(opts.durationMs / opts.intervalMs);
+  const progress = new Progress({ unit: 'readings', total: expected });
+  const onProgress = (n: number) => progress.update(n, n);
+  let n = 0;
+  let where = '';
+  if (out !== undefined) {
+    n = await writeReadings(sim, out, format!, onProgress);
+    where = out;
+  } else if (topic !== undefined) {
+    const brokers = (s('brokers') ?? process.env[ENV.brokers] ?? '127.0.0.1:9092')
+      .split(',')
+      .map((b) => b.trim());
+    n = await produceReadings(sim, topic, brokers, onProgress);
+    where = `Kafka topic ${topic}`;
+  }
+  const labels = sim.labels().length;
+  progress.finish(
+    `simulate: ${scenario}, ${sim.sensors().length} sensors, ${formatCount(n)} readings, ${labels} labelled faults` +
+      (where ? ` -> ${where}` : '') +
+      ` in ${formatSeconds(progress.elapsedSeconds)}`,
+  );
+  return 0;
 }

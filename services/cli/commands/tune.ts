@@ -1,5 +1,90 @@
-// Placeholder until the tune command lands in this session; replaced by its real module.
-export async function main(_argv: string[]): Promise<number> {
-  process.stderr.write('streamfence tune: not built yet\n');
-  return 2;
+/**
+ * `streamfence tune INPUT --labels FILE --out DIR`: score a grid of detection settings against
+ * labelled history and recommend one.
+ */
+import { availableParallelism } from 'node:os';
+import { DEFAULT_GRID_SPEC } from '../../../libs/tuning/grid.js';
+import { DEFAULT_BUDGET_PER_HOUR } from '../../../libs/tuning/recommend.js';
+import { DEFAULT_GRACE_MS } from '../../../libs/scoring/score.js';
+import { parseDuration } from '../../../libs/config/duration.js';
+import { runTune } from '../../tune/tune.js';
+import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
+
+const CMD = 'tune';
+
+export const HELP = `Usage: streamfence tune INPUT --labels FILE --out DIR [options]
+
+Replay labelled history with every combination of a grid of settings, score each, and recommend
+the one that catches the most labelled incidents within an alert-rate budget.
+
+INPUT             readings file (NDJSON or CSV, optionally .gz), read once
+  --labels FILE     incidents as CSV with header sensor,start,end[,kind]; ISO-8601 times
+  --out DIR         writes tuning.json, tuning.csv, recommended.json (and report.html when available)
+  --config FILE     base config (YAML or JSON); default: built-in defaults
+  --grid SPEC       settings to try (default: ${DEFAULT_GRID_SPEC})
+                    keys fenceK, zLimit, trigger, debounce (raiseAfter/raiseWindow), clearAfter,
+                    flatlineAfter; lists with "," and numeric ranges from:to:step; parts joined by ";".
+                    A key left out keeps the base config's value.
+  --budget N        raised alerts per hour allowed over the whole input (default ${DEFAULT_BUDGET_PER_HOUR})
+  --grace D         time after an incident's end in which an alert still counts (default ${DEFAULT_GRACE_MS / 1000}s)
+  --workers N       worker threads (default ${availableParallelism()} here: the number of CPUs)
+  --format F        ndjson or csv, when the extension does not say
+  -h, --help        this help
+
+Scoring: an incident is caught when an alert is raised on its sensor between its start and its end
+plus the grace; a raised alert is true when it falls in such an interval. Dropouts are left out of
+the headline recall (the engine has no missing-data rule) but reported per kind.
+`;
+
+export async function main(argv: string[]): Promise<number> {
+  const args = parseCommandArgs(CMD, argv, {
+    labels: { type: 'string' },
+    out: { type: 'string' },
+    config: { type: 'string' },
+    grid: { type: 'string' },
+    budget: { type: 'string' },
+    grace: { type: 'string' },
+    workers: { type: 'string' },
+    format: { type: 'string' },
+  });
+  if (args.help) return printHelp(HELP);
+  if (args.positionals.length !== 1)
+    usageError(
+      'give one readings file, e.g. streamfence tune data.ndjson --labels labels.csv --out tuning',
+      CMD,
+    );
+  const s = (n: string) => stringOption(args, n, CMD);
+  const labels = s('labels') ?? usageError('--labels FILE is required (CSV: sensor,start,end,kind)', CMD);
+  const out = s('out') ?? usageError('--out DIR is required', CMD);
+  let budget: number | undefined;
+  if (s('budget') !== undefined) {
+    budget = Number(s('budget'));
+    if (!Number.isFinite(budget) || budget <= 0)
+      usageError(`--budget must be a positive number of alerts per hour, got "${s('budget')}"`, CMD);
+  }
+  let workers: number | undefined;
+  if (s('workers') !== undefined) {
+    if (!/^\d+$/.test(s('workers')!) || Number(s('workers')) < 1)
+      usageError(`--workers must be a positive whole number, got "${s('workers')}"`, CMD);
+    workers = Number(s('workers'));
+  }
+  let graceMs: number | undefined;
+  if (s('grace') !== undefined) {
+    const g = parseDuration(s('grace'));
+    if (g === null) usageError(`--grace must be a duration such as 120s or 5m, got "${s('grace')}"`, CMD);
+    graceMs = g!;
+  }
+  printBanner(CMD);
+  await runTune({
+    input: args.positionals[0],
+    format: s('format'),
+    labels,
+    config: s('config'),
+    grid: s('grid'),
+    budget,
+    out,
+    workers,
+    graceMs,
+  });
+  return 0;
 }

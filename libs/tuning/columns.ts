@@ -1,0 +1,73 @@
+/**
+ * Readings held as columns (sensor index, ts, value) instead of objects: compact, and the typed
+ * arrays can sit on SharedArrayBuffers so tuning workers read one copy of the data.
+ */
+export interface ReadingColumns {
+  /** Sensor ids; `sensor[i]` indexes this table. */
+  names: string[];
+  sensor: Uint32Array;
+  ts: Float64Array;
+  value: Float64Array;
+  count: number;
+}
+
+/** Grows typed arrays by doubling while readings are appended; `finish` copies them to shared memory. */
+export class ColumnBuilder {
+  private readonly index = new Map<string, number>();
+  readonly names: string[] = [];
+  private sensor = new Uint32Array(1024);
+  private ts = new Float64Array(1024);
+  private value = new Float64Array(1024);
+  count = 0;
+
+  add(sensor: string, ts: number, value: number): void {
+    let id = this.index.get(sensor);
+    if (id === undefined) {
+      id = this.names.length;
+      this.index.set(sensor, id);
+      this.names.push(sensor);
+    }
+    if (this.count === this.ts.length) this.grow();
+    this.sensor[this.count] = id;
+    this.ts[this.count] = ts;
+    this.value[this.count] = value;
+    this.count++;
+  }
+
+  private grow(): void {
+    const n = this.ts.length * 2;
+    const s = new Uint32Array(n);
+    s.set(this.sensor);
+    const t = new Float64Array(n);
+    t.set(this.ts);
+    const v = new Float64Array(n);
+    v.set(this.value);
+    this.sensor = s;
+    this.ts = t;
+    this.value = v;
+  }
+
+  /** The columns, each on a SharedArrayBuffer of exactly `count` entries. */
+  finish(): ReadingColumns {
+    const n = this.count;
+    const sensor = new Uint32Array(new SharedArrayBuffer(Math.max(1, n) * 4), 0, n);
+    sensor.set(this.sensor.subarray(0, n));
+    const ts = new Float64Array(new SharedArrayBuffer(Math.max(1, n) * 8), 0, n);
+    ts.set(this.ts.subarray(0, n));
+    const value = new Float64Array(new SharedArrayBuffer(Math.max(1, n) * 8), 0, n);
+    value.set(this.value.subarray(0, n));
+    return { names: [...this.names], sensor, ts, value, count: n };
+  }
+}
+
+/** First and last reading time (the data span the alert rate is measured over). */
+export function spanOf(c: ReadingColumns): { first: number; last: number } {
+  let first = Infinity;
+  let last = -Infinity;
+  for (let i = 0; i < c.count; i++) {
+    const t = c.ts[i];
+    if (t < first) first = t;
+    if (t > last) last = t;
+  }
+  return c.count === 0 ? { first: 0, last: 0 } : { first, last };
+}

@@ -1,0 +1,31 @@
+/**
+ * One grid point, end to end: replay the columns through a fresh Engine with the point's config
+ * and score the raised alerts. The same function runs in tuning workers and in tests, so what
+ * tune reports is exactly what a replay with that config gives.
+ */
+import type { EngineConfig } from '../config/config.js';
+import { Engine } from '../engine/engine.js';
+import { score, type RaisedAlert, type Score, type ScoreOptions } from '../scoring/score.js';
+import type { Incident } from '../scoring/labels.js';
+import type { ReadingColumns } from './columns.js';
+
+/** Raised alerts (sensor, reading ts) of a replay of the columns in their order. */
+export function replayRaised(cfg: EngineConfig, c: ReadingColumns): RaisedAlert[] {
+  const engine = new Engine(cfg);
+  const out: RaisedAlert[] = [];
+  for (let i = 0; i < c.count; i++) {
+    const r = { sensor: c.names[c.sensor[i]], ts: c.ts[i], value: c.value[i] };
+    const o = engine.process(r);
+    for (const e of o.events) if (e.state === 'raised') out.push({ sensor: r.sensor, ts: r.ts });
+  }
+  return out;
+}
+
+export function evaluateConfig(
+  cfg: EngineConfig,
+  c: ReadingColumns,
+  incidents: readonly Incident[],
+  opts: ScoreOptions,
+): Score {
+  return score(incidents, replayRaised(cfg, c), opts);
+}

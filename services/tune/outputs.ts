@@ -1,0 +1,142 @@
+/**
+ * The files tune writes into its output directory:
+ *   tuning.json      every grid point with its scores, and the recommendation (shape: TuningResult)
+ *   tuning.csv       the same points as a table
+ *   recommended.json a complete config file ({defaults, sensors}) for replay/run --config
+ *   report.html      the HTML report (services/report/tune-report)
+ */
+import { mkdir, writeFile } from 'node:fs/promises';
+import { join } from 'node:path';
+import { renderTuneReport } from '../report/tune-report.js';
+import { StreamfenceError } from '../../libs/errors/index.js';
+import type { GridPoint } from '../../libs/tuning/grid.js';
+
+export const TUNING_FORMAT_VERSION = 1;
+
+export interface PointResult {
+  index: number;
+  settings: GridPoint;
+  recall: number | null;
+  precision: number | null;
+  /** Raised alerts per hour of data (tune refuses input with a zero time span, so always a number). */
+  alertsPerHour: number;
+  worst10min: number;
+  flood: boolean;
+  raised: number;
+  trueRaised: number;
+  incidents: number;
+  caught: number;
+  /** Per fault kind: caught / incidents of that kind (dropouts included here). */
+  recallByKind: Record<string, number | null>;
+  countsByKind: Record<string, { incidents: number; caught: number }>;
+}
+
+/** The documented shape of tuning.json (stable: fields are only ever added). */
+export type TuningResult = {
+  formatVersion: number;
+  engineVersion: string;
+  notice: string;
+  input: {
+    path: string;
+    format: string;
+    readings: number;
+    rejected: Record<string, number>;
+    sensors: number;
+    firstTs: string | null;
+    lastTs: string | null;
+    hours: number;
+  };
+  labels: { path: string; incidents: number; byKind: Record<string, number> };
+  scoring: { graceMs: number; floodWindowMs: number; floodLimit: number; excludedFromRecall: string[] };
+  budgetPerHour: number;
+  /** The grid that was searched, in --grid syntax, and its number of points. */
+  gridSpec: string;
+  pointCount: number;
+  baseConfig: Record<string, unknown>;
+  points: PointResult[];
+  recommended: (PointResult & { reason: string; withinBudget: boolean }) | null;
+};
+
+const CSV_COLUMNS = [
+  'index',
+  'fenceK',
+  'outerK',
+  'zLimit',
+  'zCritical',
+  'trigger',
+  'raiseAfter',
+  'raiseWindow',
+  'clearAfter',
+  'flatlineAfter',
+  'recall',
+  'precision',
+  'alertsPerHour',
+  'worst10min',
+  'flood',
+  'raised',
+  'trueRaised',
+  'caught',
+  'incidents',
+] as const;
+
+const cell = (v: unknown): string => (v === null || v === undefined ? '' : String(v));
+
+export function tuningCsv(t: TuningResult): string {
+  const kinds = Object.keys(t.labels.byKind).sort();
+  const head = [...CSV_COLUMNS, ...kinds.map((k) => `recall_${k}`), 'recommended'];
+  const rows = [head.join(',')];
+  for (const p of t.points) {
+    const flat: Record<string, unknown> = { ...p.settings, ...p };
+    rows.push(
+      [
+        ...CSV_COLUMNS.map((c) => cell(flat[c])),
+        ...kinds.map((k) => cell(p.recallByKind[k] ?? null)),
+        t.recommended?.index === p.index ? 'yes' : '',
+      ].join(','),
+    );
+  }
+  return `${rows.join('\n')}\n`;
+}
+
+async function write(path: string, text: string): Promise<void> {
+  try {
+    await writeFile(path, text);
+  } catch (e) {
+    throw new StreamfenceError(
+      'OUTPUT_UNWRITABLE',
+      `cannot write "${path}": ${(e as Error).message}; choose another --out directory`,
+    );
+  }
+}
+
+/** The HTML report (services/report/tune-report) of the tuning result, to DIR/report.html. */
+export async function writeReport(dir: string, t: TuningResult): Promise<string> {
+  const out = join(dir, 'report.html');
+  await write(out, renderTuneReport(t));
+  return out;
+}
+
+export async function writeOutputs(
+  dir: string,
+  t: TuningResult,
+  recommendedConfig: Record<string, unknown> | null,
+): Promise<{ files: string[]; report: string }> {
+  try {
+    await mkdir(dir, { recursive: true });
+  } catch (e) {
+    throw new StreamfenceError(
+      'OUTPUT_UNWRITABLE',
+      `cannot create "${dir}": ${(e as Error).message}; choose another --out directory`,
+    );
+  }
+  const files = [join(dir, 'tuning.json'), join(dir, 'tuning.csv')];
+  await write(files[0], `${JSON.stringify(t, null, 2)}\n`);
+  await write(files[1], tuningCsv(t));
+  if (recommendedConfig !== null) {
+    files.push(join(dir, 'recommended.json'));
+    await write(files[2], `${JSON.stringify(recommendedConfig, null, 2)}\n`);
+  }
+  const report = await writeReport(dir, t);
+  files.push(report);
+  return { files, report };
+}
