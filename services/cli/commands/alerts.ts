@@ -1,5 +1,172 @@
-// Placeholder until the alerts command lands in this session; replaced by its real module.
-export async function main(_argv: string[]): Promise<number> {
-  process.stderr.write('streamfence alerts: not built yet\n');
-  return 2;
+/**
+ * `streamfence alerts`: follow alert events (and operator actions) in the terminal. One line per
+ * event, coloured only on a terminal without NO_COLOR; `--json` passes the messages through as
+ * NDJSON for other programs.
+ */
+import { Kafka, logLevel } from 'kafkajs';
+import picomatch from 'picomatch';
+import { parseDuration } from '../../../libs/config/duration.js';
+import { actionLine, eventLine, passesSeverity, type SeverityFilter } from '../../../libs/board/line.js';
+import { NOTICE } from '../../../libs/schema/notice.js';
+import { ENV } from '../../config/env.js';
+import { follow } from '../../board/follow.js';
+import { asAction, asAlertEvent, type ActionMessage } from '../../board/live.js';
+import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
+
+const CMD = 'alerts';
+
+const HELP = `streamfence alerts: follow alert events in the terminal
+
+Usage: streamfence alerts --brokers HOST:PORT[,...] [options]
+
+Options:
+  --brokers LIST        Kafka bootstrap servers (or ${ENV.brokers})
+  --alert-topic NAME    alert topic (default sensor-alerts, or ${ENV.alertTopic})
+  --action-topic NAME   operator action topic (default sensor-alert-actions; skipped if it does not exist)
+  --no-actions          do not show operator actions
+  --severity LEVEL      warning (warnings and criticals) or critical (criticals only)
+  --sensor GLOB         only sensors matching the glob, e.g. "line-1/**"
+  --since ISO|DURATION  start at this time, e.g. 2026-03-02T06:00:00Z or 2h (default: all the topic keeps)
+  --once                print what is there now and exit (do not follow)
+  --json                one JSON message per line (NDJSON), unchanged, for piping
+  -h, --help            this help
+
+Lines are coloured only when stdout is a terminal and NO_COLOR is not set.
+${NOTICE}
+`;
+
+/** --since as an ISO time or a duration back from now. */
+export function parseSince(raw: string, now: number, cmd: string): number {
+  const ms = parseDuration(raw);
+  if (ms !== null && /[a-z]$/i.test(raw.trim())) return now - ms;
+  const t = Date.parse(raw);
+  if (/^\d{4}-\d{2}-\d{2}/.test(raw.trim()) && Number.isFinite(t)) return t;
+  return usageError(
+    `--since must be an ISO-8601 time (2026-03-02T06:00:00Z) or a duration back from now (90m, 24h), got "${raw}"`,
+    cmd,
+  );
+}
+
+export async function main(argv: string[]): Promise<number> {
+  const args = parseCommandArgs(
+    CMD,
+    argv,
+    {
+      brokers: { type: 'string' },
+      'alert-topic': { type: 'string' },
+      'action-topic': { type: 'string' },
+      'no-actions': { type: 'boolean' },
+      severity: { type: 'string' },
+      sensor: { type: 'string' },
+      since: { type: 'string' },
+      once: { type: 'boolean' },
+      json: { type: 'boolean' },
+    },
+    false,
+  );
+  if (args.help) return printHelp(HELP);
+  const brokers = (stringOption(args, 'brokers', CMD) ?? process.env[ENV.brokers] ?? '')
+    .split(',')
+    .map((s) => s.trim())
+    .filter(Boolean);
+  if (brokers.length === 0) usageError(`--brokers is required (or set ${ENV.brokers})`, CMD);
+  const alertTopic = stringOption(args, 'alert-topic', CMD) ?? process.env[ENV.alertTopic] ?? 'sensor-alerts';
+  const actionTopicOpt = stringOption(args, 'action-topic', CMD);
+  const severityRaw = stringOption(args, 'severity', CMD);
+  if (severityRaw !== undefined && severityRaw !== 'warning' && severityRaw !== 'critical') {
+    usageError(`--severity must be warning or critical, got "${severityRaw}"`, CMD);
+  }
+  const floor = (severityRaw ?? null) as SeverityFilter | null;
+  const glob = stringOption(args, 'sensor', CMD);
+  const sensorOk = glob === undefined ? () => true : picomatch(glob, { dot: true });
+  const sinceRaw = stringOption(args, 'since', CMD);
+  const sinceMs = sinceRaw === undefined ? null : parseSince(sinceRaw, Date.now(), CMD);
+  const json = args.values.json === true;
+  const color = !json && process.stdout.isTTY === true && !process.env.NO_COLOR;
+  const style = { color };
+
+  printBanner(CMD);
+  const kafka = new Kafka({
+    clientId: 'streamfence-alerts',
+    brokers,
+    logLevel: logLevel.ERROR,
+    retry: { retries: 5 },
+  });
+  const topics = [alertTopic];
+  if (args.values['no-actions'] !== true) {
+    const actionTopic = actionTopicOpt ?? 'sensor-alert-actions';
+    const admin = kafka.admin();
+    let exists = true;
+    try {
+      await admin.connect();
+      exists = (await admin.listTopics()).includes(actionTopic);
+    } catch {
+      // follow() reports an unreachable Kafka with a clear message below.
+    } finally {
+      await admin.disconnect().catch(() => {});
+    }
+    if (exists) topics.push(actionTopic);
+    else if (actionTopicOpt !== undefined)
+      usageError(`the action topic "${actionTopic}" does not exist`, CMD);
+    else
+      process.stderr.write(
+        `streamfence alerts: no action topic "${actionTopic}"; showing alert events only\n`,
+      );
+  }
+
+  // What the filters need to know about an action: the sensor and severity of its alert.
+  const known = new Map<string, { sensor: string; severity: 'warning' | 'critical' }>();
+  let broken = false;
+  process.stdout.on('error', () => {
+    broken = true; // reader went away (e.g. `| head`): stop quietly
+  });
+  const out = (line: string) => {
+    if (!broken) process.stdout.write(`${line}\n`);
+  };
+
+  const follower = await follow({
+    kafka,
+    topics,
+    sinceMs,
+    untilEnd: args.values.once === true,
+    role: 'alerts',
+    onMessage: (m) => {
+      let v: unknown;
+      try {
+        v = JSON.parse(m.value?.toString('utf8') ?? '');
+      } catch {
+        return;
+      }
+      if (m.topic === alertTopic) {
+        const ev = asAlertEvent(v);
+        if (ev === null) return;
+        if (ev.state === 'cleared') known.delete(ev.id);
+        else known.set(ev.id, { sensor: ev.sensor, severity: ev.severity });
+        if (!sensorOk(ev.sensor) || !passesSeverity(ev.severity, floor)) return;
+        out(json ? JSON.stringify(v) : eventLine(ev, style));
+        return;
+      }
+      const msg = v as Partial<ActionMessage>;
+      const act = msg?.kind === 'streamfence.operator-action' ? asAction(msg.action) : null;
+      if (act === null) return;
+      const k = known.get(act.id);
+      if (
+        (glob !== undefined || floor !== null) &&
+        (k === undefined || !sensorOk(k.sensor) || !passesSeverity(k.severity, floor))
+      )
+        return;
+      out(json ? JSON.stringify(v) : actionLine(act, k?.sensor ?? null, style));
+    },
+  });
+  const stop = () => void follower.stop();
+  process.once('SIGINT', stop);
+  process.once('SIGTERM', stop);
+  const poll = setInterval(() => {
+    if (broken) stop();
+  }, 200);
+  await follower.done;
+  clearInterval(poll);
+  process.off('SIGINT', stop);
+  process.off('SIGTERM', stop);
+  return 0;
 }

@@ -1,5 +1,136 @@
-// Placeholder until the board command lands in this session; replaced by its real module.
-export async function main(_argv: string[]): Promise<number> {
-  process.stderr.write('streamfence board: not built yet\n');
-  return 2;
+/**
+ * `streamfence board`: the operator board for the live system. It follows the alert topic (and the
+ * action topic) from Kafka as a viewer of its own, and shares operator actions through Redis and
+ * the action topic so every board and terminal view agree.
+ */
+import { Kafka, logLevel } from 'kafkajs';
+import { Redis } from 'ioredis';
+import { NOTICE } from '../../../libs/schema/notice.js';
+import { StreamfenceError } from '../../../libs/errors/index.js';
+import { ENV } from '../../config/env.js';
+import { boardTokenFor } from '../../board/auth.js';
+import { BoardHub } from '../../board/hub.js';
+import { LiveFeed } from '../../board/live.js';
+import { createBoardMetrics } from '../../board/metrics.js';
+import { startBoardServer } from '../../board/server.js';
+import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
+import { parseSince } from './alerts.js';
+
+const CMD = 'board';
+
+const HELP = `streamfence board: serve the operator board for the live system
+
+Usage: streamfence board --brokers HOST:PORT[,...] --redis URL [options]
+
+Options:
+  --brokers LIST        Kafka bootstrap servers (or ${ENV.brokers})
+  --alert-topic NAME    topic the monitor publishes alert events to (default sensor-alerts, or ${ENV.alertTopic})
+  --action-topic NAME   topic operator actions are shared on (default sensor-alert-actions)
+  --redis URL           Redis for the durable record of operator actions (or ${ENV.redisUrl})
+  --state-prefix P      prefix of the Redis keys (default streamfence, or ${ENV.statePrefix})
+  --since ISO|DURATION  read alert history from this time (e.g. 24h); default: all the topic keeps
+  --port N              HTTP port (default 8080; 0 picks a free one)
+  --host ADDR           address to listen on (default 127.0.0.1; any other needs --board-token)
+  --board-token T       token operators' actions must carry (or STREAMFENCE_BOARD_TOKEN)
+  -h, --help            this help
+
+The board reads the topics with a consumer group of its own that never commits, so it never moves
+the monitor's position. Both topics must exist.
+${NOTICE}
+`;
+
+export async function main(argv: string[]): Promise<number> {
+  const args = parseCommandArgs(
+    CMD,
+    argv,
+    {
+      brokers: { type: 'string' },
+      'alert-topic': { type: 'string' },
+      'action-topic': { type: 'string' },
+      redis: { type: 'string' },
+      'state-prefix': { type: 'string' },
+      since: { type: 'string' },
+      port: { type: 'string' },
+      host: { type: 'string' },
+      'board-token': { type: 'string' },
+    },
+    false,
+  );
+  if (args.help) return printHelp(HELP);
+  const brokers = (stringOption(args, 'brokers', CMD) ?? process.env[ENV.brokers] ?? '')
+    .split(',')
+    .map((s) => s.trim())
+    .filter(Boolean);
+  if (brokers.length === 0) usageError(`--brokers is required (or set ${ENV.brokers})`, CMD);
+  const redisUrl = stringOption(args, 'redis', CMD) ?? process.env[ENV.redisUrl];
+  if (!redisUrl)
+    usageError(`--redis is required (or set ${ENV.redisUrl}): operator actions are kept there`, CMD);
+  const alertTopic = stringOption(args, 'alert-topic', CMD) ?? process.env[ENV.alertTopic] ?? 'sensor-alerts';
+  const actionTopic = stringOption(args, 'action-topic', CMD) ?? 'sensor-alert-actions';
+  const prefix = stringOption(args, 'state-prefix', CMD) ?? process.env[ENV.statePrefix] ?? 'streamfence';
+  const sinceRaw = stringOption(args, 'since', CMD);
+  const sinceMs = sinceRaw === undefined ? null : parseSince(sinceRaw, Date.now(), CMD);
+  const portRaw = stringOption(args, 'port', CMD) ?? '8080';
+  const port = Number(portRaw);
+  if (!Number.isInteger(port) || port < 0 || port > 65535)
+    usageError(`--port must be a whole number from 0 to 65535, got "${portRaw}"`, CMD);
+  const host = stringOption(args, 'host', CMD) ?? '127.0.0.1';
+  const token = boardTokenFor(
+    host,
+    stringOption(args, 'board-token', CMD) ?? process.env.STREAMFENCE_BOARD_TOKEN,
+  );
+
+  printBanner(CMD);
+  const redis = new Redis(redisUrl, { lazyConnect: true, maxRetriesPerRequest: 2, connectTimeout: 5_000 });
+  try {
+    await redis.connect();
+  } catch (e) {
+    redis.disconnect();
+    throw new StreamfenceError(
+      'SERVICE_UNAVAILABLE',
+      `cannot reach Redis at --redis: ${(e as Error).message}`,
+    );
+  }
+  const kafka = new Kafka({
+    clientId: 'streamfence-board',
+    brokers,
+    logLevel: logLevel.ERROR,
+    retry: { retries: 5 },
+  });
+  let feed: LiveFeed | null = null;
+  const hub = new BoardHub({
+    mode: 'live',
+    clock: { wall: () => Date.now(), plant: () => Date.now() },
+    share: (a) => feed!.share(a),
+  });
+  feed = new LiveFeed(hub, {
+    kafka,
+    redis,
+    prefix,
+    alertTopic,
+    actionTopic,
+    sinceMs,
+    onSkip: (why) => process.stderr.write(`streamfence board: ${why}\n`),
+  });
+  try {
+    await feed.start();
+  } catch (e) {
+    redis.disconnect();
+    throw e;
+  }
+  const metrics = createBoardMetrics(hub);
+  const board = await startBoardServer({ hub, metrics, host, port, token });
+  process.stdout.write(
+    `streamfence board: following ${alertTopic} and ${actionTopic}; board at ${board.url}/\n`,
+  );
+
+  await new Promise<void>((resolve) => {
+    process.once('SIGINT', () => resolve());
+    process.once('SIGTERM', () => resolve());
+  });
+  await board.close();
+  await feed.stop();
+  redis.disconnect();
+  process.stderr.write('streamfence board: stopped\n');
+  return 0;
 }

@@ -1,0 +1,130 @@
+/**
+ * Follow Kafka topics as a viewer: every board and terminal view reads the whole topic (from the
+ * start of retention, or from a --since time) with a consumer group of its own that never commits,
+ * so viewers never share or move each other's position and never touch the monitor's group.
+ * With `untilEnd`, it stops once it has read up to the end offsets seen at start.
+ */
+import { randomBytes } from 'node:crypto';
+import type { Consumer, Kafka } from 'kafkajs';
+import { StreamfenceError } from '../../libs/errors/index.js';
+
+export interface FollowMessage {
+  topic: string;
+  partition: number;
+  offset: string;
+  key: Buffer | null;
+  value: Buffer | null;
+  /** Broker timestamp, epoch ms. */
+  timestamp: number;
+}
+
+export interface FollowOptions {
+  kafka: Kafka;
+  topics: string[];
+  /** Start at the first message at or after this time (epoch ms); default: the start of retention. */
+  sinceMs?: number | null;
+  /** Stop after the messages present at start have been read (no following). */
+  untilEnd?: boolean;
+  onMessage: (m: FollowMessage) => void | Promise<void>;
+  /** Name shown in the viewer's group id, e.g. "board" or "alerts". */
+  role: string;
+}
+
+export interface Follower {
+  /** Resolves when the follower stops (untilEnd reached, or stop() called). */
+  done: Promise<void>;
+  stop(): Promise<void>;
+}
+
+type PartKey = string;
+const pk = (t: string, p: number): PartKey => `${t}\u0000${p}`;
+
+export async function follow(o: FollowOptions): Promise<Follower> {
+  const admin = o.kafka.admin();
+  await admin.connect().catch((e: unknown) => {
+    throw new StreamfenceError(
+      'SERVICE_UNAVAILABLE',
+      `cannot reach Kafka: ${(e as Error).message}; check --brokers`,
+    );
+  });
+  const start = new Map<PartKey, bigint>();
+  const end = new Map<PartKey, bigint>();
+  try {
+    const existing = new Set(await admin.listTopics());
+    for (const t of o.topics) {
+      if (!existing.has(t)) {
+        throw new StreamfenceError(
+          'NOT_FOUND',
+          `Kafka topic "${t}" does not exist; check the topic name or create it first`,
+        );
+      }
+      const offs = await admin.fetchTopicOffsets(t);
+      for (const p of offs) {
+        start.set(pk(t, p.partition), BigInt(p.low));
+        end.set(pk(t, p.partition), BigInt(p.high));
+      }
+      if (o.sinceMs !== undefined && o.sinceMs !== null) {
+        for (const p of await admin.fetchTopicOffsetsByTimestamp(t, o.sinceMs)) {
+          // -1 means no message at or after the time: start at the end.
+          const off = BigInt(p.offset) < 0n ? end.get(pk(t, p.partition))! : BigInt(p.offset);
+          start.set(pk(t, p.partition), off);
+        }
+      }
+    }
+  } finally {
+    await admin.disconnect();
+  }
+
+  const remaining = new Set<PartKey>();
+  if (o.untilEnd) for (const [k, e] of end) if (e > start.get(k)!) remaining.add(k);
+
+  let finish!: () => void;
+  const done = new Promise<void>((r) => (finish = r));
+  if (o.untilEnd && remaining.size === 0) {
+    finish();
+    return { done, stop: async () => {} };
+  }
+
+  const consumer: Consumer = o.kafka.consumer({
+    groupId: `streamfence-${o.role}-view-${randomBytes(6).toString('hex')}`,
+    // Viewers read everything; a short session keeps an abandoned viewer's group from lingering.
+    sessionTimeout: 10_000,
+    heartbeatInterval: 3_000,
+  });
+  let stopped = false;
+  const stop = async () => {
+    if (stopped) return;
+    stopped = true;
+    await consumer.disconnect().catch(() => {});
+    finish();
+  };
+  await consumer.connect();
+  for (const t of o.topics) await consumer.subscribe({ topic: t, fromBeginning: true });
+  await consumer.run({
+    autoCommit: false,
+    eachMessage: async ({ topic, partition, message }) => {
+      const k = pk(topic, partition);
+      const off = BigInt(message.offset);
+      if (off < (start.get(k) ?? 0n)) return; // before --since (a fetch that raced the seek)
+      if (!stopped) {
+        await o.onMessage({
+          topic,
+          partition,
+          offset: message.offset,
+          key: message.key,
+          value: message.value,
+          timestamp: Number(message.timestamp),
+        });
+      }
+      if (o.untilEnd && remaining.has(k) && off + 1n >= end.get(k)!) {
+        remaining.delete(k);
+        if (remaining.size === 0) setImmediate(() => void stop());
+      }
+    },
+  });
+  for (const [k, off] of start) {
+    const [topic, p] = k.split('\u0000');
+    if (off > 0n) consumer.seek({ topic, partition: Number(p), offset: off.toString() });
+  }
+  return { done, stop };
+}
