@@ -27,8 +27,8 @@ svg.chart { display: block; max-width: 100%; height: auto; background: #fff; bor
 svg .grid { stroke: #eceef3; }
 svg .frame { fill: none; stroke: #b9bfcc; }
 svg .tick, svg .axis-title, svg .line-label { font: 11px system-ui, sans-serif; fill: var(--muted); }
-svg .readings { fill: var(--band); fill-opacity: .75; stroke: var(--band); stroke-width: .6; }
-svg .fence-inner { fill: #7fb08f; fill-opacity: .28; }
+svg .readings { fill: var(--band); fill-opacity: .6; stroke: var(--band); stroke-width: .6; }
+svg .fence-inner { fill: #5e9c72; fill-opacity: .3; }
 svg .fence-outer { fill: #c9b35f; fill-opacity: .16; }
 svg .median { fill: none; stroke: #2c3140; stroke-width: 1.4; stroke-dasharray: 5 3; }
 svg .mark.raised.warning { fill: var(--warn); stroke: #fff; stroke-width: 1; }

@@ -127,6 +127,8 @@ export function axes(
     const px = x.scale(t);
     if (px < x0 - 0.5 || px > x1 + 0.5) continue;
     parts.push(`<line class="grid" x1="${coord(px)}" x2="${coord(px)}" y1="${y1}" y2="${y0}"/>`);
+    // A label centred on the right edge would be cut off by the frame.
+    if (px > f.width - 36) continue;
     parts.push(
       `<text class="tick" x="${coord(px)}" y="${y0 + 16}" text-anchor="middle">${esc(x.label(t))}</text>`,
     );

@@ -91,6 +91,8 @@ export type ReportObserver = ReplayObserver & {
   auditResult(): AuditResult | null;
 };
 
+const RATE_BINS = 120;
+
 // The first bin width: fine enough for a few minutes of data; it doubles as the span grows.
 const FIRST_BIN_MS = 1000;
 
@@ -98,14 +100,16 @@ export function createReportObserver(opts: ReportOptions = {}): ReportObserver {
   const o: Required<Omit<ReportOptions, 'audit'>> = { ...REPORT_DEFAULTS, ...stripUndefined(opts) };
   const series = new Map<string, Series>();
   const counts = new Map<string, AlertCount>();
+  // Fewer, wider bins for the rate: an hourly rate from a handful of alerts per bin is less jumpy.
   const rate = new AdaptiveBins({
-    slots: o.binsPerSensor,
+    slots: RATE_BINS,
     initialWidthMs: FIRST_BIN_MS,
     sumChannels: ['raised', 'critical'],
   });
   const raisedCh = rate.sumChannel('raised');
   const criticalCh = rate.sumChannel('critical');
   let untracked = 0;
+  const span = { from: Infinity, to: -Infinity };
   // Raised times in the last 10 minutes of event time (for the worst 10-minute count).
   const recent: number[] = [];
   let worst10 = { count: 0, endTs: NaN };
@@ -147,6 +151,8 @@ export function createReportObserver(opts: ReportOptions = {}): ReportObserver {
     onReading(r: Reading, outcome: ProcessOutcome, engine: Engine): void {
       if (!outcome.accepted) return;
       const st = engine.get(r.sensor)!;
+      if (r.ts < span.from) span.from = r.ts;
+      if (r.ts > span.to) span.to = r.ts;
       const s = series.get(r.sensor) ?? seriesFor(r.sensor);
       if (s !== undefined) {
         const b = st.window.baseline();
@@ -235,6 +241,7 @@ export function createReportObserver(opts: ReportOptions = {}): ReportObserver {
         untracked,
         worst10,
         audit,
+        span,
       });
     },
   };
@@ -253,6 +260,7 @@ interface Collected {
   untracked: number;
   worst10: { count: number; endTs: number };
   audit: AuditResult | null;
+  span: { from: number; to: number };
 }
 
 const LEGEND_SHAPES: { label: string; cls: string; shape: 'triangle' | 'diamond' | 'circle' | 'dot' }[] = [
@@ -286,21 +294,10 @@ function legend(): string {
 
 function renderReplayReport(summary: ReplaySummary, c: Collected): string {
   const { o } = c;
-  const range = c.rate.range();
-  const spanText = (() => {
-    // Event-time span from the charted sensors' bins (bins are aligned, so this is rounded outward).
-    let from = Infinity;
-    let to = -Infinity;
-    for (const s of c.series.values()) {
-      const r = s.bins.range();
-      if (r === null) continue;
-      from = Math.min(from, r.from);
-      to = Math.max(to, r.to);
-    }
-    return from < to
-      ? `${new Date(from).toISOString()} to ${new Date(to).toISOString()} (bin-rounded)`
+  const spanText =
+    c.span.from <= c.span.to
+      ? `${new Date(c.span.from).toISOString()} to ${new Date(c.span.to).toISOString()}`
       : 'no readings';
-  })();
 
   const overview = table(
     ['', 'count'],
@@ -343,7 +340,7 @@ function renderReplayReport(summary: ReplaySummary, c: Collected): string {
           ? `<p class="note">${ranked.length - alertRows.length} more sensors raised alerts.</p>`
           : '');
 
-  const hours = range === null ? 0 : (range.to - range.from) / 3_600_000;
+  const hours = c.span.from < c.span.to ? (c.span.to - c.span.from) / 3_600_000 : 0;
   const floodPerHour = (FLOOD.count * 3_600_000) / FLOOD.windowMs;
   const rateSection = [
     `<p>${esc(summary.alerts.raised)} alerts raised over ${esc(fmtNum(hours))} h of event time (${esc(fmtNum(hours > 0 ? summary.alerts.raised / hours : 0))}/h on average); budget ${esc(fmtNum(o.budgetPerHour))}/h. ` +

@@ -101,9 +101,11 @@ async function charts(page: Page, selector: string): Promise<{ w: number; h: num
     els.map((e) => {
       const r = e.getBoundingClientRect();
       let drawn = 0;
-      e.querySelectorAll('path, rect.bar, circle').forEach((p) => {
-        drawn += (p.getAttribute('d') ?? '').length + (p.tagName === 'path' ? 0 : 1);
-      });
+      e.querySelectorAll('path, rect.bar, circle').forEach(
+        (p: { getAttribute(name: string): string | null; tagName: string }) => {
+          drawn += (p.getAttribute('d') ?? '').length + (p.tagName === 'path' ? 0 : 1);
+        },
+      );
       return { w: r.width, h: r.height, drawn };
     }),
   );
@@ -150,11 +152,37 @@ describe('HTML reports in Chromium', () => {
     expect(await page.locator('svg.sensor-chart path.mark.raised').count()).toBeGreaterThan(0);
     expect(await page.locator('h2', { hasText: 'Sketch audit' }).count()).toBe(1);
     await page.screenshot({ path: join(ARTIFACTS, 'report-replay.png'), fullPage: true });
+    await page
+      .locator('svg.sensor-chart')
+      .first()
+      .screenshot({ path: join(ARTIFACTS, 'report-replay-chart.png') });
     if (process.env.STREAMFENCE_DOCS_SCREENSHOTS === '1') {
-      await page.locator('h2', { hasText: 'Top 3 sensors' }).scrollIntoViewIfNeeded();
+      // The top sensors' charts: what a reader of the README should see.
+      // Page coordinates (boundingBox() is relative to the scrolled viewport).
+      const [top, bottom] = await page.evaluate(() => {
+        const doc = globalThis as unknown as {
+          scrollY: number;
+          document: {
+            querySelectorAll(
+              s: string,
+            ): ArrayLike<{
+              textContent: string | null;
+              getBoundingClientRect(): { top: number; bottom: number };
+            }>;
+          };
+        };
+        const heads = Array.from(doc.document.querySelectorAll('h2')).filter((h) =>
+          (h.textContent ?? '').startsWith('Top '),
+        );
+        const svgs = doc.document.querySelectorAll('svg.sensor-chart');
+        return [
+          heads[0].getBoundingClientRect().top + doc.scrollY,
+          svgs[1].getBoundingClientRect().bottom + doc.scrollY,
+        ];
+      });
       await page.screenshot({
         path: resolve('deploy/docs/report.png'),
-        clip: { x: 0, y: 0, width: 1100, height: 1500 },
+        clip: { x: 0, y: top - 10, width: 1100, height: bottom - top + 20 },
         fullPage: true,
       });
     }
