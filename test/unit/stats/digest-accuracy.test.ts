@@ -107,7 +107,7 @@ export function measure(
   const b = w.baseline();
   if (b === null) throw new Error('no baseline');
   const kept: number[] = [];
-  for (const c of w.closed) kept.push(...byBucket.get(c.index)!);
+  for (const c of w.closed) for (const v of byBucket.get(c.index)!) kept.push(v);
   const sorted = Float64Array.from(kept).sort();
   expect(b.count).toBe(sorted.length);
   const est: Record<string, number> = { '0.25': b.q1, '0.5': b.median, '0.75': b.q3 };

@@ -1,0 +1,227 @@
+/**
+ * Engine benchmark and sketch-size sweep. All figures come from one run, against raw baselines
+ * measured in the same run on the same pre-generated values:
+ * - bare `tdigest` push rate (new TDigest(0.05), the package default K = 25, and K = 0, the
+ *   engine's setting with automatic compression off) vs the engine's `process` rate on one
+ *   sensor and on 1,000 sensors round-robin (event time steps so buckets roll);
+ * - 10,000 sensors with default settings after a full window (1,000 readings each over 26 h):
+ *   serialised state bytes per sensor, heap bytes per sensor (needs node --expose-gc), and the
+ *   quartile rank error of their baselines (sampled sensors, against the exact closed-bucket data);
+ * - a sweep of closedDelta / baselineDelta and bucket counts on a 1 reading/s and a 5 readings/s
+ *   sensor: serialised bytes and the worst quartile rank error over every baseline formed.
+ */
+import tdigest from 'tdigest';
+import { validateConfig } from '../../libs/config/config.js';
+import { Engine } from '../../libs/engine/engine.js';
+import { SKETCH } from '../../libs/engine/sketch-params.js';
+import { SensorWindow } from '../../libs/engine/window.js';
+import { exactRank } from '../../libs/stats/quantiles.js';
+import { Rng } from '../unit/stats/random.js';
+
+const HOUR = 3_600_000;
+const T0 = Date.UTC(2026, 0, 5);
+const mutableSketch = SKETCH as unknown as Record<keyof typeof SKETCH, number>;
+
+function normals(n: number, seed: number): Float64Array {
+  const r = new Rng(seed);
+  const a = new Float64Array(n);
+  for (let i = 0; i < n; i++) a[i] = 50 + 5 * r.normal();
+  return a;
+}
+
+function rate(n: number, f: () => void): number {
+  const t = performance.now();
+  f();
+  return n / ((performance.now() - t) / 1000);
+}
+
+function gc(): void {
+  const g = (globalThis as { gc?: () => void }).gc;
+  if (g) {
+    g();
+    g();
+  }
+}
+
+function throughput(values: Float64Array): Record<string, number> {
+  const n = values.length;
+  const bare = rate(n, () => {
+    const d = new tdigest.TDigest(0.05);
+    for (let i = 0; i < n; i++) d.push(values[i]);
+  });
+  const bareK0 = rate(n, () => {
+    const d = new tdigest.TDigest(0.05, 0);
+    for (let i = 0; i < n; i++) d.push(values[i]);
+  });
+  const step = (26 * HOUR) / n;
+  const one = rate(n, () => {
+    const e = new Engine(validateConfig({}));
+    for (let i = 0; i < n; i++)
+      e.process({ sensor: 'kiln-2/temp', ts: Math.round(T0 + i * step), value: values[i] });
+  });
+  const names = Array.from({ length: 1000 }, (_, i) => `unit-${i}/temp`);
+  const many = rate(n, () => {
+    const e = new Engine(validateConfig({}));
+    for (let i = 0; i < n; i++)
+      e.process({ sensor: names[i % 1000], ts: Math.round(T0 + i * step), value: values[i] });
+  });
+  return {
+    readings: n,
+    bareTdigestPushPerSec: Math.round(bare),
+    bareTdigestK0PushPerSec: Math.round(bareK0),
+    engineOneSensorPerSec: Math.round(one),
+    engine1000SensorsPerSec: Math.round(many),
+    ratioOneSensorToBare: +(one / bare).toFixed(3),
+    ratioOneSensorToBareK0: +(one / bareK0).toFixed(3),
+    ratio1000SensorsToBare: +(many / bare).toFixed(3),
+  };
+}
+
+/** Worst and mean quartile rank error of a window's baseline against the exact closed-bucket data. */
+function quartileErrors(w: SensorWindow, byBucket: Map<number, number[]>): number[] {
+  const b = w.baseline();
+  if (b === null) return [];
+  const all: number[] = [];
+  for (const c of w.closed) for (const v of byBucket.get(c.index) ?? []) all.push(v);
+  const s = Float64Array.from(all).sort();
+  return [
+    Math.abs(exactRank(s, b.q1) - 0.25),
+    Math.abs(exactRank(s, b.median) - 0.5),
+    Math.abs(exactRank(s, b.q3) - 0.75),
+  ];
+}
+
+function fleet(sensors: number, perSensor: number): Record<string, unknown> {
+  const step = (26 * HOUR) / perSensor;
+  const names = Array.from({ length: sensors }, (_, i) => `cell-${Math.floor(i / 100)}/probe-${i % 100}`);
+  gc();
+  const before = process.memoryUsage().heapUsed;
+  const e = new Engine(validateConfig({}));
+  const rngs = names.map((_, i) => new Rng(1000 + i));
+  const t = performance.now();
+  for (let k = 0; k < perSensor; k++) {
+    const ts = Math.round(T0 + k * step);
+    for (let i = 0; i < sensors; i++) e.process({ sensor: names[i], ts, value: 20 + 2 * rngs[i].normal() });
+  }
+  const seconds = (performance.now() - t) / 1000;
+  gc();
+  const heap = process.memoryUsage().heapUsed - before;
+  let sum = 0;
+  let max = 0;
+  for (const s of names) {
+    const len = e.encode(s)!.length;
+    sum += len;
+    if (len > max) max = len;
+  }
+  // Rank error on sampled sensors: regenerate their streams (same seeds) and bucket them.
+  const errs: number[] = [];
+  for (let i = 0; i < sensors; i += Math.max(1, Math.floor(sensors / 50))) {
+    const r = new Rng(1000 + i);
+    const w = e.get(names[i])!.window;
+    const byBucket = new Map<number, number[]>();
+    for (let k = 0; k < perSensor; k++) {
+      const ts = Math.round(T0 + k * step);
+      const idx = Math.floor(ts / w.bucketMs);
+      let a = byBucket.get(idx);
+      if (!a) byBucket.set(idx, (a = []));
+      a.push(20 + 2 * r.normal());
+    }
+    errs.push(...quartileErrors(w, byBucket));
+  }
+  return {
+    sensors,
+    readingsPerSensor: perSensor,
+    processPerSec: Math.round((sensors * perSensor) / seconds),
+    stateBytesPerSensorMean: Math.round(sum / sensors),
+    stateBytesPerSensorMax: max,
+    heapBytesPerSensor: (globalThis as { gc?: unknown }).gc
+      ? Math.round(heap / sensors)
+      : 'run with --expose-gc',
+    quartileRankErrorMax: +Math.max(...errs).toFixed(5),
+    quartileRankErrorMean: +(errs.reduce((a, b) => a + b, 0) / errs.length).toFixed(5),
+  };
+}
+
+/** One sensor at `perHour` readings for 26 h; worst quartile rank error over every baseline formed. */
+export function sweepOne(perHour: number, buckets: number, seed = 5): Record<string, number> {
+  const w = new SensorWindow(24 * HOUR, buckets);
+  const r = new Rng(seed);
+  const n = Math.round(26 * perHour);
+  const step = HOUR / perHour;
+  const byBucket = new Map<number, number[]>();
+  let last: unknown = null;
+  let worst = 0;
+  let sum = 0;
+  let count = 0;
+  for (let i = 0; i < n; i++) {
+    const ts = Math.round(T0 + i * step);
+    const v = r.normal();
+    w.advance(ts);
+    const b = w.baseline();
+    if (b !== null && b !== last) {
+      last = b;
+      for (const e of quartileErrors(w, byBucket)) {
+        worst = Math.max(worst, e);
+        sum += e;
+        count++;
+      }
+    }
+    w.add(ts, v);
+    const idx = Math.floor(ts / w.bucketMs);
+    let a = byBucket.get(idx);
+    if (!a) byBucket.set(idx, (a = []));
+    a.push(v);
+  }
+  // Serialised size of the same state, through the engine's encoder.
+  const e = new Engine(validateConfig({ defaults: { buckets } }));
+  const r2 = new Rng(seed);
+  for (let i = 0; i < n; i++) e.process({ sensor: 's', ts: Math.round(T0 + i * step), value: r2.normal() });
+  return {
+    bytes: e.encode('s')!.length,
+    baselineCentroids: e.get('s')!.window.baseline()!.digest.size,
+    rankErrWorst: +worst.toFixed(5),
+    rankErrMean: +(sum / count).toFixed(5),
+  };
+}
+
+export function sweep(
+  grid: { closedDelta: number; baselineDelta: number }[],
+  bucketsList: number[],
+  rates: number[],
+): Record<string, unknown>[] {
+  const saved = { ...SKETCH };
+  const rows: Record<string, unknown>[] = [];
+  try {
+    for (const g of grid) {
+      for (const buckets of bucketsList) {
+        mutableSketch.closedDelta = g.closedDelta;
+        mutableSketch.baselineDelta = g.baselineDelta;
+        const row: Record<string, unknown> = { ...g, buckets };
+        for (const perHour of rates) row[`${perHour}/h`] = sweepOne(perHour, buckets);
+        rows.push(row);
+      }
+    }
+  } finally {
+    Object.assign(mutableSketch, saved);
+  }
+  return rows;
+}
+
+export async function run(): Promise<Record<string, unknown>> {
+  const out: Record<string, unknown> = { sketch: { ...SKETCH } };
+  out.throughput = throughput(normals(1_000_000, 42));
+  out.fleet10k = fleet(10_000, 1_000);
+  out.sweep = sweep(
+    [
+      { closedDelta: 0.05, baselineDelta: 0.02 },
+      { closedDelta: 0.02, baselineDelta: 0.02 },
+      { closedDelta: 0.03, baselineDelta: 0.02 },
+      { closedDelta: 0.05, baselineDelta: 0.05 },
+      { closedDelta: 0.1, baselineDelta: 0.05 },
+      { closedDelta: 0.1, baselineDelta: 0.1 },
+    ],
+    [6, 8, 12, 24],
+    [3600, 18000],
+  );
+  return out;
+}
