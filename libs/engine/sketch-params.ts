@@ -9,6 +9,11 @@ export const SKETCH = {
   openCap: 200,
   /** Compression applied when a bucket closes. */
   closedDelta: 0.05,
-  /** Compression of the merged baseline built from the closed buckets at each roll. */
-  baselineDelta: 0.02,
+  /**
+   * Compression of the merged baseline built from the closed buckets at each roll. Measured
+   * (test/bench/engine.bench.ts sweep): 0.05 gives a worst quartile rank error over every baseline
+   * of about 0.1 %, where 0.02 gave about 0.5 % (finer merging keeps overlapping coarse bucket
+   * centroids apart, and interpolating between them misplaces ranks); it is also a smaller digest.
+   */
+  baselineDelta: 0.05,
 } as const;
