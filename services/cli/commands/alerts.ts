@@ -14,6 +14,8 @@ import { asAction, asAlertEvent, type ActionMessage } from '../../board/live.js'
 import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
 
 const CMD = 'alerts';
+const KNOWN_CAP = 100_000;
+const HOLD_CAP = 200_000;
 
 const HELP = `streamfence alerts: follow alert events in the terminal
 
@@ -114,8 +116,14 @@ export async function main(argv: string[]): Promise<number> {
       );
   }
 
-  // What the filters need to know about an action: the sensor and severity of its alert.
+  // What filters and action lines need to know about an alert: its sensor and severity. Bounded:
+  // the oldest entries go first once the cap is reached.
   const known = new Map<string, { sensor: string; severity: 'warning' | 'critical' }>();
+  const remember = (id: string, info: { sensor: string; severity: 'warning' | 'critical' }) => {
+    known.delete(id);
+    known.set(id, info);
+    if (known.size > KNOWN_CAP) known.delete(known.keys().next().value as string);
+  };
   let broken = false;
   process.stdout.on('error', () => {
     broken = true; // reader went away (e.g. `| head`): stop quietly
@@ -124,11 +132,35 @@ export async function main(argv: string[]): Promise<number> {
     if (!broken) process.stdout.write(`${line}\n`);
   };
 
+  // With --once, messages of the two topics are merged in time order before printing (each topic
+  // arrives in its own order); when following, lines are printed as they come.
+  const once = args.values.once === true;
+  type Item = { ts: number; seq: number; render: () => string | null };
+  let held: Item[] = [];
+  let seq = 0;
+  const flush = () => {
+    held.sort((a, b) => a.ts - b.ts || a.seq - b.seq);
+    for (const it of held) {
+      const line = it.render();
+      if (line !== null) out(line);
+    }
+    held = [];
+  };
+  const emit = (ts: number, render: () => string | null) => {
+    if (!once) {
+      const line = render();
+      if (line !== null) out(line);
+      return;
+    }
+    held.push({ ts, seq: seq++, render });
+    if (held.length >= HOLD_CAP) flush();
+  };
+
   const follower = await follow({
     kafka,
     topics,
     sinceMs,
-    untilEnd: args.values.once === true,
+    untilEnd: once,
     role: 'alerts',
     onMessage: (m) => {
       let v: unknown;
@@ -140,22 +172,21 @@ export async function main(argv: string[]): Promise<number> {
       if (m.topic === alertTopic) {
         const ev = asAlertEvent(v);
         if (ev === null) return;
-        if (ev.state === 'cleared') known.delete(ev.id);
-        else known.set(ev.id, { sensor: ev.sensor, severity: ev.severity });
+        remember(ev.id, { sensor: ev.sensor, severity: ev.severity });
         if (!sensorOk(ev.sensor) || !passesSeverity(ev.severity, floor)) return;
-        out(json ? JSON.stringify(v) : eventLine(ev, style));
+        emit(Date.parse(ev.ts), () => (json ? JSON.stringify(v) : eventLine(ev, style)));
         return;
       }
       const msg = v as Partial<ActionMessage>;
       const act = msg?.kind === 'streamfence.operator-action' ? asAction(msg.action) : null;
       if (act === null) return;
-      const k = known.get(act.id);
-      if (
-        (glob !== undefined || floor !== null) &&
-        (k === undefined || !sensorOk(k.sensor) || !passesSeverity(k.severity, floor))
-      )
-        return;
-      out(json ? JSON.stringify(v) : actionLine(act, k?.sensor ?? null, style));
+      emit(Date.parse(act.at), () => {
+        const k = known.get(act.id);
+        const filtered = glob !== undefined || floor !== null;
+        if (filtered && (k === undefined || !sensorOk(k.sensor) || !passesSeverity(k.severity, floor)))
+          return null;
+        return json ? JSON.stringify(v) : actionLine(act, k?.sensor ?? null, style);
+      });
     },
   });
   const stop = () => void follower.stop();
@@ -165,6 +196,7 @@ export async function main(argv: string[]): Promise<number> {
     if (broken) stop();
   }, 200);
   await follower.done;
+  flush();
   clearInterval(poll);
   process.off('SIGINT', stop);
   process.off('SIGTERM', stop);

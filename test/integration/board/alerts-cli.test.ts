@@ -127,8 +127,9 @@ describe('streamfence alerts (terminal view)', () => {
     );
     expect(lines.some((l) => /◆ CRITICAL {2}updated {2}kiln-2\/zone-1\/temp/.test(l))).toBe(true);
     expect(lines.some((l) => /○ CLEARED {3}cleared {2}dryer-4\/fan\/current/.test(l))).toBe(true);
-    expect(lines.some((l) => /» OPERATOR {2}acknowl {2}\S+ {2}acknowledged by Oskar Feld/.test(l))).toBe(
-      true,
+    // --once merges both topics in time order, so the action (03:01) comes last, named by its sensor.
+    expect(lines[4]).toBe(
+      '2026-04-01 03:01:00Z  » OPERATOR  acknowl  kiln-2/zone-1/temp  acknowledged by Oskar Feld',
     );
   });
 
@@ -136,9 +137,10 @@ describe('streamfence alerts (terminal view)', () => {
     const crit = await alerts('--severity', 'critical', '--no-actions');
     expect(crit.lines).toHaveLength(3);
     expect(crit.lines.every((l) => /CRITICAL|CLEARED/.test(l))).toBe(true);
-    const kiln = await alerts('--sensor', 'kiln-2/**', '--no-actions');
-    expect(kiln.lines).toHaveLength(2);
-    expect(kiln.lines.every((l) => l.includes('kiln-2/zone-1/temp'))).toBe(true);
+    const kiln = await alerts('--sensor', 'kiln-2/**');
+    expect(kiln.lines).toHaveLength(3);
+    expect(kiln.lines[2]).toContain('acknowledged by Oskar Feld');
+    expect(kiln.lines.every((l) => l.includes('kiln-2/zone-1/temp'))).toBe(true); // action lines name the sensor too
   });
 
   it('--json writes valid NDJSON, the messages unchanged', async () => {
