@@ -1,0 +1,135 @@
+import { describe, expect, it } from 'vitest';
+import {
+  configToJson,
+  defaultConfig,
+  parseConfigText,
+  SettingsResolver,
+  validateConfig,
+} from '../../../libs/config/config.js';
+import { formatDuration, parseDuration } from '../../../libs/config/duration.js';
+import { DEFAULT_SETTINGS } from '../../../libs/config/settings.js';
+
+/** Run fn and return the StreamfenceError it throws (fails the test if it does not throw). */
+function refusal(fn: () => unknown): { code: string; message: string } {
+  try {
+    fn();
+  } catch (e) {
+    return e as { code: string; message: string };
+  }
+  throw new Error('expected a refusal');
+}
+
+describe('config: unknown keys are refused and named', () => {
+  it('top level', () => {
+    const e = refusal(() => validateConfig({ defaults: {}, sensor: [] }));
+    expect(e.code).toBe('CONFIG_UNKNOWN_KEY');
+    expect(e.message).toContain('"sensor"');
+  });
+  it('defaults', () => {
+    const e = refusal(() => validateConfig({ defaults: { fenceK: 2, zlimit: 4 } }));
+    expect(e.code).toBe('CONFIG_UNKNOWN_KEY');
+    expect(e.message).toContain('"zlimit"');
+    expect(e.message).toContain('defaults');
+  });
+  it('sensors[i]', () => {
+    const e = refusal(() => validateConfig({ sensors: [{ match: 'a*' }, { match: 'b*', windw: '1h' }] }));
+    expect(e.code).toBe('CONFIG_UNKNOWN_KEY');
+    expect(e.message).toContain('sensors[1]');
+    expect(e.message).toContain('"windw"');
+  });
+});
+
+describe('config: contradictions are refused', () => {
+  const cases: [string, Record<string, unknown>, string][] = [
+    ['outerK <= fenceK', { fenceK: 3, outerK: 3 }, 'outerK'],
+    ['zCritical <= zLimit', { zLimit: 4, zCritical: 3.5 }, 'zCritical'],
+    ['raiseAfter > raiseWindow', { raiseAfter: 3, raiseWindow: 2 }, 'raiseAfter'],
+    ['min >= max', { min: 5, max: 5 }, 'min'],
+    ['window not divisible by buckets', { window: '10s', buckets: 3 }, 'buckets'],
+  ];
+  for (const [name, defaults, word] of cases) {
+    it(name, () => {
+      const e = refusal(() => validateConfig({ defaults }));
+      expect(e.code).toBe('CONFIG_CONTRADICTION');
+      expect(e.message).toContain(word);
+    });
+  }
+  it('a per-sensor override contradicting the defaults is refused with its glob named', () => {
+    const e = refusal(() =>
+      validateConfig({ defaults: { outerK: 4 }, sensors: [{ match: 'kiln-*', fenceK: 4 }] }),
+    );
+    expect(e.code).toBe('CONFIG_CONTRADICTION');
+    expect(e.message).toContain('kiln-*');
+  });
+  it('wrong types and out-of-range values are CONFIG_INVALID', () => {
+    expect(refusal(() => validateConfig({ defaults: { fenceK: -1 } })).code).toBe('CONFIG_INVALID');
+    expect(refusal(() => validateConfig({ defaults: { trigger: 'any' } })).code).toBe('CONFIG_INVALID');
+    expect(refusal(() => validateConfig({ defaults: { buckets: 49 } })).code).toBe('CONFIG_INVALID');
+    expect(refusal(() => validateConfig({ defaults: { window: '40d' } })).code).toBe('CONFIG_INVALID');
+    expect(refusal(() => validateConfig({ sensors: [{ fenceK: 2 }] })).code).toBe('CONFIG_INVALID');
+    expect(refusal(() => validateConfig([])).code).toBe('CONFIG_INVALID');
+    expect(refusal(() => parseConfigText('defaults: [unclosed', 'plant.yaml')).message).toContain(
+      'plant.yaml',
+    );
+  });
+});
+
+describe('config: resolution, formats, durations', () => {
+  it('the first matching glob wins over later ones and over defaults', () => {
+    const c = validateConfig({
+      defaults: { fenceK: 1.5 },
+      sensors: [
+        { match: 'kiln-*/temp', fenceK: 2 },
+        { match: 'kiln-*', fenceK: 2.5 },
+        { match: '**', fenceK: 1.2 },
+      ],
+    });
+    const r = new SettingsResolver(c);
+    expect(r.resolve('kiln-3/temp').fenceK).toBe(2);
+    expect(r.resolve('kiln-3').fenceK).toBe(2.5);
+    expect(r.resolve('dryer-1/temp').fenceK).toBe(1.2);
+    expect(
+      new SettingsResolver(validateConfig({ sensors: [{ match: 'x', fenceK: 2 }] })).resolve('y').fenceK,
+    ).toBe(DEFAULT_SETTINGS.fenceK);
+  });
+
+  it('YAML and JSON give the same config', () => {
+    const yaml = `
+defaults:
+  window: 90m
+  buckets: 9
+  zLimit: 3.5
+sensors:
+  - match: "line-2/*"
+    direction: high
+    max: 120
+`;
+    const json = JSON.stringify({
+      defaults: { window: '90m', buckets: 9, zLimit: 3.5 },
+      sensors: [{ match: 'line-2/*', direction: 'high', max: 120 }],
+    });
+    const a = parseConfigText(yaml, 'a.yaml');
+    const b = parseConfigText(json, 'b.json');
+    expect(a).toEqual(b);
+    expect(a.defaults.window).toBe(90 * 60_000);
+    // configToJson round-trips through validation.
+    expect(validateConfig(configToJson(a))).toEqual(a);
+    expect(parseConfigText('', 'empty')).toEqual(defaultConfig());
+  });
+
+  it('durations: units, plain milliseconds, refusals, formatting', () => {
+    expect(parseDuration('250ms')).toBe(250);
+    expect(parseDuration('30s')).toBe(30_000);
+    expect(parseDuration('15m')).toBe(900_000);
+    expect(parseDuration('24h')).toBe(86_400_000);
+    expect(parseDuration('7d')).toBe(604_800_000);
+    expect(parseDuration('1.5h')).toBe(5_400_000);
+    expect(parseDuration('5000')).toBe(5000);
+    expect(parseDuration(5000)).toBe(5000);
+    for (const bad of ['', 'h', '-5s', '5 hours', '1e3', null, {}, -1, Infinity])
+      expect(parseDuration(bad)).toBeNull();
+    expect(formatDuration(86_400_000)).toBe('1d');
+    expect(formatDuration(5_400_000)).toBe('90m');
+    expect(formatDuration(1500)).toBe('1500ms');
+  });
+});
