@@ -31,7 +31,7 @@ export class SensorState {
 
 const MAGIC_0 = 0x53; // 'S'
 const MAGIC_1 = 0x46; // 'F'
-export const STATE_VERSION = 1;
+export const STATE_VERSION = 2;
 const SEVERITIES: Severity[] = ['warning', 'critical'];
 
 export function encodeSensorState(st: SensorState): Uint8Array {
@@ -55,16 +55,13 @@ export function encodeSensorState(st: SensorState): Uint8Array {
   w.f64(win.openFirstTs);
   w.f64(win.openLastTs);
   const snap = win.open.snapshot();
-  w.f64(snap.n);
-  w.f64(snap.lastCumulate);
-  w.uvar(snap.mean.length);
-  for (let i = 0; i < snap.mean.length; i++) {
-    w.f64(snap.mean[i]);
-    w.uvar(snap.count[i]);
-    w.uvar(snap.cumn[i]);
-    // mean_cumn is a multiple of 0.5 or "not yet computed" (NaN): 0 encodes NaN.
-    w.uvar(Number.isNaN(snap.meanCumn[i]) ? 0 : snap.meanCumn[i] * 2 + 1);
+  w.uvar(snap.means.length);
+  for (let i = 0; i < snap.means.length; i++) {
+    w.f64(snap.means[i]);
+    w.uvar(snap.counts[i]);
   }
+  w.uvar(snap.buffer.length);
+  for (let i = 0; i < snap.buffer.length; i++) w.f64(snap.buffer[i]);
   w.uvar(win.closed.length);
   for (const b of win.closed) {
     w.f64(b.index);
@@ -104,13 +101,20 @@ export function encodeSensorState(st: SensorState): Uint8Array {
  * the state was written, the baseline is restarted (it cannot be re-bucketed) while the lifetime
  * count and any raised alert are kept. Likewise a changed raiseWindow restarts the debounce ring.
  */
-export function decodeSensorState(bytes: Uint8Array, resolve: (sensor: string) => SensorSettings): SensorState {
+export function decodeSensorState(
+  bytes: Uint8Array,
+  resolve: (sensor: string) => SensorSettings,
+): SensorState {
   try {
     const r = new ByteReader(bytes);
-    if (r.u8() !== MAGIC_0 || r.u8() !== MAGIC_1) throw new StreamfenceError('STATE_CORRUPT', 'not a streamfence sensor state');
+    if (r.u8() !== MAGIC_0 || r.u8() !== MAGIC_1)
+      throw new StreamfenceError('STATE_CORRUPT', 'not a streamfence sensor state');
     const version = r.u8();
     if (version !== STATE_VERSION) {
-      throw new StreamfenceError('STATE_VERSION', `sensor state version ${version} is not supported by this build (expects ${STATE_VERSION})`);
+      throw new StreamfenceError(
+        'STATE_VERSION',
+        `sensor state version ${version} is not supported by this build (expects ${STATE_VERSION})`,
+      );
     }
     const sensor = r.str();
     const settings = resolve(sensor);
@@ -128,24 +132,19 @@ export function decodeSensorState(bytes: Uint8Array, resolve: (sensor: string) =
     const om = { n: r.f64(), mean: r.f64(), m2: r.f64() };
     const openFirstTs = r.f64();
     const openLastTs = r.f64();
-    const n = r.f64();
-    const lastCumulate = r.f64();
     const size = r.uvar();
     const snap = {
-      n,
-      lastCumulate,
-      mean: new Float64Array(size),
-      count: new Float64Array(size),
-      cumn: new Float64Array(size),
-      meanCumn: new Float64Array(size),
+      means: new Float64Array(size),
+      counts: new Float64Array(size),
+      buffer: new Float64Array(0),
     };
     for (let i = 0; i < size; i++) {
-      snap.mean[i] = r.f64();
-      snap.count[i] = r.uvar();
-      snap.cumn[i] = r.uvar();
-      const mc = r.uvar();
-      snap.meanCumn[i] = mc === 0 ? NaN : (mc - 1) / 2;
+      snap.means[i] = r.f64();
+      snap.counts[i] = r.uvar();
     }
+    const buffered = r.uvar();
+    snap.buffer = new Float64Array(buffered);
+    for (let i = 0; i < buffered; i++) snap.buffer[i] = r.f64();
     const closedCount = r.uvar();
     const closed = [];
     for (let k = 0; k < closedCount; k++) {
@@ -191,9 +190,17 @@ export function decodeSensorState(bytes: Uint8Array, resolve: (sensor: string) =
       const reasonCount = r.uvar();
       const reasons: string[] = [];
       for (let i = 0; i < reasonCount; i++) reasons.push(r.str());
-      st.life.active = { id, severity, reasons, raisedTs: r.f64(), flaggedReadings: r.uvar(), clearRun: r.uvar() };
+      st.life.active = {
+        id,
+        severity,
+        reasons,
+        raisedTs: r.f64(),
+        flaggedReadings: r.uvar(),
+        clearRun: r.uvar(),
+      };
     }
-    if (!r.done) throw new StreamfenceError('STATE_CORRUPT', `sensor state for "${sensor}" has trailing bytes`);
+    if (!r.done)
+      throw new StreamfenceError('STATE_CORRUPT', `sensor state for "${sensor}" has trailing bytes`);
     return st;
   } catch (e) {
     if (e instanceof StreamfenceError) throw e;

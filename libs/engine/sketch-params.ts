@@ -3,10 +3,10 @@
  * they bound memory per sensor while keeping quartile rank error well under 1 %.
  */
 export const SKETCH = {
-  /** Compression of the filling bucket's TDigest (largest share of mass one centroid may hold). */
+  /** Compression of the filling bucket's digest (delta = largest share of mass one centroid may hold). */
   openDelta: 0.05,
-  /** The filling bucket is recompressed (deterministically) when it holds more centroids than this. */
-  openCap: 200,
+  /** Readings the filling bucket buffers before merging them into its centroids. */
+  openCap: 128,
   /** Compression applied when a bucket closes. */
   closedDelta: 0.05,
   /**

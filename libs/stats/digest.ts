@@ -1,37 +1,16 @@
 /**
- * Quantile sketches for the rolling baseline.
+ * Quantile sketches for the rolling baseline: t-digests (Dunning and Ertl 2019) in the "merging"
+ * form.
  *
- * - The open (filling) bucket of each sensor is a `tdigest` TDigest fed one reading at a time.
- *   Its automatic compression is turned off (K = 0) because the package compresses in a random
- *   order (Math.random), which would make replays and restarts disagree; we compress in a fixed
- *   order instead (see `compressCentroids`).
- * - Closed buckets and the merged baseline are frozen centroid lists (sorted means and counts):
- *   a union of digests' centroids is itself a valid digest (Dunning and Ertl 2019), and a frozen
- *   list is a few typed arrays instead of a tree of objects, which keeps heap per sensor small.
- * Queries interpolate between centroid mid-points exactly as the `tdigest` package does.
+ * - The open (filling) bucket appends readings to a small buffer; when the buffer is full it is
+ *   sorted and merged into the bucket's centroids under the t-digest size bound. This is far
+ *   cheaper per reading than inserting into a tree, and it is deterministic.
+ * - Closed buckets and the merged baseline are frozen centroid lists (sorted means and counts): a
+ *   union of digests' centroids is itself a valid digest, and a frozen list is a few typed arrays
+ *   instead of a tree of objects, which keeps heap per sensor small.
+ * Queries interpolate between centroid mid-points the way the npm `tdigest` package does; the
+ * tests and benchmarks use that package as the reference.
  */
-import tdigest from 'tdigest';
-
-const { TDigest } = tdigest;
-
-/** The shape of the package's internals that exact snapshots need (not in its typings). */
-interface RawCentroid {
-  mean: number;
-  n: number;
-  cumn: number;
-  mean_cumn: number;
-}
-interface RawDigest {
-  n: number;
-  last_cumulate: number;
-  centroids: { insert(c: RawCentroid): boolean; each(f: (c: RawCentroid) => void): void; size: number };
-  push(x: number, n?: number): void;
-  push_centroid(c: { mean: number; n: number } | { mean: number; n: number }[]): void;
-  reset(): void;
-  size(): number;
-  toArray(): { mean: number; n: number }[];
-  _cumulate(exact: boolean): void;
-}
 
 /** Sorted centroid list. `counts` are integers carried as doubles. */
 export interface Centroids {
@@ -47,55 +26,74 @@ export function totalCount(c: Centroids): number {
   return t;
 }
 
-/**
- * Deterministic one-pass compression: walk the centroids in mean order and merge neighbours
- * while the merged weight stays under the t-digest bound 4 * n * delta * q * (1 - q) (at least 1),
- * so the tails stay fine-grained and the middle coarse. Same input, same output, always.
- */
-export function compressCentroids(parts: readonly Centroids[], delta: number): Centroids {
-  let len = 0;
-  for (const p of parts) len += p.means.length;
-  if (len === 0) return EMPTY_CENTROIDS;
-  const order = new Uint32Array(len);
-  const means = new Float64Array(len);
-  const counts = new Float64Array(len);
-  let k = 0;
-  let total = 0;
-  for (const p of parts) {
-    for (let i = 0; i < p.means.length; i++) {
-      means[k] = p.means[i];
-      counts[k] = p.counts[i];
-      order[k] = k;
-      total += p.counts[i];
-      k++;
+/** Merge sorted centroid lists into one sorted list (balanced pairwise merges; stable). */
+function mergeSorted(parts: readonly Centroids[]): Centroids {
+  let level = parts.filter((p) => p.means.length > 0) as Centroids[];
+  if (level.length === 0) return EMPTY_CENTROIDS;
+  while (level.length > 1) {
+    const next: Centroids[] = [];
+    for (let i = 0; i < level.length; i += 2)
+      next.push(i + 1 < level.length ? mergeTwo(level[i], level[i + 1]) : level[i]);
+    level = next;
+  }
+  return level[0];
+}
+
+function mergeTwo(a: Centroids, b: Centroids): Centroids {
+  const n = a.means.length + b.means.length;
+  const means = new Float64Array(n);
+  const counts = new Float64Array(n);
+  let i = 0;
+  let j = 0;
+  for (let k = 0; k < n; k++) {
+    // Ties take `a` first, so the result does not depend on anything but the inputs' order.
+    if (j >= b.means.length || (i < a.means.length && a.means[i] <= b.means[j])) {
+      means[k] = a.means[i];
+      counts[k] = a.counts[i++];
+    } else {
+      means[k] = b.means[j];
+      counts[k] = b.counts[j++];
     }
   }
-  // Stable sort by mean (ties keep input order) so the result does not depend on engine internals.
-  order.sort((a, b) => means[a] - means[b] || a - b);
-  const outMeans: number[] = [];
-  const outCounts: number[] = [];
-  let curMean = means[order[0]];
-  let curCount = counts[order[0]];
+  return { means, counts };
+}
+
+/**
+ * Deterministic compression of centroid lists, each sorted by mean: merge them, then walk in mean
+ * order and combine neighbours while the combined weight stays under the t-digest bound
+ * 4 * n * delta * q * (1 - q) (at least 1), so the tails stay fine-grained and the middle coarse.
+ */
+export function compressCentroids(parts: readonly Centroids[], delta: number): Centroids {
+  const all = mergeSorted(parts);
+  const len = all.means.length;
+  if (len === 0) return EMPTY_CENTROIDS;
+  const { means, counts } = all;
+  const total = totalCount(all);
+  const outMeans = new Float64Array(len);
+  const outCounts = new Float64Array(len);
+  let out = 0;
+  let curMean = means[0];
+  let curCount = counts[0];
   let before = 0;
-  for (let j = 1; j < len; j++) {
-    const i = order[j];
+  const scale = 4 * total * delta;
+  for (let i = 1; i < len; i++) {
     const merged = curCount + counts[i];
     const q = (before + merged / 2) / total;
-    const bound = Math.max(1, Math.floor(4 * total * delta * q * (1 - q)));
+    const bound = Math.max(1, Math.floor(scale * q * (1 - q)));
     if (merged <= bound) {
       curMean += ((means[i] - curMean) * counts[i]) / merged;
       curCount = merged;
     } else {
-      outMeans.push(curMean);
-      outCounts.push(curCount);
+      outMeans[out] = curMean;
+      outCounts[out++] = curCount;
       before += curCount;
       curMean = means[i];
       curCount = counts[i];
     }
   }
-  outMeans.push(curMean);
-  outCounts.push(curCount);
-  return { means: Float64Array.from(outMeans), counts: Float64Array.from(outCounts) };
+  outMeans[out] = curMean;
+  outCounts[out++] = curCount;
+  return { means: outMeans.slice(0, out), counts: outCounts.slice(0, out) };
 }
 
 /** A frozen digest answering quantile and rank queries; built once per bucket roll. */
@@ -163,93 +161,68 @@ export class FrozenDigest {
   }
 }
 
-/** Exact internal picture of an open digest, enough to resume it bit for bit. */
+/** Exact picture of an open digest, enough to resume it bit for bit. */
 export interface OpenDigestSnapshot {
-  n: number;
-  lastCumulate: number;
-  mean: Float64Array;
-  count: Float64Array;
-  cumn: Float64Array;
-  meanCumn: Float64Array;
+  means: Float64Array;
+  counts: Float64Array;
+  /** Readings not yet merged, in arrival order. */
+  buffer: Float64Array;
 }
 
 /**
- * The filling bucket's digest. Wraps a `tdigest` TDigest with automatic compression off and a
- * size cap enforced by our deterministic compression.
+ * The filling bucket's digest: a buffer of up to `bufferSize` raw readings merged into sorted
+ * centroids whenever it fills. The state is only ever changed by `push` and by reading the
+ * centroids at bucket close, never by encoding it, so a checkpointed run and an uninterrupted
+ * run stay identical.
  */
 export class OpenDigest {
-  private d: RawDigest;
+  private c: Centroids = EMPTY_CENTROIDS;
+  private readonly buf: Float64Array;
+  private bufLen = 0;
+
   constructor(
     readonly delta: number,
-    readonly cap: number,
+    readonly bufferSize: number,
   ) {
-    this.d = new TDigest(delta, 0) as unknown as RawDigest;
+    this.buf = new Float64Array(bufferSize);
   }
 
   push(x: number): void {
-    this.d.push(x);
-    if (this.d.centroids.size > this.cap) this.recompress();
+    this.buf[this.bufLen++] = x;
+    if (this.bufLen === this.buf.length) this.flush();
   }
 
+  /** Centroids plus buffered readings. */
   get size(): number {
-    return this.d.centroids.size;
+    return this.c.means.length + this.bufLen;
   }
 
+  /** All readings so far as one sorted, compressed centroid list (merges the buffer first). */
   centroids(): Centroids {
-    const size = this.d.centroids.size;
-    const means = new Float64Array(size);
-    const counts = new Float64Array(size);
-    let i = 0;
-    this.d.centroids.each((c) => {
-      means[i] = c.mean;
-      counts[i] = c.n;
-      i++;
-    });
-    return { means, counts };
+    this.flush();
+    return this.c;
   }
 
-  private recompress(): void {
-    const c = compressCentroids([this.centroids()], this.delta);
-    this.d.reset();
-    for (let i = 0; i < c.means.length; i++) this.d.centroids.insert(newRaw(c.means[i], c.counts[i]));
-    this.d.n = totalCount(c);
-    this.d._cumulate(true);
+  private flush(): void {
+    if (this.bufLen === 0) return;
+    const vals = this.buf.slice(0, this.bufLen).sort();
+    this.bufLen = 0;
+    this.c = compressCentroids(
+      [this.c, { means: vals, counts: new Float64Array(vals.length).fill(1) }],
+      this.delta,
+    );
   }
 
   snapshot(): OpenDigestSnapshot {
-    const size = this.d.centroids.size;
-    const s: OpenDigestSnapshot = {
-      n: this.d.n,
-      lastCumulate: this.d.last_cumulate,
-      mean: new Float64Array(size),
-      count: new Float64Array(size),
-      cumn: new Float64Array(size),
-      meanCumn: new Float64Array(size),
-    };
-    let i = 0;
-    this.d.centroids.each((c) => {
-      s.mean[i] = c.mean;
-      s.count[i] = c.n;
-      s.cumn[i] = c.cumn;
-      // A centroid created since the last cumulation has no mid-point yet; the package treats
-      // `undefined` and NaN alike (both poison arithmetic the same way), so NaN stands for it.
-      s.meanCumn[i] = c.mean_cumn === undefined ? NaN : c.mean_cumn;
-      i++;
-    });
-    return s;
+    return { means: this.c.means, counts: this.c.counts, buffer: this.buf.slice(0, this.bufLen) };
   }
 
-  static restore(s: OpenDigestSnapshot, delta: number, cap: number): OpenDigest {
-    const o = new OpenDigest(delta, cap);
-    for (let i = 0; i < s.mean.length; i++) {
-      o.d.centroids.insert({ mean: s.mean[i], n: s.count[i], cumn: s.cumn[i], mean_cumn: s.meanCumn[i] });
-    }
-    o.d.n = s.n;
-    o.d.last_cumulate = s.lastCumulate;
+  static restore(s: OpenDigestSnapshot, delta: number, bufferSize: number): OpenDigest {
+    if (s.buffer.length >= bufferSize) throw new RangeError('open digest buffer larger than its capacity');
+    const o = new OpenDigest(delta, bufferSize);
+    o.c = { means: s.means, counts: s.counts };
+    o.buf.set(s.buffer);
+    o.bufLen = s.buffer.length;
     return o;
   }
-}
-
-function newRaw(mean: number, n: number): RawCentroid {
-  return { mean, n, cumn: 0, mean_cumn: 0 };
 }
