@@ -92,10 +92,11 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
     excludeFromRecall: EXCLUDED_FROM_RECALL,
   };
 
-  const gridProgress = new Progress({ unit: 'points', total: points.length, stream });
+  // Live line: readings replayed over all points so far, their rate, and the ETA from points done.
+  const gridProgress = new Progress({ unit: 'readings', total: points.length, stream });
   const scores = await runGrid(cols, base, points, incidents, scoreOptions, {
     workers,
-    onPoint: (done) => gridProgress.update(done, done),
+    onPoint: (done) => gridProgress.update(done * cols.count, done),
   });
 
   const results: PointResult[] = scores.map((s, index) => ({
