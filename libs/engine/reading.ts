@@ -78,7 +78,12 @@ export function parseTimestamp(raw: unknown): { ok: true; ts: number } | { ok: f
         return { ok: false, reason: 'ts_invalid', detail: `timestamp "${clip(s)}" is not ISO-8601 with a zone (e.g. 2026-05-01T08:00:00Z) nor epoch milliseconds` };
       }
       ts = Date.parse(s.replace(' ', 'T'));
-      if (Number.isNaN(ts)) return { ok: false, reason: 'ts_invalid', detail: `timestamp "${clip(s)}" is not a real date` };
+      // Date.parse rolls 2026-02-30 over to 2026-03-02 instead of refusing it: check the day too.
+      const ymd = /^(\d{4})-(\d{2})-(\d{2})/.exec(s)!;
+      const daysInMonth = new Date(Date.UTC(Number(ymd[1]), Number(ymd[2]), 0)).getUTCDate();
+      if (Number.isNaN(ts) || Number(ymd[3]) > daysInMonth) {
+        return { ok: false, reason: 'ts_invalid', detail: `timestamp "${clip(s)}" is not a real date` };
+      }
     }
   } else if (raw === undefined || raw === null) {
     return { ok: false, reason: 'ts_missing', detail: 'field "ts" is missing' };
