@@ -4,6 +4,7 @@
  * whether in a replay, a live run or after a restore from encoded state.
  */
 import { SettingsResolver, type EngineConfig } from '../config/config.js';
+import { formatDuration } from '../config/duration.js';
 import type { SensorSettings } from '../config/settings.js';
 import type { AlertEvent, AlertState } from '../schema/alert-event.js';
 import { NOTICE } from '../schema/notice.js';
@@ -68,7 +69,7 @@ export class Engine {
       return {
         accepted: false,
         reason: 'late',
-        detail: `reading at ${iso(r.ts)} is older than the ${s.window / 3_600_000} h window before the sensor's newest reading ${iso(w.newestTs)}`,
+        detail: `reading at ${iso(r.ts)} is older than the ${formatDuration(s.window)} window before the sensor's newest reading ${iso(w.newestTs)}`,
         events: NO_EVENTS,
       };
     }
