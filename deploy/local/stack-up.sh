@@ -7,6 +7,9 @@ source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
 
 started_at=$(date +%s.%N)
 mkdir -p "$STACK_DIR/logs" "$KAFKA_DIR/logs" "$REDIS_DIR"
+# One stack-up at a time per stack dir: parallel test runs would otherwise race to start two brokers.
+exec 8>"$STACK_DIR/.up.lock"
+flock 8
 
 need() {
   command -v "$1" >/dev/null 2>&1 || die "'$1' not found on PATH: $2"
