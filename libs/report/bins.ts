@@ -210,43 +210,48 @@ export class AdaptiveBins {
     for (const s of this.sums) s.fill(0, from, to);
   }
 
-  /** Double the width: slot a merges into slot floor(a / 2). Keeps base and lo/hi consistent. */
+  /**
+   * Double the width: slot a merges into slot floor(a / 2), in place (no allocation: this runs a
+   * few times per series and per doubling of the span). Writing goes to position
+   * floor(a/2) - floor(lo/2) <= a - base, which has always been read already when walking upwards,
+   * and positions outside [lo, hi] are kept empty, so nothing is overwritten before it is read.
+   */
   private coarsen(): void {
     const oldBase = this.base;
     const oldLo = this.lo;
     const oldHi = this.hi;
-    const count = this.count;
-    const min = this.min;
-    const max = this.max;
-    const lastVal = this.lastVal;
-    const lastTs = this.lastTs;
-    const sums = this.sums;
-    this.count = new Float64Array(this.slots);
-    this.min = new Float64Array(this.slots);
-    this.max = new Float64Array(this.slots);
-    this.lastVal = this.lastNames.map(() => new Float64Array(this.slots));
-    this.lastTs = this.lastNames.map(() => new Float64Array(this.slots));
-    this.sums = this.sumNames.map(() => new Float64Array(this.slots));
-    this.clear(0, this.slots);
     this.widthMs *= 2;
     this.lo = Math.floor(oldLo / 2);
     this.hi = Math.floor(oldHi / 2);
     this.base = this.lo;
+    const nLast = this.lastVal.length;
+    const nSum = this.sums.length;
     for (let a = oldLo; a <= oldHi; a++) {
       const from = a - oldBase;
       const to = Math.floor(a / 2) - this.base;
-      this.mergeInto(to, count[from], min[from], max[from]);
-      for (let c = 0; c < lastVal.length; c++) {
-        const v = lastVal[c][from];
-        if (
-          !Number.isNaN(v) &&
-          (Number.isNaN(this.lastVal[c][to]) || lastTs[c][from] >= this.lastTs[c][to])
-        ) {
-          this.lastVal[c][to] = v;
-          this.lastTs[c][to] = lastTs[c][from];
+      const n = this.count[from];
+      const mn = this.min[from];
+      const mx = this.max[from];
+      this.count[from] = 0;
+      this.mergeInto(to, n, mn, mx);
+      for (let c = 0; c < nLast; c++) {
+        const vals = this.lastVal[c];
+        const tss = this.lastTs[c];
+        const v = vals[from];
+        const t = tss[from];
+        vals[from] = NaN;
+        tss[from] = -Infinity;
+        if (!Number.isNaN(v) && (Number.isNaN(vals[to]) || t >= tss[to])) {
+          vals[to] = v;
+          tss[to] = t;
         }
       }
-      for (let c = 0; c < sums.length; c++) this.sums[c][to] += sums[c][from];
+      for (let c = 0; c < nSum; c++) {
+        const sums = this.sums[c];
+        const v = sums[from];
+        sums[from] = 0;
+        sums[to] += v;
+      }
     }
   }
 
