@@ -35,6 +35,16 @@ export class RateMeter {
     let i = t.length;
     while (i > 0 && t[i - 1] > ts) i--;
     t.splice(i, 0, ts);
+    // Bounded even when nobody reads the meter: nothing older than an hour before the newest raise.
+    const newest = t[t.length - 1];
+    let drop = 0;
+    while (drop < t.length && t[drop] <= newest - HOUR) drop++;
+    if (drop > 0) t.splice(0, drop);
+  }
+
+  /** Raise times held (for tests of the bound). */
+  get held(): number {
+    return this.times.length;
   }
 
   read(now: number): RateReading {

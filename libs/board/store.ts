@@ -62,23 +62,24 @@ export class AlertBoard {
     this.clearedKeep = opts.clearedKeep ?? 20;
   }
 
-  /** Apply one alert event; returns the alert as it now stands (null for a clear of an unknown id). */
+  /** Apply one alert event; returns the alert as it now stands, or null for a replayed duplicate it ignored. */
   applyEvent(ev: AlertEvent, now: number): BoardAlert | null {
     const at = new Date(now).toISOString();
     const prev = this.open.get(ev.id);
     if (ev.state === 'cleared') {
       const base = prev ?? this.cleared.find((a) => a.id === ev.id);
       if (prev === undefined && base !== undefined) return base; // duplicate clear (replayed topic)
-      const done: BoardAlert = {
-        ...(base ?? blank(at)),
-        ...ev,
-        // A clear carries no reasons; keep the last known ones so the history says why it was raised.
-        reasons: base?.reasons ?? ev.reasons,
-        severity: base?.severity ?? ev.severity,
-        status: 'cleared',
-        shelvedUntil: null,
-        changedAt: at,
+      const was = base ?? {
+        ...blank(at),
+        status: 'cleared' as const,
+        reasons: ev.reasons,
+        severity: ev.severity,
       };
+      // A clear carries no reasons; keep the last known ones so the history says why it was raised.
+      const done = compose(
+        { ...ev, reasons: was.reasons, severity: was.severity },
+        { ...fieldsOf(was), status: 'cleared', shelvedUntil: null, changedAt: at },
+      );
       this.open.delete(ev.id);
       this.cleared.unshift(done);
       if (this.cleared.length > this.clearedKeep) this.cleared.length = this.clearedKeep;
@@ -86,13 +87,13 @@ export class AlertBoard {
     }
     if (prev === undefined) {
       if (this.cleared.some((a) => a.id === ev.id)) return null; // late duplicate of a cleared alert
-      const a: BoardAlert = { ...blank(at), ...ev, status: 'active' };
+      const a = compose(ev, { ...blank(at), status: 'active' });
       this.open.set(ev.id, a);
       return a;
     }
     // Escalation undoes an acknowledgement: the operator saw a milder alert than the one now standing.
     const escalated = SEVERITY_RANK[ev.severity] > SEVERITY_RANK[prev.severity];
-    const next: BoardAlert = { ...prev, ...ev, status: prev.status, changedAt: at };
+    const next = compose(ev, { ...fieldsOf(prev), changedAt: at });
     if (escalated) {
       next.acknowledged = false;
       next.acknowledgedBy = null;
@@ -123,7 +124,12 @@ export class AlertBoard {
     let next: BoardAlert;
     switch (act.kind) {
       case 'acknowledge':
-        next = { ...a, acknowledged: true, acknowledgedBy: act.by, acknowledgedAt: act.at, changedAt: at };
+        next = change(a, {
+          acknowledged: true,
+          acknowledgedBy: act.by,
+          acknowledgedAt: act.at,
+          changedAt: at,
+        });
         break;
       case 'shelve': {
         if (act.until === undefined || act.reason === undefined) {
@@ -133,21 +139,20 @@ export class AlertBoard {
           // A replayed shelf that has already run out changes nothing.
           return { ok: true, alert: a };
         }
-        next = {
-          ...a,
+        next = change(a, {
           status: 'shelved',
           shelvedUntil: act.until,
           shelveReason: act.reason,
           shelvedBy: act.by,
           changedAt: at,
-        };
+        });
         break;
       }
       case 'unshelve':
         if (a.status !== 'shelved') {
           return { ok: false, error: 'conflict', message: `alert ${act.id} is not shelved` };
         }
-        next = { ...a, status: 'active', shelvedUntil: null, changedAt: at };
+        next = change(a, { status: 'active', shelvedUntil: null, changedAt: at });
         break;
     }
     this.open.set(act.id, next);
@@ -160,7 +165,7 @@ export class AlertBoard {
     const at = new Date(now).toISOString();
     for (const a of this.open.values()) {
       if (a.status === 'shelved' && a.shelvedUntil !== null && Date.parse(a.shelvedUntil) <= now) {
-        const next: BoardAlert = { ...a, status: 'active', shelvedUntil: null, changedAt: at };
+        const next = change(a, { status: 'active', shelvedUntil: null, changedAt: at });
         this.open.set(a.id, next);
         back.push(next);
       }
@@ -198,6 +203,67 @@ export class AlertBoard {
   get openCount(): number {
     return this.open.size;
   }
+}
+
+type BoardFields = Omit<BoardAlert, keyof AlertEvent>;
+
+/**
+ * Build a board alert with every field in one fixed order. Object spreads of these wide objects
+ * were the board's main cost (V8 falls back to slow property stores); one literal shape keeps it fast.
+ */
+function compose(ev: AlertEvent, f: BoardFields): BoardAlert {
+  return {
+    id: ev.id,
+    sensor: ev.sensor,
+    state: ev.state,
+    severity: ev.severity,
+    reasons: ev.reasons,
+    value: ev.value,
+    ts: ev.ts,
+    since: ev.since,
+    flaggedReadings: ev.flaggedReadings,
+    baseline: ev.baseline,
+    z: ev.z,
+    robustZ: ev.robustZ,
+    percentileRank: ev.percentileRank,
+    message: ev.message,
+    notice: ev.notice,
+    status: f.status,
+    acknowledged: f.acknowledged,
+    acknowledgedBy: f.acknowledgedBy,
+    acknowledgedAt: f.acknowledgedAt,
+    shelvedUntil: f.shelvedUntil,
+    shelveReason: f.shelveReason,
+    shelvedBy: f.shelvedBy,
+    changedAt: f.changedAt,
+  };
+}
+
+function fieldsOf(a: BoardFields): BoardFields {
+  return {
+    status: a.status,
+    acknowledged: a.acknowledged,
+    acknowledgedBy: a.acknowledgedBy,
+    acknowledgedAt: a.acknowledgedAt,
+    shelvedUntil: a.shelvedUntil,
+    shelveReason: a.shelveReason,
+    shelvedBy: a.shelvedBy,
+    changedAt: a.changedAt,
+  };
+}
+
+/** A copy of `a` with some board fields changed. */
+function change(a: BoardAlert, f: Partial<BoardFields>): BoardAlert {
+  return compose(a, {
+    status: f.status ?? a.status,
+    acknowledged: f.acknowledged ?? a.acknowledged,
+    acknowledgedBy: f.acknowledgedBy !== undefined ? f.acknowledgedBy : a.acknowledgedBy,
+    acknowledgedAt: f.acknowledgedAt !== undefined ? f.acknowledgedAt : a.acknowledgedAt,
+    shelvedUntil: f.shelvedUntil !== undefined ? f.shelvedUntil : a.shelvedUntil,
+    shelveReason: f.shelveReason !== undefined ? f.shelveReason : a.shelveReason,
+    shelvedBy: f.shelvedBy !== undefined ? f.shelvedBy : a.shelvedBy,
+    changedAt: f.changedAt ?? a.changedAt,
+  });
 }
 
 function blank(at: string): Omit<BoardAlert, keyof AlertEvent | 'status'> {

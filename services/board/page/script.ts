@@ -127,7 +127,8 @@ export const BOARD_JS = String.raw`
     facts.appendChild(el('span', {}, ['Last value ', el('b', { text: fmt(a.value) }), ' at ' + absTime(a.ts)]));
     if (a.status === 'cleared') facts.appendChild(el('span', {}, ['Cleared ', el('b', { text: absTime(a.ts) })]));
     li.appendChild(facts);
-    var pts = (state.data.series && state.data.series[a.sensor]) || [];
+    var raw = (state.data.series && state.data.series[a.sensor]) || [];
+    var pts = raw.map(function (q) { return { ts: q[0], value: q[1], flagged: q[2] === 1 }; });
     if (a.status !== 'cleared') {
       li.appendChild(chart(a, pts));
       var bl = a.baseline || {};
@@ -197,7 +198,8 @@ export const BOARD_JS = String.raw`
   }
   function soon() {
     if (state.timer) return;
-    state.timer = setTimeout(function () { state.timer = null; load(); }, 250);
+    // At most one refresh a second however many events arrive (an alert flood stays cheap).
+    state.timer = setTimeout(function () { state.timer = null; load(); }, 1000);
   }
   function say(text, bad) {
     var m = $('message'); m.textContent = text; m.className = 'message' + (bad ? ' bad' : '');

@@ -36,6 +36,15 @@ describe('RateMeter', () => {
   });
 });
 
+describe('RateMeter memory', () => {
+  it('holds at most the last hour of raises even if never read', () => {
+    const m = new RateMeter();
+    for (let i = 0; i < 10_000; i++) m.record(T0 + i * MIN);
+    expect(m.held).toBe(60);
+    expect(m.read(T0 + 9_999 * MIN)).toMatchObject({ lastHour: 60, last10Min: 10 });
+  });
+});
+
 describe('RecentSeries', () => {
   it('keeps the last N points per sensor in order and a bounded number of sensors', () => {
     const s = new RecentSeries(3, 2);
