@@ -113,8 +113,9 @@ describe('state encode/restore round-trips exactly (property)', () => {
     expect(restoredWithBaseline).toBeGreaterThan(100);
   });
 
-  it('a long stream with many bucket rolls and open-bucket recompressions resumes exactly', () => {
-    // 3,000 readings in one 1 s bucket pass the open cap (200 centroids) many times.
+  it('a long stream with many bucket rolls and open-bucket buffer merges resumes exactly', () => {
+    // 3,000 readings in each 1 s bucket: the open bucket merges its buffer (SKETCH.openCap) many
+    // times per bucket, so the cut often falls with a part-filled buffer.
     const stream: Reading[] = [];
     let x = 12345;
     for (let i = 0; i < 20_000; i++) {

@@ -167,7 +167,7 @@ describe('worst baseline quartile rank error vs exact closed-bucket sample (defa
     });
   }
 
-  it('high rate (20,000 readings per bucket) exercises open-bucket recompression: normal still < 0.01', () => {
+  it('high rate (20,000 readings per bucket) exercises many open-bucket merges: normal still < 0.01', () => {
     const m = measure((r) => r.normal(), { seed: 99, perHour: 10_000 });
     console.log(
       `[digest accuracy] normal, 10,000/h: n=${m.count} centroids=${m.centroids} ${JSON.stringify(m.err)}`,
