@@ -11,6 +11,7 @@
 import type { Engine, ProcessOutcome } from '../../libs/engine/engine.js';
 import type { Reading } from '../../libs/engine/reading.js';
 import type { Baseline } from '../../libs/engine/window.js';
+import { FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../../libs/scoring/score.js';
 import { AuditSample, auditRow, BucketMirror, type AuditRow } from '../../libs/report/audit.js';
 import { AdaptiveBins } from '../../libs/report/bins.js';
 import {
@@ -55,8 +56,8 @@ export const REPORT_DEFAULTS = {
   maxMarkersPerSensor: 400,
 } as const;
 
-/** Flood: 10 alerts raised within 10 minutes (a common-practice alarm-management figure). */
-export const FLOOD = { count: 10, windowMs: 600_000 } as const;
+/** Flood: more than FLOOD_LIMIT alerts raised within 10 minutes (the tuning's convention, common practice). */
+export const FLOOD = { limit: FLOOD_LIMIT, windowMs: FLOOD_WINDOW_MS } as const;
 
 /** The audit result for summary.json: rows compared, plus sensors that could not be compared and why. */
 export interface AuditResult {
@@ -341,10 +342,10 @@ function renderReplayReport(summary: ReplaySummary, c: Collected): string {
           : '');
 
   const hours = c.span.from < c.span.to ? (c.span.to - c.span.from) / 3_600_000 : 0;
-  const floodPerHour = (FLOOD.count * 3_600_000) / FLOOD.windowMs;
+  const floodPerHour = (FLOOD.limit * 3_600_000) / FLOOD.windowMs;
   const rateSection = [
     `<p>${esc(summary.alerts.raised)} alerts raised over ${esc(fmtNum(hours))} h of event time (${esc(fmtNum(hours > 0 ? summary.alerts.raised / hours : 0))}/h on average); budget ${esc(fmtNum(o.budgetPerHour))}/h. ` +
-      `Worst 10 minutes: ${esc(c.worst10.count)} raised${Number.isFinite(c.worst10.endTs) ? ` (ending ${esc(new Date(c.worst10.endTs).toISOString())})` : ''}; a flood is ${FLOOD.count} or more within 10 minutes (common practice).</p>`,
+      `Worst 10 minutes: ${esc(c.worst10.count)} raised${Number.isFinite(c.worst10.endTs) ? ` (ending ${esc(new Date(c.worst10.endTs).toISOString())})` : ''}; a flood is more than ${FLOOD.limit} within ${FLOOD.windowMs / 60_000} minutes (common practice).</p>`,
     rateChart({
       bins: c.rate.bins(),
       widthMs: c.rate.widthMs,
