@@ -124,7 +124,7 @@ export const BOARD_JS = String.raw`
     facts.appendChild(el('span', {}, ['Since ', el('b', { text: absTime(a.since) }), ' (' + relTime(plantNow() - since) + ')']));
     var live = state.data.flaggedNow && state.data.flaggedNow[a.id];
     facts.appendChild(el('span', {}, ['Flagged readings ', el('b', { text: String(Math.max(a.flaggedReadings, live || 0)) })]));
-    facts.appendChild(el('span', {}, ['Last value ', el('b', { text: fmt(a.value) }), ' at ' + absTime(a.ts)]));
+    facts.appendChild(el('span', {}, ['Value at last alert event ', el('b', { text: fmt(a.value) }), ' at ' + absTime(a.ts)]));
     if (a.status === 'cleared') facts.appendChild(el('span', {}, ['Cleared ', el('b', { text: absTime(a.ts) })]));
     li.appendChild(facts);
     var raw = (state.data.series && state.data.series[a.sensor]) || [];
