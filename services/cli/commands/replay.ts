@@ -1,29 +1,58 @@
 /**
- * `streamfence replay INPUT [--config FILE] [--out DIR] [--format ndjson|csv]`: judge a file of
- * readings with the engine, exactly as the live monitor would in that order, and write the alert
- * events, the rejected lines and a summary into DIR.
+ * `streamfence replay INPUT [--config FILE] [--out DIR] [--format ndjson|csv] [--report] [--audit]`:
+ * judge a file of readings (or a Kafka time range) with the engine, exactly as the live monitor
+ * would in that order, and write the alert events, the rejected lines, a summary and optionally an
+ * HTML report into DIR.
  */
 import { readFile, stat } from 'node:fs/promises';
 import { defaultConfig, parseConfigText, type EngineConfig } from '../../../libs/config/config.js';
 import { StreamfenceError } from '../../../libs/errors/index.js';
-import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
+import {
+  parseCommandArgs,
+  printBanner,
+  printHelp,
+  stringOption,
+  usageError,
+  type ParsedArgs,
+} from '../args.js';
+import { ENV } from '../../config/env.js';
 import { Progress, formatCount, formatSeconds } from '../../progress.js';
 import { detectFormat, isGzipPath, newInputStats, readInput, unreadable } from '../../replay/input.js';
-import { REPLAY_FILES, runReplay } from '../../replay/replay.js';
+import { REPLAY_FILES, runReplay, type ReplayObserver } from '../../replay/replay.js';
+import type { InputRecord } from '../../replay/input.js';
+import { createReportObserver } from '../../report/replay-report.js';
+import { writeReport, REPORT_FILE } from '../../report/write.js';
+import { isKafkaUrl, parseKafkaUrl, KAFKA_URL_EXAMPLE, type KafkaRange } from '../../replay-kafka/url.js';
+import { kafkaRangeSource, newKafkaRangeStats } from '../../replay-kafka/source.js';
+import { parseTimestamp } from '../../../libs/engine/reading.js';
 
 const CMD = 'replay';
 
-export const HELP = `Usage: streamfence replay INPUT [--config FILE] [--out DIR] [--format ndjson|csv]
+export const HELP = `Usage: streamfence replay INPUT [--config FILE] [--out DIR] [--format ndjson|csv] [--report] [--audit]
+       streamfence replay kafka://TOPIC --brokers HOST:PORT[,...] --from TIME --to TIME [...]
 
-Judge a file of readings with the detection engine, in file order, and write the results.
+Judge a file of readings (or a Kafka time range) with the detection engine, in order, and write the results.
 
 INPUT           readings file: NDJSON (one {"sensor","ts","value"} per line; .ndjson, .jsonl, .json)
-                or CSV with a header naming sensor, ts and value (.csv); a trailing .gz is read compressed
+                or CSV with a header naming sensor, ts and value (.csv); a trailing .gz is read compressed;
+                or kafka://TOPIC with --brokers, --from, --to (also ${KAFKA_URL_EXAMPLE})
   --config FILE   engine settings (YAML or JSON); default: built-in defaults
   --out DIR       output directory, created if needed (default ./streamfence-out); writes
                   ${REPLAY_FILES.alerts}, ${REPLAY_FILES.rejected} and ${REPLAY_FILES.summary}
   --format F      ndjson or csv, when the extension does not say
+  --report        also write ${REPORT_FILE}: counts, alert rate against the budget, charts of the top sensors
+  --report-top N  sensors charted in the report (default 8)
+  --budget N      alert budget in raised alerts per hour for the report (default 6)
+  --audit         compare digest quartiles with exact ones for a sample of sensors (implies --report;
+                  the numbers also go to ${REPLAY_FILES.summary} under "audit")
+  --brokers LIST  Kafka brokers for a kafka:// input (default STREAMFENCE_BROKERS)
+  --from TIME     start of the Kafka range, inclusive (ISO-8601 with a zone, or epoch ms)
+  --to TIME       end of the Kafka range, exclusive
   -h, --help      this help
+
+A Kafka range is read by message timestamp from every partition without committing any offset (a
+throwaway consumer group is created and deleted), so it is safe against production topics. Readings
+are replayed ordered by reading time, ties by partition then offset.
 
 Blank lines are skipped; every other line that is not an accepted reading is listed in
 ${REPLAY_FILES.rejected} with its line number and reason. Exit code 0 once the input was read (even
@@ -51,6 +80,13 @@ export async function main(argv: string[]): Promise<number> {
     config: { type: 'string' },
     out: { type: 'string' },
     format: { type: 'string' },
+    report: { type: 'boolean' },
+    'report-top': { type: 'string' },
+    budget: { type: 'string' },
+    audit: { type: 'boolean' },
+    brokers: { type: 'string' },
+    from: { type: 'string' },
+    to: { type: 'string' },
   });
   if (args.help) return printHelp(HELP);
   if (args.positionals.length === 0)
@@ -59,9 +95,61 @@ export async function main(argv: string[]): Promise<number> {
     usageError(`give one input file, got ${args.positionals.length}: ${args.positionals.join(' ')}`, CMD);
   const input = args.positionals[0];
   const outDir = stringOption(args, 'out', CMD) ?? './streamfence-out';
-  const format = detectFormat(input, stringOption(args, 'format', CMD));
   const config = await loadConfig(stringOption(args, 'config', CMD));
+  const wantAudit = args.values.audit === true;
+  const wantReport = wantAudit || args.values.report === true;
+  const topN = positiveNumber(stringOption(args, 'report-top', CMD), 'report-top', 8, true);
+  const budget = positiveNumber(stringOption(args, 'budget', CMD), 'budget', 6, false);
 
+  const opened = isKafkaUrl(input) ? openKafka(kafkaRange(input, args)) : await openFile(input, args);
+  const report = wantReport ? createReportObserver({ topN, audit: wantAudit, budgetPerHour: budget }) : null;
+  // The report observer collects bounded chart data during the replay; its audit numbers go to summary.json.
+  const observers: ReplayObserver[] =
+    report === null
+      ? []
+      : [
+          report,
+          {
+            summaryFields: () => {
+              const audit = report.auditResult();
+              return audit === null ? {} : { audit };
+            },
+          },
+        ];
+
+  printBanner(CMD);
+  const summary = await runReplay({
+    source: opened.source,
+    config,
+    outDir,
+    inputInfo: opened.info,
+    observers,
+    progress: opened.update,
+  });
+  if (report !== null) await writeReport(outDir, report.render(summary));
+  const progress = opened.progress;
+  const secs = progress.elapsedSeconds;
+  const a = summary.alerts;
+  progress.finish(
+    `streamfence replay: ${opened.count()} ${opened.unit}, ${summary.readings} readings from ${summary.sensors} sensors, ` +
+      `${summary.rejected.total} rejected, alerts ${a.raised} raised / ${a.updated} updated / ${a.cleared} cleared ` +
+      `-> ${outDir} (${formatSeconds(secs)}, ${formatCount(opened.count() / Math.max(secs, 1e-9))} ${opened.unit}/s)`,
+  );
+  return 0;
+}
+
+/** An input ready to replay: its records, what summary.json says about it, and its progress line. */
+interface OpenedInput {
+  source: AsyncIterable<InputRecord[]>;
+  info: () => Record<string, unknown>;
+  progress: Progress;
+  update: () => void;
+  count: () => number;
+  unit: string;
+}
+
+async function openFile(input: string, args: ParsedArgs): Promise<OpenedInput> {
+  const format = detectFormat(input, stringOption(args, 'format', CMD));
   let size: number;
   try {
     const st = await stat(input);
@@ -70,23 +158,65 @@ export async function main(argv: string[]): Promise<number> {
   } catch (err) {
     throw unreadable(input, err);
   }
-
-  printBanner(CMD);
   const stats = newInputStats();
   const progress = new Progress({ unit: 'lines', total: isGzipPath(input) ? undefined : size });
-  const summary = await runReplay({
+  return {
     source: readInput(input, format, stats),
-    config,
-    outDir,
-    inputInfo: () => ({ path: input, format, lines: stats.lines, blank: stats.blank }),
-    progress: () => progress.update(stats.lines, stats.bytes),
-  });
-  const secs = progress.elapsedSeconds;
-  const a = summary.alerts;
-  progress.finish(
-    `streamfence replay: ${stats.lines} lines, ${summary.readings} readings from ${summary.sensors} sensors, ` +
-      `${summary.rejected.total} rejected, alerts ${a.raised} raised / ${a.updated} updated / ${a.cleared} cleared ` +
-      `-> ${outDir} (${formatSeconds(secs)}, ${formatCount(stats.lines / Math.max(secs, 1e-9))} lines/s)`,
-  );
-  return 0;
+    info: () => ({ path: input, format, lines: stats.lines, blank: stats.blank }),
+    progress,
+    update: () => progress.update(stats.lines, stats.bytes),
+    count: () => stats.lines,
+    unit: 'lines',
+  };
+}
+
+function openKafka(range: KafkaRange): OpenedInput {
+  const ks = newKafkaRangeStats();
+  const progress = new Progress({ unit: 'messages' });
+  return {
+    source: kafkaRangeSource({ ...range, stats: ks }),
+    info: () => ({
+      kafka: {
+        topic: range.topic,
+        from: new Date(range.from).toISOString(),
+        to: new Date(range.to).toISOString(),
+        messages: ks.messages,
+        outsideRange: ks.outsideRange,
+        partitions: ks.partitions,
+      },
+    }),
+    progress,
+    update: () => progress.update(ks.messages),
+    count: () => ks.messages,
+    unit: 'messages',
+  };
+}
+
+function positiveNumber(raw: string | undefined, name: string, dflt: number, whole: boolean): number {
+  if (raw === undefined) return dflt;
+  const n = Number(raw);
+  if (!Number.isFinite(n) || n <= 0 || (whole && !Number.isInteger(n))) {
+    usageError(`--${name} must be a positive ${whole ? 'whole ' : ''}number, got "${raw}"`, CMD);
+  }
+  return n;
+}
+
+/** `kafka://TOPIC` with --brokers/--from/--to, or the full `kafka://BROKERS/TOPIC?from=&to=` form. */
+function kafkaRange(input: string, args: ParsedArgs): KafkaRange {
+  const rest = input.slice('kafka://'.length);
+  if (rest.includes('/')) return parseKafkaUrl(input);
+  const brokers = stringOption(args, 'brokers', CMD) ?? process.env[ENV.brokers] ?? '';
+  const from = stringOption(args, 'from', CMD);
+  const to = stringOption(args, 'to', CMD);
+  if (brokers.trim() === '')
+    usageError('a kafka:// input needs --brokers HOST:PORT (or STREAMFENCE_BROKERS)', CMD);
+  if (from === undefined || to === undefined)
+    usageError('a kafka:// input needs --from TIME and --to TIME', CMD);
+  const time = (name: string, v: string): number => {
+    const t = parseTimestamp(v);
+    if (!t.ok) usageError(`--${name} ${v}: ${t.detail}`, CMD);
+    return t.ts;
+  };
+  const q = new URLSearchParams({ from: String(time('from', from)), to: String(time('to', to)) });
+  return parseKafkaUrl(`kafka://${brokers}/${rest}?${q.toString()}`);
 }
