@@ -29,19 +29,28 @@ export function parseConfigText(text: string, source = 'config'): EngineConfig {
   try {
     raw = YAML.parse(text);
   } catch (e) {
-    throw new StreamfenceError('CONFIG_INVALID', `${source}: not valid YAML or JSON (${(e as Error).message.split('\n')[0]})`);
+    throw new StreamfenceError(
+      'CONFIG_INVALID',
+      `${source}: not valid YAML or JSON (${(e as Error).message.split('\n')[0]})`,
+    );
   }
   return validateConfig(raw ?? {}, source);
 }
 
 export function validateConfig(raw: unknown, source = 'config'): EngineConfig {
   if (typeof raw !== 'object' || raw === null || Array.isArray(raw)) {
-    throw new StreamfenceError('CONFIG_INVALID', `${source}: the top level must be an object with "defaults" and/or "sensors"`);
+    throw new StreamfenceError(
+      'CONFIG_INVALID',
+      `${source}: the top level must be an object with "defaults" and/or "sensors"`,
+    );
   }
   const top = raw as Record<string, unknown>;
   for (const k of Object.keys(top)) {
     if (k !== 'defaults' && k !== 'sensors') {
-      throw new StreamfenceError('CONFIG_UNKNOWN_KEY', `${source}: unknown top-level key "${k}"; allowed: defaults, sensors`);
+      throw new StreamfenceError(
+        'CONFIG_UNKNOWN_KEY',
+        `${source}: unknown top-level key "${k}"; allowed: defaults, sensors`,
+      );
     }
   }
   const defaultsPart = parseSettings(top.defaults ?? {}, `${source}: defaults`, false);
@@ -51,7 +60,10 @@ export function validateConfig(raw: unknown, source = 'config'): EngineConfig {
   const sensors: SensorRule[] = [];
   if (top.sensors !== undefined) {
     if (!Array.isArray(top.sensors)) {
-      throw new StreamfenceError('CONFIG_INVALID', `${source}: "sensors" must be a list of { match: "<glob>", ...overrides }`);
+      throw new StreamfenceError(
+        'CONFIG_INVALID',
+        `${source}: "sensors" must be a list of { match: "<glob>", ...overrides }`,
+      );
     }
     top.sensors.forEach((entry, i) => {
       const where = `${source}: sensors[${i}]`;
@@ -60,7 +72,10 @@ export function validateConfig(raw: unknown, source = 'config'): EngineConfig {
       }
       const { match, ...rest } = entry as Record<string, unknown>;
       if (typeof match !== 'string' || match.length === 0) {
-        throw new StreamfenceError('CONFIG_INVALID', `${where}: "match" must be a non-empty glob on the sensor id`);
+        throw new StreamfenceError(
+          'CONFIG_INVALID',
+          `${where}: "match" must be a non-empty glob on the sensor id`,
+        );
       }
       const overrides = parseSettings(rest, where, true);
       checkContradictions({ ...defaults, ...overrides }, `${where} (match "${match}")`);
@@ -90,7 +105,10 @@ function parseSettings(raw: unknown, where: string, isOverride: boolean): Parsed
 }
 
 function bad(where: string, key: string, want: string, got: unknown): never {
-  throw new StreamfenceError('CONFIG_INVALID', `${where}: "${key}" must be ${want}, got ${JSON.stringify(got)}`);
+  throw new StreamfenceError(
+    'CONFIG_INVALID',
+    `${where}: "${key}" must be ${want}, got ${JSON.stringify(got)}`,
+  );
 }
 
 function parseOne(key: keyof SensorSettings, v: unknown, where: string): unknown {
@@ -111,7 +129,8 @@ function parseOne(key: keyof SensorSettings, v: unknown, where: string): unknown
     case 'zCritical':
       return positive();
     case 'trigger':
-      if (v !== 'fence' && v !== 'z' && v !== 'either' && v !== 'both') bad(where, key, 'one of fence, z, either, both', v);
+      if (v !== 'fence' && v !== 'z' && v !== 'either' && v !== 'both')
+        bad(where, key, 'one of fence, z, either, both', v);
       return v;
     case 'direction':
       if (v !== 'both' && v !== 'high' && v !== 'low') bad(where, key, 'one of both, high, low', v);
@@ -151,12 +170,15 @@ function contradiction(where: string, msg: string): never {
 }
 
 function checkContradictions(s: SensorSettings, where: string): void {
-  if (s.outerK <= s.fenceK) contradiction(where, `outerK (${s.outerK}) must be greater than fenceK (${s.fenceK})`);
-  if (s.zCritical <= s.zLimit) contradiction(where, `zCritical (${s.zCritical}) must be greater than zLimit (${s.zLimit})`);
+  if (s.outerK <= s.fenceK)
+    contradiction(where, `outerK (${s.outerK}) must be greater than fenceK (${s.fenceK})`);
+  if (s.zCritical <= s.zLimit)
+    contradiction(where, `zCritical (${s.zCritical}) must be greater than zLimit (${s.zLimit})`);
   if (s.raiseAfter > s.raiseWindow) {
     contradiction(where, `raiseAfter (${s.raiseAfter}) cannot exceed raiseWindow (${s.raiseWindow})`);
   }
-  if (s.min !== null && s.max !== null && s.min >= s.max) contradiction(where, `min (${s.min}) must be below max (${s.max})`);
+  if (s.min !== null && s.max !== null && s.min >= s.max)
+    contradiction(where, `min (${s.min}) must be below max (${s.max})`);
   if (s.window % s.buckets !== 0) {
     contradiction(where, `window (${formatDuration(s.window)}) must split evenly into ${s.buckets} buckets`);
   }
@@ -186,5 +208,8 @@ export function configToJson(c: EngineConfig): Record<string, unknown> {
     if (s.window !== undefined) o.window = formatDuration(s.window);
     return o;
   };
-  return { defaults: conv(c.defaults), sensors: c.sensors.map((r) => ({ match: r.match, ...conv(r.overrides) })) };
+  return {
+    defaults: conv(c.defaults),
+    sensors: c.sensors.map((r) => ({ match: r.match, ...conv(r.overrides) })),
+  };
 }

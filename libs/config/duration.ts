@@ -10,7 +10,12 @@ export function parseDuration(raw: unknown): number | null {
 }
 
 export function formatDuration(ms: number): string {
-  for (const [u, f] of [['d', 86_400_000], ['h', 3_600_000], ['m', 60_000], ['s', 1000]] as const) {
+  for (const [u, f] of [
+    ['d', 86_400_000],
+    ['h', 3_600_000],
+    ['m', 60_000],
+    ['s', 1000],
+  ] as const) {
     if (ms >= f && ms % f === 0) return `${ms / f}${u}`;
   }
   return `${ms}ms`;

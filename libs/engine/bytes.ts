@@ -39,6 +39,12 @@ export class ByteWriter {
     this.pos += 8;
   }
 
+  f32(v: number): void {
+    this.ensure(4);
+    this.view.setFloat32(this.pos, v, true);
+    this.pos += 4;
+  }
+
   str(s: string): void {
     const b = enc.encode(s);
     this.uvar(b.length);
@@ -84,6 +90,13 @@ export class ByteReader {
     this.need(8);
     const v = this.view.getFloat64(this.pos, true);
     this.pos += 8;
+    return v;
+  }
+
+  f32(): number {
+    this.need(4);
+    const v = this.view.getFloat32(this.pos, true);
+    this.pos += 4;
     return v;
   }
 

@@ -114,7 +114,13 @@ export class Engine {
     st: SensorState,
     r: Reading,
     state: AlertState,
-    a: { id: string; severity: 'warning' | 'critical'; reasons: string[]; raisedTs: number; flaggedReadings: number },
+    a: {
+      id: string;
+      severity: 'warning' | 'critical';
+      reasons: string[];
+      raisedTs: number;
+      flaggedReadings: number;
+    },
   ): AlertEvent {
     const b = st.window.baseline();
     const f = st.fences;
@@ -147,7 +153,12 @@ export class Engine {
       robustZ: warm ? robustZ(r.value, b) : null,
       percentileRank: warm ? b.digest.rank(r.value) * 100 : null,
     };
-    const message = alertMessage({ ...body, min: st.settings.min, max: st.settings.max, stuckRun: st.stuckRun });
+    const message = alertMessage({
+      ...body,
+      min: st.settings.min,
+      max: st.settings.max,
+      stuckRun: st.stuckRun,
+    });
     return { id: a.id, ...body, message, notice: NOTICE };
   }
 

@@ -105,7 +105,9 @@ export function judge(
   if (s.min !== null && x < s.min) (flags ??= new Flags()).add('limit_low', 'critical');
 
   if (b === null || f === null || b.count < s.minSamples) {
-    return flags === null ? NORMAL_COLD : { ...NORMAL_COLD, flagged: true, severity: flags.severity, reasons: flags.reasons };
+    return flags === null
+      ? NORMAL_COLD
+      : { ...NORMAL_COLD, flagged: true, severity: flags.severity, reasons: flags.reasons };
   }
 
   // Fence rule.
@@ -149,7 +151,8 @@ export function judge(
   }
 
   if (b.iqr === 0 && b.stdDev === 0 && x !== b.median) {
-    if ((high && x > b.median) || (low && x < b.median)) (flags ??= new Flags()).add('departs_constant', 'warning');
+    if ((high && x > b.median) || (low && x < b.median))
+      (flags ??= new Flags()).add('departs_constant', 'warning');
   }
   if (s.flatlineAfter > 0 && stuckRun >= s.flatlineAfter && (b.iqr > 0 || b.stdDev > 0)) {
     (flags ??= new Flags()).add('flatline', 'warning');

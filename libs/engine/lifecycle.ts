@@ -1,7 +1,10 @@
 /**
  * Alert lifecycle of one sensor: debounce on the way up (raiseAfter of the last raiseWindow
  * readings flagged, the current one included), hysteresis on the way down (clearAfter
- * consecutive unflagged readings), and `updated` when the severity changes while raised.
+ * consecutive unflagged readings), and `updated` when the severity changes while raised:
+ * at once when it worsens, but only after clearAfter readings in a row below the alert's
+ * severity when it eases, so a reading hovering at the outer fence cannot flood the operator
+ * with warning/critical flips.
  */
 import type { SensorSettings } from '../config/settings.js';
 import { alertId } from './alert-id.js';
@@ -14,6 +17,8 @@ export interface ActiveAlert {
   raisedTs: number;
   flaggedReadings: number;
   clearRun: number;
+  /** Consecutive readings below the alert's severity (unflagged or milder). */
+  easeRun: number;
 }
 
 export interface LifecycleState {
@@ -59,6 +64,7 @@ export function step(
         raisedTs: ts,
         flaggedReadings: st.ringFlagged,
         clearRun: 0,
+        easeRun: 0,
       };
       return 'raised';
     }
@@ -67,14 +73,19 @@ export function step(
   if (flagged) {
     a.clearRun = 0;
     a.flaggedReadings += 1;
-    if (severity !== a.severity) {
+    const worse = severity === 'critical' && a.severity === 'warning';
+    const milder = severity === 'warning' && a.severity === 'critical';
+    a.easeRun = milder ? a.easeRun + 1 : 0;
+    if (worse || (milder && a.easeRun >= s.clearAfter)) {
       a.severity = severity!;
       a.reasons = reasons;
+      a.easeRun = 0;
       return 'updated';
     }
-    a.reasons = reasons;
+    if (!milder) a.reasons = reasons;
     return null;
   }
+  a.easeRun += 1;
   a.clearRun += 1;
   if (a.clearRun >= s.clearAfter) {
     // Forget the debounce history so flags from before the clear cannot re-raise at once.

@@ -28,13 +28,19 @@ export function describeReasons(reasons: readonly string[]): string {
   return reasons.map((r) => REASON_WORDS[r] ?? r).join(', ');
 }
 
-type MessageInput = Omit<AlertEvent, 'message' | 'notice' | 'id'> & { min: number | null; max: number | null; stuckRun: number };
+type MessageInput = Omit<AlertEvent, 'message' | 'notice' | 'id'> & {
+  min: number | null;
+  max: number | null;
+  stuckRun: number;
+};
 
 export function alertMessage(e: MessageInput): string {
   const b = e.baseline;
   const parts: string[] = [];
   if (e.state === 'cleared') {
-    parts.push(`${e.sensor} is back to normal at ${fmt(e.value)} (${e.ts}); it had been abnormal since ${e.since}`);
+    parts.push(
+      `${e.sensor} is back to normal at ${fmt(e.value)} (${e.ts}); it had been abnormal since ${e.since}`,
+    );
     if (b.lowerFence !== null && b.upperFence !== null) {
       parts.push(`normal range ${fmt(b.lowerFence)} to ${fmt(b.upperFence)}`);
     }

@@ -53,7 +53,8 @@ export const LIMITS = {
   maxTs: 253_402_300_799_999,
 } as const;
 
-export type ParseResult = { ok: true; reading: Reading } | { ok: false; reason: RejectReason; detail: string };
+export type ParseResult =
+  { ok: true; reading: Reading } | { ok: false; reason: RejectReason; detail: string };
 
 const reject = (reason: RejectReason, detail: string): ParseResult => ({ ok: false, reason, detail });
 
@@ -64,10 +65,13 @@ const ISO_RE = /^\d{4}-\d{2}-\d{2}[T ]\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?(Z|[+-]\d{
 // eslint-disable-next-line no-control-regex
 const CONTROL_RE = /[\u0000-\u001f\u007f-\u009f]/;
 
-export function parseTimestamp(raw: unknown): { ok: true; ts: number } | { ok: false; reason: RejectReason; detail: string } {
+export function parseTimestamp(
+  raw: unknown,
+): { ok: true; ts: number } | { ok: false; reason: RejectReason; detail: string } {
   let ts: number;
   if (typeof raw === 'number') {
-    if (!Number.isFinite(raw)) return { ok: false, reason: 'ts_invalid', detail: 'timestamp is not a finite number' };
+    if (!Number.isFinite(raw))
+      return { ok: false, reason: 'ts_invalid', detail: 'timestamp is not a finite number' };
     ts = Math.round(raw);
   } else if (typeof raw === 'string') {
     const s = raw.trim();
@@ -75,7 +79,11 @@ export function parseTimestamp(raw: unknown): { ok: true; ts: number } | { ok: f
       ts = Math.round(Number(s));
     } else {
       if (!ISO_RE.test(s)) {
-        return { ok: false, reason: 'ts_invalid', detail: `timestamp "${clip(s)}" is not ISO-8601 with a zone (e.g. 2026-05-01T08:00:00Z) nor epoch milliseconds` };
+        return {
+          ok: false,
+          reason: 'ts_invalid',
+          detail: `timestamp "${clip(s)}" is not ISO-8601 with a zone (e.g. 2026-05-01T08:00:00Z) nor epoch milliseconds`,
+        };
       }
       ts = Date.parse(s.replace(' ', 'T'));
       // Date.parse rolls 2026-02-30 over to 2026-03-02 instead of refusing it: check the day too.
@@ -88,7 +96,11 @@ export function parseTimestamp(raw: unknown): { ok: true; ts: number } | { ok: f
   } else if (raw === undefined || raw === null) {
     return { ok: false, reason: 'ts_missing', detail: 'field "ts" is missing' };
   } else {
-    return { ok: false, reason: 'ts_invalid', detail: 'field "ts" must be an ISO-8601 string or epoch milliseconds' };
+    return {
+      ok: false,
+      reason: 'ts_invalid',
+      detail: 'field "ts" must be an ISO-8601 string or epoch milliseconds',
+    };
   }
   if (ts < LIMITS.minTs || ts > LIMITS.maxTs) {
     return { ok: false, reason: 'ts_out_of_range', detail: `timestamp ${ts} is outside 1970..9999` };
@@ -97,12 +109,21 @@ export function parseTimestamp(raw: unknown): { ok: true; ts: number } | { ok: f
 }
 
 /** Validate the three fields, whatever the container (JSON object or CSV row). */
-export function validateFields(sensor: unknown, ts: unknown, value: unknown, valueFromText = false): ParseResult {
+export function validateFields(
+  sensor: unknown,
+  ts: unknown,
+  value: unknown,
+  valueFromText = false,
+): ParseResult {
   if (sensor === undefined || sensor === null) return reject('sensor_missing', 'field "sensor" is missing');
   if (typeof sensor !== 'string') return reject('sensor_missing', 'field "sensor" must be a string');
-  if (sensor.length === 0 || sensor.trim().length === 0) return reject('sensor_empty', 'field "sensor" is empty');
+  if (sensor.length === 0 || sensor.trim().length === 0)
+    return reject('sensor_empty', 'field "sensor" is empty');
   if (sensor.length > LIMITS.maxSensorLength) {
-    return reject('sensor_too_long', `sensor id has ${sensor.length} characters; the limit is ${LIMITS.maxSensorLength}`);
+    return reject(
+      'sensor_too_long',
+      `sensor id has ${sensor.length} characters; the limit is ${LIMITS.maxSensorLength}`,
+    );
   }
   if (CONTROL_RE.test(sensor)) return reject('sensor_bad_chars', 'sensor id contains control characters');
 
@@ -112,7 +133,11 @@ export function validateFields(sensor: unknown, ts: unknown, value: unknown, val
   }
   if (typeof value === 'number') {
     v = value;
-  } else if (valueFromText && typeof value === 'string' && /^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$/.test(value)) {
+  } else if (
+    valueFromText &&
+    typeof value === 'string' &&
+    /^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$/.test(value)
+  ) {
     v = Number(value);
   } else if (valueFromText && typeof value === 'string' && /^\s*[-+]?(inf|infinity|nan)\s*$/i.test(value)) {
     return reject('value_not_finite', `value "${clip(value)}" is not a finite number`);
@@ -129,7 +154,10 @@ export function validateFields(sensor: unknown, ts: unknown, value: unknown, val
 /** Parse one NDJSON line or one message payload. Never throws. */
 export function parseJsonReading(line: string): ParseResult {
   if (line.length > LIMITS.maxLineLength) {
-    return reject('line_too_long', `line has ${line.length} characters; the limit is ${LIMITS.maxLineLength}`);
+    return reject(
+      'line_too_long',
+      `line has ${line.length} characters; the limit is ${LIMITS.maxLineLength}`,
+    );
   }
   let obj: unknown;
   try {

@@ -31,7 +31,7 @@ export class SensorState {
 
 const MAGIC_0 = 0x53; // 'S'
 const MAGIC_1 = 0x46; // 'F'
-export const STATE_VERSION = 2;
+export const STATE_VERSION = 3;
 const SEVERITIES: Severity[] = ['warning', 'critical'];
 
 export function encodeSensorState(st: SensorState): Uint8Array {
@@ -70,10 +70,13 @@ export function encodeSensorState(st: SensorState): Uint8Array {
     w.f64(b.moments.m2);
     w.f64(b.firstTs);
     w.f64(b.lastTs);
-    w.uvar(b.centroids.means.length);
-    for (let i = 0; i < b.centroids.means.length; i++) {
-      w.f64(b.centroids.means[i]);
-      w.uvar(b.centroids.counts[i]);
+    // Closed means were rounded by roundForStorage: the first as a double, then single-precision steps.
+    const { means, counts } = b.centroids;
+    w.uvar(means.length);
+    for (let i = 0; i < means.length; i++) {
+      if (i === 0) w.f64(means[0]);
+      else w.f32(means[i] - means[i - 1]);
+      w.uvar(counts[i]);
     }
   }
 
@@ -92,6 +95,7 @@ export function encodeSensorState(st: SensorState): Uint8Array {
     w.f64(a.raisedTs);
     w.uvar(a.flaggedReadings);
     w.uvar(a.clearRun);
+    w.uvar(a.easeRun);
   }
   return w.bytes();
 }
@@ -156,7 +160,7 @@ export function decodeSensorState(
       const means = new Float64Array(len);
       const counts = new Float64Array(len);
       for (let i = 0; i < len; i++) {
-        means[i] = r.f64();
+        means[i] = i === 0 ? r.f64() : means[i - 1] + r.f32();
         counts[i] = r.uvar();
       }
       closed.push({ index, moments, firstTs, lastTs, centroids: { means, counts } });
@@ -197,6 +201,7 @@ export function decodeSensorState(
         raisedTs: r.f64(),
         flaggedReadings: r.uvar(),
         clearRun: r.uvar(),
+        easeRun: r.uvar(),
       };
     }
     if (!r.done)

@@ -11,7 +11,13 @@
  * when a bucket closes (which is what makes per-reading judgement cheap).
  */
 import { addValue, emptyMoments, mergeMoments, sampleStdDev, type Moments } from '../stats/moments.js';
-import { compressCentroids, FrozenDigest, OpenDigest, type Centroids } from '../stats/digest.js';
+import {
+  compressCentroids,
+  FrozenDigest,
+  OpenDigest,
+  roundForStorage,
+  type Centroids,
+} from '../stats/digest.js';
 import { SKETCH } from './sketch-params.js';
 
 export interface ClosedBucket {
@@ -97,7 +103,7 @@ export class SensorWindow {
         moments: this.openMoments,
         firstTs: this.openFirstTs,
         lastTs: this.openLastTs,
-        centroids: compressCentroids([this.open.centroids()], SKETCH.closedDelta),
+        centroids: roundForStorage(compressCentroids([this.open.centroids()], SKETCH.closedDelta)),
       });
       this.open = new OpenDigest(SKETCH.openDelta, SKETCH.openCap);
       this.openMoments = emptyMoments();

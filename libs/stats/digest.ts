@@ -96,6 +96,22 @@ export function compressCentroids(parts: readonly Centroids[], delta: number): C
   return { means: outMeans.slice(0, out), counts: outCounts.slice(0, out) };
 }
 
+/**
+ * Rounds a sorted centroid list to what the compact state encoding stores exactly: the first
+ * mean as a double, each next one as the previous plus a single-precision step. Steps are small
+ * next to the values, so this keeps about seven significant digits of each gap (far below the
+ * sketch's own error) and halves the bytes per centroid. Applied when a bucket closes, so the
+ * in-memory bucket and its encoding are always identical.
+ */
+export function roundForStorage(c: Centroids): Centroids {
+  const n = c.means.length;
+  if (n === 0) return c;
+  const means = new Float64Array(n);
+  means[0] = c.means[0];
+  for (let i = 1; i < n; i++) means[i] = means[i - 1] + Math.max(0, Math.fround(c.means[i] - means[i - 1]));
+  return { means, counts: c.counts };
+}
+
 /** A frozen digest answering quantile and rank queries; built once per bucket roll. */
 export class FrozenDigest {
   readonly means: Float64Array;

@@ -75,15 +75,19 @@ describe('lifecycle golden streams', () => {
     expect(cleared.flaggedReadings).toBe(3);
   });
 
-  it('severity change while raised -> updated (both ways), same id', () => {
-    const e = engine();
+  it('severity change while raised -> updated (both ways), same id; easing needs clearAfter milder readings', () => {
+    const e = engine({ clearAfter: 3 });
     warm(e);
-    const evs = feed(e, [WARN, CRIT, CRIT, WARN, NORMAL, NORMAL, NORMAL]);
+    const evs = feed(e, [WARN, CRIT, CRIT, WARN, CRIT, WARN, WARN, WARN, NORMAL, NORMAL, NORMAL]);
     expect(states(evs)).toEqual([
       'raised:warning',
       'updated:critical',
       '-',
-      'updated:warning',
+      '-', // one milder reading is not enough to ease (hysteresis against warning/critical flapping)
+      '-', // worse again: the ease count restarts
+      '-',
+      '-',
+      'updated:warning', // three milder readings in a row
       '-',
       '-',
       'cleared:warning',
