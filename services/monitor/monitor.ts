@@ -70,7 +70,7 @@ interface Outbox {
 }
 
 // Publish in slices so a long batch does not hold unsent events, and heartbeats keep flowing.
-const FLUSH_EVERY = 5_000;
+const FLUSH_EVERY = 2_000;
 
 export class Monitor {
   readonly token = randomUUID();
@@ -84,6 +84,8 @@ export class Monitor {
   private assigned = new Set<number>();
   private joined = false;
   private stopping = false;
+  /** After a stop request, dependency retries give up at this time (inside the 10 s stop budget). */
+  private stopGiveUpAt = Infinity;
   private timer: NodeJS.Timeout | null = null;
 
   constructor(
@@ -162,6 +164,7 @@ export class Monitor {
   async stop(): Promise<void> {
     if (this.stopping) return;
     this.stopping = true;
+    this.stopGiveUpAt = Date.now() + 7_000;
     if (this.timer) clearInterval(this.timer);
     this.log.info('stopping: finishing the current batch');
     await this.consumer.stop();
@@ -239,6 +242,8 @@ export class Monitor {
           `${dependency} call failed; retrying`,
         );
       },
+      // A stop request ends the waiting: stop() then hands back whatever is safe.
+      giveUp: () => this.stopping && Date.now() > this.stopGiveUpAt,
       ...extra,
     });
   }
@@ -324,7 +329,8 @@ export class Monitor {
           accepted++;
           w.dirty.add(res.reading.sensor);
           // Sampled 1 in 16: the distribution, not every reading, is what the histogram is for.
-          if ((accepted & 15) === 1) this.metrics.eventDelay.observe(Math.max(0, now - res.reading.ts) / 1000);
+          if ((accepted & 15) === 1)
+            this.metrics.eventDelay.observe(Math.max(0, now - res.reading.ts) / 1000);
           for (const e of out.events) {
             this.outbox.alerts.push({ key: e.sensor, value: JSON.stringify(e) });
             this.metrics.alerts.inc({ state: e.state, severity: e.severity });

@@ -143,7 +143,11 @@ export async function main(argv: string[]): Promise<number> {
         log.warn({ signal: sig }, 'second stop signal: exiting now');
         process.exit(130);
       }
-      void stop(sig).then(resolve);
+      void stop(sig).then((code) => {
+        resolve(code);
+        // Exit even if a library left a handle open; unref'd so a clean exit is not delayed.
+        setTimeout(() => process.exit(code), 1_000).unref();
+      });
     };
     process.on('SIGTERM', onSignal);
     process.on('SIGINT', onSignal);

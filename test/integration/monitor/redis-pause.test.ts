@@ -65,18 +65,22 @@ describe('streamfence run: Redis outage', () => {
       },
     );
     const url = `redis://127.0.0.1:${port}`;
-    redis = new Redis(url, { maxRetriesPerRequest: 2, lazyConnect: true });
-    redis.on('error', () => {}); // refused until the server is up; the loop below retries
+    // Wait until the new server answers (a fresh client per try: a refused one keeps reconnecting).
     for (let i = 0; ; i++) {
+      const probe = new Redis(url, { lazyConnect: true, maxRetriesPerRequest: 0, retryStrategy: () => null });
+      probe.on('error', () => {});
       try {
-        await redis.connect();
-        await redis.ping();
+        await probe.connect();
+        await probe.ping();
+        probe.disconnect();
         break;
       } catch (e) {
+        probe.disconnect();
         if (i > 50) throw e;
         await sleep(100);
       }
     }
+    redis = new Redis(url, { maxRetriesPerRequest: 2 });
 
     const readings = generateReadings(20, 1000, 5);
     const config = testConfig();
