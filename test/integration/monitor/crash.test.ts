@@ -56,30 +56,29 @@ describe('streamfence run: crash safety', () => {
     await createTopic(rejectedTopic, 1);
     const args = { topic, alertTopic, rejectedTopic, group, prefix, configFile };
 
-    // Readings keep arriving in slices while the monitor is killed and restarted.
+    // Readings keep arriving in slices while the monitor is killed and restarted: each monitor finds
+    // a backlog when it starts and more arrives while it runs, so every kill lands mid-stream.
     const kafka = kafkaClient();
-    const slices = 12;
+    const slices = 8;
     const per = Math.ceil(readings.length / slices);
-    const producing = (async () => {
-      for (let i = 0; i < slices; i++) {
-        await produceReadings(kafka, topic, readings.slice(i * per, (i + 1) * per));
-        await sleep(400);
-      }
-    })();
+    const slice = (i: number) => produceReadings(kafka, topic, readings.slice(i * per, (i + 1) * per));
 
     let killsWithProgress = 0;
     for (let k = 0; k < 3; k++) {
+      await slice(2 * k);
       const m = spawnMonitor(args);
       monitors.push(m);
-      // Kill it mid-stream: after it has loaded its partitions and written some checkpoints.
+      const more = slice(2 * k + 1);
+      // Kill it after it has loaded its partitions and written some checkpoints.
       await m.waitForLog(/"msg":"checkpoint"/, 45_000);
-      await sleep(300 + k * 250);
+      await sleep(200 + k * 150);
       m.child.kill('SIGKILL');
       await m.exited;
+      await more;
       if (m.logs.some((l) => l.includes('"msg":"checkpoint"'))) killsWithProgress++;
     }
     expect(killsWithProgress).toBe(3);
-    await producing;
+    for (let i = 6; i < slices; i++) await slice(i);
     // Each restart resumed from a checkpoint rather than from the start of the log.
     for (const m of monitors.slice(1)) {
       const resumed = m.logs
