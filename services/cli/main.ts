@@ -13,14 +13,35 @@ interface CommandEntry {
 
 // Each command module exports `main(argv): Promise<exitCode>`.
 const COMMANDS: Record<string, CommandEntry> = {
-  demo: { summary: 'run the simulated plant with the operator board, no Kafka or Redis needed', load: () => import('./commands/demo.js') },
-  replay: { summary: 'replay readings from a file (or a Kafka time range) through the engine', load: () => import('./commands/replay.js') },
-  run: { summary: 'the live monitor: Kafka readings in, alerts out, state in Redis, metrics', load: () => import('./commands/run.js') },
-  inspect: { summary: "print sensors' stored state and baselines from Redis", load: () => import('./commands/inspect.js') },
-  board: { summary: 'serve the operator board for the live system (follows the alert topic)', load: () => import('./commands/board.js') },
+  demo: {
+    summary: 'run the simulated plant with the operator board, no Kafka or Redis needed',
+    load: () => import('./commands/demo.js'),
+  },
+  replay: {
+    summary: 'replay readings from a file (or a Kafka time range) through the engine',
+    load: () => import('./commands/replay.js'),
+  },
+  run: {
+    summary: 'the live monitor: Kafka readings in, alerts out, state in Redis, metrics',
+    load: () => import('./commands/run.js'),
+  },
+  inspect: {
+    summary: "print sensors' stored state and baselines from Redis",
+    load: () => import('./commands/inspect.js'),
+  },
+  board: {
+    summary: 'serve the operator board for the live system (follows the alert topic)',
+    load: () => import('./commands/board.js'),
+  },
   alerts: { summary: 'follow alert events in the terminal', load: () => import('./commands/alerts.js') },
-  simulate: { summary: 'generate an invented plant data set with labelled faults', load: () => import('./commands/simulate.js') },
-  tune: { summary: 'score a grid of settings against labelled history and recommend one', load: () => import('./commands/tune.js') },
+  simulate: {
+    summary: 'generate an invented plant data set with labelled faults',
+    load: () => import('./commands/simulate.js'),
+  },
+  tune: {
+    summary: 'score a grid of settings against labelled history and recommend one',
+    load: () => import('./commands/tune.js'),
+  },
 };
 
 export function usage(): string {

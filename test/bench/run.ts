@@ -34,7 +34,9 @@ async function main(): Promise<void> {
   for (const f of files) {
     const name = f.replace(/\.bench\.js$/, '');
     process.stderr.write(`bench ${name} ...\n`);
-    const mod = (await import(pathToFileURL(join(here, f)).href)) as { run: () => Promise<Record<string, unknown>> };
+    const mod = (await import(pathToFileURL(join(here, f)).href)) as {
+      run: () => Promise<Record<string, unknown>>;
+    };
     const started = Date.now();
     results[name] = await mod.run();
     process.stderr.write(`bench ${name} done in ${((Date.now() - started) / 1000).toFixed(1)} s\n`);
