@@ -17,6 +17,11 @@ export class ByteWriter {
     this.view = new DataView(next.buffer);
   }
 
+  /** Start a new message, keeping the grown buffer (one writer serves many encodes). */
+  reset(): void {
+    this.pos = 0;
+  }
+
   u8(v: number): void {
     this.ensure(1);
     this.buf[this.pos++] = v;

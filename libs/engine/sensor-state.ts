@@ -34,8 +34,12 @@ const MAGIC_1 = 0x46; // 'F'
 export const STATE_VERSION = 3;
 const SEVERITIES: Severity[] = ['warning', 'critical'];
 
+// Reused across calls: encoding is synchronous, and checkpoints encode thousands of sensors at once.
+const writer = new ByteWriter();
+
 export function encodeSensorState(st: SensorState): Uint8Array {
-  const w = new ByteWriter();
+  const w = writer;
+  w.reset();
   w.u8(MAGIC_0);
   w.u8(MAGIC_1);
   w.u8(STATE_VERSION);

@@ -32,7 +32,10 @@ const CLI = join(REPO, 'dist/services/cli/main.js');
 const SENSORS = 10_000;
 const PER_SENSOR = 20;
 const PARTITIONS = 6;
-const BENCH_CONFIG = `defaults: { window: "20s", buckets: 10, minSamples: 10, flatlineAfter: 0 }`;
+// Each sensor reads every STEP_MS; with 1-minute buckets a bucket closes every 10 readings, still
+// ten times more often than a 1-a-minute sensor with the default 2 h buckets (every 120).
+const STEP_MS = 6_000;
+const BENCH_CONFIG = `defaults: { window: "10m", buckets: 10, minSamples: 10, flatlineAfter: 0 }`;
 const LATENCY_CONFIG = `defaults: { window: "10s", buckets: 10, minSamples: 20, flatlineAfter: 0 }`;
 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
@@ -119,7 +122,7 @@ function readings(
     for (let i = 0; i < sensors; i++) {
       const sensor = `press-${Math.floor(i / 100)}.line-${i % 100}`;
       const value = 50 + (i % 17) + (rnd() - 0.5) * 2 + (rnd() < 0.01 ? 30 : 0);
-      out.push({ key: sensor, value: JSON.stringify({ sensor, ts: t0 + k * 1000, value }) });
+      out.push({ key: sensor, value: JSON.stringify({ sensor, ts: t0 + k * STEP_MS, value }) });
     }
   }
   return out;
@@ -268,7 +271,7 @@ export async function run(): Promise<Record<string, unknown>> {
 
     // --- restart: a fresh monitor takes over 10,000 sensors and catches up ---
     await mon.stop();
-    const more = readings(SENSORS, 1, Date.UTC(2026, 4, 1) + PER_SENSOR * 1000, 2);
+    const more = readings(SENSORS, 1, Date.UTC(2026, 4, 1) + PER_SENSOR * STEP_MS, 2);
     await produce(kafka, topic, more);
     const t0 = performance.now();
     mon = new Monitor(
