@@ -51,6 +51,13 @@ export default tseslint.config(
         { object: 'Math', property: 'random', message: 'libs/ are deterministic; take a seeded generator.' },
         { object: 'performance', property: 'now', message: 'libs/ never read the clock.' },
       ],
+      'no-restricted-syntax': [
+        'error',
+        {
+          selector: "NewExpression[callee.name='Date'][arguments.length=0]",
+          message: 'libs/ never read the clock; pass time in.',
+        },
+      ],
     },
   },
 );
