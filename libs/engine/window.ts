@@ -105,7 +105,7 @@ export class SensorWindow {
         lastTs: this.openLastTs,
         centroids: roundForStorage(compressCentroids([this.open.centroids()], SKETCH.closedDelta)),
       });
-      this.open = new OpenDigest(SKETCH.openDelta, SKETCH.openCap);
+      this.open.reset();
       this.openMoments = emptyMoments();
     }
     this.openIndex = idx;

@@ -26,69 +26,68 @@ export function totalCount(c: Centroids): number {
   return t;
 }
 
-/** Merge sorted centroid lists into one sorted list (balanced pairwise merges; stable). */
-function mergeSorted(parts: readonly Centroids[]): Centroids {
-  let level = parts.filter((p) => p.means.length > 0) as Centroids[];
-  if (level.length === 0) return EMPTY_CENTROIDS;
-  while (level.length > 1) {
-    const next: Centroids[] = [];
-    for (let i = 0; i < level.length; i += 2)
-      next.push(i + 1 < level.length ? mergeTwo(level[i], level[i + 1]) : level[i]);
-    level = next;
-  }
-  return level[0];
-}
-
-function mergeTwo(a: Centroids, b: Centroids): Centroids {
-  const n = a.means.length + b.means.length;
-  const means = new Float64Array(n);
-  const counts = new Float64Array(n);
-  let i = 0;
-  let j = 0;
-  for (let k = 0; k < n; k++) {
-    // Ties take `a` first, so the result does not depend on anything but the inputs' order.
-    if (j >= b.means.length || (i < a.means.length && a.means[i] <= b.means[j])) {
-      means[k] = a.means[i];
-      counts[k] = a.counts[i++];
-    } else {
-      means[k] = b.means[j];
-      counts[k] = b.counts[j++];
-    }
-  }
-  return { means, counts };
-}
+// Scratch space for compression output, grown on demand and reused: compression runs at every
+// buffer flush and bucket roll, and fresh arrays each time made the garbage collector a top cost.
+let scratchMeans = new Float64Array(1024);
+let scratchCounts = new Float64Array(1024);
 
 /**
- * Deterministic compression of centroid lists, each sorted by mean: merge them, then walk in mean
- * order and combine neighbours while the combined weight stays under the t-digest bound
+ * Deterministic compression of centroid lists, each sorted by mean: walk all of them in mean
+ * order (a k-way merge; ties go to the earlier list, so the result depends only on the inputs)
+ * and combine neighbours while the combined weight stays under the t-digest bound
  * 4 * n * delta * q * (1 - q) (at least 1), so the tails stay fine-grained and the middle coarse.
  */
 export function compressCentroids(parts: readonly Centroids[], delta: number): Centroids {
-  const all = mergeSorted(parts);
-  const len = all.means.length;
+  const k = parts.length;
+  let len = 0;
+  let total = 0;
+  for (let p = 0; p < k; p++) {
+    len += parts[p].means.length;
+    total += totalCount(parts[p]);
+  }
   if (len === 0) return EMPTY_CENTROIDS;
-  const { means, counts } = all;
-  const total = totalCount(all);
-  const outMeans = new Float64Array(len);
-  const outCounts = new Float64Array(len);
-  let out = 0;
-  let curMean = means[0];
-  let curCount = counts[0];
-  let before = 0;
+  if (scratchMeans.length < len) {
+    scratchMeans = new Float64Array(len * 2);
+    scratchCounts = new Float64Array(len * 2);
+  }
+  const outMeans = scratchMeans;
+  const outCounts = scratchCounts;
+  const pos = new Int32Array(k);
   const scale = 4 * total * delta;
-  for (let i = 1; i < len; i++) {
-    const merged = curCount + counts[i];
+  let out = 0;
+  let curMean = 0;
+  let curCount = 0;
+  let before = 0;
+  for (let taken = 0; taken < len; taken++) {
+    // The part whose next centroid has the smallest mean (k is at most a few dozen).
+    let best = -1;
+    let bestMean = Infinity;
+    for (let p = 0; p < k; p++) {
+      const i = pos[p];
+      const m = parts[p].means;
+      if (i < m.length && (best < 0 || m[i] < bestMean)) {
+        best = p;
+        bestMean = m[i];
+      }
+    }
+    const count = parts[best].counts[pos[best]++];
+    if (taken === 0) {
+      curMean = bestMean;
+      curCount = count;
+      continue;
+    }
+    const merged = curCount + count;
     const q = (before + merged / 2) / total;
     const bound = Math.max(1, Math.floor(scale * q * (1 - q)));
     if (merged <= bound) {
-      curMean += ((means[i] - curMean) * counts[i]) / merged;
+      curMean += ((bestMean - curMean) * count) / merged;
       curCount = merged;
     } else {
       outMeans[out] = curMean;
       outCounts[out++] = curCount;
       before += curCount;
-      curMean = means[i];
-      curCount = counts[i];
+      curMean = bestMean;
+      curCount = count;
     }
   }
   outMeans[out] = curMean;
@@ -177,6 +176,9 @@ export class FrozenDigest {
   }
 }
 
+// Unit weights for buffered readings, shared by every open digest (read-only).
+let ones = new Float64Array(256).fill(1);
+
 /** Exact picture of an open digest, enough to resume it bit for bit. */
 export interface OpenDigestSnapshot {
   means: Float64Array;
@@ -220,13 +222,18 @@ export class OpenDigest {
   }
 
   private flush(): void {
-    if (this.bufLen === 0) return;
-    const vals = this.buf.slice(0, this.bufLen).sort();
+    const n = this.bufLen;
+    if (n === 0) return;
+    const vals = this.buf.subarray(0, n).sort();
     this.bufLen = 0;
-    this.c = compressCentroids(
-      [this.c, { means: vals, counts: new Float64Array(vals.length).fill(1) }],
-      this.delta,
-    );
+    if (ones.length < n) ones = new Float64Array(n).fill(1);
+    this.c = compressCentroids([this.c, { means: vals, counts: ones.subarray(0, n) }], this.delta);
+  }
+
+  /** Empty the digest for the next bucket, keeping its buffer. */
+  reset(): void {
+    this.c = EMPTY_CENTROIDS;
+    this.bufLen = 0;
   }
 
   snapshot(): OpenDigestSnapshot {
