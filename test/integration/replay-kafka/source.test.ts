@@ -10,6 +10,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { validateConfig } from '../../../libs/config/config.js';
 import { readInput } from '../../../services/replay/input.js';
 import { runReplay } from '../../../services/replay/replay.js';
+import { main as replayCommand } from '../../../services/cli/commands/replay.js';
 import { kafkaRangeSource, newKafkaRangeStats } from '../../../services/replay-kafka/source.js';
 import { parseKafkaUrl } from '../../../services/replay-kafka/url.js';
 import { createTopic, deleteTopics, kafkaBrokers, kafkaClient, uniqueName } from '../../harness/services.js';
@@ -144,6 +145,41 @@ describe('kafkaRangeSource', () => {
     } finally {
       await admin.disconnect();
     }
+  });
+
+  it('the replay command takes kafka://TOPIC with --brokers/--from/--to and matches a file replay', async () => {
+    const expected = sent
+      .filter((s) => s.ts >= from && s.ts < to)
+      .sort((a, b) => a.key - b.key || a.partition - b.partition || a.seq - b.seq);
+    const dir = mkdtempSync(join(tmpdir(), 'sf-kafka-cmd-'));
+    const file = join(dir, 'range.ndjson');
+    const cfg = join(dir, 'engine.json');
+    writeFileSync(file, expected.map((e) => e.line).join('\n') + '\n');
+    writeFileSync(cfg, JSON.stringify(SHORT_WINDOW_CONFIG));
+    const args = [
+      '--brokers',
+      kafkaBrokers().join(','),
+      '--from',
+      new Date(from).toISOString(),
+      '--to',
+      String(to),
+      '--config',
+      cfg,
+    ];
+    expect(await replayCommand([`kafka://${topic}`, ...args, '--out', join(dir, 'k'), '--report'])).toBe(0);
+    expect(await replayCommand([file, '--config', cfg, '--out', join(dir, 'f')])).toBe(0);
+    const alerts = readFileSync(join(dir, 'k', 'alerts.ndjson'), 'utf8');
+    expect(alerts.length).toBeGreaterThan(0);
+    expect(alerts).toBe(readFileSync(join(dir, 'f', 'alerts.ndjson'), 'utf8'));
+    const summary = JSON.parse(readFileSync(join(dir, 'k', 'summary.json'), 'utf8'));
+    expect(summary.input.kafka).toMatchObject({ topic, messages: expected.length });
+    expect(readFileSync(join(dir, 'k', 'report.html'), 'utf8')).toContain('<svg');
+    // Missing range bounds are refused with a clear message.
+    await expect(
+      replayCommand([`kafka://${topic}`, '--brokers', kafkaBrokers().join(',')]),
+    ).rejects.toMatchObject({
+      code: 'ARGS_INVALID',
+    });
   });
 
   it('yields nothing for a range after the last message, and refuses a missing topic', async () => {
