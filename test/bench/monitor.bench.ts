@@ -7,7 +7,7 @@
  *  - latency: reading-to-alert (alert received minus reading time) at a steady 5,000 readings/s.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, writeFileSync } from 'node:fs';
 import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { dirname, join, resolve } from 'node:path';
@@ -18,16 +18,25 @@ import { parseConfigText, type EngineConfig } from '../../libs/config/config.js'
 import type { AlertEvent } from '../../libs/schema/alert-event.js';
 import { Engine } from '../../libs/engine/engine.js';
 import { parseJsonReading } from '../../libs/engine/reading.js';
-import { createLogger } from '../../services/log.js';
+import { createLogger, type LogLevel } from '../../services/log.js';
 import { createMetrics, type Metrics } from '../../services/metrics/metrics.js';
 import { Monitor, type MonitorSettings } from '../../services/monitor/monitor.js';
 import { partitionKeys } from '../../services/redis/keys.js';
 import { createKafka } from '../../services/kafka/client.js';
 import { createRedis } from '../../services/redis/client.js';
 
-// Compiled to dist/test/bench/ by the bench runner, or run from test/bench/ with tsx: find the built CLI either way.
+// Compiled to dist-bench/test/bench/ by the bench runner, or run from test/bench/ with tsx: the
+// repository is the nearest folder up with a package.json, and the monitor is its built CLI.
 const HERE = dirname(fileURLToPath(import.meta.url));
-const REPO = HERE.includes(`${join('dist', 'test')}`) ? resolve(HERE, '../../..') : resolve(HERE, '../..');
+function repoRoot(dir: string): string {
+  while (!existsSync(join(dir, 'package.json'))) {
+    const up = dirname(dir);
+    if (up === dir) throw new Error(`no package.json above ${HERE}`);
+    dir = up;
+  }
+  return dir;
+}
+const REPO = repoRoot(HERE);
 const CLI = join(REPO, 'dist/services/cli/main.js');
 const SENSORS = 10_000;
 const PER_SENSOR = 20;
@@ -192,7 +201,7 @@ function settings(topic: string, prefix: string, group: string, alertTopic: stri
 }
 
 export async function run(): Promise<Record<string, unknown>> {
-  const log = createLogger('bench', 'silent');
+  const log = createLogger('bench', (process.env.STREAMFENCE_BENCH_LOG ?? 'silent') as LogLevel);
   const kafka = new Kafka({ clientId: name('c'), brokers: brokers(), logLevel: logLevel.NOTHING });
   const mkKafka = () => createKafka({ clientId: name('m'), brokers: brokers() }, log);
   const { url, proc } = await privateRedis();
@@ -363,6 +372,7 @@ export async function run(): Promise<Record<string, unknown>> {
     await sleep(2_000);
     await producer.disconnect();
     await alertConsumer.disconnect();
+    if (latMon.exitCode !== null) throw new Error(`the monitor under test exited early (code ${latMon.exitCode})`);
     latMon.kill('SIGTERM');
     await new Promise((r) => latMon.once('exit', r));
     lat.sort((a, b) => a - b);
