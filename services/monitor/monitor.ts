@@ -71,11 +71,16 @@ interface Outbox {
 
 // Publish in slices so a long batch does not hold unsent events, and heartbeats keep flowing.
 const FLUSH_EVERY = 2_000;
+/** Alert and reject messages that may wait for Kafka's acknowledgement before a batch waits too. */
+const MAX_UNSENT = 20_000;
 
 export class Monitor {
   readonly token = randomUUID();
   private readonly workers = new Map<number, PartitionWorker>();
   private readonly outbox: Outbox = { alerts: [], rejects: [] };
+  /** The chain of alert/reject sends in flight, and how many messages it still holds. */
+  private sending: Promise<void> = Promise.resolve();
+  private unsent = 0;
   private readonly store: CheckpointStore;
   private readonly consumer: Consumer;
   private readonly producer: Producer;
@@ -342,14 +347,17 @@ export class Monitor {
       if (++since >= FLUSH_EVERY) {
         since = 0;
         resolveOffset(m.offset);
-        await this.flush(heartbeat);
+        this.flush();
+        // Backpressure: never hold more than MAX_UNSENT events unacknowledged.
+        if (this.unsent > MAX_UNSENT) await this.flushed();
         await heartbeat();
       }
     }
     if (lastOffset !== null) resolveOffset(lastOffset);
     if (accepted) this.metrics.readings.inc({ outcome: 'accepted' }, accepted);
     if (rejected) this.metrics.readings.inc({ outcome: 'rejected' }, rejected);
-    await this.flush(heartbeat);
+    this.flush();
+    if (this.unsent > MAX_UNSENT) await this.flushed();
     this.metrics.partitionLag.set({ partition: String(part) }, Number(batch.highWatermark) - w.next);
     if (w.sinceCheckpoint >= this.s.checkpointReadings) await this.checkpoint(w, heartbeat);
   }
@@ -372,18 +380,34 @@ export class Monitor {
     this.metrics.rejected.inc({ reason });
   }
 
-  /** Publish everything waiting, retrying while Kafka is down (the batch holds its place). */
-  private async flush(heartbeat?: () => Promise<void>): Promise<void> {
+  /**
+   * Start publishing everything waiting, without waiting for the acknowledgement: sends are
+   * chained, so they go out one after another in the order the readings were judged, and a batch
+   * does not stall on a round trip. `flushed()` waits for all of them (retrying while Kafka is
+   * down); every checkpoint calls it first, so no checkpoint ever covers an unsent event.
+   */
+  private flush(): void {
     const { alerts, rejects } = this.outbox;
     if (alerts.length === 0 && rejects.length === 0) return;
     const topicMessages: TopicMessages[] = [];
-    if (alerts.length) topicMessages.push({ topic: this.s.alertTopic, messages: alerts.slice() });
-    if (rejects.length) topicMessages.push({ topic: this.s.rejectedTopic, messages: rejects.slice() });
-    await this.retry('kafka', () => this.producer.sendBatch({ acks: -1, topicMessages }), {
-      whileWaiting: heartbeat,
+    if (alerts.length) topicMessages.push({ topic: this.s.alertTopic, messages: alerts });
+    if (rejects.length) topicMessages.push({ topic: this.s.rejectedTopic, messages: rejects });
+    this.outbox.alerts = [];
+    this.outbox.rejects = [];
+    this.unsent += alerts.length + rejects.length;
+    const count = alerts.length + rejects.length;
+    this.sending = this.sending.then(async () => {
+      await this.retry('kafka', () => this.producer.sendBatch({ acks: -1, topicMessages }));
+      this.unsent -= count;
     });
-    alerts.length = 0;
-    rejects.length = 0;
+    // A failed chain stays failed (flushed() rethrows); keep the rejection observed meanwhile.
+    this.sending.catch(() => undefined);
+  }
+
+  /** Publish everything waiting and wait until Kafka has acknowledged it all. */
+  private async flushed(): Promise<void> {
+    this.flush();
+    await this.sending;
   }
 
   private async checkpointDue(): Promise<void> {
@@ -403,7 +427,7 @@ export class Monitor {
   private async checkpoint(w: PartitionWorker, heartbeat?: () => Promise<void>): Promise<boolean> {
     if (this.workers.get(w.partition) !== w) return false;
     if (w.next === w.checkpointed && w.dirty.size === 0) return true;
-    await this.flush(heartbeat);
+    await this.flushed();
     const entries: [string, Uint8Array][] = [];
     for (const sensor of w.dirty) {
       const bytes = w.engine.encode(sensor);
