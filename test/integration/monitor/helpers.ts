@@ -10,13 +10,23 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { logLevel, type Kafka } from 'kafkajs';
 import type { Redis } from 'ioredis';
+import { afterAll, expect } from 'vitest';
 import { parseConfigText, type EngineConfig } from '../../../libs/config/config.js';
 import { Engine } from '../../../libs/engine/engine.js';
 import type { Reading } from '../../../libs/engine/reading.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { storedSensors } from '../../../services/monitor/inspect-state.js';
 import { partitionKeys } from '../../../services/redis/keys.js';
-import { kafkaBrokers, kafkaClient, redisUrl, uniqueName } from '../../harness/services.js';
+import {
+  createTopic,
+  deleteKeysByPrefix,
+  deleteTopics,
+  kafkaBrokers,
+  kafkaClient,
+  redisClient,
+  redisUrl,
+  uniqueName,
+} from '../../harness/services.js';
 
 export const REPO_ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../..');
 export const CLI = path.join(REPO_ROOT, 'dist/services/cli/main.js');
@@ -178,6 +188,75 @@ export interface MonitorArgs {
   env?: Record<string, string>;
 }
 
+/** Fresh input/alert/rejected topic, group and state-prefix names no other test uses. */
+export function uniqueMonitorNames() {
+  return {
+    topic: uniqueName('readings'),
+    alertTopic: uniqueName('alerts'),
+    rejectedTopic: uniqueName('rejected'),
+    group: uniqueName('group'),
+    prefix: uniqueName('sf'),
+  };
+}
+
+export interface MonitorBed extends ReturnType<typeof uniqueMonitorNames> {
+  /** A client for the shared test Redis. */
+  redis: Redis;
+  /** Every monitor spawned by spawn(); afterAll SIGKILLs the ones still running. */
+  monitors: MonitorProc[];
+  /** Creates the three topics (partition counts: input, alerts, rejected). */
+  createTopics(partitions?: [number, number, number]): Promise<void>;
+  /** spawnMonitor arguments for this bed's topics, group and prefix. */
+  args(configFile: string, more?: Pick<MonitorArgs, 'extra' | 'env'>): MonitorArgs;
+  /** spawnMonitor(args(...)), recorded in monitors. */
+  spawn(configFile: string, more?: Pick<MonitorArgs, 'extra' | 'env'>): MonitorProc;
+}
+
+/**
+ * The common test bed of a live-monitor test: unique names, a Redis client and a list of spawned
+ * monitors. Call it in a describe block: it registers an afterAll that SIGKILLs leftover monitors,
+ * deletes the prefix's keys (hash-tagged `{prefix:` and plain `prefix:`), disconnects Redis and
+ * deletes the topics if createTopics() made them.
+ */
+export function useMonitorBed(): MonitorBed {
+  const names = uniqueMonitorNames();
+  const redis = redisClient();
+  const monitors: MonitorProc[] = [];
+  let topicsCreated = false;
+  const args = (configFile: string, more: Pick<MonitorArgs, 'extra' | 'env'> = {}): MonitorArgs => ({
+    ...names,
+    configFile,
+    ...more,
+  });
+
+  afterAll(async () => {
+    for (const m of monitors)
+      if (m.child.exitCode === null && m.child.signalCode === null) m.child.kill('SIGKILL');
+    await deleteKeysByPrefix(redis, `{${names.prefix}:`);
+    await deleteKeysByPrefix(redis, `${names.prefix}:`);
+    redis.disconnect();
+    if (topicsCreated) await deleteTopics(names.topic, names.alertTopic, names.rejectedTopic);
+  });
+
+  return {
+    ...names,
+    redis,
+    monitors,
+    async createTopics([input, alerts, rejected] = [6, 3, 1]) {
+      topicsCreated = true;
+      await createTopic(names.topic, input);
+      await createTopic(names.alertTopic, alerts);
+      await createTopic(names.rejectedTopic, rejected);
+    },
+    args,
+    spawn(configFile, more) {
+      const m = spawnMonitor(args(configFile, more));
+      monitors.push(m);
+      return m;
+    },
+  };
+}
+
 export function spawnMonitor(a: MonitorArgs): MonitorProc {
   const args = [
     CLI,
@@ -325,3 +404,47 @@ export const summary = (events: AlertEvent[] | undefined) =>
   (events ?? []).map((e) => `${e.id}:${e.state}:${e.severity}`);
 
 export const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
+
+/** Where a monitor keeps its state: the Redis it checkpoints to, its prefix, group and input topic. */
+export interface StateLocation {
+  redis: Redis;
+  prefix: string;
+  group: string;
+  topic: string;
+}
+
+/** Every sensor's stored lifetime count equals the number of readings produced for it. */
+export async function expectExactState(at: StateLocation, readings: Reading[], config: EngineConfig) {
+  const seen = await storedSeen(at.redis, at.prefix, at.group, at.topic, config);
+  expect(Object.fromEntries(seen)).toEqual(Object.fromEntries(countBySensor(readings)));
+}
+
+/**
+ * Every alert event of the reference (`${id}:${state}:${ts}`) is on the alert topic; duplicates are
+ * allowed. With onlyReferenceEvents, every live event must also be one of the reference's (a
+ * duplicate, never an invented one). Returns how many reference events were checked.
+ */
+export async function expectNoLostAlerts(
+  alertTopic: string,
+  readings: Reading[],
+  config: EngineConfig,
+  { onlyReferenceEvents = false } = {},
+): Promise<number> {
+  const key = (e: AlertEvent) => `${e.id}:${e.state}:${e.ts}`;
+  const reference = referenceEvents(readings, config);
+  const live = eventsBySensor(await readAlertEvents(alertTopic));
+  let checked = 0;
+  for (const [sensor, events] of reference) {
+    const got = live.get(sensor) ?? [];
+    const ids = new Set(got.map(key));
+    for (const e of events) {
+      checked++;
+      expect(ids.has(key(e)), `${sensor} ${e.id} ${e.state} ${e.ts}`).toBe(true);
+    }
+    if (onlyReferenceEvents) {
+      const ref = new Set(events.map(key));
+      for (const e of got) expect(ref.has(key(e))).toBe(true);
+    }
+  }
+  return checked;
+}

@@ -4,61 +4,37 @@
  * stored state; SIGTERM stops it within 10 s with every reading checkpointed.
  */
 import { spawnSync } from 'node:child_process';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { Redis } from 'ioredis';
-import {
-  createTopic,
-  deleteKeysByPrefix,
-  deleteTopics,
-  kafkaClient,
-  redisClient,
-  redisUrl,
-  uniqueName,
-} from '../../harness/services.js';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { kafkaClient, redisUrl } from '../../harness/services.js';
 import {
   CLI,
   countBySensor,
   eventsBySensor,
+  expectExactState,
   generateReadings,
   produceReadings,
   readAlertEvents,
   referenceEvents,
-  spawnMonitor,
-  storedSeen,
   summary,
   testConfig,
+  useMonitorBed,
   waitCheckpointedToEnd,
   writeTestConfig,
   type MonitorProc,
 } from './helpers.js';
 
 describe('streamfence run: live equals replay', () => {
-  const topic = uniqueName('readings');
-  const alertTopic = uniqueName('alerts');
-  const rejectedTopic = uniqueName('rejected');
-  const group = uniqueName('group');
-  const prefix = uniqueName('sf');
+  const bed = useMonitorBed();
+  const { topic, alertTopic, group, prefix, redis } = bed;
   const readings = generateReadings(24, 500);
   const config = testConfig();
-  let redis: Redis;
   let mon: MonitorProc;
 
   beforeAll(async () => {
-    redis = redisClient();
-    await createTopic(topic, 6);
-    await createTopic(alertTopic, 3);
-    await createTopic(rejectedTopic, 1);
+    await bed.createTopics();
     await produceReadings(kafkaClient(), topic, readings);
-    mon = spawnMonitor({ topic, alertTopic, rejectedTopic, group, prefix, configFile: writeTestConfig() });
+    mon = bed.spawn(writeTestConfig());
     await waitCheckpointedToEnd(redis, prefix, group, topic);
-  });
-
-  afterAll(async () => {
-    if (mon && mon.child.exitCode === null) mon.child.kill('SIGKILL');
-    await deleteKeysByPrefix(redis, `{${prefix}:`);
-    await deleteKeysByPrefix(redis, `${prefix}:`);
-    redis.disconnect();
-    await deleteTopics(topic, alertTopic, rejectedTopic);
   });
 
   it('publishes per sensor exactly the events of an in-process engine', async () => {
@@ -76,8 +52,7 @@ describe('streamfence run: live equals replay', () => {
   });
 
   it('checkpoints every sensor with its exact lifetime count', async () => {
-    const seen = await storedSeen(redis, prefix, group, topic, config);
-    expect(Object.fromEntries(seen)).toEqual(Object.fromEntries(countBySensor(readings)));
+    await expectExactState(bed, readings, config);
   });
 
   it('serves /metrics, /healthz and /readyz', async () => {

@@ -2,48 +2,24 @@
  * Malformed messages go to the rejected topic with their reason, the original bytes and where they
  * came from; late readings too; the good readings around them are processed as usual.
  */
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { kafkaClient } from '../../harness/services.js';
 import {
-  createTopic,
-  deleteKeysByPrefix,
-  deleteTopics,
-  kafkaClient,
-  redisClient,
-  uniqueName,
-} from '../../harness/services.js';
-import {
-  countBySensor,
+  expectExactState,
   generateReadings,
   readTopic,
-  spawnMonitor,
-  storedSeen,
   testConfig,
+  useMonitorBed,
   waitCheckpointedToEnd,
   writeTestConfig,
-  type MonitorProc,
 } from './helpers.js';
 
 describe('streamfence run: poison messages', () => {
-  const topic = uniqueName('readings');
-  const alertTopic = uniqueName('alerts');
-  const rejectedTopic = uniqueName('rejected');
-  const group = uniqueName('group');
-  const prefix = uniqueName('sf');
-  const redis = redisClient();
-  let mon: MonitorProc | undefined;
-
-  afterAll(async () => {
-    if (mon && mon.child.exitCode === null) mon.child.kill('SIGKILL');
-    await deleteKeysByPrefix(redis, `{${prefix}:`);
-    await deleteKeysByPrefix(redis, `${prefix}:`);
-    redis.disconnect();
-    await deleteTopics(topic, alertTopic, rejectedTopic);
-  });
+  const bed = useMonitorBed();
+  const { topic, rejectedTopic, group, prefix, redis } = bed;
 
   it('rejects each bad message with its reason and processes the rest', async () => {
-    await createTopic(topic, 2);
-    await createTopic(alertTopic, 1);
-    await createTopic(rejectedTopic, 1);
+    await bed.createTopics([2, 1, 1]);
     const good = generateReadings(4, 200, 3);
     const s0 = good[0].sensor;
     const newest = good.filter((r) => r.sensor === s0).at(-1)!.ts;
@@ -73,7 +49,7 @@ describe('streamfence run: poison messages', () => {
     await producer.send({ topic, messages: bad.slice(-1).map(({ key, value }) => ({ key, value })) });
     await producer.disconnect();
 
-    mon = spawnMonitor({ topic, alertTopic, rejectedTopic, group, prefix, configFile: writeTestConfig() });
+    const mon = bed.spawn(writeTestConfig());
     await waitCheckpointedToEnd(redis, prefix, group, topic);
 
     const rejected = (await readTopic(rejectedTopic)).map(
@@ -99,8 +75,7 @@ describe('streamfence run: poison messages', () => {
     expect(text?.key).toBe(s0);
     expect(Buffer.from(text!.raw.base64, 'base64').toString()).toBe('not json at all');
 
-    const seen = await storedSeen(redis, prefix, group, topic, testConfig());
-    expect(Object.fromEntries(seen)).toEqual(Object.fromEntries(countBySensor(good)));
+    await expectExactState(bed, good, testConfig());
 
     const port = await mon.metricsPort();
     const metrics = await (await fetch(`http://127.0.0.1:${port}/metrics`)).text();

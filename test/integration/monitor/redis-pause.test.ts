@@ -7,21 +7,17 @@ import { spawn, type ChildProcess } from 'node:child_process';
 import { createServer } from 'node:net';
 import { afterAll, describe, expect, it } from 'vitest';
 import { Redis } from 'ioredis';
-import { createTopic, deleteTopics, kafkaClient, uniqueName } from '../../harness/services.js';
+import { kafkaClient } from '../../harness/services.js';
 import {
-  countBySensor,
-  eventsBySensor,
+  expectExactState,
+  expectNoLostAlerts,
   generateReadings,
   produceReadings,
-  readAlertEvents,
-  referenceEvents,
   sleep,
-  spawnMonitor,
-  storedSeen,
   testConfig,
+  useMonitorBed,
   waitCheckpointedToEnd,
   writeTestConfig,
-  type MonitorProc,
 } from './helpers.js';
 
 async function freePort(): Promise<number> {
@@ -36,24 +32,20 @@ async function freePort(): Promise<number> {
 }
 
 describe('streamfence run: Redis outage', () => {
-  const topic = uniqueName('readings');
-  const alertTopic = uniqueName('alerts');
-  const rejectedTopic = uniqueName('rejected');
-  const group = uniqueName('group');
-  const prefix = uniqueName('sf');
   let server: ChildProcess | undefined;
   let redis: Redis | undefined;
-  let mon: MonitorProc | undefined;
 
-  afterAll(async () => {
-    if (mon && mon.child.exitCode === null) mon.child.kill('SIGKILL');
+  afterAll(() => {
     redis?.disconnect();
     if (server && server.exitCode === null) {
       server.kill('SIGCONT');
       server.kill('SIGTERM');
     }
-    await deleteTopics(topic, alertTopic, rejectedTopic);
   });
+
+  // The monitor checkpoints to the dedicated server below (its own `redis`), not to the bed's.
+  const bed = useMonitorBed();
+  const { topic, alertTopic, group, prefix } = bed;
 
   it('waits out a paused Redis and recovers with exact state', async () => {
     const port = await freePort();
@@ -84,23 +76,13 @@ describe('streamfence run: Redis outage', () => {
 
     const readings = generateReadings(20, 1000, 5);
     const config = testConfig();
-    await createTopic(topic, 4);
-    await createTopic(alertTopic, 2);
-    await createTopic(rejectedTopic, 1);
+    await bed.createTopics([4, 2, 1]);
     const kafka = kafkaClient();
     const slices = 10;
     const per = Math.ceil(readings.length / slices);
     await produceReadings(kafka, topic, readings.slice(0, per));
 
-    mon = spawnMonitor({
-      topic,
-      alertTopic,
-      rejectedTopic,
-      group,
-      prefix,
-      configFile: writeTestConfig(),
-      extra: ['--redis', url],
-    });
+    const mon = bed.spawn(writeTestConfig(), { extra: ['--redis', url] });
     await mon.waitForLog(/"msg":"checkpoint"/, 45_000);
 
     server.kill('SIGSTOP');
@@ -115,8 +97,7 @@ describe('streamfence run: Redis outage', () => {
     await producing;
 
     await waitCheckpointedToEnd(redis, prefix, group, topic, 60_000);
-    const seen = await storedSeen(redis, prefix, group, topic, config);
-    expect(Object.fromEntries(seen)).toEqual(Object.fromEntries(countBySensor(readings)));
+    await expectExactState({ redis, prefix, group, topic }, readings, config);
     expect(mon.logs.some((l) => /"dependency":"redis".*retrying/.test(l))).toBe(true);
 
     const metricsPort = await mon.metricsPort();
@@ -125,13 +106,7 @@ describe('streamfence run: Redis outage', () => {
       Number(/^streamfence_backoff_total\{dependency="redis"\} (\S+)$/m.exec(text)?.[1]),
     ).toBeGreaterThan(0);
 
-    const reference = referenceEvents(readings, config);
-    const live = eventsBySensor(await readAlertEvents(alertTopic));
-    for (const [sensor, events] of reference) {
-      const got = new Set((live.get(sensor) ?? []).map((e) => `${e.id}:${e.state}:${e.ts}`));
-      for (const e of events)
-        expect(got.has(`${e.id}:${e.state}:${e.ts}`), `${sensor} ${e.state}`).toBe(true);
-    }
+    await expectNoLostAlerts(alertTopic, readings, config);
     mon.child.kill('SIGTERM');
     expect(await mon.exited).toBe(0);
   });

@@ -4,8 +4,8 @@
  * line carries either secret or the full URL.
  */
 import { describe, expect, it } from 'vitest';
-import { redisUrl, uniqueName } from '../../harness/services.js';
-import { spawnMonitor, writeTestConfig } from './helpers.js';
+import { redisUrl } from '../../harness/services.js';
+import { spawnMonitor, uniqueMonitorNames, writeTestConfig } from './helpers.js';
 
 describe('streamfence run: secrets', () => {
   it('keeps passwords out of every log line while retrying', async () => {
@@ -13,11 +13,8 @@ describe('streamfence run: secrets', () => {
     u.username = 'plant-ops';
     u.password = 'redis-s3cret-pw';
     const mon = spawnMonitor({
-      topic: uniqueName('readings'),
-      alertTopic: uniqueName('alerts'),
-      rejectedTopic: uniqueName('rejected'),
-      group: uniqueName('group'),
-      prefix: uniqueName('sf'),
+      // Nothing is created for these names: the monitor never gets past the refused Redis.
+      ...uniqueMonitorNames(),
       configFile: writeTestConfig(),
       extra: [
         '--redis',
