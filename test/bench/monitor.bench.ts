@@ -372,7 +372,8 @@ export async function run(): Promise<Record<string, unknown>> {
     await sleep(2_000);
     await producer.disconnect();
     await alertConsumer.disconnect();
-    if (latMon.exitCode !== null) throw new Error(`the monitor under test exited early (code ${latMon.exitCode})`);
+    if (latMon.exitCode !== null)
+      throw new Error(`the monitor under test exited early (code ${latMon.exitCode})`);
     latMon.kill('SIGTERM');
     await new Promise((r) => latMon.once('exit', r));
     lat.sort((a, b) => a - b);
