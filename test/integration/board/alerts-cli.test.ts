@@ -9,6 +9,7 @@ import { promisify } from 'node:util';
 import { createTopic, deleteTopics, kafkaBrokers, kafkaClient, uniqueName } from '../../harness/services.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
+import { FIXTURE_BASELINE } from '../../support/alert-fixture.js';
 
 const run = promisify(execFile);
 const CLI = 'dist/services/cli/main.js';
@@ -30,21 +31,7 @@ function ev(
     ts: t,
     since: t,
     flaggedReadings: 1,
-    baseline: {
-      q1: 1,
-      median: 2,
-      q3: 3,
-      iqr: 2,
-      lowerFence: -2,
-      upperFence: 6,
-      lowerOuterFence: -5,
-      upperOuterFence: 9,
-      mean: 2,
-      stdDev: 1,
-      count: 100,
-      from: null,
-      to: null,
-    },
+    baseline: { ...FIXTURE_BASELINE },
     z: 5.5,
     robustZ: 4,
     percentileRank: 100,

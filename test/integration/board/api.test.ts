@@ -10,6 +10,7 @@ import { createBoardMetrics } from '../../../services/board/metrics.js';
 import { MAX_BODY_BYTES, startBoardServer, type RunningBoard } from '../../../services/board/server.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
+import { FIXTURE_BASELINE } from '../../support/alert-fixture.js';
 
 const T0 = Date.parse('2026-05-10T06:00:00Z');
 let wall = T0;
@@ -25,21 +26,7 @@ function ev(id: string, state: AlertEvent['state'], severity: AlertEvent['severi
     ts: new Date(T0).toISOString(),
     since: new Date(T0).toISOString(),
     flaggedReadings: 2,
-    baseline: {
-      q1: 1,
-      median: 2,
-      q3: 3,
-      iqr: 2,
-      lowerFence: -2,
-      upperFence: 6,
-      lowerOuterFence: -5,
-      upperOuterFence: 9,
-      mean: 2,
-      stdDev: 1,
-      count: 100,
-      from: null,
-      to: null,
-    },
+    baseline: { ...FIXTURE_BASELINE },
     z: 40,
     robustZ: 30,
     percentileRank: 100,

@@ -22,6 +22,7 @@ import {
   redisClient,
   uniqueName,
 } from '../../harness/services.js';
+import { FIXTURE_BASELINE } from '../../support/alert-fixture.js';
 
 const run = promisify(execFile);
 
@@ -37,21 +38,7 @@ function ev(id: string, state: AlertEvent['state']): AlertEvent {
     ts: t,
     since: t,
     flaggedReadings: 3,
-    baseline: {
-      q1: 1,
-      median: 2,
-      q3: 3,
-      iqr: 2,
-      lowerFence: -2,
-      upperFence: 6,
-      lowerOuterFence: -5,
-      upperOuterFence: 9,
-      mean: 2,
-      stdDev: 1,
-      count: 100,
-      from: null,
-      to: null,
-    },
+    baseline: { ...FIXTURE_BASELINE },
     z: 9,
     robustZ: 9,
     percentileRank: 100,

@@ -3,6 +3,7 @@ import { actionLine, eventLine, passesSeverity, shortTime } from '../../../libs/
 import { parseSince } from '../../../services/cli/commands/alerts.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
+import { FIXTURE_BASELINE } from '../../support/alert-fixture.js';
 
 const ESC = String.fromCharCode(27);
 
@@ -16,21 +17,7 @@ const ev: AlertEvent = {
   ts: '2026-02-11T10:20:30.456Z',
   since: '2026-02-11T10:20:30.456Z',
   flaggedReadings: 1,
-  baseline: {
-    q1: 1,
-    median: 2,
-    q3: 3,
-    iqr: 2,
-    lowerFence: -2,
-    upperFence: 6,
-    lowerOuterFence: -5,
-    upperOuterFence: 9,
-    mean: 2,
-    stdDev: 1,
-    count: 100,
-    from: null,
-    to: null,
-  },
+  baseline: { ...FIXTURE_BASELINE },
   z: 9,
   robustZ: 9,
   percentileRank: 100,

@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { AlertBoard, checkAction, UNNAMED, type OperatorAction } from '../../../libs/board/store.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
+import { FIXTURE_BASELINE } from '../../support/alert-fixture.js';
 
 const T0 = Date.parse('2026-03-02T08:00:00Z');
 const MIN = 60_000;
@@ -23,21 +24,7 @@ function ev(
     ts: new Date(T0 + sinceMin * MIN).toISOString(),
     since: new Date(T0 + sinceMin * MIN).toISOString(),
     flaggedReadings: 1,
-    baseline: {
-      q1: 1,
-      median: 2,
-      q3: 3,
-      iqr: 2,
-      lowerFence: -2,
-      upperFence: 6,
-      lowerOuterFence: -5,
-      upperOuterFence: 9,
-      mean: 2,
-      stdDev: 1,
-      count: 100,
-      from: null,
-      to: null,
-    },
+    baseline: { ...FIXTURE_BASELINE },
     z: 8,
     robustZ: 5,
     percentileRank: 100,
