@@ -30,10 +30,16 @@ export function normals(n: number, seed: number): Float64Array {
   return a;
 }
 
+/** Best of three passes, each on fresh state: the first pass also pays for JIT compilation. */
 function rate(n: number, f: () => void): number {
-  const t = performance.now();
-  f();
-  return n / ((performance.now() - t) / 1000);
+  let best = 0;
+  for (let pass = 0; pass < 3; pass++) {
+    gc();
+    const t = performance.now();
+    f();
+    best = Math.max(best, n / ((performance.now() - t) / 1000));
+  }
+  return best;
 }
 
 function gc(): void {
