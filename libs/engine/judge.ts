@@ -56,7 +56,10 @@ export interface Fences {
   upperOuter: number;
 }
 
-export function fencesOf(b: Baseline, s: SensorSettings): Fences {
+export function fencesOf(
+  b: Pick<Baseline, 'q1' | 'q3' | 'iqr'>,
+  s: Pick<SensorSettings, 'fenceK' | 'outerK'>,
+): Fences {
   return {
     lower: b.q1 - s.fenceK * b.iqr,
     upper: b.q3 + s.fenceK * b.iqr,

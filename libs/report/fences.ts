@@ -1,27 +1,19 @@
 /**
- * The fence band drawn in the report for one baseline: Tukey's fences Q1 - k*IQR and Q3 + k*IQR
- * with the sensor's inner (fenceK) and outer (outerK) multipliers, plus the median. Computed here
- * from the baseline and settings so the report shows what the rules use without reaching into
- * engine caches.
+ * The fence band drawn in the report for one baseline: the median and the inner and outer
+ * Tukey fences, computed by the engine's own `fencesOf`, so the chart shows exactly what the
+ * rules use.
  */
 import type { SensorSettings } from '../config/settings.js';
-
-export interface BaselineQuartiles {
-  q1: number;
-  median: number;
-  q3: number;
-}
+import { fencesOf } from '../engine/judge.js';
+import type { Baseline } from '../engine/window.js';
 
 /** [median, lower, upper, lowerOuter, upperOuter], the order of FENCE_CHANNELS. */
-export function fenceBand(b: BaselineQuartiles, s: Pick<SensorSettings, 'fenceK' | 'outerK'>): Float64Array {
-  const iqr = b.q3 - b.q1;
-  return Float64Array.of(
-    b.median,
-    b.q1 - s.fenceK * iqr,
-    b.q3 + s.fenceK * iqr,
-    b.q1 - s.outerK * iqr,
-    b.q3 + s.outerK * iqr,
-  );
+export function fenceBand(
+  b: Pick<Baseline, 'q1' | 'median' | 'q3' | 'iqr'>,
+  s: Pick<SensorSettings, 'fenceK' | 'outerK'>,
+): Float64Array {
+  const f = fencesOf(b, s);
+  return Float64Array.of(b.median, f.lower, f.upper, f.lowerOuter, f.upperOuter);
 }
 
 /** Five NaNs: no baseline yet (the chart leaves a gap). */

@@ -8,7 +8,7 @@ import { fenceBand } from '../../../libs/report/fences.js';
 describe('fenceBand', () => {
   it('is Tukey fences Q1 - k*IQR and Q3 + k*IQR (Tukey 1977, EDA 2C) with inner and outer k', () => {
     // Hand-worked: Q1 = 10, Q3 = 20, IQR = 10; k = 1.5 -> -5 / 35, k = 3 -> -20 / 50.
-    expect([...fenceBand({ q1: 10, median: 14, q3: 20 }, { fenceK: 1.5, outerK: 3 })]).toEqual([
+    expect([...fenceBand({ q1: 10, median: 14, q3: 20, iqr: 10 }, { fenceK: 1.5, outerK: 3 })]).toEqual([
       14, -5, 35, -20, 50,
     ]);
   });
