@@ -3,9 +3,8 @@
  * (PLAIN, SCRAM-SHA-256, SCRAM-SHA-512). kafkajs log lines are forwarded to our pino logger so
  * every line on stderr is one JSON object; kafkajs never sees or logs the password in clear.
  */
-import { readFileSync } from 'node:fs';
 import { Kafka, logLevel, type KafkaConfig, type SASLOptions, type LogEntry } from 'kafkajs';
-import { StreamfenceError } from '../../libs/errors/index.js';
+import { readPem } from '../tls-files.js';
 import type { Logger } from '../log.js';
 
 export const SASL_MECHANISMS = ['plain', 'scram-sha-256', 'scram-sha-512'] as const;
@@ -19,17 +18,6 @@ export interface KafkaConnectOptions {
   certFile?: string;
   keyFile?: string;
   sasl?: { mechanism: SaslMechanism; username: string; password: string };
-}
-
-function readPem(file: string, what: string): Buffer {
-  try {
-    return readFileSync(file);
-  } catch (e) {
-    throw new StreamfenceError(
-      'ARGS_INVALID',
-      `cannot read the Kafka ${what} file ${file}: ${(e as Error).message}`,
-    );
-  }
 }
 
 const LEVELS: Record<number, 'error' | 'warn' | 'info' | 'debug'> = {
@@ -57,9 +45,9 @@ export function kafkaConfig(o: KafkaConnectOptions, log: Logger): KafkaConfig {
   if (o.tls || o.caFile || o.certFile) {
     cfg.ssl = {
       rejectUnauthorized: true,
-      ca: o.caFile ? [readPem(o.caFile, 'CA')] : undefined,
-      cert: o.certFile ? readPem(o.certFile, 'certificate') : undefined,
-      key: o.keyFile ? readPem(o.keyFile, 'key') : undefined,
+      ca: o.caFile ? [readPem('Kafka', o.caFile, 'CA')] : undefined,
+      cert: o.certFile ? readPem('Kafka', o.certFile, 'certificate') : undefined,
+      key: o.keyFile ? readPem('Kafka', o.keyFile, 'key') : undefined,
     };
   }
   if (o.sasl) {

@@ -3,9 +3,9 @@
  * turns TLS on. Commands fail fast (no long offline queue): callers own the retry policy, so
  * an outage shows up as backoff in logs and metrics rather than as silent queueing.
  */
-import { readFileSync } from 'node:fs';
 import { Redis, type RedisOptions } from 'ioredis';
 import { StreamfenceError } from '../../libs/errors/index.js';
+import { readPem } from '../tls-files.js';
 
 export interface RedisConnectOptions {
   url: string;
@@ -17,17 +17,6 @@ export interface RedisConnectOptions {
   keyFile?: string;
   /** Per-command timeout; a paused server makes calls fail after this and the caller retries. */
   commandTimeoutMs?: number;
-}
-
-function readPem(file: string, what: string): Buffer {
-  try {
-    return readFileSync(file);
-  } catch (e) {
-    throw new StreamfenceError(
-      'ARGS_INVALID',
-      `cannot read the Redis ${what} file ${file}: ${(e as Error).message}`,
-    );
-  }
 }
 
 export function redisOptions(o: RedisConnectOptions): RedisOptions {
@@ -63,9 +52,9 @@ export function redisOptions(o: RedisConnectOptions): RedisOptions {
   if (u.protocol === 'rediss:' || o.caFile || o.certFile) {
     opts.tls = {
       servername: u.hostname,
-      ca: o.caFile ? readPem(o.caFile, 'CA') : undefined,
-      cert: o.certFile ? readPem(o.certFile, 'certificate') : undefined,
-      key: o.keyFile ? readPem(o.keyFile, 'key') : undefined,
+      ca: o.caFile ? readPem('Redis', o.caFile, 'CA') : undefined,
+      cert: o.certFile ? readPem('Redis', o.certFile, 'certificate') : undefined,
+      key: o.keyFile ? readPem('Redis', o.keyFile, 'key') : undefined,
     };
   }
   return opts;

@@ -11,7 +11,14 @@ import { NOTICE } from '../../../libs/schema/notice.js';
 import { ENV } from '../../config/env.js';
 import { follow } from '../../board/follow.js';
 import { asAction, asAlertEvent, type ActionMessage } from '../../board/live.js';
-import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
+import {
+  parseCommandArgs,
+  printBanner,
+  printHelp,
+  stringOption,
+  usageError,
+  brokersOption,
+} from '../args.js';
 
 const CMD = 'alerts';
 const KNOWN_CAP = 100_000;
@@ -67,11 +74,7 @@ export async function main(argv: string[]): Promise<number> {
     false,
   );
   if (args.help) return printHelp(HELP);
-  const brokers = (stringOption(args, 'brokers', CMD) ?? process.env[ENV.brokers] ?? '')
-    .split(',')
-    .map((s) => s.trim())
-    .filter(Boolean);
-  if (brokers.length === 0) usageError(`--brokers is required (or set ${ENV.brokers})`, CMD);
+  const brokers = brokersOption(args, CMD);
   const alertTopic = stringOption(args, 'alert-topic', CMD) ?? process.env[ENV.alertTopic] ?? 'sensor-alerts';
   const actionTopicOpt = stringOption(args, 'action-topic', CMD);
   const severityRaw = stringOption(args, 'severity', CMD);

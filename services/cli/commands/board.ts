@@ -13,7 +13,14 @@ import { BoardHub } from '../../board/hub.js';
 import { LiveFeed } from '../../board/live.js';
 import { createBoardMetrics } from '../../board/metrics.js';
 import { startBoardServer } from '../../board/server.js';
-import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
+import {
+  parseCommandArgs,
+  printBanner,
+  printHelp,
+  stringOption,
+  usageError,
+  brokersOption,
+} from '../args.js';
 import { parseSince } from './alerts.js';
 
 const CMD = 'board';
@@ -57,11 +64,7 @@ export async function main(argv: string[]): Promise<number> {
     false,
   );
   if (args.help) return printHelp(HELP);
-  const brokers = (stringOption(args, 'brokers', CMD) ?? process.env[ENV.brokers] ?? '')
-    .split(',')
-    .map((s) => s.trim())
-    .filter(Boolean);
-  if (brokers.length === 0) usageError(`--brokers is required (or set ${ENV.brokers})`, CMD);
+  const brokers = brokersOption(args, CMD);
   const redisUrl = stringOption(args, 'redis', CMD) ?? process.env[ENV.redisUrl];
   if (!redisUrl)
     usageError(`--redis is required (or set ${ENV.redisUrl}): operator actions are kept there`, CMD);

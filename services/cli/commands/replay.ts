@@ -8,6 +8,7 @@ import { readFile, stat } from 'node:fs/promises';
 import { defaultConfig, parseConfigText, type EngineConfig } from '../../../libs/config/config.js';
 import { StreamfenceError } from '../../../libs/errors/index.js';
 import {
+  brokersOption,
   parseCommandArgs,
   printBanner,
   printHelp,
@@ -15,7 +16,6 @@ import {
   usageError,
   type ParsedArgs,
 } from '../args.js';
-import { ENV } from '../../config/env.js';
 import { Progress, formatCount, formatSeconds } from '../../progress.js';
 import { detectFormat, isGzipPath, newInputStats, readInput, unreadable } from '../../replay/input.js';
 import { REPLAY_FILES, runReplay, type ReplayObserver } from '../../replay/replay.js';
@@ -205,11 +205,9 @@ function positiveNumber(raw: string | undefined, name: string, dflt: number, who
 function kafkaRange(input: string, args: ParsedArgs): KafkaRange {
   const rest = input.slice('kafka://'.length);
   if (rest.includes('/')) return parseKafkaUrl(input);
-  const brokers = stringOption(args, 'brokers', CMD) ?? process.env[ENV.brokers] ?? '';
+  const brokers = brokersOption(args, CMD, 'a kafka:// input needs --brokers HOST:PORT').join(',');
   const from = stringOption(args, 'from', CMD);
   const to = stringOption(args, 'to', CMD);
-  if (brokers.trim() === '')
-    usageError('a kafka:// input needs --brokers HOST:PORT (or STREAMFENCE_BROKERS)', CMD);
   if (from === undefined || to === undefined)
     usageError('a kafka:// input needs --from TIME and --to TIME', CMD);
   const time = (name: string, v: string): number => {
