@@ -27,7 +27,11 @@ const LEVELS: Record<number, 'error' | 'warn' | 'info' | 'debug'> = {
   [logLevel.DEBUG]: 'debug',
 };
 
-export function kafkaConfig(o: KafkaConnectOptions, log: Logger): KafkaConfig {
+/**
+ * `onError` is told about every error kafkajs reports (it retries them itself: failed requests,
+ * lost group membership), so the caller can count Kafka trouble it never sees as an exception.
+ */
+export function kafkaConfig(o: KafkaConnectOptions, log: Logger, onError?: () => void): KafkaConfig {
   const cfg: KafkaConfig = {
     clientId: o.clientId,
     brokers: o.brokers,
@@ -38,6 +42,7 @@ export function kafkaConfig(o: KafkaConnectOptions, log: Logger): KafkaConfig {
     logLevel: logLevel.WARN,
     logCreator: () => (entry: LogEntry) => {
       const level = LEVELS[entry.level] ?? 'info';
+      if (entry.level === logLevel.ERROR) onError?.();
       const { message, ...rest } = entry.log;
       log[level]({ kafkajs: entry.namespace, ...pickSafe(rest) }, String(message));
     },
@@ -67,6 +72,6 @@ function pickSafe(o: Record<string, unknown>): Record<string, unknown> {
   return out;
 }
 
-export function createKafka(o: KafkaConnectOptions, log: Logger): Kafka {
-  return new Kafka(kafkaConfig(o, log));
+export function createKafka(o: KafkaConnectOptions, log: Logger, onError?: () => void): Kafka {
+  return new Kafka(kafkaConfig(o, log, onError));
 }

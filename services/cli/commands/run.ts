@@ -69,6 +69,9 @@ export async function main(argv: string[]): Promise<number> {
       sasl: o.kafka.sasl,
     },
     log,
+    // Errors kafkajs retries on its own (a broker that stops answering, a lost group membership)
+    // count as Kafka backoff too, so an outage shows in the metric even when no call of ours fails.
+    () => metrics.backoff.inc({ dependency: 'kafka' }),
   );
   log.info(
     {

@@ -133,8 +133,8 @@ export async function produceReadings(
 /** Every message on a topic (all partitions), read from the start up to the current end. */
 export async function readTopic(
   topic: string,
+  kafka: Kafka = kafkaClient(),
 ): Promise<{ key: string | null; value: Buffer | null; partition: number }[]> {
-  const kafka = kafkaClient();
   const admin = kafka.admin();
   await admin.connect();
   const ends = await admin.fetchTopicOffsets(topic);
@@ -164,8 +164,8 @@ export async function readTopic(
   return out;
 }
 
-export async function readAlertEvents(topic: string): Promise<AlertEvent[]> {
-  return (await readTopic(topic)).map((m) => JSON.parse(m.value!.toString('utf8')) as AlertEvent);
+export async function readAlertEvents(topic: string, kafka?: Kafka): Promise<AlertEvent[]> {
+  return (await readTopic(topic, kafka)).map((m) => JSON.parse(m.value!.toString('utf8')) as AlertEvent);
 }
 
 export interface MonitorProc {
@@ -355,8 +355,9 @@ export async function waitCheckpointedToEnd(
   group: string,
   topic: string,
   timeoutMs = 60_000,
+  kafka: Kafka = kafkaClient(),
 ): Promise<void> {
-  const admin = kafkaClient().admin();
+  const admin = kafka.admin();
   await admin.connect();
   const ends = await admin.fetchTopicOffsets(topic);
   await admin.disconnect();
@@ -428,11 +429,11 @@ export async function expectNoLostAlerts(
   alertTopic: string,
   readings: Reading[],
   config: EngineConfig,
-  { onlyReferenceEvents = false } = {},
+  { onlyReferenceEvents = false, kafka }: { onlyReferenceEvents?: boolean; kafka?: Kafka } = {},
 ): Promise<number> {
   const key = (e: AlertEvent) => `${e.id}:${e.state}:${e.ts}`;
   const reference = referenceEvents(readings, config);
-  const live = eventsBySensor(await readAlertEvents(alertTopic));
+  const live = eventsBySensor(await readAlertEvents(alertTopic, kafka));
   let checked = 0;
   for (const [sensor, events] of reference) {
     const got = live.get(sensor) ?? [];
