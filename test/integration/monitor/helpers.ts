@@ -1,3 +1,4 @@
+import { createServer } from 'node:net';
 /**
  * Shared pieces of the live-monitor integration tests: a seeded invented data set, producing it,
  * spawning the built CLI as a child process, reading topics back, and the in-process reference
@@ -448,4 +449,16 @@ export async function expectNoLostAlerts(
     }
   }
   return checked;
+}
+
+/** A TCP port that was free a moment ago on 127.0.0.1 (for a dedicated server in a test). */
+export async function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const s = createServer();
+    s.once('error', reject);
+    s.listen(0, '127.0.0.1', () => {
+      const port = (s.address() as { port: number }).port;
+      s.close(() => resolve(port));
+    });
+  });
 }

@@ -6,7 +6,6 @@
  */
 import { spawn } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
-import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { Kafka, logLevel } from 'kafkajs';
@@ -15,6 +14,7 @@ import { redisUrl } from '../../harness/services.js';
 import {
   REPO_ROOT,
   expectExactState,
+  freePort,
   expectNoLostAlerts,
   generateReadings,
   produceReadings,
@@ -24,17 +24,6 @@ import {
   waitCheckpointedToEnd,
   writeTestConfig,
 } from './helpers.js';
-
-async function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = createServer();
-    s.once('error', reject);
-    s.listen(0, '127.0.0.1', () => {
-      const port = (s.address() as { port: number }).port;
-      s.close(() => resolve(port));
-    });
-  });
-}
 
 function runScript(script: string, env: NodeJS.ProcessEnv, args: string[] = []): Promise<void> {
   return new Promise((resolve, reject) => {

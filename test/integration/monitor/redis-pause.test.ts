@@ -4,12 +4,12 @@
  * and its state is exact.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { createServer } from 'node:net';
 import { afterAll, describe, expect, it } from 'vitest';
 import { Redis } from 'ioredis';
 import { kafkaClient } from '../../harness/services.js';
 import {
   expectExactState,
+  freePort,
   expectNoLostAlerts,
   generateReadings,
   produceReadings,
@@ -19,17 +19,6 @@ import {
   waitCheckpointedToEnd,
   writeTestConfig,
 } from './helpers.js';
-
-async function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = createServer();
-    s.once('error', reject);
-    s.listen(0, '127.0.0.1', () => {
-      const port = (s.address() as { port: number }).port;
-      s.close(() => resolve(port));
-    });
-  });
-}
 
 describe('streamfence run: Redis outage', () => {
   let server: ChildProcess | undefined;
