@@ -1,9 +1,9 @@
-import { createServer } from 'node:net';
 /**
  * Shared pieces of the live-monitor integration tests: a seeded invented data set, producing it,
  * spawning the built CLI as a child process, reading topics back, and the in-process reference
  * (the same Engine code replay uses) to compare against.
  */
+import { createServer } from 'node:net';
 import { spawn, type ChildProcess } from 'node:child_process';
 import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
