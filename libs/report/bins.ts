@@ -73,6 +73,10 @@ export class AdaptiveBins {
   /** Add a value at ts (counts toward count/min/max). */
   add(ts: number, value: number): void {
     const p = this.slotFor(ts);
+    this.addAt(p, value);
+  }
+
+  private addAt(p: number, value: number): void {
     if (this.count[p] === 0) {
       this.min[p] = value;
       this.max[p] = value;
@@ -100,14 +104,7 @@ export class AdaptiveBins {
    */
   addSampled(ts: number, value: number, samples: ArrayLike<number>): void {
     const p = this.slotFor(ts);
-    if (this.count[p] === 0) {
-      this.min[p] = value;
-      this.max[p] = value;
-    } else {
-      if (value < this.min[p]) this.min[p] = value;
-      if (value > this.max[p]) this.max[p] = value;
-    }
-    this.count[p]++;
+    this.addAt(p, value);
     for (let c = 0; c < this.lastVal.length; c++) {
       const v = samples[c];
       if (Number.isNaN(v) || ts < this.lastTs[c][p]) continue;

@@ -9,6 +9,7 @@ import { BoardHub } from '../../services/board/hub.js';
 import { asAlertEvent } from '../../services/board/live.js';
 import type { AlertEvent } from '../../libs/schema/alert-event.js';
 import { NOTICE } from '../../libs/schema/notice.js';
+import { FIXTURE_BASELINE } from '../support/alert-fixture.js';
 
 const T0 = Date.parse('2026-06-01T00:00:00Z');
 
@@ -29,21 +30,7 @@ function messages(sensors: number, rounds: number): Buffer[] {
           ts: t,
           since: t,
           flaggedReadings: 2,
-          baseline: {
-            q1: 1,
-            median: 2,
-            q3: 3,
-            iqr: 2,
-            lowerFence: -2,
-            upperFence: 6,
-            lowerOuterFence: -5,
-            upperOuterFence: 9,
-            mean: 2,
-            stdDev: 1,
-            count: 100,
-            from: t,
-            to: t,
-          },
+          baseline: { ...FIXTURE_BASELINE, from: t, to: t },
           z: 4,
           robustZ: 3,
           percentileRank: 99.5,

@@ -24,6 +24,7 @@ import { Monitor, type MonitorSettings } from '../../services/monitor/monitor.js
 import { partitionKeys } from '../../services/redis/keys.js';
 import { createKafka } from '../../services/kafka/client.js';
 import { createRedis } from '../../services/redis/client.js';
+import { mulberry32 } from './prng.js';
 
 // Compiled to dist-bench/test/bench/ by the bench runner, or run from test/bench/ with tsx: the
 // repository is the nearest folder up with a package.json, and the monitor is its built CLI.
@@ -50,16 +51,6 @@ const LATENCY_CONFIG = `defaults: { window: "10s", buckets: 10, minSamples: 20, 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 const brokers = () => (process.env.STREAMFENCE_TEST_BROKERS ?? '127.0.0.1:9092').split(',');
 const name = (p: string) => `bench-${p}-${process.pid}-${Date.now().toString(36)}`;
-
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = Math.imul(a ^ (a >>> 15), a | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 async function freePort(): Promise<number> {
   return new Promise((resolve, reject) => {
@@ -125,7 +116,7 @@ function readings(
   t0: number,
   seed: number,
 ): { key: string; value: string }[] {
-  const rnd = rng(seed);
+  const rnd = mulberry32(seed);
   const out: { key: string; value: string }[] = [];
   for (let k = 0; k < perSensor; k++) {
     for (let i = 0; i < sensors; i++) {
@@ -348,7 +339,7 @@ export async function run(): Promise<Record<string, unknown>> {
     await sleep(8_000); // let the monitor start and both consumers join
     const producer = kafka.producer();
     await producer.connect();
-    const rnd = rng(3);
+    const rnd = mulberry32(3);
     const rate = 5_000;
     const tick = 50; // ms: 250 readings per tick
     const seconds = 20;

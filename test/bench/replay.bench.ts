@@ -13,24 +13,14 @@ import { join } from 'node:path';
 import { defaultConfig } from '../../libs/config/config.js';
 import { readInput, type InputFormat } from '../../services/replay/input.js';
 import { runReplay } from '../../services/replay/replay.js';
+import { mulberry32 } from './prng.js';
 
 const SENSORS = 1000;
 const PER_SENSOR = 2000;
 const START = Date.parse('2026-01-05T00:00:00Z');
 
-function prng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
 async function generate(dir: string): Promise<{ ndjson: string; csv: string; rows: number }> {
-  const rand = prng(7);
+  const rand = mulberry32(7);
   const gauss = () => Math.sqrt(-2 * Math.log(Math.max(rand(), 1e-12))) * Math.cos(2 * Math.PI * rand());
   const ids = Array.from(
     { length: SENSORS },

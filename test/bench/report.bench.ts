@@ -14,24 +14,14 @@ import type { Reading } from '../../libs/engine/reading.js';
 import type { InputRecord } from '../../services/replay/input.js';
 import { runReplay } from '../../services/replay/replay.js';
 import { createReportObserver } from '../../services/report/replay-report.js';
+import { mulberry32 } from './prng.js';
 
 const SENSORS = 500;
 const PER_SENSOR = 1000;
 const START = Date.parse('2026-01-05T00:00:00Z');
 
-function prng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
 function readings(): Reading[] {
-  const rand = prng(42);
+  const rand = mulberry32(42);
   const gauss = (): number =>
     Math.sqrt(-2 * Math.log(Math.max(rand(), 1e-12))) * Math.cos(2 * Math.PI * rand());
   const out: Reading[] = [];
