@@ -4,7 +4,7 @@
  */
 import { readFile } from 'node:fs/promises';
 import { availableParallelism } from 'node:os';
-import { configToJson, defaultConfig, parseConfigText, type EngineConfig } from '../../libs/config/config.js';
+import { configToJson, type EngineConfig } from '../../libs/config/config.js';
 import { ENGINE_VERSION } from '../../libs/engine/engine.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import { NOTICE } from '../../libs/schema/notice.js';
@@ -16,6 +16,7 @@ import { spanOf } from '../../libs/tuning/columns.js';
 import { DEFAULT_GRID_SPEC, expandGrid, formatGridSpec, parseGridSpec } from '../../libs/tuning/grid.js';
 import { recommend } from '../../libs/tuning/recommend.js';
 import { Progress, formatCount, formatSeconds, type ProgressSink } from '../progress.js';
+import { loadEngineConfig } from '../setup/config-file.js';
 import { loadColumns } from './load.js';
 import { runGrid } from './pool.js';
 import { writeOutputs, TUNING_FORMAT_VERSION, type PointResult, type TuningResult } from './outputs.js';
@@ -56,9 +57,7 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   const stream = o.stream ?? process.stderr;
   const budget = o.budget ?? ALERT_BUDGET_PER_HOUR;
   const workers = o.workers ?? availableParallelism();
-  const base: EngineConfig = o.config
-    ? parseConfigText(await readText(o.config, 'config'), o.config)
-    : defaultConfig();
+  const base: EngineConfig = loadEngineConfig(o.config);
   const spec = parseGridSpec(o.grid ?? DEFAULT_GRID_SPEC);
   const points = expandGrid(spec, base.defaults);
   // Fail on a point the config would refuse before spending time on the input.

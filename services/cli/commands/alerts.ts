@@ -19,7 +19,8 @@ import {
   stringOption,
   usageError,
   brokersOption,
-} from '../args.js';
+} from '../../setup/args.js';
+import { onStopSignal } from '../../setup/signals.js';
 
 const CMD = 'alerts';
 const KNOWN_CAP = 100_000;
@@ -194,15 +195,13 @@ export async function main(argv: string[]): Promise<number> {
     },
   });
   const stop = () => void follower.stop();
-  process.once('SIGINT', stop);
-  process.once('SIGTERM', stop);
+  const releaseSignals = onStopSignal(stop);
   const poll = setInterval(() => {
     if (broken) stop();
   }, 200);
   await follower.done;
   flush();
   clearInterval(poll);
-  process.off('SIGINT', stop);
-  process.off('SIGTERM', stop);
+  releaseSignals();
   return 0;
 }

@@ -20,7 +20,9 @@ import {
   stringOption,
   usageError,
   brokersOption,
-} from '../args.js';
+  numberOption,
+} from '../../setup/args.js';
+import { untilStopSignal } from '../../setup/signals.js';
 import { parseSince } from './alerts.js';
 
 const CMD = 'board';
@@ -73,10 +75,7 @@ export async function main(argv: string[]): Promise<number> {
   const prefix = stringOption(args, 'state-prefix', CMD) ?? process.env[ENV.statePrefix] ?? 'streamfence';
   const sinceRaw = stringOption(args, 'since', CMD);
   const sinceMs = sinceRaw === undefined ? null : parseSince(sinceRaw, Date.now(), CMD);
-  const portRaw = stringOption(args, 'port', CMD) ?? '8080';
-  const port = Number(portRaw);
-  if (!Number.isInteger(port) || port < 0 || port > 65535)
-    usageError(`--port must be a whole number from 0 to 65535, got "${portRaw}"`, CMD);
+  const port = numberOption(args, 'port', CMD, { whole: true, min: 0, max: 65535, fallback: 8080 });
   const host = stringOption(args, 'host', CMD) ?? '127.0.0.1';
   const token = boardTokenFor(
     host,
@@ -127,10 +126,7 @@ export async function main(argv: string[]): Promise<number> {
     `streamfence board: following ${alertTopic} and ${actionTopic}; board at ${board.url}/\n`,
   );
 
-  await new Promise<void>((resolve) => {
-    process.once('SIGINT', () => resolve());
-    process.once('SIGTERM', () => resolve());
-  });
+  await untilStopSignal();
   await board.close();
   await feed.stop();
   redis.disconnect();

@@ -10,7 +10,15 @@ import { DemoFeed } from '../../board/demo-feed.js';
 import { BoardHub } from '../../board/hub.js';
 import { createBoardMetrics } from '../../board/metrics.js';
 import { startBoardServer } from '../../board/server.js';
-import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
+import {
+  numberOption,
+  parseCommandArgs,
+  printBanner,
+  printHelp,
+  stringOption,
+  usageError,
+} from '../../setup/args.js';
+import { untilStopSignal } from '../../setup/signals.js';
 
 const CMD = 'demo';
 
@@ -32,14 +40,6 @@ Serves: /  the board   /api/alerts   /api/events (live)   /metrics   /healthz
 ${NOTICE}
 `;
 
-function intOption(raw: string | undefined, name: string, def: number, min: number, max: number): number {
-  if (raw === undefined) return def;
-  const n = Number(raw);
-  if (!Number.isFinite(n) || n < min || n > max)
-    usageError(`--${name} must be a number from ${min} to ${max}, got "${raw}"`, CMD);
-  return n;
-}
-
 export async function main(argv: string[]): Promise<number> {
   const args = parseCommandArgs(
     CMD,
@@ -56,10 +56,10 @@ export async function main(argv: string[]): Promise<number> {
     false,
   );
   if (args.help) return printHelp(HELP);
-  const port = intOption(stringOption(args, 'port', CMD), 'port', 8080, 0, 65535);
+  const port = numberOption(args, 'port', CMD, { min: 0, max: 65535, fallback: 8080 });
   const host = stringOption(args, 'host', CMD) ?? '127.0.0.1';
-  const speed = intOption(stringOption(args, 'speed', CMD), 'speed', 60, 1, 3600);
-  const seed = Math.trunc(intOption(stringOption(args, 'seed', CMD), 'seed', 7, 0, 2 ** 31 - 1));
+  const speed = numberOption(args, 'speed', CMD, { min: 1, max: 3600, fallback: 60 });
+  const seed = Math.trunc(numberOption(args, 'seed', CMD, { min: 0, max: 2 ** 31 - 1, fallback: 7 }));
   const scenario = stringOption(args, 'scenario', CMD) ?? DEFAULT_SCENARIO;
   if (!(scenario in SCENARIOS))
     usageError(`unknown scenario "${scenario}"; choose one of ${Object.keys(SCENARIOS).join(', ')}`, CMD);
@@ -105,11 +105,7 @@ export async function main(argv: string[]): Promise<number> {
     metrics.readings.inc(n);
   }, 250);
 
-  await new Promise<void>((resolve) => {
-    const stop = () => resolve();
-    process.once('SIGINT', stop);
-    process.once('SIGTERM', stop);
-  });
+  await untilStopSignal();
   clearInterval(pump);
   await board.close();
   process.stderr.write('streamfence demo: stopped\n');

@@ -2,13 +2,14 @@
  * `streamfence inspect [SENSOR...]`: one JSON line per sensor from the live monitor's checkpoints
  * in Redis (all sensors when none are named): lifetime count, baseline, active alert, partition.
  */
-import { readFileSync } from 'node:fs';
-import { parseArgs } from 'node:util';
-import { parseConfigText } from '../../../libs/config/config.js';
 import { StreamfenceError } from '../../../libs/errors/index.js';
 import { ENV } from '../../config/env.js';
 import { describeSensor, storedSensors } from '../../monitor/inspect-state.js';
 import { createRedis } from '../../redis/client.js';
+import { parseCommandArgs, printHelp, stringOption, usageError } from '../../setup/args.js';
+import { loadEngineConfig } from '../../setup/config-file.js';
+
+const CMD = 'inspect';
 
 const HELP = `Usage: streamfence inspect [SENSOR...] [options]
 
@@ -27,49 +28,20 @@ The Redis password comes from ${ENV.redisPassword} or the URL, the user from ${E
 `;
 
 export async function main(argv: string[]): Promise<number> {
-  let parsed;
-  try {
-    parsed = parseArgs({
-      args: argv,
-      allowPositionals: true,
-      strict: true,
-      options: {
-        redis: { type: 'string' },
-        'state-prefix': { type: 'string' },
-        group: { type: 'string' },
-        'input-topic': { type: 'string' },
-        config: { type: 'string' },
-        help: { type: 'boolean' },
-      },
-    });
-  } catch (e) {
-    throw new StreamfenceError('ARGS_INVALID', `${(e as Error).message}. Run "streamfence inspect --help".`);
-  }
-  const v = parsed.values;
-  if (v.help) {
-    process.stdout.write(HELP);
-    return 0;
-  }
-  const url = v.redis ?? process.env[ENV.redisUrl];
-  if (!url)
-    throw new StreamfenceError(
-      'ARGS_INVALID',
-      `no Redis: pass --redis redis://host:port or set ${ENV.redisUrl}`,
-    );
-  const prefix = v['state-prefix'] ?? process.env[ENV.statePrefix] ?? 'streamfence';
-  let config;
-  if (v.config) {
-    let text: string;
-    try {
-      text = readFileSync(v.config, 'utf8');
-    } catch (e) {
-      throw new StreamfenceError(
-        'INPUT_UNREADABLE',
-        `cannot read the config file ${v.config}: ${(e as Error).message}`,
-      );
-    }
-    config = parseConfigText(text, v.config);
-  }
+  const parsed = parseCommandArgs(CMD, argv, {
+    redis: { type: 'string' },
+    'state-prefix': { type: 'string' },
+    group: { type: 'string' },
+    'input-topic': { type: 'string' },
+    config: { type: 'string' },
+  });
+  if (parsed.help) return printHelp(HELP);
+  const url = stringOption(parsed, 'redis', CMD) ?? process.env[ENV.redisUrl];
+  if (!url) usageError(`no Redis: pass --redis redis://host:port or set ${ENV.redisUrl}`, CMD);
+  const prefix = stringOption(parsed, 'state-prefix', CMD) ?? process.env[ENV.statePrefix] ?? 'streamfence';
+  // Without --config, each sensor is decoded with the config the monitor stored beside its state.
+  const configFile = stringOption(parsed, 'config', CMD);
+  const config = configFile === undefined ? undefined : loadEngineConfig(configFile);
   const redis = createRedis({
     url,
     username: process.env[ENV.redisUsername] || undefined,
@@ -87,8 +59,8 @@ export async function main(argv: string[]): Promise<number> {
       );
     }
     for await (const s of storedSensors(redis, prefix, {
-      group: v.group,
-      topic: v['input-topic'],
+      group: stringOption(parsed, 'group', CMD),
+      topic: stringOption(parsed, 'input-topic', CMD),
       only,
       config,
     })) {

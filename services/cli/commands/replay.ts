@@ -4,23 +4,24 @@
  * would in that order, and write the alert events, the rejected lines, a summary and optionally an
  * HTML report into DIR.
  */
-import { readFile, stat } from 'node:fs/promises';
-import { defaultConfig, parseConfigText, type EngineConfig } from '../../../libs/config/config.js';
-import { StreamfenceError } from '../../../libs/errors/index.js';
+import { stat } from 'node:fs/promises';
+import { ALERT_BUDGET_PER_HOUR } from '../../../libs/schema/vocabulary.js';
 import {
   brokersOption,
+  numberOption,
   parseCommandArgs,
   printBanner,
   printHelp,
   stringOption,
   usageError,
   type ParsedArgs,
-} from '../args.js';
+} from '../../setup/args.js';
+import { loadEngineConfig } from '../../setup/config-file.js';
 import { Progress, formatCount, formatSeconds } from '../../progress.js';
 import { detectFormat, isGzipPath, newInputStats, readInput, unreadable } from '../../replay/input.js';
 import { REPLAY_FILES, runReplay, type ReplayObserver } from '../../replay/replay.js';
 import type { InputRecord } from '../../replay/input.js';
-import { createReportObserver } from '../../report/replay-report.js';
+import { createReportObserver, REPORT_DEFAULTS } from '../../report/replay-report.js';
 import { writeReport, REPORT_FILE } from '../../report/write.js';
 import { isKafkaUrl, parseKafkaUrl, KAFKA_URL_EXAMPLE, type KafkaRange } from '../../replay-kafka/url.js';
 import { kafkaRangeSource, newKafkaRangeStats } from '../../replay-kafka/source.js';
@@ -41,8 +42,8 @@ INPUT           readings file: NDJSON (one {"sensor","ts","value"} per line; .nd
                   ${REPLAY_FILES.alerts}, ${REPLAY_FILES.rejected} and ${REPLAY_FILES.summary}
   --format F      ndjson or csv, when the extension does not say
   --report        also write ${REPORT_FILE}: counts, alert rate against the budget, charts of the top sensors
-  --report-top N  sensors charted in the report (default 8)
-  --budget N      alert budget in raised alerts per hour for the report (default 6)
+  --report-top N  sensors charted in the report (default ${REPORT_DEFAULTS.topN})
+  --budget N      alert budget in raised alerts per hour for the report (default ${ALERT_BUDGET_PER_HOUR})
   --audit         compare digest quartiles with exact ones for a sample of sensors (implies --report;
                   the numbers also go to ${REPLAY_FILES.summary} under "audit")
   --brokers LIST  Kafka brokers for a kafka:// input (default STREAMFENCE_BROKERS)
@@ -58,22 +59,6 @@ Blank lines are skipped; every other line that is not an accepted reading is lis
 ${REPLAY_FILES.rejected} with its line number and reason. Exit code 0 once the input was read (even
 with rejected lines), 2 for unusable arguments, config or input.
 `;
-
-async function loadConfig(path: string | undefined): Promise<EngineConfig> {
-  if (path === undefined) return defaultConfig();
-  let text: string;
-  try {
-    text = await readFile(path, 'utf8');
-  } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    const why =
-      code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'it is a directory' : (err as Error).message;
-    throw new StreamfenceError('CONFIG_INVALID', `cannot read config "${path}": ${why}; check --config`, {
-      cause: err,
-    });
-  }
-  return parseConfigText(text, path);
-}
 
 export async function main(argv: string[]): Promise<number> {
   const args = parseCommandArgs(CMD, argv, {
@@ -95,11 +80,15 @@ export async function main(argv: string[]): Promise<number> {
     usageError(`give one input file, got ${args.positionals.length}: ${args.positionals.join(' ')}`, CMD);
   const input = args.positionals[0];
   const outDir = stringOption(args, 'out', CMD) ?? './streamfence-out';
-  const config = await loadConfig(stringOption(args, 'config', CMD));
+  const config = loadEngineConfig(stringOption(args, 'config', CMD));
   const wantAudit = args.values.audit === true;
   const wantReport = wantAudit || args.values.report === true;
-  const topN = positiveNumber(stringOption(args, 'report-top', CMD), 'report-top', 8, true);
-  const budget = positiveNumber(stringOption(args, 'budget', CMD), 'budget', 6, false);
+  const topN = numberOption(args, 'report-top', CMD, {
+    whole: true,
+    above: 0,
+    fallback: REPORT_DEFAULTS.topN,
+  });
+  const budget = numberOption(args, 'budget', CMD, { above: 0, fallback: ALERT_BUDGET_PER_HOUR });
 
   const opened = isKafkaUrl(input) ? openKafka(kafkaRange(input, args)) : await openFile(input, args);
   const report = wantReport ? createReportObserver({ topN, audit: wantAudit, budgetPerHour: budget }) : null;
@@ -190,15 +179,6 @@ function openKafka(range: KafkaRange): OpenedInput {
     count: () => ks.messages,
     unit: 'messages',
   };
-}
-
-function positiveNumber(raw: string | undefined, name: string, dflt: number, whole: boolean): number {
-  if (raw === undefined) return dflt;
-  const n = Number(raw);
-  if (!Number.isFinite(n) || n <= 0 || (whole && !Number.isInteger(n))) {
-    usageError(`--${name} must be a positive ${whole ? 'whole ' : ''}number, got "${raw}"`, CMD);
-  }
-  return n;
 }
 
 /** `kafka://TOPIC` with --brokers/--from/--to, or the full `kafka://BROKERS/TOPIC?from=&to=` form. */

@@ -2,19 +2,20 @@
  * `streamfence run`: the live monitor. Prints the NOTICE banner, connects (waiting out outages),
  * serves /metrics /healthz /readyz, and on SIGTERM/SIGINT stops cleanly within 10 s.
  */
-import { readFileSync } from 'node:fs';
 import { hostname } from 'node:os';
-import { defaultConfig, parseConfigText } from '../../../libs/config/config.js';
 import { ENGINE_VERSION } from '../../../libs/engine/engine.js';
 import { StreamfenceError } from '../../../libs/errors/index.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
+import { ENV } from '../../config/env.js';
 import { createKafka } from '../../kafka/client.js';
 import { createLogger, safeUrl } from '../../log.js';
 import { startMetricsServer } from '../../metrics/http.js';
 import { createMetrics } from '../../metrics/metrics.js';
 import { Monitor } from '../../monitor/monitor.js';
-import { optionsHelp, parseRunOptions, RUN_OPTIONS } from '../../monitor/options.js';
+import { optionsHelp, parseRunOptions, RUN_OPTIONS } from '../run-options.js';
 import { createRedis } from '../../redis/client.js';
+import { loadEngineConfig } from '../../setup/config-file.js';
+import { onStopSignal } from '../../setup/signals.js';
 
 const STOP_DEADLINE_MS = 9_500;
 
@@ -42,19 +43,7 @@ export async function main(argv: string[]): Promise<number> {
   const log = createLogger('streamfence-run', o.logLevel);
   log.info({ notice: NOTICE, engine: ENGINE_VERSION }, `streamfence run: ${NOTICE}`);
 
-  let config = defaultConfig();
-  if (o.configFile) {
-    let text: string;
-    try {
-      text = readFileSync(o.configFile, 'utf8');
-    } catch (e) {
-      throw new StreamfenceError(
-        'INPUT_UNREADABLE',
-        `cannot read the config file ${o.configFile}: ${(e as Error).message}`,
-      );
-    }
-    config = parseConfigText(text, o.configFile);
-  }
+  const config = loadEngineConfig(o.configFile, `--config (or ${ENV.configFile})`);
 
   const metrics = createMetrics();
   const redis = createRedis({ url: o.redisUrl, ...o.redis });
@@ -141,19 +130,21 @@ export async function main(argv: string[]): Promise<number> {
   };
 
   return new Promise<number>((resolve) => {
-    const onSignal = (sig: NodeJS.Signals) => {
-      if (stopping) {
-        log.warn({ signal: sig }, 'second stop signal: exiting now');
-        process.exit(130);
-      }
-      void stop(sig).then((code) => {
-        resolve(code);
-        // Exit even if a library left a handle open; unref'd so a clean exit is not delayed.
-        setTimeout(() => process.exit(code), 1_000).unref();
-      });
-    };
-    process.on('SIGTERM', onSignal);
-    process.on('SIGINT', onSignal);
+    onStopSignal(
+      (signal) => {
+        void stop(signal).then((code) => {
+          resolve(code);
+          // Exit even if a library left a handle open; unref'd so a clean exit is not delayed.
+          setTimeout(() => process.exit(code), 1_000).unref();
+        });
+      },
+      {
+        onRepeat: (signal) => {
+          log.warn({ signal }, 'second stop signal: exiting now');
+          process.exit(130);
+        },
+      },
+    );
     monitor.start().catch((e: unknown) => {
       log.error({ err: (e as Error).message }, 'monitor failed to start');
       void stop('start-failure').then(() => resolve(e instanceof StreamfenceError ? 2 : 1));

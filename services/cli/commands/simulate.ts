@@ -15,7 +15,15 @@ import {
   writeReadings,
   writeText,
 } from '../../simulate/write.js';
-import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
+import {
+  numberOption,
+  parseCommandArgs,
+  parseNumber,
+  printBanner,
+  printHelp,
+  stringOption,
+  usageError,
+} from '../../setup/args.js';
 
 const CMD = 'simulate';
 const DEFAULT_START = '2026-01-05T00:00:00Z';
@@ -43,12 +51,6 @@ Generate readings from an invented plant, with injected faults and their labels.
 Fault kinds: spike, step, drift, stuck, noise, dropout. The suggested config assumes readings about
 once a minute (minSamples and flatlineAfter count readings).
 `;
-
-function positiveInt(v: string, name: string): number {
-  if (!/^\d+$/.test(v) || Number(v) < 1)
-    usageError(`--${name} must be a positive whole number, got "${v}"`, CMD);
-  return Number(v);
-}
 
 function duration(v: string, name: string): number {
   const ms = parseDuration(v);
@@ -111,21 +113,21 @@ export async function main(argv: string[]): Promise<number> {
   }
   if (out !== undefined && topic !== undefined) usageError('give either --out or --kafka, not both', CMD);
   const format = out !== undefined ? formatFromPath(out, s('format')) : undefined;
-  const seedText = s('seed') ?? '1';
-  if (!/^-?\d+$/.test(seedText) || Math.abs(Number(seedText)) > 2 ** 32) {
-    usageError(`--seed must be a whole number, got "${seedText}"`, CMD);
-  }
+  const seed = numberOption(args, 'seed', CMD, { whole: true, min: -(2 ** 32), max: 2 ** 32, fallback: 1 });
   const startText = s('start') ?? DEFAULT_START;
   const start = parseTimestamp(startText);
   if (!start.ok) usageError(`--start: ${start.detail}`, CMD);
   const scenario = s('scenario') ?? DEFAULT_SCENARIO;
 
   const opts = {
-    seed: Number(seedText),
+    seed,
     start: (start as { ts: number }).ts,
     durationMs: duration(s('duration') ?? '2d', 'duration'),
     intervalMs: duration(s('interval') ?? '1m', 'interval'),
-    sensors: s('sensors') === undefined ? undefined : positiveInt(s('sensors')!, 'sensors'),
+    sensors:
+      s('sensors') === undefined
+        ? undefined
+        : parseNumber(s('sensors')!, 'sensors', { whole: true, above: 0 }, CMD),
     faults: args.values['no-faults'] !== true,
     scenario,
   };

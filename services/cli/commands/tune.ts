@@ -8,7 +8,14 @@ import { ALERT_BUDGET_PER_HOUR } from '../../../libs/schema/vocabulary.js';
 import { DEFAULT_GRACE_MS } from '../../../libs/scoring/score.js';
 import { parseDuration } from '../../../libs/config/duration.js';
 import { runTune } from '../../tune/tune.js';
-import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
+import {
+  parseCommandArgs,
+  parseNumber,
+  printBanner,
+  printHelp,
+  stringOption,
+  usageError,
+} from '../../setup/args.js';
 
 const CMD = 'tune';
 
@@ -56,18 +63,14 @@ export async function main(argv: string[]): Promise<number> {
   const s = (n: string) => stringOption(args, n, CMD);
   const labels = s('labels') ?? usageError('--labels FILE is required (CSV: sensor,start,end,kind)', CMD);
   const out = s('out') ?? usageError('--out DIR is required', CMD);
-  let budget: number | undefined;
-  if (s('budget') !== undefined) {
-    budget = Number(s('budget'));
-    if (!Number.isFinite(budget) || budget <= 0)
-      usageError(`--budget must be a positive number of alerts per hour, got "${s('budget')}"`, CMD);
-  }
-  let workers: number | undefined;
-  if (s('workers') !== undefined) {
-    if (!/^\d+$/.test(s('workers')!) || Number(s('workers')) < 1)
-      usageError(`--workers must be a positive whole number, got "${s('workers')}"`, CMD);
-    workers = Number(s('workers'));
-  }
+  const budgetRaw = s('budget');
+  const budget =
+    budgetRaw === undefined
+      ? undefined
+      : parseNumber(budgetRaw, 'budget', { above: 0, what: 'alerts per hour' }, CMD);
+  const workersRaw = s('workers');
+  const workers =
+    workersRaw === undefined ? undefined : parseNumber(workersRaw, 'workers', { whole: true, above: 0 }, CMD);
   let graceMs: number | undefined;
   if (s('grace') !== undefined) {
     const g = parseDuration(s('grace'));

@@ -6,7 +6,7 @@ import { describe, expect, it } from 'vitest';
 import { isStreamfenceError } from '../../../libs/errors/index.js';
 import { safeUrl } from '../../../services/log.js';
 import { parseMessage, rejectionRecord } from '../../../services/monitor/message.js';
-import { parseRunOptions } from '../../../services/monitor/options.js';
+import { parseRunOptions } from '../../../services/cli/run-options.js';
 import { redisOptions } from '../../../services/redis/client.js';
 import { parseStateKey, partitionKeys, stateKeyPattern } from '../../../services/redis/keys.js';
 

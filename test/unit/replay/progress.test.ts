@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { Progress, formatCount, formatSeconds } from '../../../services/progress.js';
-import { bannerText, parseCommandArgs } from '../../../services/cli/args.js';
+import { bannerText, parseCommandArgs } from '../../../services/setup/args.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
 
 function sink(isTTY: boolean) {

@@ -4,12 +4,20 @@
  * so they do not show up in `ps` output or shell history.
  */
 import { readFileSync } from 'node:fs';
-import { parseArgs } from 'node:util';
-import { StreamfenceError } from '../../libs/errors/index.js';
 import { ENV, DEFAULT_METRICS_PORT } from '../config/env.js';
 import { SASL_MECHANISMS, type SaslMechanism } from '../kafka/client.js';
 import { LOG_LEVELS, type LogLevel } from '../log.js';
+import {
+  parseBrokerList,
+  parseCommandArgs,
+  parseNumber,
+  usageError,
+  type OptionSpec,
+} from '../setup/args.js';
 
+const CMD = 'run';
+
+/** Everything `streamfence run` needs, from flags, the environment and defaults. */
 export interface MonitorOptions {
   brokers: string[];
   redisUrl: string;
@@ -34,9 +42,16 @@ export interface MonitorOptions {
   redis: { username?: string; password?: string; caFile?: string; certFile?: string; keyFile?: string };
 }
 
-type Spec = { env?: string; def?: string; help: string; type?: 'boolean' };
+/** One option of `streamfence run`: its environment variable, default and help line. */
+export interface RunOptionSpec {
+  env?: string;
+  def?: string;
+  help: string;
+  type?: 'boolean';
+}
 
-export const RUN_OPTIONS: Record<string, Spec> = {
+/** The options of `streamfence run`, in help order. */
+export const RUN_OPTIONS: Record<string, RunOptionSpec> = {
   brokers: { env: ENV.brokers, help: 'Kafka bootstrap servers, comma-separated host:port' },
   redis: { env: ENV.redisUrl, help: 'Redis URL for detector state (redis://host:port, rediss:// for TLS)' },
   'state-prefix': { env: ENV.statePrefix, def: 'streamfence', help: 'prefix of every Redis key written' },
@@ -101,7 +116,8 @@ export const RUN_OPTIONS: Record<string, Spec> = {
   'redis-key-file': { env: ENV.redisKeyFile, help: 'PEM client key for Redis TLS' },
 };
 
-export function optionsHelp(specs: Record<string, Spec>): string {
+/** The help lines for a table of options: flag, help, default and environment variable. */
+export function optionsHelp(specs: Record<string, RunOptionSpec>): string {
   return Object.entries(specs)
     .map(([name, s]) => {
       const flag = s.type === 'boolean' ? `--${name}` : `--${name} <value>`;
@@ -113,35 +129,34 @@ export function optionsHelp(specs: Record<string, Spec>): string {
     .join('\n');
 }
 
-const invalid = (msg: string) => new StreamfenceError('ARGS_INVALID', msg);
+function invalid(message: string): never {
+  return usageError(message, CMD);
+}
 
 function readSecretFile(file: string, what: string): string {
   try {
     return readFileSync(file, 'utf8').replace(/\r?\n$/, '');
   } catch (e) {
-    throw invalid(`cannot read the ${what} file ${file}: ${(e as Error).message}`);
+    return invalid(`cannot read the ${what} file ${file}: ${(e as Error).message}`);
   }
 }
 
-function positiveInt(raw: string, name: string, min: number): number {
-  if (!/^\d+$/.test(raw) || Number(raw) < min)
-    throw invalid(`--${name} must be a whole number >= ${min}, got "${raw}"`);
-  return Number(raw);
-}
+const wholeNumber = (raw: string, name: string, min: number): number =>
+  parseNumber(raw, name, { whole: true, min }, CMD);
 
+/**
+ * Parse `streamfence run`'s command line and environment (a flag wins over its variable, which
+ * wins over the default). Unusable values are refused with ARGS_INVALID naming the option.
+ */
 export function parseRunOptions(
   argv: string[],
   env: NodeJS.ProcessEnv,
 ): { help: true } | { help: false; opts: MonitorOptions } {
-  const options: Record<string, { type: 'string' | 'boolean' }> = { help: { type: 'boolean' } };
-  for (const [name, s] of Object.entries(RUN_OPTIONS)) options[name] = { type: s.type ?? 'string' };
-  let values: Record<string, string | boolean | undefined>;
-  try {
-    ({ values } = parseArgs({ args: argv, options, strict: true, allowPositionals: false }));
-  } catch (e) {
-    throw invalid(`${(e as Error).message}. Run "streamfence run --help" for the options.`);
-  }
-  if (values.help) return { help: true };
+  const options: OptionSpec = {};
+  for (const [name, spec] of Object.entries(RUN_OPTIONS)) options[name] = { type: spec.type ?? 'string' };
+  const parsed = parseCommandArgs(CMD, argv, options, false);
+  if (parsed.help) return { help: true };
+  const values = parsed.values;
 
   const get = (name: string): string | undefined => {
     const v = values[name];
@@ -157,32 +172,27 @@ export function parseRunOptions(
     return e !== undefined && /^(1|true|yes)$/i.test(env[e] ?? '');
   };
 
-  const brokersRaw = get('brokers');
-  if (!brokersRaw)
-    throw invalid(`no Kafka brokers: pass --brokers host:port[,host:port] or set ${ENV.brokers}`);
-  const brokers = brokersRaw
-    .split(',')
-    .map((b) => b.trim())
-    .filter(Boolean);
-  for (const b of brokers) if (!/^[^\s:/]+:\d+$/.test(b)) throw invalid(`broker "${b}" must be host:port`);
+  const brokers = parseBrokerList(get('brokers') ?? '', CMD);
+  if (brokers.length === 0)
+    invalid(`no Kafka brokers: pass --brokers host:port[,host:port] or set ${ENV.brokers}`);
   const redisUrl = get('redis');
-  if (!redisUrl) throw invalid(`no Redis: pass --redis redis://host:port or set ${ENV.redisUrl}`);
+  if (!redisUrl) invalid(`no Redis: pass --redis redis://host:port or set ${ENV.redisUrl}`);
 
   const logLevel = get('log-level') as LogLevel;
-  if (!LOG_LEVELS.includes(logLevel)) throw invalid(`--log-level must be one of ${LOG_LEVELS.join(', ')}`);
+  if (!LOG_LEVELS.includes(logLevel)) invalid(`--log-level must be one of ${LOG_LEVELS.join(', ')}`);
 
   let sasl: MonitorOptions['kafka']['sasl'];
   const mech = get('kafka-sasl-mechanism');
   if (mech !== undefined) {
     const m = mech.toLowerCase() as SaslMechanism;
     if (!SASL_MECHANISMS.includes(m))
-      throw invalid(`--kafka-sasl-mechanism must be one of ${SASL_MECHANISMS.join(', ')}`);
+      invalid(`--kafka-sasl-mechanism must be one of ${SASL_MECHANISMS.join(', ')}`);
     const username = get('kafka-sasl-username');
-    if (!username) throw invalid(`SASL needs a user name: --kafka-sasl-username or ${ENV.kafkaSaslUsername}`);
+    if (!username) invalid(`SASL needs a user name: --kafka-sasl-username or ${ENV.kafkaSaslUsername}`);
     const file = get('kafka-sasl-password-file');
     const password = file ? readSecretFile(file, 'SASL password') : env[ENV.kafkaSaslPassword];
     if (!password) {
-      throw invalid(`SASL needs a password: set ${ENV.kafkaSaslPassword} or pass --kafka-sasl-password-file`);
+      invalid(`SASL needs a password: set ${ENV.kafkaSaslPassword} or pass --kafka-sasl-password-file`);
     }
     sasl = { mechanism: m, username, password };
   }
@@ -199,7 +209,7 @@ export function parseRunOptions(
   ]) {
     // ':' separates the parts of our Redis keys; Kafka topic names never contain it.
     if (!/^[A-Za-z0-9._-]+$/.test(v))
-      throw invalid(`--${n} "${v}" may contain only letters, digits, '.', '_' and '-'`);
+      invalid(`--${n} "${v}" may contain only letters, digits, '.', '_' and '-'`);
   }
 
   return {
@@ -212,11 +222,11 @@ export function parseRunOptions(
       alertTopic: get('alert-topic')!,
       rejectedTopic: get('rejected-topic')!,
       group,
-      metricsPort: positiveInt(get('metrics-port')!, 'metrics-port', 0),
+      metricsPort: wholeNumber(get('metrics-port')!, 'metrics-port', 0),
       configFile: get('config') ?? null,
-      checkpointMs: positiveInt(get('checkpoint-ms')!, 'checkpoint-ms', 10),
-      checkpointReadings: positiveInt(get('checkpoint-readings')!, 'checkpoint-readings', 1),
-      sessionTimeoutMs: positiveInt(get('session-timeout-ms')!, 'session-timeout-ms', 1000),
+      checkpointMs: wholeNumber(get('checkpoint-ms')!, 'checkpoint-ms', 10),
+      checkpointReadings: wholeNumber(get('checkpoint-readings')!, 'checkpoint-readings', 1),
+      sessionTimeoutMs: wholeNumber(get('session-timeout-ms')!, 'session-timeout-ms', 1000),
       logLevel,
       kafka: {
         tls: flag('kafka-tls'),
