@@ -16,7 +16,8 @@ import { Monitor } from '../../monitor/monitor.js';
 import { optionsHelp, parseRunOptions, RUN_OPTIONS } from '../../monitor/options.js';
 import { createRedis } from '../../redis/client.js';
 
-const STOP_DEADLINE_MS = 9_500;
+/** A stop request ends the process within this time (the documented 10 s stop budget). */
+export const STOP_DEADLINE_MS = 9_500;
 
 export async function main(argv: string[]): Promise<number> {
   const parsed = parseRunOptions(argv, process.env);
