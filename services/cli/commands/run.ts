@@ -17,7 +17,8 @@ import { createRedis } from '../../redis/client.js';
 import { loadEngineConfig } from '../../setup/config-file.js';
 import { onStopSignal } from '../../setup/signals.js';
 
-const STOP_DEADLINE_MS = 9_500;
+/** A stop request ends the process within this time (the documented 10 s stop budget). */
+export const STOP_DEADLINE_MS = 9_500;
 
 export async function main(argv: string[]): Promise<number> {
   const parsed = parseRunOptions(argv, process.env);
