@@ -5,7 +5,8 @@
  */
 import picomatch from 'picomatch';
 import { parseDuration } from '../../../libs/config/duration.js';
-import { actionLine, eventLine, passesSeverity, type SeverityFilter } from '../../../libs/board/line.js';
+import { actionLine, eventLine, passesSeverity } from '../../../libs/board/line.js';
+import { isSeverity, SEVERITIES, type Severity } from '../../../libs/schema/vocabulary.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { ENV } from '../../config/env.js';
 import { follow } from '../../board/follow.js';
@@ -78,10 +79,10 @@ export async function main(argv: string[]): Promise<number> {
   const alertTopic = stringOption(args, 'alert-topic', CMD) ?? process.env[ENV.alertTopic] ?? 'sensor-alerts';
   const actionTopicOpt = stringOption(args, 'action-topic', CMD);
   const severityRaw = stringOption(args, 'severity', CMD);
-  if (severityRaw !== undefined && severityRaw !== 'warning' && severityRaw !== 'critical') {
-    usageError(`--severity must be warning or critical, got "${severityRaw}"`, CMD);
+  if (severityRaw !== undefined && !isSeverity(severityRaw)) {
+    usageError(`--severity must be ${SEVERITIES.join(' or ')}, got "${severityRaw}"`, CMD);
   }
-  const floor = (severityRaw ?? null) as SeverityFilter | null;
+  const floor = (severityRaw ?? null) as Severity | null;
   const glob = stringOption(args, 'sensor', CMD);
   const sensorOk = glob === undefined ? () => true : picomatch(glob, { dot: true });
   const sinceRaw = stringOption(args, 'since', CMD);
@@ -116,8 +117,8 @@ export async function main(argv: string[]): Promise<number> {
 
   // What filters and action lines need to know about an alert: its sensor and severity. Bounded:
   // the oldest entries go first once the cap is reached.
-  const known = new Map<string, { sensor: string; severity: 'warning' | 'critical' }>();
-  const remember = (id: string, info: { sensor: string; severity: 'warning' | 'critical' }) => {
+  const known = new Map<string, { sensor: string; severity: Severity }>();
+  const remember = (id: string, info: { sensor: string; severity: Severity }) => {
     known.delete(id);
     known.set(id, info);
     if (known.size > KNOWN_CAP) known.delete(known.keys().next().value as string);

@@ -15,7 +15,8 @@ import { createMetrics } from '../../metrics/metrics.js';
 import { Monitor } from '../../monitor/monitor.js';
 import { optionsHelp, parseRunOptions, RUN_OPTIONS } from '../../monitor/options.js';
 
-const STOP_DEADLINE_MS = 9_500;
+/** A stop request ends the process within this time (the documented 10 s stop budget). */
+export const STOP_DEADLINE_MS = 9_500;
 
 export async function main(argv: string[]): Promise<number> {
   const parsed = parseRunOptions(argv, process.env);
