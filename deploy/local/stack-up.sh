@@ -164,8 +164,8 @@ start_redis() {
       die "no Redis answers at $REDIS_URL_WANTED and 'redis-server' is not installed (Debian: apt-get install -y redis-server), or set STREAMFENCE_REDIS_URL"
     fi
   fi
-  say "starting redis-server on $REDIS_URL (no persistence)"
-  redis-server --bind 127.0.0.1 --port "$OWN_REDIS_PORT" --save "" --appendonly no --daemonize yes \
+  say "starting redis-server on $REDIS_URL (append-only file, fsync every second)"
+  redis-server --bind 127.0.0.1 --port "$OWN_REDIS_PORT" --save "" --appendonly yes --appendfsync everysec --daemonize yes \
     --dir "$REDIS_DIR" --pidfile "$REDIS_PID_FILE" --logfile "$REDIS_DIR/redis.log" ||
     die "redis-server failed to start; see $REDIS_DIR/redis.log"
   for _ in $(seq 1 50); do

@@ -6,7 +6,8 @@
 import { SettingsResolver, type EngineConfig } from '../config/config.js';
 import { formatDuration } from '../config/duration.js';
 import type { SensorSettings } from '../config/settings.js';
-import type { AlertEvent, AlertState } from '../schema/alert-event.js';
+import type { AlertEvent } from '../schema/alert-event.js';
+import type { AlertState, Reason, Severity } from '../schema/vocabulary.js';
 import { NOTICE } from '../schema/notice.js';
 import { fencesOf, judge, robustZ, zScore, type Verdict } from './judge.js';
 import { step } from './lifecycle.js';
@@ -116,8 +117,8 @@ export class Engine {
     state: AlertState,
     a: {
       id: string;
-      severity: 'warning' | 'critical';
-      reasons: string[];
+      severity: Severity;
+      reasons: Reason[];
       raisedTs: number;
       flaggedReadings: number;
     },

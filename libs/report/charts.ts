@@ -2,6 +2,7 @@
  * The report's charts, each a self-contained SVG string with a bounded number of elements:
  * a sensor chart draws at most one point per time bin, however many readings the bins hold.
  */
+import type { AlertState, Severity } from '../schema/vocabulary.js';
 import type { Bin } from './bins.js';
 import { HOUR_MS, type HourBar } from './hourly.js';
 import { coord, esc } from './escape.js';
@@ -23,8 +24,8 @@ import {
 export interface AlertMarker {
   ts: number;
   value: number;
-  state: 'raised' | 'updated' | 'cleared';
-  severity: 'warning' | 'critical';
+  state: AlertState;
+  severity: Severity;
 }
 
 export interface SensorChartInput {

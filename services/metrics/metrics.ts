@@ -24,6 +24,8 @@ export interface Metrics {
   backoff: Counter<'dependency'>;
   checkpoints: Counter<'result'>;
   assignedPartitions: Gauge;
+  /** 1 while /readyz answers 200 (joined the group, Redis answers, not stopping), else 0 */
+  ready: Gauge;
 }
 
 export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics {
@@ -93,6 +95,11 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
     assignedPartitions: new Gauge({
       name: 'streamfence_assigned_partitions',
       help: 'Input partitions this monitor currently owns.',
+      registers: r,
+    }),
+    ready: new Gauge({
+      name: 'streamfence_ready',
+      help: '1 while the monitor is ready (joined its consumer group and Redis answers), else 0.',
       registers: r,
     }),
   };

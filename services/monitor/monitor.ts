@@ -147,6 +147,7 @@ export class Monitor {
         this.log.error({ err: errText(e) }, 'periodic checkpoint failed'),
       );
       this.updateGauges();
+      void this.readiness();
     }, this.s.checkpointMs);
     this.log.info({ topic: this.s.inputTopic, group: this.s.group, owner: this.token }, 'consuming');
   }
@@ -159,8 +160,10 @@ export class Monitor {
     } catch {
       redisOk = false;
     }
+    const ready = this.joined && redisOk && !this.stopping;
+    this.metrics.ready.set(ready ? 1 : 0);
     return {
-      ready: this.joined && redisOk && !this.stopping,
+      ready,
       detail: { joined: this.joined, redis: redisOk, partitions: [...this.assigned].sort((a, b) => a - b) },
     };
   }

@@ -11,7 +11,7 @@
 import type { Engine, ProcessOutcome } from '../../libs/engine/engine.js';
 import type { Reading } from '../../libs/engine/reading.js';
 import type { Baseline } from '../../libs/engine/window.js';
-import { FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../../libs/scoring/score.js';
+import { ALERT_BUDGET_PER_HOUR, FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../../libs/schema/vocabulary.js';
 import { AuditSample, auditRow, BucketMirror, type AuditRow } from '../../libs/report/audit.js';
 import { AdaptiveBins } from '../../libs/report/bins.js';
 import { HourlyCounts, hourBars } from '../../libs/report/hourly.js';
@@ -51,7 +51,7 @@ export const REPORT_DEFAULTS = {
   topN: 8,
   auditSample: 20,
   auditCap: 200_000,
-  budgetPerHour: 6,
+  budgetPerHour: ALERT_BUDGET_PER_HOUR,
   binsPerSensor: 360,
   maxChartSensors: 2000,
   maxMarkersPerSensor: 400,

@@ -8,6 +8,7 @@ import { tuneScatter, type ScatterPoint } from '../../libs/report/charts.js';
 import { esc } from '../../libs/report/escape.js';
 import { page, table, type Cell } from '../../libs/report/html.js';
 import { fmtNum } from '../../libs/report/svg.js';
+import { ALERT_BUDGET_PER_HOUR } from '../../libs/schema/vocabulary.js';
 
 /** One grid point as the tune command writes it (fields the report reads; others are ignored). */
 export interface TunePointDoc {
@@ -34,8 +35,6 @@ export interface TuningDoc {
   scoring?: { floodWindowMs?: number; floodLimit?: number };
   [key: string]: unknown;
 }
-
-export const DEFAULT_BUDGET_PER_HOUR = 6;
 
 const settingsLabel = (s: Record<string, unknown>): string =>
   Object.entries(s)
@@ -64,7 +63,7 @@ export function renderTuneReport(tuning: TuningDoc): string {
   const budget =
     typeof tuning.budgetPerHour === 'number' && tuning.budgetPerHour > 0
       ? tuning.budgetPerHour
-      : DEFAULT_BUDGET_PER_HOUR;
+      : ALERT_BUDGET_PER_HOUR;
   const recIdx = recommendedIndex(points, tuning.recommended);
   const kinds = [...new Set(points.flatMap((p) => Object.keys(p.recallByKind ?? {})))].sort();
   // Settings that differ between points get a column; the ones shared by all are listed once.

@@ -8,18 +8,13 @@ import { configToJson, defaultConfig, parseConfigText, type EngineConfig } from 
 import { ENGINE_VERSION } from '../../libs/engine/engine.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import { NOTICE } from '../../libs/schema/notice.js';
+import { ALERT_BUDGET_PER_HOUR, FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../../libs/schema/vocabulary.js';
 import { parseLabelsCsv, type Incident } from '../../libs/scoring/labels.js';
-import {
-  DEFAULT_GRACE_MS,
-  FLOOD_LIMIT,
-  FLOOD_WINDOW_MS,
-  NO_KIND,
-  type ScoreOptions,
-} from '../../libs/scoring/score.js';
+import { DEFAULT_GRACE_MS, NO_KIND, type ScoreOptions } from '../../libs/scoring/score.js';
 import { applyPoint } from '../../libs/tuning/apply.js';
 import { spanOf } from '../../libs/tuning/columns.js';
 import { DEFAULT_GRID_SPEC, expandGrid, formatGridSpec, parseGridSpec } from '../../libs/tuning/grid.js';
-import { DEFAULT_BUDGET_PER_HOUR, recommend } from '../../libs/tuning/recommend.js';
+import { recommend } from '../../libs/tuning/recommend.js';
 import { Progress, formatCount, formatSeconds, type ProgressSink } from '../progress.js';
 import { loadColumns } from './load.js';
 import { runGrid } from './pool.js';
@@ -59,7 +54,7 @@ export const EXCLUDED_FROM_RECALL = ['dropout'];
 
 export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   const stream = o.stream ?? process.stderr;
-  const budget = o.budget ?? DEFAULT_BUDGET_PER_HOUR;
+  const budget = o.budget ?? ALERT_BUDGET_PER_HOUR;
   const workers = o.workers ?? availableParallelism();
   const base: EngineConfig = o.config
     ? parseConfigText(await readText(o.config, 'config'), o.config)
