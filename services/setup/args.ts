@@ -1,13 +1,13 @@
 /**
  * Command-line parsing shared by every command (the setup layer, with config-file.ts and
  * signals.ts): node:util parseArgs failures become a typed ARGS_INVALID error naming the command,
- * a uniform --help printer, broker lists checked as host:port, and the banner long-running
- * commands print to stderr (carrying NOTICE, never re-worded).
+ * a uniform --help printer, one rule for numeric options, and the banner long-running commands
+ * print to stderr (carrying NOTICE, never re-worded). Kafka/Redis connection options are
+ * services/connect/'s, not repeated here.
  */
 import { parseArgs, type ParseArgsConfig } from 'node:util';
 import { NOTICE } from '../../libs/schema/notice.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
-import { ENV } from '../config/env.js';
 
 /** A writable text sink (process.stderr, process.stdout, or a test buffer). */
 export interface TextSink {
@@ -77,33 +77,6 @@ export function stringOption(parsed: ParsedArgs, name: string, cmd: string): str
   if (typeof v !== 'string') usageError(`--${name} takes one value`, cmd);
   if (v.length === 0) usageError(`--${name} needs a non-empty value`, cmd);
   return v;
-}
-
-/**
- * A comma-separated broker list as host:port entries (blanks around commas ignored); refuses an
- * entry without a port with ARGS_INVALID. An empty list is returned as empty.
- */
-export function parseBrokerList(raw: string, cmd?: string): string[] {
-  const brokers = raw
-    .split(',')
-    .map((entry) => entry.trim())
-    .filter(Boolean);
-  for (const broker of brokers) {
-    if (!/^[^\s:/]+:\d+$/.test(broker)) usageError(`broker "${broker}" must be host:port`, cmd);
-  }
-  return brokers;
-}
-
-/** Kafka brokers from --brokers or STREAMFENCE_BROKERS, as host:port entries; refuses an empty list. */
-export function brokersOption(
-  parsed: ParsedArgs,
-  cmd: string,
-  why = '--brokers is required',
-  env: NodeJS.ProcessEnv = process.env,
-): string[] {
-  const brokers = parseBrokerList(stringOption(parsed, 'brokers', cmd) ?? env[ENV.brokers] ?? '', cmd);
-  if (brokers.length === 0) usageError(`${why} (or set ${ENV.brokers})`, cmd);
-  return brokers;
 }
 
 /**

@@ -5,8 +5,14 @@
 import { StreamfenceError } from '../../../libs/errors/index.js';
 import { ENV } from '../../config/env.js';
 import { describeSensor, storedSensors } from '../../monitor/inspect-state.js';
-import { createRedis } from '../../redis/client.js';
-import { parseCommandArgs, printHelp, stringOption, usageError } from '../../setup/args.js';
+import {
+  REDIS_OPTIONS,
+  buildRedis,
+  connectionHelp,
+  parseArgsOptions,
+  readRedisSettings,
+} from '../../connect/index.js';
+import { parseCommandArgs, printHelp, stringOption } from '../../setup/args.js';
 import { loadEngineConfig } from '../../setup/config-file.js';
 
 const CMD = 'inspect';
@@ -17,36 +23,31 @@ Prints one JSON line per sensor from the state the live monitor checkpointed in 
 sensor, seen, baseline (q1, median, q3, iqr, fences, mean, stdDev, count, from, to),
 activeAlert, newestReading, partition. All sensors when none are named.
 
-  --redis <url>          Redis URL (env ${ENV.redisUrl})
   --state-prefix <p>     key prefix the monitor used (env ${ENV.statePrefix}; default streamfence)
   --group <g>            only this consumer group (default: every group under the prefix)
   --input-topic <t>      only this input topic (default: every topic)
   --config <file>        decode with this engine config (default: the one the monitor stored)
   --help                 this help
 
-The Redis password comes from ${ENV.redisPassword} or the URL, the user from ${ENV.redisUsername}.
+${connectionHelp({ redis: true })}
+inspect only reads: a Redis user limited to read commands on the state keys is enough.
 `;
 
 export async function main(argv: string[]): Promise<number> {
   const parsed = parseCommandArgs(CMD, argv, {
-    redis: { type: 'string' },
+    ...parseArgsOptions(REDIS_OPTIONS),
     'state-prefix': { type: 'string' },
     group: { type: 'string' },
     'input-topic': { type: 'string' },
     config: { type: 'string' },
   });
   if (parsed.help) return printHelp(HELP);
-  const url = stringOption(parsed, 'redis', CMD) ?? process.env[ENV.redisUrl];
-  if (!url) usageError(`no Redis: pass --redis redis://host:port or set ${ENV.redisUrl}`, CMD);
+  const redisSettings = readRedisSettings(parsed.values, process.env, { cmd: CMD, required: true });
   const prefix = stringOption(parsed, 'state-prefix', CMD) ?? process.env[ENV.statePrefix] ?? 'streamfence';
   // Without --config, each sensor is decoded with the config the monitor stored beside its state.
   const configFile = stringOption(parsed, 'config', CMD);
   const config = configFile === undefined ? undefined : loadEngineConfig(configFile);
-  const redis = createRedis({
-    url,
-    username: process.env[ENV.redisUsername] || undefined,
-    password: process.env[ENV.redisPassword] || undefined,
-  });
+  const redis = buildRedis(redisSettings);
   const only = parsed.positionals.length ? new Set(parsed.positionals) : undefined;
   const found = new Set<string>();
   try {

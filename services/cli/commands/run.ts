@@ -7,13 +7,12 @@ import { ENGINE_VERSION } from '../../../libs/engine/engine.js';
 import { StreamfenceError } from '../../../libs/errors/index.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { ENV } from '../../config/env.js';
-import { createKafka } from '../../kafka/client.js';
-import { createLogger, safeUrl } from '../../log.js';
+import { buildKafka, buildRedis, describeKafka, describeRedis } from '../../connect/index.js';
+import { createLogger } from '../../log.js';
 import { startMetricsServer } from '../../metrics/http.js';
 import { createMetrics } from '../../metrics/metrics.js';
 import { Monitor } from '../../monitor/monitor.js';
 import { optionsHelp, parseRunOptions, RUN_OPTIONS } from '../run-options.js';
-import { createRedis } from '../../redis/client.js';
 import { loadEngineConfig } from '../../setup/config-file.js';
 import { onStopSignal } from '../../setup/signals.js';
 
@@ -47,28 +46,18 @@ export async function main(argv: string[]): Promise<number> {
   const config = loadEngineConfig(o.configFile, `--config (or ${ENV.configFile})`);
 
   const metrics = createMetrics();
-  const redis = createRedis({ url: o.redisUrl, ...o.redis });
-  const kafka = createKafka(
-    {
-      clientId: `streamfence-${hostname()}-${process.pid}`,
-      brokers: o.brokers,
-      tls: o.kafka.tls,
-      caFile: o.kafka.caFile,
-      certFile: o.kafka.certFile,
-      keyFile: o.kafka.keyFile,
-      sasl: o.kafka.sasl,
-    },
+  const redis = buildRedis(o.redis);
+  const kafka = buildKafka(o.kafka, {
+    clientId: `streamfence-${hostname()}-${process.pid}`,
     log,
     // Errors kafkajs retries on its own (a broker that stops answering, a lost group membership)
     // count as Kafka backoff too, so an outage shows in the metric even when no call of ours fails.
-    () => metrics.backoff.inc({ dependency: 'kafka' }),
-  );
+    onError: () => metrics.backoff.inc({ dependency: 'kafka' }),
+  });
   log.info(
     {
-      brokers: o.brokers.map(safeUrl),
-      redis: safeUrl(o.redisUrl),
-      kafkaTls: o.kafka.tls,
-      sasl: o.kafka.sasl?.mechanism ?? null,
+      kafka: describeKafka(o.kafka),
+      redis: describeRedis(o.redis),
       inputTopic: o.inputTopic,
       alertTopic: o.alertTopic,
       rejectedTopic: o.rejectedTopic,

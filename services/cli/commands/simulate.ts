@@ -7,6 +7,7 @@ import { parseTimestamp } from '../../../libs/engine/reading.js';
 import { formatLabelsCsv } from '../../../libs/scoring/labels.js';
 import { DEFAULT_SCENARIO, PlantSimulator, SCENARIOS, suggestedConfig } from '../../../libs/sim/plant.js';
 import { ENV } from '../../config/env.js';
+import { KAFKA_OPTIONS, connectionHelp, parseArgsOptions, readKafkaSettings } from '../../connect/index.js';
 import { Progress, formatCount, formatSeconds } from '../../progress.js';
 import {
   configText,
@@ -43,10 +44,12 @@ Generate readings from an invented plant, with injected faults and their labels.
   --labels FILE       fault labels as CSV: sensor,start,end,kind (ISO-8601 UTC times)
   --no-faults         no injected faults
   --kafka TOPIC       produce the readings to this Kafka topic (created if missing), keyed by sensor
-  --brokers LIST      Kafka brokers host:port,... (default $${ENV.brokers} or 127.0.0.1:9092)
   --config-out FILE   the scenario's suggested engine config (.json for JSON, otherwise YAML)
   --list              list the scenarios and their sensors, then exit
   -h, --help          this help
+
+${connectionHelp({ kafka: true })}
+With --kafka and no --brokers, ${ENV.brokers} or else 127.0.0.1:9092.
 
 Fault kinds: spike, step, drift, stuck, noise, dropout. The suggested config assumes readings about
 once a minute (minSamples and flatlineAfter count readings).
@@ -92,7 +95,7 @@ export async function main(argv: string[]): Promise<number> {
       labels: { type: 'string' },
       'no-faults': { type: 'boolean' },
       kafka: { type: 'string' },
-      brokers: { type: 'string' },
+      ...parseArgsOptions(KAFKA_OPTIONS),
       'config-out': { type: 'string' },
       list: { type: 'boolean' },
     },
@@ -112,6 +115,10 @@ export async function main(argv: string[]): Promise<number> {
     usageError('say where the data goes: --out FILE (.ndjson or .csv) or --kafka TOPIC', CMD);
   }
   if (out !== undefined && topic !== undefined) usageError('give either --out or --kafka, not both', CMD);
+  const connection =
+    topic === undefined
+      ? undefined
+      : readKafkaSettings(args.values, process.env, { cmd: CMD, defaultBrokers: '127.0.0.1:9092' });
   const format = out !== undefined ? formatFromPath(out, s('format')) : undefined;
   const seed = numberOption(args, 'seed', CMD, { whole: true, min: -(2 ** 32), max: 2 ** 32, fallback: 1 });
   const startText = s('start') ?? DEFAULT_START;
@@ -146,10 +153,7 @@ export async function main(argv: string[]): Promise<number> {
     n = await writeReadings(sim, out, format!, onProgress);
     where = out;
   } else if (topic !== undefined) {
-    const brokers = (s('brokers') ?? process.env[ENV.brokers] ?? '127.0.0.1:9092')
-      .split(',')
-      .map((b) => b.trim());
-    n = await produceReadings(sim, topic, brokers, onProgress);
+    n = await produceReadings(sim, topic, connection!, onProgress);
     where = `Kafka topic ${topic}`;
   }
   const labels = sim.labels().length;

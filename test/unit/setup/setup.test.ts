@@ -3,13 +3,7 @@ import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
-import {
-  brokersOption,
-  numberOption,
-  parseBrokerList,
-  parseCommandArgs,
-  parseNumber,
-} from '../../../services/setup/args.js';
+import { numberOption, parseCommandArgs, parseNumber } from '../../../services/setup/args.js';
 import { loadEngineConfig } from '../../../services/setup/config-file.js';
 import { onStopSignal, untilStopSignal } from '../../../services/setup/signals.js';
 import { defaultConfig } from '../../../libs/config/config.js';
@@ -22,39 +16,6 @@ const refusal = (fn: () => unknown) => {
   }
   throw new Error('expected a refusal');
 };
-
-describe('broker lists', () => {
-  it('accepts host:port entries and ignores blanks around commas', () => {
-    expect(parseBrokerList(' k1:9092 ,k2:19092,, ')).toEqual(['k1:9092', 'k2:19092']);
-    expect(parseBrokerList('')).toEqual([]);
-  });
-
-  it('refuses an entry that is not host:port, naming it', () => {
-    for (const bad of ['k1', 'k1:', ':9092', 'k1:90x2', 'kafka://k1:9092', 'k 1:9092']) {
-      const e = refusal(() => parseBrokerList(`k0:9092,${bad}`, 'alerts'));
-      expect(e.code).toBe('ARGS_INVALID');
-      expect(e.message).toContain(`broker "${bad.trim()}" must be host:port`);
-      expect(e.message).toContain('streamfence alerts --help');
-    }
-  });
-
-  it('--brokers wins over the environment, which is checked the same way', () => {
-    const opts = { brokers: { type: 'string' as const } };
-    const withFlag = parseCommandArgs('board', ['--brokers', 'a:1'], opts);
-    expect(brokersOption(withFlag, 'board', undefined, { STREAMFENCE_BROKERS: 'b:2' })).toEqual(['a:1']);
-    const none = parseCommandArgs('board', [], opts);
-    expect(brokersOption(none, 'board', undefined, { STREAMFENCE_BROKERS: 'b:2,c:3' })).toEqual([
-      'b:2',
-      'c:3',
-    ]);
-    expect(refusal(() => brokersOption(none, 'board', undefined, { STREAMFENCE_BROKERS: 'b' })).code).toBe(
-      'ARGS_INVALID',
-    );
-    expect(refusal(() => brokersOption(none, 'board', undefined, {})).message).toMatch(
-      /--brokers is required \(or set STREAMFENCE_BROKERS\)/,
-    );
-  });
-});
 
 describe('numeric options', () => {
   it('returns the number when it meets the rule', () => {
