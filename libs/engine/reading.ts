@@ -2,6 +2,8 @@
  * Reading validation: every input line or message becomes either an accepted Reading or a
  * rejection with a stable reason code. Nothing is dropped without a reason.
  */
+import { isEpochText, parseIsoTime } from './iso-time.js';
+
 export interface Reading {
   sensor: string;
   /** Event time, epoch milliseconds. */
@@ -58,13 +60,15 @@ export type ParseResult =
 
 const reject = (reason: RejectReason, detail: string): ParseResult => ({ ok: false, reason, detail });
 
-// ISO-8601 date-time with an explicit zone; a time without a zone would be read in the host's
-// zone, so two machines could disagree about the same reading.
-const ISO_RE = /^\d{4}-\d{2}-\d{2}[T ]\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?(Z|[+-]\d{2}:?\d{2})$/i;
 // C0 and C1 control characters (and DEL) are refused in sensor ids: they break logs, terminals and keys.
 // eslint-disable-next-line no-control-regex
 const CONTROL_RE = /[\u0000-\u001f\u007f-\u009f]/;
 
+/**
+ * Event time of a reading: epoch milliseconds (number or decimal text, rounded) or an ISO-8601
+ * date-time with an explicit zone (a time without a zone would be read in the host's zone, so two
+ * machines could disagree about the same reading); see iso-time.ts for the accepted forms.
+ */
 export function parseTimestamp(
   raw: unknown,
 ): { ok: true; ts: number } | { ok: false; reason: RejectReason; detail: string } {
@@ -75,23 +79,21 @@ export function parseTimestamp(
     ts = Math.round(raw);
   } else if (typeof raw === 'string') {
     const s = raw.trim();
-    if (/^-?\d+(\.\d+)?$/.test(s)) {
+    if (isEpochText(s)) {
       ts = Math.round(Number(s));
     } else {
-      if (!ISO_RE.test(s)) {
+      const parsed = parseIsoTime(s);
+      if (parsed === 'structure') {
         return {
           ok: false,
           reason: 'ts_invalid',
           detail: `timestamp "${clip(s)}" is not ISO-8601 with a zone (e.g. 2026-05-01T08:00:00Z) nor epoch milliseconds`,
         };
       }
-      ts = Date.parse(s.replace(' ', 'T'));
-      // Date.parse rolls 2026-02-30 over to 2026-03-02 instead of refusing it: check the day too.
-      const ymd = /^(\d{4})-(\d{2})-(\d{2})/.exec(s)!;
-      const daysInMonth = new Date(Date.UTC(Number(ymd[1]), Number(ymd[2]), 0)).getUTCDate();
-      if (Number.isNaN(ts) || Number(ymd[3]) > daysInMonth) {
+      if (parsed === 'value') {
         return { ok: false, reason: 'ts_invalid', detail: `timestamp "${clip(s)}" is not a real date` };
       }
+      ts = parsed;
     }
   } else if (raw === undefined || raw === null) {
     return { ok: false, reason: 'ts_missing', detail: 'field "ts" is missing' };
