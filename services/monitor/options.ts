@@ -6,6 +6,7 @@
 import { readFileSync } from 'node:fs';
 import { parseArgs } from 'node:util';
 import { StreamfenceError } from '../../libs/errors/index.js';
+import { DEFAULT_MAX_SENSORS } from '../../libs/engine/sensor-budget.js';
 import { ENV, DEFAULT_METRICS_PORT } from '../config/env.js';
 import { SASL_MECHANISMS, type SaslMechanism } from '../kafka/client.js';
 import { LOG_LEVELS, type LogLevel } from '../log.js';
@@ -22,6 +23,7 @@ export interface MonitorOptions {
   configFile: string | null;
   checkpointMs: number;
   checkpointReadings: number;
+  maxSensors: number;
   sessionTimeoutMs: number;
   logLevel: LogLevel;
   kafka: {
@@ -71,6 +73,11 @@ export const RUN_OPTIONS: Record<string, Spec> = {
     env: ENV.checkpointReadings,
     def: '50000',
     help: 'also checkpoint a partition after this many readings',
+  },
+  'max-sensors': {
+    env: ENV.maxSensors,
+    def: String(DEFAULT_MAX_SENSORS),
+    help: 'most sensors held in memory and Redis; readings of new sensors beyond it are rejected (sensor_limit)',
   },
   'session-timeout-ms': {
     env: ENV.kafkaSessionTimeoutMs,
@@ -216,6 +223,7 @@ export function parseRunOptions(
       configFile: get('config') ?? null,
       checkpointMs: positiveInt(get('checkpoint-ms')!, 'checkpoint-ms', 10),
       checkpointReadings: positiveInt(get('checkpoint-readings')!, 'checkpoint-readings', 1),
+      maxSensors: positiveInt(get('max-sensors')!, 'max-sensors', 1),
       sessionTimeoutMs: positiveInt(get('session-timeout-ms')!, 'session-timeout-ms', 1000),
       logLevel,
       kafka: {

@@ -25,6 +25,7 @@ import { writeReport, REPORT_FILE } from '../../report/write.js';
 import { isKafkaUrl, parseKafkaUrl, KAFKA_URL_EXAMPLE, type KafkaRange } from '../../replay-kafka/url.js';
 import { kafkaRangeSource, newKafkaRangeStats } from '../../replay-kafka/source.js';
 import { parseTimestamp } from '../../../libs/engine/reading.js';
+import { DEFAULT_MAX_SENSORS } from '../../../libs/engine/sensor-budget.js';
 
 const CMD = 'replay';
 
@@ -43,6 +44,8 @@ INPUT           readings file: NDJSON (one {"sensor","ts","value"} per line; .nd
   --report        also write ${REPORT_FILE}: counts, alert rate against the budget, charts of the top sensors
   --report-top N  sensors charted in the report (default 8)
   --budget N      alert budget in raised alerts per hour for the report (default 6)
+  --max-sensors N most sensors with state at once; readings of new sensors beyond it are
+                  rejected as sensor_limit (default ${DEFAULT_MAX_SENSORS})
   --audit         compare digest quartiles with exact ones for a sample of sensors (implies --report;
                   the numbers also go to ${REPLAY_FILES.summary} under "audit")
   --brokers LIST  Kafka brokers for a kafka:// input (default STREAMFENCE_BROKERS)
@@ -87,6 +90,7 @@ export async function main(argv: string[]): Promise<number> {
     brokers: { type: 'string' },
     from: { type: 'string' },
     to: { type: 'string' },
+    'max-sensors': { type: 'string' },
   });
   if (args.help) return printHelp(HELP);
   if (args.positionals.length === 0)
@@ -100,6 +104,12 @@ export async function main(argv: string[]): Promise<number> {
   const wantReport = wantAudit || args.values.report === true;
   const topN = positiveNumber(stringOption(args, 'report-top', CMD), 'report-top', 8, true);
   const budget = positiveNumber(stringOption(args, 'budget', CMD), 'budget', 6, false);
+  const maxSensors = positiveNumber(
+    stringOption(args, 'max-sensors', CMD),
+    'max-sensors',
+    DEFAULT_MAX_SENSORS,
+    true,
+  );
 
   const opened = isKafkaUrl(input) ? openKafka(kafkaRange(input, args)) : await openFile(input, args);
   const report = wantReport ? createReportObserver({ topN, audit: wantAudit, budgetPerHour: budget }) : null;
@@ -125,6 +135,7 @@ export async function main(argv: string[]): Promise<number> {
     inputInfo: opened.info,
     observers,
     progress: opened.update,
+    maxSensors,
   });
   if (report !== null) await writeReport(outDir, report.render(summary));
   const progress = opened.progress;
