@@ -12,6 +12,33 @@ export default tseslint.config(
     },
   },
   {
+    // One connection layer: only services/connect/ builds kafkajs and ioredis clients, so every
+    // command gets the same TLS, SASL and ACL options (types may be imported anywhere).
+    files: ['services/**/*.ts'],
+    ignores: ['services/connect/**'],
+    rules: {
+      '@typescript-eslint/no-restricted-imports': [
+        'error',
+        {
+          paths: [
+            {
+              name: 'kafkajs',
+              importNames: ['Kafka'],
+              allowTypeImports: true,
+              message: 'build Kafka clients with buildKafka() from services/connect/.',
+            },
+            {
+              name: 'ioredis',
+              importNames: ['Redis', 'Cluster', 'default'],
+              allowTypeImports: true,
+              message: 'build Redis clients with buildRedis() from services/connect/.',
+            },
+          ],
+        },
+      ],
+    },
+  },
+  {
     // The architecture rule: libs/ are pure (no I/O, no clock) and never import from services/.
     files: ['libs/**/*.ts'],
     rules: {

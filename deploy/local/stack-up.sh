@@ -4,10 +4,13 @@
 # Writes the addresses to $STACK_DIR/env for the test harness. See DEVELOPERS.md "Local stack".
 set -euo pipefail
 source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
+parse_stack_args "$@"
 
 started_at=$(date +%s.%N)
 mkdir -p "$STACK_DIR/logs" "$KAFKA_DIR/logs" "$REDIS_DIR"
 # One stack-up at a time per stack dir: parallel test runs would otherwise race to start two brokers.
+# Every server started below closes fds 8 and 9 ("8>&- 9>&-"): a long-lived child holding the lock's
+# descriptor would keep the lock, and the next stack-up would wait on it forever.
 exec 8>"$STACK_DIR/.up.lock"
 flock 8
 
@@ -126,7 +129,7 @@ start_kafka() {
   # setsid: the broker outlives this script and is not hit by a Ctrl-C aimed at a test run. setsid execs
   # java in place (we are not a process-group leader), so $! is the broker's own pid.
   setsid java "${KAFKA_JVM_OPTS[@]}" kafka.Kafka "$KAFKA_DIR/server.properties" \
-    >"$KAFKA_DIR/logs/kafka.out" 2>&1 </dev/null &
+    >"$KAFKA_DIR/logs/kafka.out" 2>&1 </dev/null 8>&- 9>&- &
   echo $! >"$KAFKA_PID_FILE"
   if ! wait_kafka --timeout "${STREAMFENCE_KAFKA_START_TIMEOUT:-120}" --pid "$(cat "$KAFKA_PID_FILE")"; then
     tail -n 20 "$KAFKA_DIR/logs/kafka.out" "$KAFKA_DIR/logs/server.log" >&2 2>/dev/null || true
@@ -164,9 +167,9 @@ start_redis() {
       die "no Redis answers at $REDIS_URL_WANTED and 'redis-server' is not installed (Debian: apt-get install -y redis-server), or set STREAMFENCE_REDIS_URL"
     fi
   fi
-  say "starting redis-server on $REDIS_URL (no persistence)"
-  redis-server --bind 127.0.0.1 --port "$OWN_REDIS_PORT" --save "" --appendonly no --daemonize yes \
-    --dir "$REDIS_DIR" --pidfile "$REDIS_PID_FILE" --logfile "$REDIS_DIR/redis.log" ||
+  say "starting redis-server on $REDIS_URL (append-only file, fsync every second)"
+  redis-server --bind 127.0.0.1 --port "$OWN_REDIS_PORT" --save "" --appendonly yes --appendfsync everysec --daemonize yes \
+    --dir "$REDIS_DIR" --pidfile "$REDIS_PID_FILE" --logfile "$REDIS_DIR/redis.log" 8>&- 9>&- ||
     die "redis-server failed to start; see $REDIS_DIR/redis.log"
   for _ in $(seq 1 50); do
     ping_redis "$REDIS_URL" 1 >/dev/null 2>&1 && break
@@ -175,6 +178,21 @@ start_redis() {
   ping_redis "$REDIS_URL" 1 >/dev/null || die "redis-server started but does not answer; see $REDIS_DIR/redis.log"
   REDIS_OWNED=yes
 }
+
+if [[ "$STACK_SECURE" == yes ]]; then
+  source "$LOCAL_DIR/secure.sh"
+  start_secure_stack
+  elapsed=$(awk -v s="$started_at" -v e="$(date +%s.%N)" 'BEGIN { printf "%.1f", e - s }')
+  cat <<INFO
+stack: secure stack up in ${elapsed}s
+  Kafka brokers : 127.0.0.1:$SECURE_KAFKA_PORT   (SASL_SSL, SCRAM-SHA-512, ACLs; CA $SECURE_TLS_DIR/ca.pem)
+  Redis URL     : rediss://127.0.0.1:$SECURE_REDIS_PORT   (TLS only, ACL users)
+  env file      : $SECURE_ENV_FILE   (set -a; . $SECURE_ENV_FILE; set +a)
+  users         : admin, monitor, operator (Kafka); admin, monitor, reader (Redis); passwords in $SECRETS_DIR
+  stop          : npm run stack:down -- --secure
+INFO
+  exit 0
+fi
 
 start_kafka
 start_redis

@@ -3,6 +3,7 @@
  * a shape as well as colour, so the line reads the same without colour (pipes, NO_COLOR).
  */
 import type { AlertEvent } from '../schema/alert-event.js';
+import { severityRank, type Severity } from '../schema/vocabulary.js';
 import type { OperatorAction } from './store.js';
 
 export interface LineStyle {
@@ -18,7 +19,7 @@ const ANSI = {
   cyan: '\u001b[36m',
 } as const;
 
-const SEVERITY_MARK = { critical: '◆ CRITICAL', warning: '▲ WARNING ' } as const;
+const SEVERITY_MARK: Readonly<Record<Severity, string>> = { critical: '◆ CRITICAL', warning: '▲ WARNING ' };
 const CLEARED_MARK = '○ CLEARED ';
 
 /** "2026-03-02 08:15:00Z" from an ISO time (UTC, so lines from any machine compare). */
@@ -64,9 +65,7 @@ export function actionLine(act: OperatorAction, sensor: string | null, style: Li
   ].join('  ');
 }
 
-export type SeverityFilter = 'warning' | 'critical';
-
 /** Severity filter is a floor: "warning" shows warnings and criticals, "critical" only criticals. */
-export function passesSeverity(sev: 'warning' | 'critical', floor: SeverityFilter | null): boolean {
-  return floor === null || floor === 'warning' || sev === 'critical';
+export function passesSeverity(severity: Severity, floor: Severity | null): boolean {
+  return severityRank(severity) >= severityRank(floor);
 }

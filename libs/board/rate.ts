@@ -1,10 +1,11 @@
 /**
  * Alert-rate meter: how many alerts were raised in the last 10 minutes and the last hour, against
- * an operator budget. The budget of 6 alerts per hour and the flood mark of more than 10 alerts in
- * 10 minutes are common practice in alarm management guidance (ANSI/ISA-18.2 and EEMUA 191 use
- * figures of this order); they are settings here, not laws.
+ * an operator budget. The defaults are the shared budget and flood mark of libs/schema/vocabulary.
  */
-export const RATE_DEFAULTS = { budgetPerHour: 6, floodPer10Min: 10 } as const;
+import { ALERT_BUDGET_PER_HOUR, FLOOD_LIMIT } from '../schema/vocabulary.js';
+
+/** The meter's default budget (alerts raised per hour) and flood mark (more than N in 10 minutes). */
+export const RATE_DEFAULTS = { budgetPerHour: ALERT_BUDGET_PER_HOUR, floodPer10Min: FLOOD_LIMIT } as const;
 
 const TEN_MIN = 10 * 60_000;
 const HOUR = 60 * 60_000;

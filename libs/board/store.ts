@@ -8,6 +8,7 @@
  * unshelved), `cleared` (kept in a bounded "recently cleared" list, newest first).
  */
 import type { AlertEvent } from '../schema/alert-event.js';
+import { severityRank } from '../schema/vocabulary.js';
 
 export type BoardStatus = 'active' | 'shelved' | 'cleared';
 
@@ -45,8 +46,6 @@ export type ActionResult =
 export const UNNAMED = 'unnamed';
 export const SHELF_LIMITS = { maxReasonChars: 500, minMinutes: 0.05, maxMinutes: 1440 } as const;
 export const OPERATOR_NAME_MAX = 80;
-
-const SEVERITY_RANK = { critical: 2, warning: 1 } as const;
 
 export interface BoardOptions {
   /** How many cleared alerts stay listed. */
@@ -92,7 +91,7 @@ export class AlertBoard {
       return a;
     }
     // Escalation undoes an acknowledgement: the operator saw a milder alert than the one now standing.
-    const escalated = SEVERITY_RANK[ev.severity] > SEVERITY_RANK[prev.severity];
+    const escalated = severityRank(ev.severity) > severityRank(prev.severity);
     const next = compose(ev, { ...fieldsOf(prev), changedAt: at });
     if (escalated) {
       next.acknowledged = false;
@@ -124,6 +123,9 @@ export class AlertBoard {
     let next: BoardAlert;
     switch (act.kind) {
       case 'acknowledge':
+        // The first acknowledgement stands: a later one is still shared and announced as an
+        // action (so it is recorded), but does not overwrite who acknowledged first and when.
+        if (a.acknowledged) return { ok: true, alert: a };
         next = change(a, {
           acknowledged: true,
           acknowledgedBy: act.by,
@@ -184,7 +186,7 @@ export class AlertBoard {
     for (const a of this.open.values()) (a.status === 'shelved' ? shelved : active).push(a);
     active.sort(
       (x, y) =>
-        SEVERITY_RANK[y.severity] - SEVERITY_RANK[x.severity] ||
+        severityRank(y.severity) - severityRank(x.severity) ||
         Date.parse(x.since) - Date.parse(y.since) ||
         (x.id < y.id ? -1 : x.id > y.id ? 1 : 0),
     );

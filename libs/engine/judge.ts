@@ -8,21 +8,8 @@
  * `departs_constant` (warning), whatever `trigger` says, respecting `direction`.
  */
 import type { SensorSettings } from '../config/settings.js';
+import { severityRank, type Reason, type Severity } from '../schema/vocabulary.js';
 import type { Baseline } from './window.js';
-
-export type Severity = 'warning' | 'critical';
-
-export type Reason =
-  | 'fence_high'
-  | 'fence_low'
-  | 'outer_fence_high'
-  | 'outer_fence_low'
-  | 'z_high'
-  | 'z_low'
-  | 'limit_high'
-  | 'limit_low'
-  | 'flatline'
-  | 'departs_constant';
 
 export interface Verdict {
   /** The baseline was warm, so statistical rules ran. */
@@ -78,17 +65,13 @@ export function robustZ(x: number, b: Baseline): number | null {
   return b.iqr > 0 ? ((x - b.median) * 1.349) / b.iqr : null;
 }
 
-function rank(s: Severity | null): number {
-  return s === 'critical' ? 2 : s === 'warning' ? 1 : 0;
-}
-
 /** Collects reasons and the highest severity; allocated only for readings that are flagged. */
 class Flags {
   reasons: Reason[] = [];
   severity: Severity | null = null;
   add(r: Reason, sev: Severity): void {
     this.reasons.push(r);
-    if (rank(sev) > rank(this.severity)) this.severity = sev;
+    if (severityRank(sev) > severityRank(this.severity)) this.severity = sev;
   }
 }
 
@@ -142,7 +125,7 @@ export function judge(
     if (s.trigger === 'both') {
       if (fenceSev !== null && zSev !== null) {
         // Both must agree: the alert takes the level both reached.
-        const both: Severity = rank(fenceSev) <= rank(zSev) ? fenceSev : zSev;
+        const both: Severity = severityRank(fenceSev) <= severityRank(zSev) ? fenceSev : zSev;
         flags ??= new Flags();
         flags.add(fenceReason, both);
         flags.add(zReason, both);

@@ -8,12 +8,12 @@
  */
 import type { SensorSettings } from '../config/settings.js';
 import { alertId } from './alert-id.js';
-import type { Severity } from './judge.js';
+import { severityRank, type AlertState, type Reason, type Severity } from '../schema/vocabulary.js';
 
 export interface ActiveAlert {
   id: string;
   severity: Severity;
-  reasons: string[];
+  reasons: Reason[];
   raisedTs: number;
   flaggedReadings: number;
   clearRun: number;
@@ -29,7 +29,7 @@ export interface LifecycleState {
   active: ActiveAlert | null;
 }
 
-export type Transition = 'raised' | 'updated' | 'cleared' | null;
+export type Transition = AlertState | null;
 
 export function newLifecycle(s: SensorSettings): LifecycleState {
   return { ring: new Uint8Array(s.raiseWindow), ringPos: 0, ringFlagged: 0, active: null };
@@ -44,7 +44,7 @@ export function step(
   s: SensorSettings,
   flagged: boolean,
   severity: Severity | null,
-  reasons: string[],
+  reasons: Reason[],
   sensor: string,
   ts: number,
   seen: number,
@@ -73,8 +73,8 @@ export function step(
   if (flagged) {
     a.clearRun = 0;
     a.flaggedReadings += 1;
-    const worse = severity === 'critical' && a.severity === 'warning';
-    const milder = severity === 'warning' && a.severity === 'critical';
+    const worse = severityRank(severity) > severityRank(a.severity);
+    const milder = severityRank(severity) < severityRank(a.severity);
     a.easeRun = milder ? a.easeRun + 1 : 0;
     if (worse || (milder && a.easeRun >= s.clearAfter)) {
       a.severity = severity!;

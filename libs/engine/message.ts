@@ -3,19 +3,7 @@
  * of the window below the value and since when, with no jargon beyond those words.
  */
 import type { AlertEvent } from '../schema/alert-event.js';
-
-const REASON_WORDS: Record<string, string> = {
-  fence_high: 'above the upper fence',
-  fence_low: 'below the lower fence',
-  outer_fence_high: 'above the outer upper fence',
-  outer_fence_low: 'below the outer lower fence',
-  z_high: 'unusually high for this sensor',
-  z_low: 'unusually low for this sensor',
-  limit_high: 'above its physical maximum',
-  limit_low: 'below its physical minimum',
-  flatline: 'stuck on one value',
-  departs_constant: 'off the constant value it held for the whole window',
-};
+import { REASON_WORDS, type Reason } from '../schema/vocabulary.js';
 
 export function fmt(x: number | null, digits = 4): string {
   if (x === null || !Number.isFinite(x)) return 'n/a';
@@ -24,8 +12,8 @@ export function fmt(x: number | null, digits = 4): string {
   return String(Number(x.toPrecision(digits)));
 }
 
-export function describeReasons(reasons: readonly string[]): string {
-  return reasons.map((r) => REASON_WORDS[r] ?? r).join(', ');
+export function describeReasons(reasons: readonly Reason[]): string {
+  return reasons.map((reason) => REASON_WORDS[reason] ?? reason).join(', ');
 }
 
 type MessageInput = Omit<AlertEvent, 'message' | 'notice' | 'id'> & {
@@ -48,7 +36,7 @@ export function alertMessage(e: MessageInput): string {
   }
   const verb = e.state === 'raised' ? 'reads' : e.severity === 'critical' ? 'worsened to' : 'eased to';
   parts.push(`${e.sensor} ${verb} ${fmt(e.value)}, ${describeReasons(e.reasons)} (${e.severity})`);
-  const has = (r: string) => e.reasons.includes(r);
+  const has = (reason: Reason) => e.reasons.includes(reason);
   if ((has('fence_high') || has('outer_fence_high')) && b.upperFence !== null) {
     parts.push(`${fmt(e.value - b.upperFence)} above the upper fence ${fmt(b.upperFence)}`);
   } else if ((has('fence_low') || has('outer_fence_low')) && b.lowerFence !== null) {

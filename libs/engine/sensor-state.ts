@@ -3,7 +3,8 @@ import { StreamfenceError } from '../errors/index.js';
 import type { SensorSettings } from '../config/settings.js';
 import { OpenDigest } from '../stats/digest.js';
 import { ByteReader, ByteWriter } from './bytes.js';
-import type { Fences, Severity } from './judge.js';
+import type { Fences } from './judge.js';
+import { isReason, SEVERITIES, type Reason } from '../schema/vocabulary.js';
 import { newLifecycle, type LifecycleState } from './lifecycle.js';
 import { SKETCH } from './sketch-params.js';
 import { SensorWindow, type Baseline } from './window.js';
@@ -32,7 +33,6 @@ export class SensorState {
 const MAGIC_0 = 0x53; // 'S'
 const MAGIC_1 = 0x46; // 'F'
 export const STATE_VERSION = 3;
-const SEVERITIES: Severity[] = ['warning', 'critical'];
 
 // Reused across calls: encoding is synchronous, and checkpoints encode thousands of sensors at once.
 const writer = new ByteWriter();
@@ -196,8 +196,16 @@ export function decodeSensorState(
       const id = r.str();
       const severity = SEVERITIES[r.u8()];
       const reasonCount = r.uvar();
-      const reasons: string[] = [];
-      for (let i = 0; i < reasonCount; i++) reasons.push(r.str());
+      const reasons: Reason[] = [];
+      for (let i = 0; i < reasonCount; i++) {
+        const reason = r.str();
+        if (!isReason(reason))
+          throw new StreamfenceError(
+            'STATE_CORRUPT',
+            `sensor state for "${sensor}" has an unknown reason "${reason}"`,
+          );
+        reasons.push(reason);
+      }
       st.life.active = {
         id,
         severity,

@@ -2,7 +2,9 @@
  * The report's charts, each a self-contained SVG string with a bounded number of elements:
  * a sensor chart draws at most one point per time bin, however many readings the bins hold.
  */
+import type { AlertState, Severity } from '../schema/vocabulary.js';
 import type { Bin } from './bins.js';
+import { HOUR_MS, type HourBar } from './hourly.js';
 import { coord, esc } from './escape.js';
 import {
   axes,
@@ -22,8 +24,8 @@ import {
 export interface AlertMarker {
   ts: number;
   value: number;
-  state: 'raised' | 'updated' | 'cleared';
-  severity: 'warning' | 'critical';
+  state: AlertState;
+  severity: Severity;
 }
 
 export interface SensorChartInput {
@@ -112,36 +114,40 @@ export function sensorChart(input: SensorChartInput): string {
 }
 
 export interface RateChartInput {
-  bins: readonly Bin[];
-  widthMs: number;
-  /** Sum channel holding raised alerts per bin. */
-  channel: string;
+  /** Clock-hour bars over the whole data span (hourBars). */
+  bars: readonly HourBar[];
   budgetPerHour: number;
   floodPerHour: number;
   frame?: Frame;
 }
 
-/** Alerts raised per hour in each bin as bars, against the budget and flood lines. */
+/**
+ * Alerts raised per clock hour as bars (a bar grouping several hours shows its busiest hour),
+ * against the budget and flood lines, over the whole data span.
+ */
 export function rateChart(input: RateChartInput): string {
   const f = input.frame ?? { ...DEFAULT_FRAME, height: 220 };
-  const label = 'alerts raised per hour over event time, with budget and flood lines';
-  if (input.bins.length === 0)
+  const label = 'alerts raised per clock hour over event time, with budget and flood lines';
+  if (input.bars.length === 0)
     return `${svgOpen(f, 'chart rate-chart', label)}<text x="20" y="40">no readings</text></svg>`;
-  const hours = input.widthMs / 3_600_000;
-  const from = input.bins[0].start;
-  const to = input.bins[input.bins.length - 1].start + input.widthMs;
-  const rates = input.bins.map((b) => (b.sum[input.channel] ?? 0) / hours);
-  const top = Math.max(...rates, input.budgetPerHour) * 1.15 || 1;
+  const from = input.bars[0].start;
+  const to = input.bars[input.bars.length - 1].end;
+  const top = Math.max(...input.bars.map((b) => b.maxPerHour), input.budgetPerHour) * 1.15 || 1;
   const x = linearScale(from, to, f.left, f.width - f.right);
   const y = linearScale(0, top, f.height - f.bottom, f.top);
   const { ticks, label: tLabel } = timeTicks(from, to);
-  const bw = Math.max(1, x(from + input.widthMs) - x(from) - 0.5);
-  const bars = input.bins
-    .map((b, i) => {
-      if (rates[i] === 0) return '';
-      const over = rates[i] > input.budgetPerHour ? ' over' : '';
-      const py = y(rates[i]);
-      return `<rect class="bar${over}" x="${coord(x(b.start))}" y="${coord(py)}" width="${coord(bw)}" height="${coord(y(0) - py)}"><title>${esc(`${new Date(b.start).toISOString()}: ${fmtNum(rates[i])} raised/h`)}</title></rect>`;
+  const bars = input.bars
+    .map((b) => {
+      if (b.maxPerHour === 0) return '';
+      const over = b.maxPerHour > input.budgetPerHour ? ' over' : '';
+      const py = y(b.maxPerHour);
+      const bw = Math.max(1, x(b.end) - x(b.start) - 0.5);
+      const hours = (b.end - b.start) / HOUR_MS;
+      const text =
+        hours === 1
+          ? `${new Date(b.start).toISOString()}: ${b.total} raised in this hour`
+          : `${new Date(b.start).toISOString()} (${fmtNum(hours)} h): ${b.total} raised, busiest hour ${b.maxPerHour}`;
+      return `<rect class="bar${over}" x="${coord(x(b.start))}" y="${coord(py)}" width="${coord(bw)}" height="${coord(y(0) - py)}"><title>${esc(text)}</title></rect>`;
     })
     .join('');
   const line = (v: number, cls: string, text: string): string => {
@@ -154,7 +160,7 @@ export function rateChart(input: RateChartInput): string {
     axes(
       f,
       { ticks, scale: x, label: tLabel, title: 'event time (UTC)' },
-      { ticks: niceTicks(0, top), scale: y, label: fmtNum, title: 'raised / h' },
+      { ticks: niceTicks(0, top), scale: y, label: fmtNum, title: 'raised per clock hour' },
     ),
     bars,
     line(input.budgetPerHour, 'budget', `budget ${fmtNum(input.budgetPerHour)}/h`),

@@ -1,6 +1,7 @@
 /** The alert event: one JSON object per lifecycle transition, published to the alert topic. */
-export type AlertState = 'raised' | 'updated' | 'cleared';
+import type { AlertState, Reason, Severity } from './vocabulary.js';
 
+/** The sensor's baseline at the time of the event, for the operator to see how far off it is. */
 export interface AlertBaseline {
   q1: number | null;
   median: number | null;
@@ -18,12 +19,13 @@ export interface AlertBaseline {
   to: string | null;
 }
 
+/** One alert lifecycle transition, as published on the alert topic and shown on the board. */
 export interface AlertEvent {
   id: string;
   sensor: string;
   state: AlertState;
-  severity: 'warning' | 'critical';
-  reasons: string[];
+  severity: Severity;
+  reasons: Reason[];
   value: number;
   /** The reading's timestamp (ISO-8601). */
   ts: string;

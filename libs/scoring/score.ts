@@ -12,6 +12,7 @@
  * - worst10min = the most alerts raised in any 10-minute window [t, t + 10 min); flood = worst10min
  *   > 10 (11 or more; exactly 10 is not a flood).
  */
+import { FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../schema/vocabulary.js';
 import type { Incident } from './labels.js';
 
 export interface RaisedAlert {
@@ -50,9 +51,6 @@ export interface Score {
 }
 
 export const DEFAULT_GRACE_MS = 120_000;
-export const FLOOD_WINDOW_MS = 600_000;
-/** More than this many raised alerts in FLOOD_WINDOW_MS is a flood (an alarm-management convention). */
-export const FLOOD_LIMIT = 10;
 /** The kind name incidents without a kind are reported under. */
 export const NO_KIND = '(none)';
 

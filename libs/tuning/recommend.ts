@@ -17,9 +17,6 @@ export interface Recommendation {
   reason: string;
 }
 
-/** Six raised alerts per hour: about one per ten minutes, the "very likely acceptable" rate of ISA-18.2. */
-export const DEFAULT_BUDGET_PER_HOUR = 6;
-
 const num = (x: number | null): number => (x === null ? -1 : x);
 const pct = (x: number | null): string => (x === null ? 'n/a' : `${(x * 100).toFixed(1)}%`);
 const rate = (x: number | null): string => (x === null ? 'n/a' : x.toFixed(2));

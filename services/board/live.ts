@@ -13,6 +13,7 @@ import type { Kafka, Producer } from 'kafkajs';
 import type { Redis } from 'ioredis';
 import type { OperatorAction } from '../../libs/board/store.js';
 import type { AlertEvent } from '../../libs/schema/alert-event.js';
+import { ALERT_STATES, isSeverity, type AlertState } from '../../libs/schema/vocabulary.js';
 import { follow, type Follower, type FollowMessage } from './follow.js';
 import type { BoardHub } from './hub.js';
 
@@ -34,8 +35,8 @@ export function asAlertEvent(v: unknown): AlertEvent | null {
   const ok =
     typeof e.id === 'string' &&
     typeof e.sensor === 'string' &&
-    (e.state === 'raised' || e.state === 'updated' || e.state === 'cleared') &&
-    (e.severity === 'warning' || e.severity === 'critical') &&
+    ALERT_STATES.includes(e.state as AlertState) &&
+    isSeverity(e.severity) &&
     typeof e.ts === 'string' &&
     typeof e.since === 'string' &&
     typeof e.value === 'number' &&

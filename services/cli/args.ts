@@ -6,7 +6,6 @@
 import { parseArgs, type ParseArgsConfig } from 'node:util';
 import { NOTICE } from '../../libs/schema/notice.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
-import { ENV } from '../config/env.js';
 
 /** A writable text sink (process.stderr, process.stdout, or a test buffer). */
 export interface TextSink {
@@ -76,14 +75,4 @@ export function stringOption(parsed: ParsedArgs, name: string, cmd: string): str
   if (typeof v !== 'string') usageError(`--${name} takes one value`, cmd);
   if (v.length === 0) usageError(`--${name} needs a non-empty value`, cmd);
   return v;
-}
-
-/** Kafka brokers from --brokers or STREAMFENCE_BROKERS, as a list; refuses an empty one. */
-export function brokersOption(parsed: ParsedArgs, cmd: string, why = '--brokers is required'): string[] {
-  const brokers = (stringOption(parsed, 'brokers', cmd) ?? process.env[ENV.brokers] ?? '')
-    .split(',')
-    .map((s) => s.trim())
-    .filter(Boolean);
-  if (brokers.length === 0) usageError(`${why} (or set ${ENV.brokers})`, cmd);
-  return brokers;
 }

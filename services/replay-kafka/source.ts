@@ -22,10 +22,11 @@
  * messages (it is paused beyond that), so memory does not grow with the range.
  */
 import { randomUUID } from 'node:crypto';
-import { Kafka, logLevel, type Consumer, type KafkaConfig } from 'kafkajs';
+import type { Consumer } from 'kafkajs';
 import { parseJsonReading, type ParseResult } from '../../libs/engine/reading.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { InputRecord } from '../replay/input.js';
+import { buildKafka, type KafkaSettings } from '../connect/index.js';
 
 export interface KafkaRangeStats {
   /** Partitions of the topic, and how many had messages in the offset span. */
@@ -40,14 +41,13 @@ export interface KafkaRangeStats {
 }
 
 export interface KafkaRangeOptions {
-  brokers: string[];
+  /** Brokers, TLS and SASL (services/connect/). */
+  connection: KafkaSettings;
   topic: string;
   /** Inclusive start, epoch ms (Kafka message timestamp). */
   from: number;
   /** Exclusive end, epoch ms. */
   to: number;
-  /** Extra kafkajs client settings (ssl, sasl, clientId, ...). */
-  kafkaConfig?: Partial<KafkaConfig>;
   /** Records per yielded batch (default 4096). */
   batchSize?: number;
   /** Messages buffered per partition before it is paused (default 10 000). */
@@ -106,12 +106,8 @@ export async function* kafkaRangeSource(opts: KafkaRangeOptions): AsyncGenerator
   const batchSize = opts.batchSize ?? 4096;
   const maxBuf = opts.maxBufferedPerPartition ?? 10_000;
   const idleMs = opts.idleTimeoutMs ?? 30_000;
-  const kafka = new Kafka({
-    clientId: 'streamfence-replay',
-    logLevel: logLevel.NOTHING,
-    ...opts.kafkaConfig,
-    brokers: opts.brokers,
-  });
+  const brokers = opts.connection.brokers;
+  const kafka = buildKafka(opts.connection, { clientId: 'streamfence-replay' });
   const admin = kafka.admin();
   let consumer: Consumer | null = null;
   try {
@@ -120,7 +116,7 @@ export async function* kafkaRangeSource(opts: KafkaRangeOptions): AsyncGenerator
     } catch (err) {
       throw new StreamfenceError(
         'SERVICE_UNAVAILABLE',
-        `cannot reach Kafka at ${opts.brokers.join(',')}: ${(err as Error).message}; check the broker list`,
+        `cannot reach Kafka at ${brokers.join(',')}: ${(err as Error).message}; check the broker list`,
         { cause: err },
       );
     }
@@ -128,7 +124,7 @@ export async function* kafkaRangeSource(opts: KafkaRangeOptions): AsyncGenerator
     if (!topics.includes(topic)) {
       throw new StreamfenceError(
         'NOT_FOUND',
-        `Kafka topic "${topic}" does not exist on ${opts.brokers.join(',')}; check the topic name`,
+        `Kafka topic "${topic}" does not exist on ${brokers.join(',')}; check the topic name`,
       );
     }
     const starts = await admin.fetchTopicOffsetsByTimestamp(topic, from);

@@ -11,9 +11,10 @@
 import type { Engine, ProcessOutcome } from '../../libs/engine/engine.js';
 import type { Reading } from '../../libs/engine/reading.js';
 import type { Baseline } from '../../libs/engine/window.js';
-import { FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../../libs/scoring/score.js';
+import { ALERT_BUDGET_PER_HOUR, FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../../libs/schema/vocabulary.js';
 import { AuditSample, auditRow, BucketMirror, type AuditRow } from '../../libs/report/audit.js';
 import { AdaptiveBins } from '../../libs/report/bins.js';
+import { HourlyCounts, hourBars } from '../../libs/report/hourly.js';
 import {
   FENCE_CHANNELS,
   markerShape,
@@ -50,7 +51,7 @@ export const REPORT_DEFAULTS = {
   topN: 8,
   auditSample: 20,
   auditCap: 200_000,
-  budgetPerHour: 6,
+  budgetPerHour: ALERT_BUDGET_PER_HOUR,
   binsPerSensor: 360,
   maxChartSensors: 2000,
   maxMarkersPerSensor: 400,
@@ -92,7 +93,8 @@ export type ReportObserver = ReplayObserver & {
   auditResult(): AuditResult | null;
 };
 
-const RATE_BINS = 120;
+/** Most bars on the alert-rate chart; longer spans group whole hours per bar. */
+const RATE_BARS = 168;
 
 // The first bin width: fine enough for a few minutes of data; it doubles as the span grows.
 const FIRST_BIN_MS = 1000;
@@ -101,14 +103,8 @@ export function createReportObserver(opts: ReportOptions = {}): ReportObserver {
   const o: Required<Omit<ReportOptions, 'audit'>> = { ...REPORT_DEFAULTS, ...stripUndefined(opts) };
   const series = new Map<string, Series>();
   const counts = new Map<string, AlertCount>();
-  // Fewer, wider bins for the rate: an hourly rate from a handful of alerts per bin is less jumpy.
-  const rate = new AdaptiveBins({
-    slots: RATE_BINS,
-    initialWidthMs: FIRST_BIN_MS,
-    sumChannels: ['raised', 'critical'],
-  });
-  const raisedCh = rate.sumChannel('raised');
-  const criticalCh = rate.sumChannel('critical');
+  // Raised alerts per clock hour: the chart compares real hourly counts with the hourly budget.
+  const rate = new HourlyCounts();
   let untracked = 0;
   const span = { from: Infinity, to: -Infinity };
   // Raised times in the last 10 minutes of event time (for the worst 10-minute count).
@@ -139,9 +135,8 @@ export function createReportObserver(opts: ReportOptions = {}): ReportObserver {
     return s;
   };
 
-  const onRaised = (ts: number, critical: boolean): void => {
-    rate.addSum(ts, raisedCh);
-    if (critical) rate.addSum(ts, criticalCh);
+  const onRaised = (ts: number): void => {
+    rate.add(ts);
     // Sliding 10-minute window over raised times; exact for time-ordered input, approximate otherwise.
     recent.push(ts);
     while (recent.length > 0 && recent[0] <= ts - FLOOD.windowMs) recent.shift();
@@ -174,7 +169,7 @@ export function createReportObserver(opts: ReportOptions = {}): ReportObserver {
         c[e.state]++;
         if (e.state === 'raised') {
           if (e.severity === 'critical') c.critical++;
-          onRaised(r.ts, e.severity === 'critical');
+          onRaised(r.ts);
         }
         if (s !== undefined) {
           if (s.markers.length < o.maxMarkersPerSensor)
@@ -257,7 +252,7 @@ interface Collected {
   o: Required<Omit<ReportOptions, 'audit'>>;
   series: Map<string, Series>;
   counts: Map<string, AlertCount>;
-  rate: AdaptiveBins;
+  rate: HourlyCounts;
   untracked: number;
   worst10: { count: number; endTs: number };
   audit: AuditResult | null;
@@ -347,13 +342,11 @@ function renderReplayReport(summary: ReplaySummary, c: Collected): string {
     `<p>${esc(summary.alerts.raised)} alerts raised over ${esc(fmtNum(hours))} h of event time (${esc(fmtNum(hours > 0 ? summary.alerts.raised / hours : 0))}/h on average); budget ${esc(fmtNum(o.budgetPerHour))}/h. ` +
       `Worst 10 minutes: ${esc(c.worst10.count)} raised${Number.isFinite(c.worst10.endTs) ? ` (ending ${esc(new Date(c.worst10.endTs).toISOString())})` : ''}; a flood is more than ${FLOOD.limit} within ${FLOOD.windowMs / 60_000} minutes (common practice).</p>`,
     rateChart({
-      bins: c.rate.bins(),
-      widthMs: c.rate.widthMs,
-      channel: 'raised',
+      bars: hourBars(c.rate, c.span.from, c.span.to, RATE_BARS),
       budgetPerHour: o.budgetPerHour,
       floodPerHour,
     }),
-    `<p class="note">Bars: alerts raised per hour in each ${esc(fmtNum(c.rate.widthMs / 60_000))}-minute bin; bars over the budget are shaded differently. The flood line (${floodPerHour}/h) is drawn only when it falls inside the scale.</p>`,
+    `<p class="note">Bars: alerts raised in each clock hour (UTC) across the whole data span; when the span has more than ${RATE_BARS} hours a bar groups several hours and shows its busiest hour. Bars over the budget are shaded differently. The flood line (${floodPerHour}/h) is drawn only when it falls inside the scale.</p>`,
   ].join('\n');
 
   const top = ranked.slice(0, o.topN);

@@ -8,6 +8,7 @@ import { tuneScatter, type ScatterPoint } from '../../libs/report/charts.js';
 import { esc } from '../../libs/report/escape.js';
 import { page, table, type Cell } from '../../libs/report/html.js';
 import { fmtNum } from '../../libs/report/svg.js';
+import { ALERT_BUDGET_PER_HOUR } from '../../libs/schema/vocabulary.js';
 
 /** One grid point as the tune command writes it (fields the report reads; others are ignored). */
 export interface TunePointDoc {
@@ -30,12 +31,10 @@ export interface TuningDoc {
   recommended?: (Partial<TunePointDoc> & { reason?: string; index?: number }) | null;
   budgetPerHour?: number;
   input?: { path?: string; readings?: number; sensors?: number; hours?: number };
-  labels?: { incidents?: number };
+  labels?: { incidents?: number; warnings?: string[] };
   scoring?: { floodWindowMs?: number; floodLimit?: number };
   [key: string]: unknown;
 }
-
-export const DEFAULT_BUDGET_PER_HOUR = 6;
 
 const settingsLabel = (s: Record<string, unknown>): string =>
   Object.entries(s)
@@ -64,7 +63,7 @@ export function renderTuneReport(tuning: TuningDoc): string {
   const budget =
     typeof tuning.budgetPerHour === 'number' && tuning.budgetPerHour > 0
       ? tuning.budgetPerHour
-      : DEFAULT_BUDGET_PER_HOUR;
+      : ALERT_BUDGET_PER_HOUR;
   const recIdx = recommendedIndex(points, tuning.recommended);
   const kinds = [...new Set(points.flatMap((p) => Object.keys(p.recallByKind ?? {})))].sort();
   // Settings that differ between points get a column; the ones shared by all are listed once.
@@ -112,6 +111,9 @@ export function renderTuneReport(tuning: TuningDoc): string {
   const inputLine = inp
     ? `<p>Input ${esc(inp.path ?? '')}: ${esc(inp.readings ?? '–')} readings from ${esc(inp.sensors ?? '–')} sensors over ${esc(fmtNum(inp.hours ?? NaN))} h${tuning.labels?.incidents !== undefined ? `, ${esc(tuning.labels.incidents)} labelled incidents` : ''}.</p>`
     : '';
+  const labelNotes = (tuning.labels?.warnings ?? [])
+    .map((w) => `<p class="warning">Labels: ${esc(w)}.</p>`)
+    .join('');
   const flood =
     tuning.scoring?.floodLimit !== undefined
       ? `<p class="note">Flood: more than ${esc(tuning.scoring.floodLimit)} alerts raised within ${esc(fmtNum((tuning.scoring.floodWindowMs ?? 600_000) / 60_000))} minutes.</p>`
@@ -130,6 +132,7 @@ export function renderTuneReport(tuning: TuningDoc): string {
   const body = [
     '<h2>Grid</h2>',
     inputLine,
+    labelNotes,
     table(
       ['grid points', 'within budget', 'best recall', 'budget'],
       [[points.length, withinBudget, pct(bestRecall < 0 ? null : bestRecall), `${fmtNum(budget)} alerts/h`]],

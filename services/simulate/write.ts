@@ -6,7 +6,7 @@ import { createWriteStream } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import { once } from 'node:events';
 import YAML from 'yaml';
-import { Kafka, logLevel } from 'kafkajs';
+import { buildKafka, type KafkaSettings } from '../connect/index.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { PlantSimulator, SimReading } from '../../libs/sim/plant.js';
 
@@ -88,15 +88,11 @@ export function configText(path: string, config: unknown): string {
 export async function produceReadings(
   sim: PlantSimulator,
   topic: string,
-  brokers: string[],
+  connection: KafkaSettings,
   onProgress?: (n: number) => void,
 ): Promise<number> {
-  const kafka = new Kafka({
-    clientId: 'streamfence-simulate',
-    brokers,
-    logLevel: logLevel.NOTHING,
-    retry: { retries: 3 },
-  });
+  const brokers = connection.brokers;
+  const kafka = buildKafka(connection, { clientId: 'streamfence-simulate', retries: 3 });
   const admin = kafka.admin();
   const producer = kafka.producer({ allowAutoTopicCreation: false });
   try {

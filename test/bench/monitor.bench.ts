@@ -22,8 +22,7 @@ import { createLogger, type LogLevel } from '../../services/log.js';
 import { createMetrics, type Metrics } from '../../services/metrics/metrics.js';
 import { Monitor, type MonitorSettings } from '../../services/monitor/monitor.js';
 import { partitionKeys } from '../../services/redis/keys.js';
-import { createKafka } from '../../services/kafka/client.js';
-import { createRedis } from '../../services/redis/client.js';
+import { buildKafka, buildRedis } from '../../services/connect/index.js';
 import { mulberry32 } from './prng.js';
 
 // Compiled to dist-bench/test/bench/ by the bench runner, or run from test/bench/ with tsx: the
@@ -194,7 +193,7 @@ function settings(topic: string, prefix: string, group: string, alertTopic: stri
 export async function run(): Promise<Record<string, unknown>> {
   const log = createLogger('bench', (process.env.STREAMFENCE_BENCH_LOG ?? 'silent') as LogLevel);
   const kafka = new Kafka({ clientId: name('c'), brokers: brokers(), logLevel: logLevel.NOTHING });
-  const mkKafka = () => createKafka({ clientId: name('m'), brokers: brokers() }, log);
+  const mkKafka = () => buildKafka({ brokers: brokers() }, { clientId: name('m'), log });
   const { url, proc } = await privateRedis();
   const admin = kafka.admin();
   await admin.connect();
@@ -232,7 +231,7 @@ export async function run(): Promise<Record<string, unknown>> {
     const group = name('g');
     const before = await totalCommands(probe);
     const metrics = createMetrics({ defaultMetrics: false });
-    const redis = createRedis({ url });
+    const redis = buildRedis({ url });
     let mon = new Monitor(mkKafka(), redis, config, settings(topic, prefix, group, alertTopic), log, metrics);
     await mon.start();
     let first = 0;

@@ -155,6 +155,16 @@ describe('docker-compose.yml', () => {
     });
   });
 
+  it('runs Redis with the append-only file, fsync every second, on a volume', () => {
+    const redis = service('redis');
+    const cmd = Array.isArray(redis.command) ? redis.command : String(redis.command).split(/\s+/);
+    const flag = (name: string) => cmd[cmd.indexOf(name) + 1];
+    expect(flag('--appendonly')).toBe('yes');
+    expect(flag('--appendfsync')).toBe('everysec');
+    const volumes = (redis as { volumes?: string[] }).volumes ?? [];
+    expect(volumes.some((v) => v.endsWith(':/data'))).toBe(true);
+  });
+
   it('serves metrics on the default port and publishes it', () => {
     const env = envOf(service('monitor'));
     expect(Number(env[ENV.metricsPort])).toBe(DEFAULT_METRICS_PORT);

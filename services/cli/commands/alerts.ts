@@ -3,22 +3,22 @@
  * event, coloured only on a terminal without NO_COLOR; `--json` passes the messages through as
  * NDJSON for other programs.
  */
-import { Kafka, logLevel } from 'kafkajs';
 import picomatch from 'picomatch';
 import { parseDuration } from '../../../libs/config/duration.js';
-import { actionLine, eventLine, passesSeverity, type SeverityFilter } from '../../../libs/board/line.js';
+import { actionLine, eventLine, passesSeverity } from '../../../libs/board/line.js';
+import { isSeverity, SEVERITIES, type Severity } from '../../../libs/schema/vocabulary.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { ENV } from '../../config/env.js';
 import { follow } from '../../board/follow.js';
-import { asAction, asAlertEvent, type ActionMessage } from '../../board/live.js';
 import {
-  parseCommandArgs,
-  printBanner,
-  printHelp,
-  stringOption,
-  usageError,
-  brokersOption,
-} from '../args.js';
+  KAFKA_OPTIONS,
+  buildKafka,
+  connectionHelp,
+  parseArgsOptions,
+  readKafkaSettings,
+} from '../../connect/index.js';
+import { asAction, asAlertEvent, type ActionMessage } from '../../board/live.js';
+import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
 
 const CMD = 'alerts';
 const KNOWN_CAP = 100_000;
@@ -29,7 +29,6 @@ const HELP = `streamfence alerts: follow alert events in the terminal
 Usage: streamfence alerts --brokers HOST:PORT[,...] [options]
 
 Options:
-  --brokers LIST        Kafka bootstrap servers (or ${ENV.brokers})
   --alert-topic NAME    alert topic (default sensor-alerts, or ${ENV.alertTopic})
   --action-topic NAME   operator action topic (default sensor-alert-actions; skipped if it does not exist)
   --no-actions          do not show operator actions
@@ -39,6 +38,8 @@ Options:
   --once                print what is there now and exit (do not follow)
   --json                one JSON message per line (NDJSON), unchanged, for piping
   -h, --help            this help
+
+${connectionHelp({ kafka: true })}
 
 Lines are coloured only when stdout is a terminal and NO_COLOR is not set.
 ${NOTICE}
@@ -61,7 +62,7 @@ export async function main(argv: string[]): Promise<number> {
     CMD,
     argv,
     {
-      brokers: { type: 'string' },
+      ...parseArgsOptions(KAFKA_OPTIONS),
       'alert-topic': { type: 'string' },
       'action-topic': { type: 'string' },
       'no-actions': { type: 'boolean' },
@@ -74,14 +75,14 @@ export async function main(argv: string[]): Promise<number> {
     false,
   );
   if (args.help) return printHelp(HELP);
-  const brokers = brokersOption(args, CMD);
+  const kafkaSettings = readKafkaSettings(args.values, process.env, { cmd: CMD });
   const alertTopic = stringOption(args, 'alert-topic', CMD) ?? process.env[ENV.alertTopic] ?? 'sensor-alerts';
   const actionTopicOpt = stringOption(args, 'action-topic', CMD);
   const severityRaw = stringOption(args, 'severity', CMD);
-  if (severityRaw !== undefined && severityRaw !== 'warning' && severityRaw !== 'critical') {
-    usageError(`--severity must be warning or critical, got "${severityRaw}"`, CMD);
+  if (severityRaw !== undefined && !isSeverity(severityRaw)) {
+    usageError(`--severity must be ${SEVERITIES.join(' or ')}, got "${severityRaw}"`, CMD);
   }
-  const floor = (severityRaw ?? null) as SeverityFilter | null;
+  const floor = (severityRaw ?? null) as Severity | null;
   const glob = stringOption(args, 'sensor', CMD);
   const sensorOk = glob === undefined ? () => true : picomatch(glob, { dot: true });
   const sinceRaw = stringOption(args, 'since', CMD);
@@ -91,12 +92,7 @@ export async function main(argv: string[]): Promise<number> {
   const style = { color };
 
   printBanner(CMD);
-  const kafka = new Kafka({
-    clientId: 'streamfence-alerts',
-    brokers,
-    logLevel: logLevel.ERROR,
-    retry: { retries: 5 },
-  });
+  const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-alerts', retries: 5 });
   const topics = [alertTopic];
   if (args.values['no-actions'] !== true) {
     const actionTopic = actionTopicOpt ?? 'sensor-alert-actions';
@@ -121,8 +117,8 @@ export async function main(argv: string[]): Promise<number> {
 
   // What filters and action lines need to know about an alert: its sensor and severity. Bounded:
   // the oldest entries go first once the cap is reached.
-  const known = new Map<string, { sensor: string; severity: 'warning' | 'critical' }>();
-  const remember = (id: string, info: { sensor: string; severity: 'warning' | 'critical' }) => {
+  const known = new Map<string, { sensor: string; severity: Severity }>();
+  const remember = (id: string, info: { sensor: string; severity: Severity }) => {
     known.delete(id);
     known.set(id, info);
     if (known.size > KNOWN_CAP) known.delete(known.keys().next().value as string);

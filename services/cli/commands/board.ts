@@ -3,24 +3,25 @@
  * action topic) from Kafka as a viewer of its own, and shares operator actions through Redis and
  * the action topic so every board and terminal view agree.
  */
-import { Kafka, logLevel } from 'kafkajs';
-import { Redis } from 'ioredis';
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { StreamfenceError } from '../../../libs/errors/index.js';
 import { ENV } from '../../config/env.js';
+import {
+  KAFKA_OPTIONS,
+  REDIS_OPTIONS,
+  buildKafka,
+  buildRedis,
+  connectionHelp,
+  parseArgsOptions,
+  readKafkaSettings,
+  readRedisSettings,
+} from '../../connect/index.js';
 import { boardTokenFor } from '../../board/auth.js';
 import { BoardHub } from '../../board/hub.js';
 import { LiveFeed } from '../../board/live.js';
 import { createBoardMetrics } from '../../board/metrics.js';
 import { startBoardServer } from '../../board/server.js';
-import {
-  parseCommandArgs,
-  printBanner,
-  printHelp,
-  stringOption,
-  usageError,
-  brokersOption,
-} from '../args.js';
+import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../args.js';
 import { parseSince } from './alerts.js';
 
 const CMD = 'board';
@@ -30,16 +31,17 @@ const HELP = `streamfence board: serve the operator board for the live system
 Usage: streamfence board --brokers HOST:PORT[,...] --redis URL [options]
 
 Options:
-  --brokers LIST        Kafka bootstrap servers (or ${ENV.brokers})
   --alert-topic NAME    topic the monitor publishes alert events to (default sensor-alerts, or ${ENV.alertTopic})
   --action-topic NAME   topic operator actions are shared on (default sensor-alert-actions)
-  --redis URL           Redis for the durable record of operator actions (or ${ENV.redisUrl})
   --state-prefix P      prefix of the Redis keys (default streamfence, or ${ENV.statePrefix})
   --since ISO|DURATION  read alert history from this time (e.g. 24h); default: all the topic keeps
   --port N              HTTP port (default 8080; 0 picks a free one)
   --host ADDR           address to listen on (default 127.0.0.1; any other needs --board-token)
   --board-token T       token operators' actions must carry (or STREAMFENCE_BOARD_TOKEN)
   -h, --help            this help
+
+${connectionHelp({ kafka: true, redis: true })}
+Redis keeps the durable record of operator actions.
 
 The board reads the topics with a consumer group of its own that never commits, so it never moves
 the monitor's position. Both topics must exist.
@@ -51,10 +53,10 @@ export async function main(argv: string[]): Promise<number> {
     CMD,
     argv,
     {
-      brokers: { type: 'string' },
+      ...parseArgsOptions(KAFKA_OPTIONS),
+      ...parseArgsOptions(REDIS_OPTIONS),
       'alert-topic': { type: 'string' },
       'action-topic': { type: 'string' },
-      redis: { type: 'string' },
       'state-prefix': { type: 'string' },
       since: { type: 'string' },
       port: { type: 'string' },
@@ -64,10 +66,12 @@ export async function main(argv: string[]): Promise<number> {
     false,
   );
   if (args.help) return printHelp(HELP);
-  const brokers = brokersOption(args, CMD);
-  const redisUrl = stringOption(args, 'redis', CMD) ?? process.env[ENV.redisUrl];
-  if (!redisUrl)
-    usageError(`--redis is required (or set ${ENV.redisUrl}): operator actions are kept there`, CMD);
+  const kafkaSettings = readKafkaSettings(args.values, process.env, { cmd: CMD });
+  const redisSettings = readRedisSettings(args.values, process.env, {
+    cmd: CMD,
+    required: true,
+    why: 'operator actions are kept there',
+  });
   const alertTopic = stringOption(args, 'alert-topic', CMD) ?? process.env[ENV.alertTopic] ?? 'sensor-alerts';
   const actionTopic = stringOption(args, 'action-topic', CMD) ?? 'sensor-alert-actions';
   const prefix = stringOption(args, 'state-prefix', CMD) ?? process.env[ENV.statePrefix] ?? 'streamfence';
@@ -84,7 +88,7 @@ export async function main(argv: string[]): Promise<number> {
   );
 
   printBanner(CMD);
-  const redis = new Redis(redisUrl, { lazyConnect: true, maxRetriesPerRequest: 2, connectTimeout: 5_000 });
+  const redis = buildRedis(redisSettings);
   try {
     await redis.connect();
   } catch (e) {
@@ -94,12 +98,7 @@ export async function main(argv: string[]): Promise<number> {
       `cannot reach Redis at --redis: ${(e as Error).message}`,
     );
   }
-  const kafka = new Kafka({
-    clientId: 'streamfence-board',
-    brokers,
-    logLevel: logLevel.ERROR,
-    retry: { retries: 5 },
-  });
+  const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-board', retries: 5 });
   let feed: LiveFeed | null = null;
   const hub = new BoardHub({
     mode: 'live',

@@ -8,7 +8,13 @@ import { parseConfigText } from '../../../libs/config/config.js';
 import { StreamfenceError } from '../../../libs/errors/index.js';
 import { ENV } from '../../config/env.js';
 import { describeSensor, storedSensors } from '../../monitor/inspect-state.js';
-import { createRedis } from '../../redis/client.js';
+import {
+  REDIS_OPTIONS,
+  buildRedis,
+  connectionHelp,
+  parseArgsOptions,
+  readRedisSettings,
+} from '../../connect/index.js';
 
 const HELP = `Usage: streamfence inspect [SENSOR...] [options]
 
@@ -16,14 +22,14 @@ Prints one JSON line per sensor from the state the live monitor checkpointed in 
 sensor, seen, baseline (q1, median, q3, iqr, fences, mean, stdDev, count, from, to),
 activeAlert, newestReading, partition. All sensors when none are named.
 
-  --redis <url>          Redis URL (env ${ENV.redisUrl})
   --state-prefix <p>     key prefix the monitor used (env ${ENV.statePrefix}; default streamfence)
   --group <g>            only this consumer group (default: every group under the prefix)
   --input-topic <t>      only this input topic (default: every topic)
   --config <file>        decode with this engine config (default: the one the monitor stored)
   --help                 this help
 
-The Redis password comes from ${ENV.redisPassword} or the URL, the user from ${ENV.redisUsername}.
+${connectionHelp({ redis: true })}
+inspect only reads: a Redis user limited to read commands on the state keys is enough.
 `;
 
 export async function main(argv: string[]): Promise<number> {
@@ -34,7 +40,7 @@ export async function main(argv: string[]): Promise<number> {
       allowPositionals: true,
       strict: true,
       options: {
-        redis: { type: 'string' },
+        ...parseArgsOptions(REDIS_OPTIONS),
         'state-prefix': { type: 'string' },
         group: { type: 'string' },
         'input-topic': { type: 'string' },
@@ -50,12 +56,7 @@ export async function main(argv: string[]): Promise<number> {
     process.stdout.write(HELP);
     return 0;
   }
-  const url = v.redis ?? process.env[ENV.redisUrl];
-  if (!url)
-    throw new StreamfenceError(
-      'ARGS_INVALID',
-      `no Redis: pass --redis redis://host:port or set ${ENV.redisUrl}`,
-    );
+  const redisSettings = readRedisSettings(v, process.env, { cmd: 'inspect', required: true });
   const prefix = v['state-prefix'] ?? process.env[ENV.statePrefix] ?? 'streamfence';
   let config;
   if (v.config) {
@@ -70,11 +71,7 @@ export async function main(argv: string[]): Promise<number> {
     }
     config = parseConfigText(text, v.config);
   }
-  const redis = createRedis({
-    url,
-    username: process.env[ENV.redisUsername] || undefined,
-    password: process.env[ENV.redisPassword] || undefined,
-  });
+  const redis = buildRedis(redisSettings);
   const only = parsed.positionals.length ? new Set(parsed.positionals) : undefined;
   const found = new Set<string>();
   try {

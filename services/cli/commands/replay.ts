@@ -8,7 +8,6 @@ import { readFile, stat } from 'node:fs/promises';
 import { defaultConfig, parseConfigText, type EngineConfig } from '../../../libs/config/config.js';
 import { StreamfenceError } from '../../../libs/errors/index.js';
 import {
-  brokersOption,
   parseCommandArgs,
   printBanner,
   printHelp,
@@ -24,7 +23,15 @@ import { createReportObserver } from '../../report/replay-report.js';
 import { writeReport, REPORT_FILE } from '../../report/write.js';
 import { isKafkaUrl, parseKafkaUrl, KAFKA_URL_EXAMPLE, type KafkaRange } from '../../replay-kafka/url.js';
 import { kafkaRangeSource, newKafkaRangeStats } from '../../replay-kafka/source.js';
+import {
+  KAFKA_OPTIONS,
+  connectionHelp,
+  parseArgsOptions,
+  readKafkaSettings,
+  type KafkaSettings,
+} from '../../connect/index.js';
 import { parseTimestamp } from '../../../libs/engine/reading.js';
+import { DEFAULT_MAX_SENSORS } from '../../../libs/engine/sensor-budget.js';
 
 const CMD = 'replay';
 
@@ -43,12 +50,16 @@ INPUT           readings file: NDJSON (one {"sensor","ts","value"} per line; .nd
   --report        also write ${REPORT_FILE}: counts, alert rate against the budget, charts of the top sensors
   --report-top N  sensors charted in the report (default 8)
   --budget N      alert budget in raised alerts per hour for the report (default 6)
+  --max-sensors N most sensors with state at once; readings of new sensors beyond it are
+                  rejected as sensor_limit (default ${DEFAULT_MAX_SENSORS})
   --audit         compare digest quartiles with exact ones for a sample of sensors (implies --report;
                   the numbers also go to ${REPLAY_FILES.summary} under "audit")
-  --brokers LIST  Kafka brokers for a kafka:// input (default STREAMFENCE_BROKERS)
   --from TIME     start of the Kafka range, inclusive (ISO-8601 with a zone, or epoch ms)
   --to TIME       end of the Kafka range, exclusive
   -h, --help      this help
+
+${connectionHelp({ kafka: true })}
+The connection options apply to a kafka:// input; brokers written in the address win over --brokers.
 
 A Kafka range is read by message timestamp from every partition without committing any offset (a
 throwaway consumer group is created and deleted), so it is safe against production topics. Readings
@@ -84,9 +95,10 @@ export async function main(argv: string[]): Promise<number> {
     'report-top': { type: 'string' },
     budget: { type: 'string' },
     audit: { type: 'boolean' },
-    brokers: { type: 'string' },
+    ...parseArgsOptions(KAFKA_OPTIONS),
     from: { type: 'string' },
     to: { type: 'string' },
+    'max-sensors': { type: 'string' },
   });
   if (args.help) return printHelp(HELP);
   if (args.positionals.length === 0)
@@ -100,8 +112,21 @@ export async function main(argv: string[]): Promise<number> {
   const wantReport = wantAudit || args.values.report === true;
   const topN = positiveNumber(stringOption(args, 'report-top', CMD), 'report-top', 8, true);
   const budget = positiveNumber(stringOption(args, 'budget', CMD), 'budget', 6, false);
+  const maxSensors = positiveNumber(
+    stringOption(args, 'max-sensors', CMD),
+    'max-sensors',
+    DEFAULT_MAX_SENSORS,
+    true,
+  );
 
-  const opened = isKafkaUrl(input) ? openKafka(kafkaRange(input, args)) : await openFile(input, args);
+  let opened: OpenedInput;
+  if (isKafkaUrl(input)) {
+    const range = kafkaRange(input, args);
+    const connection = readKafkaSettings(args.values, process.env, { cmd: CMD, brokers: range.brokers });
+    opened = openKafka(range, connection);
+  } else {
+    opened = await openFile(input, args);
+  }
   const report = wantReport ? createReportObserver({ topN, audit: wantAudit, budgetPerHour: budget }) : null;
   // The report observer collects bounded chart data during the replay; its audit numbers go to summary.json.
   const observers: ReplayObserver[] =
@@ -125,6 +150,7 @@ export async function main(argv: string[]): Promise<number> {
     inputInfo: opened.info,
     observers,
     progress: opened.update,
+    maxSensors,
   });
   if (report !== null) await writeReport(outDir, report.render(summary));
   const progress = opened.progress;
@@ -170,11 +196,11 @@ async function openFile(input: string, args: ParsedArgs): Promise<OpenedInput> {
   };
 }
 
-function openKafka(range: KafkaRange): OpenedInput {
+function openKafka(range: KafkaRange, connection: KafkaSettings): OpenedInput {
   const ks = newKafkaRangeStats();
   const progress = new Progress({ unit: 'messages' });
   return {
-    source: kafkaRangeSource({ ...range, stats: ks }),
+    source: kafkaRangeSource({ connection, topic: range.topic, from: range.from, to: range.to, stats: ks }),
     info: () => ({
       kafka: {
         topic: range.topic,
@@ -205,7 +231,7 @@ function positiveNumber(raw: string | undefined, name: string, dflt: number, who
 function kafkaRange(input: string, args: ParsedArgs): KafkaRange {
   const rest = input.slice('kafka://'.length);
   if (rest.includes('/')) return parseKafkaUrl(input);
-  const brokers = brokersOption(args, CMD, 'a kafka:// input needs --brokers HOST:PORT').join(',');
+  const brokers = readKafkaSettings(args.values, process.env, { cmd: CMD }).brokers.join(',');
   const from = stringOption(args, 'from', CMD);
   const to = stringOption(args, 'to', CMD);
   if (from === undefined || to === undefined)

@@ -8,15 +8,15 @@ import { defaultConfig, parseConfigText } from '../../../libs/config/config.js';
 import { ENGINE_VERSION } from '../../../libs/engine/engine.js';
 import { StreamfenceError } from '../../../libs/errors/index.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
-import { createKafka } from '../../kafka/client.js';
-import { createLogger, safeUrl } from '../../log.js';
+import { buildKafka, buildRedis, describeKafka, describeRedis } from '../../connect/index.js';
+import { createLogger } from '../../log.js';
 import { startMetricsServer } from '../../metrics/http.js';
 import { createMetrics } from '../../metrics/metrics.js';
 import { Monitor } from '../../monitor/monitor.js';
 import { optionsHelp, parseRunOptions, RUN_OPTIONS } from '../../monitor/options.js';
-import { createRedis } from '../../redis/client.js';
 
-const STOP_DEADLINE_MS = 9_500;
+/** A stop request ends the process within this time (the documented 10 s stop budget). */
+export const STOP_DEADLINE_MS = 9_500;
 
 export async function main(argv: string[]): Promise<number> {
   const parsed = parseRunOptions(argv, process.env);
@@ -57,28 +57,18 @@ export async function main(argv: string[]): Promise<number> {
   }
 
   const metrics = createMetrics();
-  const redis = createRedis({ url: o.redisUrl, ...o.redis });
-  const kafka = createKafka(
-    {
-      clientId: `streamfence-${hostname()}-${process.pid}`,
-      brokers: o.brokers,
-      tls: o.kafka.tls,
-      caFile: o.kafka.caFile,
-      certFile: o.kafka.certFile,
-      keyFile: o.kafka.keyFile,
-      sasl: o.kafka.sasl,
-    },
+  const redis = buildRedis(o.redis);
+  const kafka = buildKafka(o.kafka, {
+    clientId: `streamfence-${hostname()}-${process.pid}`,
     log,
     // Errors kafkajs retries on its own (a broker that stops answering, a lost group membership)
     // count as Kafka backoff too, so an outage shows in the metric even when no call of ours fails.
-    () => metrics.backoff.inc({ dependency: 'kafka' }),
-  );
+    onError: () => metrics.backoff.inc({ dependency: 'kafka' }),
+  });
   log.info(
     {
-      brokers: o.brokers.map(safeUrl),
-      redis: safeUrl(o.redisUrl),
-      kafkaTls: o.kafka.tls,
-      sasl: o.kafka.sasl?.mechanism ?? null,
+      kafka: describeKafka(o.kafka),
+      redis: describeRedis(o.redis),
       inputTopic: o.inputTopic,
       alertTopic: o.alertTopic,
       rejectedTopic: o.rejectedTopic,
@@ -101,6 +91,7 @@ export async function main(argv: string[]): Promise<number> {
       group: o.group,
       checkpointMs: o.checkpointMs,
       checkpointReadings: o.checkpointReadings,
+      maxSensors: o.maxSensors,
       sessionTimeoutMs: o.sessionTimeoutMs,
     },
     log,

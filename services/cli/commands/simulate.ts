@@ -7,6 +7,7 @@ import { parseTimestamp } from '../../../libs/engine/reading.js';
 import { formatLabelsCsv } from '../../../libs/scoring/labels.js';
 import { DEFAULT_SCENARIO, PlantSimulator, SCENARIOS, suggestedConfig } from '../../../libs/sim/plant.js';
 import { ENV } from '../../config/env.js';
+import { KAFKA_OPTIONS, connectionHelp, parseArgsOptions, readKafkaSettings } from '../../connect/index.js';
 import { Progress, formatCount, formatSeconds } from '../../progress.js';
 import {
   configText,
@@ -29,16 +30,20 @@ Generate readings from an invented plant, with injected faults and their labels.
   --interval D        reading interval of each sensor, e.g. 60s, 1m (default 1m)
   --sensors N         how many sensors (default: the scenario's set; more repeat its units)
   --seed N            random seed (default 1); same seed, same data
-  --start ISO         time of the first reading (default ${DEFAULT_START})
+  --start ISO         time of the first reading, with a zone (default ${DEFAULT_START}; with
+                      --kafka the default ends the span at the current time, so the topic's
+                      retention keeps the data)
   --out FILE          readings file: .ndjson or .csv (or say --format)
   --format F          ndjson or csv
   --labels FILE       fault labels as CSV: sensor,start,end,kind (ISO-8601 UTC times)
   --no-faults         no injected faults
   --kafka TOPIC       produce the readings to this Kafka topic (created if missing), keyed by sensor
-  --brokers LIST      Kafka brokers host:port,... (default $${ENV.brokers} or 127.0.0.1:9092)
   --config-out FILE   the scenario's suggested engine config (.json for JSON, otherwise YAML)
   --list              list the scenarios and their sensors, then exit
   -h, --help          this help
+
+${connectionHelp({ kafka: true })}
+With --kafka and no --brokers, ${ENV.brokers} or else 127.0.0.1:9092.
 
 Fault kinds: spike, step, drift, stuck, noise, dropout. The suggested config assumes readings about
 once a minute (minSamples and flatlineAfter count readings).
@@ -90,7 +95,7 @@ export async function main(argv: string[]): Promise<number> {
       labels: { type: 'string' },
       'no-faults': { type: 'boolean' },
       kafka: { type: 'string' },
-      brokers: { type: 'string' },
+      ...parseArgsOptions(KAFKA_OPTIONS),
       'config-out': { type: 'string' },
       list: { type: 'boolean' },
     },
@@ -110,21 +115,35 @@ export async function main(argv: string[]): Promise<number> {
     usageError('say where the data goes: --out FILE (.ndjson or .csv) or --kafka TOPIC', CMD);
   }
   if (out !== undefined && topic !== undefined) usageError('give either --out or --kafka, not both', CMD);
+  const connection =
+    topic === undefined
+      ? undefined
+      : readKafkaSettings(args.values, process.env, { cmd: CMD, defaultBrokers: '127.0.0.1:9092' });
   const format = out !== undefined ? formatFromPath(out, s('format')) : undefined;
   const seedText = s('seed') ?? '1';
   if (!/^-?\d+$/.test(seedText) || Math.abs(Number(seedText)) > 2 ** 32) {
     usageError(`--seed must be a whole number, got "${seedText}"`, CMD);
   }
-  const startText = s('start') ?? DEFAULT_START;
-  const start = parseTimestamp(startText);
-  if (!start.ok) usageError(`--start: ${start.detail}`, CMD);
+  const durationMs = duration(s('duration') ?? '2d', 'duration');
+  const intervalMs = duration(s('interval') ?? '1m', 'interval');
+  const startText = s('start');
+  let startTs: number;
+  if (startText === undefined && topic !== undefined) {
+    // A broker deletes messages older than its retention at once, so data for a topic ends now
+    // (on a whole interval) instead of at a fixed past date that a short retention would drop.
+    startTs = Math.floor((Date.now() - durationMs) / intervalMs) * intervalMs;
+  } else {
+    const start = parseTimestamp(startText ?? DEFAULT_START);
+    if (!start.ok) usageError(`--start: ${start.detail}`, CMD);
+    startTs = (start as { ts: number }).ts;
+  }
   const scenario = s('scenario') ?? DEFAULT_SCENARIO;
 
   const opts = {
     seed: Number(seedText),
-    start: (start as { ts: number }).ts,
-    durationMs: duration(s('duration') ?? '2d', 'duration'),
-    intervalMs: duration(s('interval') ?? '1m', 'interval'),
+    start: startTs,
+    durationMs,
+    intervalMs,
     sensors: s('sensors') === undefined ? undefined : positiveInt(s('sensors')!, 'sensors'),
     faults: args.values['no-faults'] !== true,
     scenario,
@@ -144,11 +163,8 @@ export async function main(argv: string[]): Promise<number> {
     n = await writeReadings(sim, out, format!, onProgress);
     where = out;
   } else if (topic !== undefined) {
-    const brokers = (s('brokers') ?? process.env[ENV.brokers] ?? '127.0.0.1:9092')
-      .split(',')
-      .map((b) => b.trim());
-    n = await produceReadings(sim, topic, brokers, onProgress);
-    where = `Kafka topic ${topic}`;
+    n = await produceReadings(sim, topic, connection!, onProgress);
+    where = `Kafka topic ${topic}, reading times ${new Date(startTs).toISOString()} to ${new Date(startTs + durationMs).toISOString()}${startText === undefined ? ' (ending now, so the retention keeps them)' : ''}`;
   }
   const labels = sim.labels().length;
   progress.finish(

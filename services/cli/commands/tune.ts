@@ -4,7 +4,7 @@
  */
 import { availableParallelism } from 'node:os';
 import { DEFAULT_GRID_SPEC } from '../../../libs/tuning/grid.js';
-import { DEFAULT_BUDGET_PER_HOUR } from '../../../libs/tuning/recommend.js';
+import { ALERT_BUDGET_PER_HOUR } from '../../../libs/schema/vocabulary.js';
 import { DEFAULT_GRACE_MS } from '../../../libs/scoring/score.js';
 import { parseDuration } from '../../../libs/config/duration.js';
 import { runTune } from '../../tune/tune.js';
@@ -25,7 +25,7 @@ INPUT             readings file (NDJSON or CSV, optionally .gz), read once
                     keys fenceK, zLimit, trigger, debounce (raiseAfter/raiseWindow), clearAfter,
                     flatlineAfter; lists with "," and numeric ranges from:to:step; parts joined by ";".
                     A key left out keeps the base config's value.
-  --budget N        raised alerts per hour allowed over the whole input (default ${DEFAULT_BUDGET_PER_HOUR})
+  --budget N        raised alerts per hour allowed over the whole input (default ${ALERT_BUDGET_PER_HOUR})
   --grace D         time after an incident's end in which an alert still counts (default ${DEFAULT_GRACE_MS / 1000}s)
   --workers N       worker threads (default ${availableParallelism()} here: the number of CPUs)
   --format F        ndjson or csv, when the extension does not say

@@ -107,7 +107,7 @@ describe('kafkaRangeSource', () => {
     const fileOut = join(dir, 'from-file');
     const fromKafka = await runReplay({
       source: kafkaRangeSource({
-        brokers: kafkaBrokers(),
+        connection: { brokers: kafkaBrokers() },
         topic,
         from,
         to,
@@ -186,7 +186,7 @@ describe('kafkaRangeSource', () => {
     const later = START + 10 * 3_600_000;
     const out: unknown[] = [];
     for await (const b of kafkaRangeSource({
-      brokers: kafkaBrokers(),
+      connection: { brokers: kafkaBrokers() },
       topic,
       from: later,
       to: later + 60_000,
@@ -194,7 +194,7 @@ describe('kafkaRangeSource', () => {
       out.push(...b);
     expect(out).toEqual([]);
     const missing = kafkaRangeSource({
-      brokers: kafkaBrokers(),
+      connection: { brokers: kafkaBrokers() },
       topic: uniqueName('absent'),
       from: START,
       to: later,

@@ -53,7 +53,7 @@ describe('simulate to Kafka', () => {
   it('creates the topic and produces every reading keyed by sensor', async () => {
     const topic = uniqueName('sim-readings');
     topics.push(topic);
-    const n = await produceReadings(new PlantSimulator(OPTS), topic, kafkaBrokers());
+    const n = await produceReadings(new PlantSimulator(OPTS), topic, { brokers: kafkaBrokers() });
     const want = [...new PlantSimulator(OPTS)];
     expect(n).toBe(want.length);
     const got = await consumeAll(topic, want.length);
@@ -87,7 +87,7 @@ describe('simulate to Kafka', () => {
     expect(code).toBe(0);
     expect(await consumeAll(topic, 180)).toHaveLength(180);
     await expect(
-      produceReadings(new PlantSimulator(OPTS), uniqueName('nowhere'), ['127.0.0.1:1']),
+      produceReadings(new PlantSimulator(OPTS), uniqueName('nowhere'), { brokers: ['127.0.0.1:1'] }),
     ).rejects.toMatchObject({
       code: 'SERVICE_UNAVAILABLE',
     });

@@ -7,7 +7,7 @@ import { isStreamfenceError } from '../../../libs/errors/index.js';
 import { safeUrl } from '../../../services/log.js';
 import { parseMessage, rejectionRecord } from '../../../services/monitor/message.js';
 import { parseRunOptions } from '../../../services/monitor/options.js';
-import { redisOptions } from '../../../services/redis/client.js';
+import { redisOptions } from '../../../services/connect/index.js';
 import { parseStateKey, partitionKeys, stateKeyPattern } from '../../../services/redis/keys.js';
 
 const base = ['--brokers', 'k1:9092,k2:9092', '--redis', 'redis://r:6379'];
@@ -31,7 +31,7 @@ describe('run options', () => {
   it('applies defaults, env values, and lets flags win over env', () => {
     const o = opts(base);
     expect(o).toMatchObject({
-      brokers: ['k1:9092', 'k2:9092'],
+      kafka: { brokers: ['k1:9092', 'k2:9092'] },
       statePrefix: 'streamfence',
       inputTopic: 'sensor-readings',
       alertTopic: 'sensor-alerts',
@@ -46,7 +46,11 @@ describe('run options', () => {
       STREAMFENCE_REDIS_URL: 'redis://e:2',
       STREAMFENCE_GROUP: 'from-env',
     };
-    expect(opts([], env)).toMatchObject({ brokers: ['e:1'], redisUrl: 'redis://e:2', group: 'from-env' });
+    expect(opts([], env)).toMatchObject({
+      kafka: { brokers: ['e:1'] },
+      redis: { url: 'redis://e:2' },
+      group: 'from-env',
+    });
     expect(opts(['--group', 'from-flag'], env).group).toBe('from-flag');
   });
 

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { score, worstWindow, FLOOD_LIMIT } from '../../../libs/scoring/score.js';
+import { FLOOD_LIMIT } from '../../../libs/schema/vocabulary.js';
+import { score, worstWindow } from '../../../libs/scoring/score.js';
 import type { Incident } from '../../../libs/scoring/labels.js';
 
 const MIN = 60_000;

@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { DEFAULT_BUDGET_PER_HOUR, recommend, type Scored } from '../../../libs/tuning/recommend.js';
+import { ALERT_BUDGET_PER_HOUR } from '../../../libs/schema/vocabulary.js';
+import { recommend, type Scored } from '../../../libs/tuning/recommend.js';
 
 const p = (recall: number | null, precision: number | null, alertsPerHour: number, raised = 10): Scored => ({
   recall,
@@ -10,7 +11,7 @@ const p = (recall: number | null, precision: number | null, alertsPerHour: numbe
 
 describe('recommendation rule', () => {
   it('default budget: 6 raised alerts per hour (about one per 10 minutes; ISA-18.2 guidance, see reference-values.md)', () => {
-    expect(DEFAULT_BUDGET_PER_HOUR).toBe(6);
+    expect(ALERT_BUDGET_PER_HOUR).toBe(6);
   });
 
   it('within budget: best recall first, over-budget points ignored', () => {

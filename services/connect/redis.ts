@@ -1,28 +1,23 @@
 /**
- * Redis connection from a URL plus optional secrets from the environment or files. `rediss://`
- * turns TLS on. Commands fail fast (no long offline queue): callers own the retry policy, so
- * an outage shows up as backoff in logs and metrics rather than as silent queueing.
+ * The ioredis client of every command, from RedisSettings: a URL plus ACL user, password and TLS
+ * files. `rediss://` turns TLS on. Commands fail fast (no long offline queue): callers own the
+ * retry policy, so an outage shows up as backoff in logs and metrics rather than silent queueing.
  */
 import { Redis, type RedisOptions } from 'ioredis';
 import { StreamfenceError } from '../../libs/errors/index.js';
-import { readPem } from '../tls-files.js';
+import { readPem } from './files.js';
+import type { RedisSettings } from './options.js';
 
-export interface RedisConnectOptions {
-  url: string;
-  username?: string;
-  password?: string;
-  /** PEM CA file to trust (rediss:// only; the system store is used otherwise). */
-  caFile?: string;
-  certFile?: string;
-  keyFile?: string;
+export interface RedisClientOptions {
   /** Per-command timeout; a paused server makes calls fail after this and the caller retries. */
   commandTimeoutMs?: number;
 }
 
-export function redisOptions(o: RedisConnectOptions): RedisOptions {
+/** The ioredis options for the settings (exported for tests). */
+export function redisOptions(s: RedisSettings, o: RedisClientOptions = {}): RedisOptions {
   let u: URL;
   try {
-    u = new URL(o.url);
+    u = new URL(s.url);
   } catch {
     throw new StreamfenceError(
       'ARGS_INVALID',
@@ -39,8 +34,8 @@ export function redisOptions(o: RedisConnectOptions): RedisOptions {
     host: u.hostname,
     port: u.port ? Number(u.port) : 6379,
     db: u.pathname.length > 1 ? Number(u.pathname.slice(1)) : 0,
-    username: o.username ?? (u.username ? decodeURIComponent(u.username) : undefined),
-    password: o.password ?? (u.password ? decodeURIComponent(u.password) : undefined),
+    username: s.username ?? (u.username ? decodeURIComponent(u.username) : undefined),
+    password: s.password ?? (u.password ? decodeURIComponent(u.password) : undefined),
     maxRetriesPerRequest: 1,
     enableOfflineQueue: true,
     commandTimeout: o.commandTimeoutMs ?? 5_000,
@@ -49,19 +44,20 @@ export function redisOptions(o: RedisConnectOptions): RedisOptions {
     // Reconnect forever with a capped delay; the caller's retries decide what waits.
     retryStrategy: (times) => Math.min(100 * 2 ** Math.min(times, 6), 3_000),
   };
-  if (u.protocol === 'rediss:' || o.caFile || o.certFile) {
+  if (u.protocol === 'rediss:') {
     opts.tls = {
       servername: u.hostname,
-      ca: o.caFile ? readPem('Redis', o.caFile, 'CA') : undefined,
-      cert: o.certFile ? readPem('Redis', o.certFile, 'certificate') : undefined,
-      key: o.keyFile ? readPem('Redis', o.keyFile, 'key') : undefined,
+      ca: s.caFile ? readPem('Redis', s.caFile, 'CA') : undefined,
+      cert: s.certFile ? readPem('Redis', s.certFile, 'certificate') : undefined,
+      key: s.keyFile ? readPem('Redis', s.keyFile, 'key') : undefined,
     };
   }
   return opts;
 }
 
-export function createRedis(o: RedisConnectOptions): Redis {
-  const r = new Redis(redisOptions(o));
+/** The one way a command gets an ioredis client (not yet connected: call connect()). */
+export function buildRedis(s: RedisSettings, o: RedisClientOptions = {}): Redis {
+  const r = new Redis(redisOptions(s, o));
   // Errors are reported by the calls that fail; without a listener ioredis prints them itself.
   r.on('error', () => {});
   return r;

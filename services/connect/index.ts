@@ -1,0 +1,26 @@
+/**
+ * The connection layer: every command that talks to Kafka or Redis declares the options in
+ * KAFKA_OPTIONS / REDIS_OPTIONS, reads them with readKafkaSettings / readRedisSettings and builds
+ * its clients with buildKafka / buildRedis. Nothing else in services/ constructs a kafkajs or
+ * ioredis client (eslint.config.js enforces it).
+ */
+export {
+  KAFKA_OPTIONS,
+  REDIS_OPTIONS,
+  SASL_MECHANISMS,
+  SECRET_ENV,
+  connectionHelp,
+  describeKafka,
+  describeRedis,
+  optionsHelp,
+  parseArgsOptions,
+  readKafkaSettings,
+  readRedisSettings,
+  type KafkaSettings,
+  type OptionSpec,
+  type OptionValues,
+  type RedisSettings,
+  type SaslMechanism,
+} from './options.js';
+export { buildKafka, kafkaConfig, type KafkaClientOptions } from './kafka.js';
+export { buildRedis, redisOptions, type RedisClientOptions } from './redis.js';

@@ -1,0 +1,79 @@
+/**
+ * The kafkajs client of every command, from KafkaSettings: brokers, optional TLS (CA, client
+ * certificate) and SASL (PLAIN, SCRAM-SHA-256, SCRAM-SHA-512). kafkajs log lines go to our pino
+ * logger (one JSON object per line, secrets redacted) or nowhere: a command without a logger
+ * reports failures through the errors it throws, never through kafkajs' own console output.
+ */
+import { Kafka, logLevel, type KafkaConfig, type SASLOptions, type LogEntry } from 'kafkajs';
+import { readPem } from './files.js';
+import type { KafkaSettings } from './options.js';
+import type { Logger } from '../log.js';
+
+export interface KafkaClientOptions {
+  clientId: string;
+  /** Where kafkajs warnings and errors go; without one kafkajs is silent. */
+  log?: Logger;
+  /**
+   * Told about every error kafkajs reports (it retries them itself: failed requests, lost group
+   * membership), so a long-running caller can count Kafka trouble it never sees as an exception.
+   */
+  onError?: () => void;
+  /** kafkajs retries of one request before it fails (default 8). */
+  retries?: number;
+}
+
+const LEVELS: Record<number, 'error' | 'warn' | 'info' | 'debug'> = {
+  [logLevel.ERROR]: 'error',
+  [logLevel.WARN]: 'warn',
+  [logLevel.INFO]: 'info',
+  [logLevel.DEBUG]: 'debug',
+};
+
+/** The kafkajs configuration for the settings (exported for tests). */
+export function kafkaConfig(s: KafkaSettings, o: KafkaClientOptions): KafkaConfig {
+  const { log, onError } = o;
+  const cfg: KafkaConfig = {
+    clientId: o.clientId,
+    brokers: s.brokers,
+    connectionTimeout: 5_000,
+    requestTimeout: 30_000,
+    retry: { initialRetryTime: 200, maxRetryTime: 5_000, retries: o.retries ?? 8 },
+    // kafkajs logs at info about routine group events; keep only warnings and errors.
+    logLevel: log || onError ? logLevel.WARN : logLevel.NOTHING,
+    logCreator: () => (entry: LogEntry) => {
+      if (entry.level === logLevel.ERROR) onError?.();
+      if (!log) return;
+      const level = LEVELS[entry.level] ?? 'info';
+      const { message, ...rest } = entry.log;
+      log[level]({ kafkajs: entry.namespace, ...pickSafe(rest) }, String(message));
+    },
+  };
+  if (s.tls || s.caFile || s.certFile) {
+    cfg.ssl = {
+      rejectUnauthorized: true,
+      ca: s.caFile ? [readPem('Kafka', s.caFile, 'CA')] : undefined,
+      cert: s.certFile ? readPem('Kafka', s.certFile, 'certificate') : undefined,
+      key: s.keyFile ? readPem('Kafka', s.keyFile, 'key') : undefined,
+    };
+  }
+  if (s.sasl) {
+    const { mechanism, username, password } = s.sasl;
+    cfg.sasl = { mechanism, username, password } as SASLOptions;
+  }
+  return cfg;
+}
+
+/** kafkajs log extras are plain values (broker, groupId, error text); keep only scalars. */
+function pickSafe(o: Record<string, unknown>): Record<string, unknown> {
+  const out: Record<string, unknown> = {};
+  for (const [k, v] of Object.entries(o)) {
+    if (k === 'timestamp' || k === 'logger') continue;
+    if (v === null || ['string', 'number', 'boolean'].includes(typeof v)) out[k] = v;
+  }
+  return out;
+}
+
+/** The one way a command gets a kafkajs client. */
+export function buildKafka(s: KafkaSettings, o: KafkaClientOptions): Kafka {
+  return new Kafka(kafkaConfig(s, o));
+}
