@@ -23,7 +23,8 @@ export type RejectReason =
   | 'ts_missing'
   | 'ts_invalid'
   | 'ts_out_of_range'
-  | 'late';
+  | 'late'
+  | 'sensor_limit';
 
 export const REJECT_REASONS: readonly RejectReason[] = [
   'line_too_long',
@@ -40,6 +41,7 @@ export const REJECT_REASONS: readonly RejectReason[] = [
   'ts_invalid',
   'ts_out_of_range',
   'late',
+  'sensor_limit',
 ];
 
 /** Documented input limits. */

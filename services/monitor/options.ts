@@ -5,6 +5,7 @@
  */
 import { parseArgs } from 'node:util';
 import { StreamfenceError } from '../../libs/errors/index.js';
+import { DEFAULT_MAX_SENSORS } from '../../libs/engine/sensor-budget.js';
 import { ENV, DEFAULT_METRICS_PORT } from '../config/env.js';
 import {
   KAFKA_OPTIONS,
@@ -30,6 +31,7 @@ export interface MonitorOptions {
   configFile: string | null;
   checkpointMs: number;
   checkpointReadings: number;
+  maxSensors: number;
   sessionTimeoutMs: number;
   logLevel: LogLevel;
   kafka: KafkaSettings;
@@ -70,6 +72,11 @@ const MONITOR_OPTIONS: Record<string, OptionSpec> = {
     env: ENV.checkpointReadings,
     def: '50000',
     help: 'also checkpoint a partition after this many readings',
+  },
+  'max-sensors': {
+    env: ENV.maxSensors,
+    def: String(DEFAULT_MAX_SENSORS),
+    help: 'most sensors held in memory and Redis; readings of new sensors beyond it are rejected (sensor_limit)',
   },
   'session-timeout-ms': {
     env: ENV.kafkaSessionTimeoutMs,
@@ -149,6 +156,7 @@ export function parseRunOptions(
       configFile: get('config') ?? null,
       checkpointMs: positiveInt(get('checkpoint-ms')!, 'checkpoint-ms', 10),
       checkpointReadings: positiveInt(get('checkpoint-readings')!, 'checkpoint-readings', 1),
+      maxSensors: positiveInt(get('max-sensors')!, 'max-sensors', 1),
       sessionTimeoutMs: positiveInt(get('session-timeout-ms')!, 'session-timeout-ms', 1000),
       logLevel,
       kafka,

@@ -15,10 +15,15 @@ local st = redis.call('HGETALL', KEYS[1])
 return {off or false, st}
 `;
 
-// ARGV: token, offset, then sensor/bytes pairs. Returns 1 when written, 0 when fenced.
+// ARGV: token, offset, count of evicted sensors, their ids, then sensor/bytes pairs.
+// Returns 1 when written, 0 when fenced.
 const SAVE_LUA = `
 if redis.call('GET', KEYS[3]) ~= ARGV[1] then return 0 end
-for i = 3, #ARGV, 2 do
+local evicted = tonumber(ARGV[3])
+for i = 4, 3 + evicted do
+  redis.call('HDEL', KEYS[1], ARGV[i])
+end
+for i = 4 + evicted, #ARGV, 2 do
   redis.call('HSET', KEYS[1], ARGV[i], ARGV[i + 1])
 end
 redis.call('SET', KEYS[2], ARGV[2])
@@ -77,10 +82,18 @@ export class CheckpointStore {
     return { offset: off === null ? null : off.toString('utf8'), states };
   }
 
-  /** Returns false when another process owns the partition now (nothing was written). */
-  async save(partition: number, offset: string, dirty: Iterable<[string, Uint8Array]>): Promise<boolean> {
+  /**
+   * Write dirty states, delete evicted sensors and move the offset, in one step. Returns false when
+   * another process owns the partition now (nothing was written).
+   */
+  async save(
+    partition: number,
+    offset: string,
+    dirty: Iterable<[string, Uint8Array]>,
+    evicted: readonly string[] = [],
+  ): Promise<boolean> {
     const k = this.keys(partition);
-    const args: (string | Buffer)[] = [this.token, offset];
+    const args: (string | Buffer)[] = [this.token, offset, String(evicted.length), ...evicted];
     for (const [sensor, bytes] of dirty)
       args.push(sensor, Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength));
     return (await this.r.sfSave(k.state, k.offset, k.owner, ...args)) === 1;

@@ -31,6 +31,7 @@ import {
   type KafkaSettings,
 } from '../../connect/index.js';
 import { parseTimestamp } from '../../../libs/engine/reading.js';
+import { DEFAULT_MAX_SENSORS } from '../../../libs/engine/sensor-budget.js';
 
 const CMD = 'replay';
 
@@ -49,6 +50,8 @@ INPUT           readings file: NDJSON (one {"sensor","ts","value"} per line; .nd
   --report        also write ${REPORT_FILE}: counts, alert rate against the budget, charts of the top sensors
   --report-top N  sensors charted in the report (default 8)
   --budget N      alert budget in raised alerts per hour for the report (default 6)
+  --max-sensors N most sensors with state at once; readings of new sensors beyond it are
+                  rejected as sensor_limit (default ${DEFAULT_MAX_SENSORS})
   --audit         compare digest quartiles with exact ones for a sample of sensors (implies --report;
                   the numbers also go to ${REPLAY_FILES.summary} under "audit")
   --from TIME     start of the Kafka range, inclusive (ISO-8601 with a zone, or epoch ms)
@@ -95,6 +98,7 @@ export async function main(argv: string[]): Promise<number> {
     ...parseArgsOptions(KAFKA_OPTIONS),
     from: { type: 'string' },
     to: { type: 'string' },
+    'max-sensors': { type: 'string' },
   });
   if (args.help) return printHelp(HELP);
   if (args.positionals.length === 0)
@@ -108,6 +112,12 @@ export async function main(argv: string[]): Promise<number> {
   const wantReport = wantAudit || args.values.report === true;
   const topN = positiveNumber(stringOption(args, 'report-top', CMD), 'report-top', 8, true);
   const budget = positiveNumber(stringOption(args, 'budget', CMD), 'budget', 6, false);
+  const maxSensors = positiveNumber(
+    stringOption(args, 'max-sensors', CMD),
+    'max-sensors',
+    DEFAULT_MAX_SENSORS,
+    true,
+  );
 
   let opened: OpenedInput;
   if (isKafkaUrl(input)) {
@@ -140,6 +150,7 @@ export async function main(argv: string[]): Promise<number> {
     inputInfo: opened.info,
     observers,
     progress: opened.update,
+    maxSensors,
   });
   if (report !== null) await writeReport(outDir, report.render(summary));
   const progress = opened.progress;
