@@ -94,7 +94,7 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
     }),
     checkpoints: new Counter({
       name: 'streamfence_checkpoints_total',
-      help: 'Partition checkpoints, by result (written, or fenced: the partition now belongs to another monitor).',
+      help: 'Partition checkpoints, by result (written; fenced: the partition now belongs to another monitor; owner_gone: Redis lost the partition keys, state rewritten in full).',
       labelNames: ['result'],
       registers: r,
     }),

@@ -449,13 +449,32 @@ export class Monitor {
     }
     const offset = w.next;
     const end = this.metrics.checkpointDuration.startTimer();
-    const ok = await this.retry(
+    let result = await this.retry(
       'redis',
       () => this.store.save(w.partition, offset.toString(), entries, evicted),
       { whileWaiting: heartbeat },
     );
+    if (result === 'owner_gone') {
+      // Redis lost the partition's keys under us (flush, restart without persistence). The memory
+      // state is exact: take ownership back and write all of it, rather than dropping it.
+      this.metrics.checkpoints.inc({ result: 'owner_gone' });
+      this.log.error(
+        { partition: w.partition, sensors: w.engine.sensorCount },
+        'partition state gone from Redis; keeping the exact state in memory and writing it in full again',
+      );
+      const retaken = await this.retry('redis', () => this.store.retake(w.partition), {
+        whileWaiting: heartbeat,
+      });
+      if (retaken) {
+        const all: [string, Uint8Array][] = [];
+        for (const sensor of w.engine.sensors()) all.push([sensor, w.engine.encode(sensor)!]);
+        result = await this.retry('redis', () => this.store.save(w.partition, offset.toString(), all, []), {
+          whileWaiting: heartbeat,
+        });
+      } else result = 'fenced';
+    }
     end();
-    if (!ok) {
+    if (result !== 'written') {
       this.metrics.checkpoints.inc({ result: 'fenced' });
       this.log.warn({ partition: w.partition }, 'partition now owned by another monitor; dropping our copy');
       this.drop(w, 'fenced');
