@@ -24,6 +24,20 @@ REDIS_PID_FILE="$REDIS_DIR/redis.pid"
 
 ENV_FILE="$STACK_DIR/env"
 
+# The one place stack-up.sh and stack-down.sh read their arguments; add new stack variants here.
+STACK_SECURE=no
+STACK_WIPE=no
+parse_stack_args() {
+  local arg
+  for arg in "$@"; do
+    case "$arg" in
+      --secure) STACK_SECURE=yes ;;
+      --wipe) STACK_WIPE=yes ;;
+      *) die "unknown argument '$arg' (known: --secure, --wipe)" ;;
+    esac
+  done
+}
+
 say() { printf 'stack: %s\n' "$*"; }
 die() {
   printf 'stack: ERROR: %s\n' "$*" >&2

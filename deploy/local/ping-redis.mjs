@@ -1,6 +1,8 @@
 // Exit 0 when a Redis server at the given URL answers PING within a short time, 1 otherwise.
-//   node ping-redis.mjs redis://127.0.0.1:6379 [timeoutSeconds]
+//   node ping-redis.mjs redis://127.0.0.1:6379 [timeoutSeconds] [caFile user passwordFile]
+// (the last three for the secure stack's TLS-only, ACL-protected Redis)
 /* global process, console */
+import { readFileSync } from 'node:fs';
 import { Redis } from 'ioredis';
 
 const url = process.argv[2] ?? 'redis://127.0.0.1:6379';
@@ -12,6 +14,13 @@ const client = new Redis(url, {
   maxRetriesPerRequest: 0,
   enableOfflineQueue: false,
   retryStrategy: () => null,
+  ...(process.argv[4]
+    ? {
+        tls: { ca: readFileSync(process.argv[4]) },
+        username: process.argv[5],
+        password: readFileSync(process.argv[6], 'utf8').trim(),
+      }
+    : {}),
 });
 client.on('error', () => {});
 try {

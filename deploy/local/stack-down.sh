@@ -3,6 +3,7 @@
 # the machine's Redis keep running. Data stays for a fast next start; --wipe deletes it too.
 set -euo pipefail
 source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
+parse_stack_args "$@"
 
 stop_pid_file() {
   local name="$1" file="$2" marker="$3" grace="$4" pid
@@ -25,11 +26,22 @@ stop_pid_file() {
   rm -f "$file"
 }
 
+if [[ "$STACK_SECURE" == yes ]]; then
+  source "$LOCAL_DIR/secure.sh"
+  stop_secure_stack
+  if [[ "$STACK_WIPE" == yes ]]; then
+    say "wiping $SECURE_DIR"
+    rm -rf "$SECURE_DIR"
+  fi
+  say "secure stack down"
+  exit 0
+fi
+
 stop_pid_file Kafka "$KAFKA_PID_FILE" "$KAFKA_DIR/server.properties" 30
 stop_pid_file Redis "$REDIS_PID_FILE" redis-server 10
 rm -f "$ENV_FILE"
 
-if [[ "${1:-}" == "--wipe" ]]; then
+if [[ "$STACK_WIPE" == yes ]]; then
   say "wiping $KAFKA_DIR and $REDIS_DIR"
   rm -rf "$KAFKA_DIR" "$REDIS_DIR"
 fi

@@ -4,6 +4,7 @@
 # Writes the addresses to $STACK_DIR/env for the test harness. See DEVELOPERS.md "Local stack".
 set -euo pipefail
 source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
+parse_stack_args "$@"
 
 started_at=$(date +%s.%N)
 mkdir -p "$STACK_DIR/logs" "$KAFKA_DIR/logs" "$REDIS_DIR"
@@ -177,6 +178,21 @@ start_redis() {
   ping_redis "$REDIS_URL" 1 >/dev/null || die "redis-server started but does not answer; see $REDIS_DIR/redis.log"
   REDIS_OWNED=yes
 }
+
+if [[ "$STACK_SECURE" == yes ]]; then
+  source "$LOCAL_DIR/secure.sh"
+  start_secure_stack
+  elapsed=$(awk -v s="$started_at" -v e="$(date +%s.%N)" 'BEGIN { printf "%.1f", e - s }')
+  cat <<INFO
+stack: secure stack up in ${elapsed}s
+  Kafka brokers : 127.0.0.1:$SECURE_KAFKA_PORT   (SASL_SSL, SCRAM-SHA-512, ACLs; CA $SECURE_TLS_DIR/ca.pem)
+  Redis URL     : rediss://127.0.0.1:$SECURE_REDIS_PORT   (TLS only, ACL users)
+  env file      : $SECURE_ENV_FILE   (set -a; . $SECURE_ENV_FILE; set +a)
+  users         : admin, monitor, operator (Kafka); admin, monitor, reader (Redis); passwords in $SECRETS_DIR
+  stop          : npm run stack:down -- --secure
+INFO
+  exit 0
+fi
 
 start_kafka
 start_redis

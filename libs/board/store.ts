@@ -123,6 +123,9 @@ export class AlertBoard {
     let next: BoardAlert;
     switch (act.kind) {
       case 'acknowledge':
+        // The first acknowledgement stands: a later one is still shared and announced as an
+        // action (so it is recorded), but does not overwrite who acknowledged first and when.
+        if (a.acknowledged) return { ok: true, alert: a };
         next = change(a, {
           acknowledged: true,
           acknowledgedBy: act.by,

@@ -55,6 +55,11 @@ export function validateConfig(raw: unknown, source = 'config'): EngineConfig {
   }
   const defaultsPart = parseSettings(top.defaults ?? {}, `${source}: defaults`, false);
   const defaults: SensorSettings = { ...DEFAULT_SETTINGS, ...defaultsPart };
+  // Critical levels the user left out follow the warning levels they wrote (as `tune` does), so
+  // `zLimit: 5` alone is not refused because of the default zCritical.
+  const writtenInDefaults = { outerK: 'outerK' in defaultsPart, zCritical: 'zCritical' in defaultsPart };
+  if (!writtenInDefaults.outerK) defaults.outerK = derivedOuterK(defaults.fenceK);
+  if (!writtenInDefaults.zCritical) defaults.zCritical = derivedZCritical(defaults.zLimit);
   checkContradictions(defaults, `${source}: defaults`);
 
   const sensors: SensorRule[] = [];
@@ -78,6 +83,17 @@ export function validateConfig(raw: unknown, source = 'config'): EngineConfig {
         );
       }
       const overrides = parseSettings(rest, where, true);
+      // An override's critical level follows its own warning level unless someone wrote one.
+      if (overrides.fenceK !== undefined && overrides.outerK === undefined && !writtenInDefaults.outerK) {
+        overrides.outerK = derivedOuterK(overrides.fenceK);
+      }
+      if (
+        overrides.zLimit !== undefined &&
+        overrides.zCritical === undefined &&
+        !writtenInDefaults.zCritical
+      ) {
+        overrides.zCritical = derivedZCritical(overrides.zLimit);
+      }
       checkContradictions({ ...defaults, ...overrides }, `${where} (match "${match}")`);
       sensors.push({ match, overrides });
     });
@@ -86,6 +102,16 @@ export function validateConfig(raw: unknown, source = 'config'): EngineConfig {
 }
 
 type Parsed = Partial<SensorSettings>;
+
+/** outerK when the user did not write one: max(3, 2 × fenceK), the rule `tune` uses. */
+export function derivedOuterK(fenceK: number): number {
+  return Math.max(DEFAULT_SETTINGS.outerK, 2 * fenceK);
+}
+
+/** zCritical when the user did not write one: max(5, zLimit + 2), the rule `tune` uses. */
+export function derivedZCritical(zLimit: number): number {
+  return Math.max(DEFAULT_SETTINGS.zCritical, zLimit + 2);
+}
 
 function parseSettings(raw: unknown, where: string, isOverride: boolean): Parsed {
   if (typeof raw !== 'object' || raw === null || Array.isArray(raw)) {

@@ -13,6 +13,7 @@ import { fencesOf, judge, robustZ, zScore, type Verdict } from './judge.js';
 import { step } from './lifecycle.js';
 import { alertMessage } from './message.js';
 import type { Reading } from './reading.js';
+import type { SensorBudget } from './sensor-budget.js';
 import { decodeSensorState, encodeSensorState, SensorState } from './sensor-state.js';
 
 export const ENGINE_VERSION = '1.0.0';
@@ -29,7 +30,7 @@ const NO_EVENTS: readonly AlertEvent[] = Object.freeze([]);
 
 export type ProcessOutcome =
   | { accepted: true; verdict: Verdict; events: readonly AlertEvent[] }
-  | { accepted: false; reason: 'late'; detail: string; events: readonly AlertEvent[] };
+  | { accepted: false; reason: 'late' | 'sensor_limit'; detail: string; events: readonly AlertEvent[] };
 
 export function newCounters(): EngineCounters {
   return {
@@ -47,8 +48,20 @@ export class Engine {
   readonly resolver: SettingsResolver;
   private readonly states = new Map<string, SensorState>();
   readonly counters: EngineCounters = newCounters();
+  /** Newest event time accepted by this engine: the clock idle sensors are measured against. */
+  private watermark = -Infinity;
+  /** Watermark of the last idle sweep (a full budget sweeps again only once time has moved on). */
+  private sweptAt = -Infinity;
+  /** Sensors evicted since the last takeEvicted() (the monitor deletes them from Redis). */
+  private evicted: string[] = [];
+  /** Lifetime count of evicted sensors. */
+  evictedTotal = 0;
 
-  constructor(readonly config: EngineConfig) {
+  constructor(
+    readonly config: EngineConfig,
+    /** Shared cap on sensors with state; none = unbounded (tests, tools). */
+    readonly budget: SensorBudget | null = null,
+  ) {
     this.resolver = new SettingsResolver(config);
   }
 
@@ -60,6 +73,14 @@ export class Engine {
   process(r: Reading): ProcessOutcome {
     let st = this.states.get(r.sensor);
     if (st === undefined) {
+      if (!this.admit()) {
+        return {
+          accepted: false,
+          reason: 'sensor_limit',
+          detail: `sensor "${r.sensor}" is new, and state is already held for the limit of ${this.budget!.limit} sensors (raise --max-sensors, or find the producer that puts changing values into sensor ids)`,
+          events: NO_EVENTS,
+        };
+      }
       st = new SensorState(r.sensor, this.resolver.resolve(r.sensor));
       this.states.set(r.sensor, st);
     }
@@ -75,6 +96,7 @@ export class Engine {
       };
     }
     w.advance(r.ts);
+    if (r.ts > this.watermark) this.watermark = r.ts;
     const b = w.baseline();
     if (b !== st.fencesFor) {
       st.fencesFor = b;
@@ -190,12 +212,56 @@ export class Engine {
   /** Install a sensor's state decoded from `encode` output (replacing what was there). */
   restore(bytes: Uint8Array): SensorState {
     const st = decodeSensorState(bytes, (sensor) => this.resolver.resolve(sensor));
+    // Restored state is never refused (that would lose it); it counts against the budget all the same.
+    if (!this.states.has(st.sensor)) this.budget?.add(1);
     this.states.set(st.sensor, st);
+    if (st.window.newestTs > this.watermark) this.watermark = st.window.newestTs;
     return st;
   }
 
   /** Drop a sensor's in-memory state (e.g. when its partition is revoked). */
   forget(sensor: string): void {
-    this.states.delete(sensor);
+    if (this.states.delete(sensor)) this.budget?.release();
+  }
+
+  /** Give back this engine's share of the budget (its partition is dropped as a whole). */
+  releaseAll(): void {
+    this.budget?.release(this.states.size);
+    this.states.clear();
+  }
+
+  /** Room for one more sensor: from the budget, or after evicting this engine's idle sensors. */
+  private admit(): boolean {
+    if (this.budget === null || this.budget.tryTake()) return true;
+    if (this.watermark <= this.sweptAt) return false;
+    return this.evictIdle() > 0 && this.budget.tryTake();
+  }
+
+  /**
+   * Evict sensors with no reading for longer than their window before this engine's newest event
+   * time: their window holds nothing, so their baseline would be empty anyway. A sensor with a
+   * raised alert is kept (its clear must still be published). Returns how many were evicted; their
+   * ids wait in takeEvicted().
+   */
+  evictIdle(): number {
+    this.sweptAt = this.watermark;
+    let n = 0;
+    for (const [sensor, st] of this.states) {
+      if (st.life.active !== null) continue;
+      if (this.watermark - st.window.newestTs <= st.settings.window) continue;
+      this.states.delete(sensor);
+      this.evicted.push(sensor);
+      n++;
+    }
+    this.budget?.release(n);
+    this.evictedTotal += n;
+    return n;
+  }
+
+  /** Ids evicted since the last call. */
+  takeEvicted(): string[] {
+    const out = this.evicted;
+    this.evicted = [];
+    return out;
   }
 }

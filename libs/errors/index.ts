@@ -12,6 +12,9 @@ export type ErrorCode =
   | 'STATE_CORRUPT'
   | 'STATE_VERSION'
   | 'SERVICE_UNAVAILABLE'
+  | 'AUTH_FAILED'
+  | 'TLS_FAILED'
+  | 'NOT_AUTHORISED'
   | 'NOT_FOUND';
 
 export class StreamfenceError extends Error {

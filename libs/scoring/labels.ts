@@ -122,3 +122,37 @@ export function formatLabelsCsv(
   }
   return `${rows.join('\n')}\n`;
 }
+
+/**
+ * Warnings about labels that cannot be scored as the user probably meant: labels naming a sensor
+ * that never appears in the data (always missed, so recall reads 0 % for them) and labels wholly
+ * outside the data's time span. One line per cause, naming up to three examples.
+ */
+export function labelWarnings(
+  incidents: readonly Incident[],
+  sensors: ReadonlySet<string>,
+  dataStart: number,
+  dataEnd: number,
+): string[] {
+  const absent = new Set<string>();
+  let absentCount = 0;
+  const outside: Incident[] = [];
+  for (const i of incidents) {
+    if (!sensors.has(i.sensor)) {
+      absentCount++;
+      absent.add(i.sensor);
+    } else if (i.end < dataStart || i.start > dataEnd) outside.push(i);
+  }
+  const examples = (names: string[]): string =>
+    names.slice(0, 3).join(', ') + (names.length > 3 ? `, and ${names.length - 3} more` : '');
+  const out: string[] = [];
+  if (absentCount > 0)
+    out.push(
+      `${absentCount} labels name sensors that never appear in the data (${examples([...absent])}); they count as missed: check the sensor names in the labels file`,
+    );
+  if (outside.length > 0)
+    out.push(
+      `${outside.length} labels lie outside the data's time span ${new Date(dataStart).toISOString()} to ${new Date(dataEnd).toISOString()} (${examples(outside.map((i) => `${i.sensor} ${new Date(i.start).toISOString()}`))}); they count as missed: check the labels' times and zone`,
+    );
+  return out;
+}

@@ -45,6 +45,7 @@ export async function follow(o: FollowOptions): Promise<Follower> {
     throw new StreamfenceError(
       'SERVICE_UNAVAILABLE',
       `cannot reach Kafka: ${(e as Error).message}; check --brokers`,
+      { cause: e },
     );
   });
   const start = new Map<PartKey, bigint>();

@@ -3,6 +3,7 @@
  * flag wins. The Kafka and Redis connection options are the shared ones of services/connect/;
  * secrets (SASL and Redis passwords) come from the environment or a file, never a flag.
  */
+import { DEFAULT_MAX_SENSORS } from '../../libs/engine/sensor-budget.js';
 import { ENV, DEFAULT_METRICS_PORT } from '../config/env.js';
 import {
   KAFKA_OPTIONS,
@@ -30,6 +31,7 @@ export interface MonitorOptions {
   configFile: string | null;
   checkpointMs: number;
   checkpointReadings: number;
+  maxSensors: number;
   sessionTimeoutMs: number;
   logLevel: LogLevel;
   kafka: KafkaSettings;
@@ -70,6 +72,11 @@ const MONITOR_OPTIONS: Record<string, OptionSpec> = {
     env: ENV.checkpointReadings,
     def: '50000',
     help: 'also checkpoint a partition after this many readings',
+  },
+  'max-sensors': {
+    env: ENV.maxSensors,
+    def: String(DEFAULT_MAX_SENSORS),
+    help: 'most sensors held in memory and Redis; readings of new sensors beyond it are rejected (sensor_limit)',
   },
   'session-timeout-ms': {
     env: ENV.kafkaSessionTimeoutMs,
@@ -145,6 +152,7 @@ export function parseRunOptions(
       configFile: get('config') ?? null,
       checkpointMs: wholeNumber(get('checkpoint-ms')!, 'checkpoint-ms', 10),
       checkpointReadings: wholeNumber(get('checkpoint-readings')!, 'checkpoint-readings', 1),
+      maxSensors: wholeNumber(get('max-sensors')!, 'max-sensors', 1),
       sessionTimeoutMs: wholeNumber(get('session-timeout-ms')!, 'session-timeout-ms', 1000),
       logLevel,
       kafka,

@@ -20,6 +20,8 @@ export const ENV = {
   configFile: 'STREAMFENCE_CONFIG',
   checkpointMs: 'STREAMFENCE_CHECKPOINT_MS',
   checkpointReadings: 'STREAMFENCE_CHECKPOINT_READINGS',
+  /** Most sensors one monitor process holds state for; new sensors beyond it are rejected. */
+  maxSensors: 'STREAMFENCE_MAX_SENSORS',
   logLevel: 'STREAMFENCE_LOG_LEVEL',
   /** Kafka TLS: "true" turns it on; CA / client certificate / key are PEM file paths. */
   kafkaTls: 'STREAMFENCE_KAFKA_TLS',

@@ -24,3 +24,4 @@ export {
 } from './options.js';
 export { buildKafka, kafkaConfig, type KafkaClientOptions } from './kafka.js';
 export { buildRedis, redisOptions, type RedisClientOptions } from './redis.js';
+export { kafkaRefusal, redisRefusal } from './refusals.js';

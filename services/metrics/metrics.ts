@@ -24,6 +24,12 @@ export interface Metrics {
   backoff: Counter<'dependency'>;
   checkpoints: Counter<'result'>;
   assignedPartitions: Gauge;
+  /** the sensor limit (--max-sensors) */
+  sensorLimit: Gauge;
+  /** sensors held / the limit: 1 means new sensors are being rejected */
+  sensorLimitUsed: Gauge;
+  /** sensors evicted after a window without readings */
+  sensorsEvicted: Counter;
   /** 1 while /readyz answers 200 (joined the group, Redis answers, not stopping), else 0 */
   ready: Gauge;
 }
@@ -88,13 +94,28 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
     }),
     checkpoints: new Counter({
       name: 'streamfence_checkpoints_total',
-      help: 'Partition checkpoints, by result (written, or fenced: the partition now belongs to another monitor).',
+      help: 'Partition checkpoints, by result (written; fenced: the partition now belongs to another monitor; owner_gone: Redis lost the partition keys, state rewritten in full).',
       labelNames: ['result'],
       registers: r,
     }),
     assignedPartitions: new Gauge({
       name: 'streamfence_assigned_partitions',
       help: 'Input partitions this monitor currently owns.',
+      registers: r,
+    }),
+    sensorLimit: new Gauge({
+      name: 'streamfence_sensor_limit',
+      help: 'Most sensors this process holds state for (--max-sensors); readings of new sensors beyond it are rejected.',
+      registers: r,
+    }),
+    sensorLimitUsed: new Gauge({
+      name: 'streamfence_sensor_limit_used_ratio',
+      help: 'Sensors held divided by the sensor limit (1 = new sensors are rejected with reason sensor_limit).',
+      registers: r,
+    }),
+    sensorsEvicted: new Counter({
+      name: 'streamfence_sensors_evicted_total',
+      help: 'Sensors evicted from memory and Redis after more than their window without a reading.',
       registers: r,
     }),
     ready: new Gauge({

@@ -9,6 +9,7 @@ import {
   type ParseResult,
   type RejectReason,
 } from '../../libs/engine/reading.js';
+import { scanReadingObject } from '../../libs/engine/reading-scan.js';
 
 export interface RejectionRecord {
   reason: RejectReason;
@@ -44,6 +45,8 @@ export function parseMessage(key: Buffer | null, value: Buffer | null): ParseRes
       detail: `message has ${text.length} characters; the limit is ${LIMITS.maxLineLength}`,
     };
   }
+  const fields = scanReadingObject(text);
+  if (fields !== null) return validateFields(keyText, fields.ts, fields.value);
   let obj: unknown;
   try {
     obj = JSON.parse(text);

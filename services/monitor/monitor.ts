@@ -26,6 +26,7 @@ import {
 } from 'kafkajs';
 import type { Redis } from 'ioredis';
 import { Engine } from '../../libs/engine/engine.js';
+import { DEFAULT_MAX_SENSORS, SensorBudget } from '../../libs/engine/sensor-budget.js';
 import type { EngineConfig } from '../../libs/config/config.js';
 import { configToJson } from '../../libs/config/config.js';
 import type { RejectReason } from '../../libs/engine/reading.js';
@@ -45,6 +46,8 @@ export interface MonitorSettings {
   checkpointMs: number;
   checkpointReadings: number;
   sessionTimeoutMs: number;
+  /** Most sensors this process holds (default DEFAULT_MAX_SENSORS). */
+  maxSensors?: number;
 }
 
 interface PartitionWorker {
@@ -82,6 +85,8 @@ export class Monitor {
   private sending: Promise<void> = Promise.resolve();
   private unsent = 0;
   private readonly store: CheckpointStore;
+  /** Shared by every partition's engine: the sensor limit is per process. */
+  private readonly budget: SensorBudget;
   private readonly consumer: Consumer;
   private readonly producer: Producer;
   private readonly admin: Admin;
@@ -102,6 +107,8 @@ export class Monitor {
     private readonly metrics: Metrics,
   ) {
     this.store = new CheckpointStore(redis, s.statePrefix, s.group, s.inputTopic, this.token);
+    this.budget = new SensorBudget(s.maxSensors ?? DEFAULT_MAX_SENSORS);
+    metrics.sensorLimit.set(this.budget.limit);
     this.consumer = kafka.consumer({
       groupId: s.group,
       sessionTimeout: s.sessionTimeoutMs,
@@ -258,7 +265,7 @@ export class Monitor {
 
   private async claim(partition: number, heartbeat: () => Promise<void>): Promise<PartitionWorker> {
     const cp = await this.retry('redis', () => this.store.claim(partition), { whileWaiting: heartbeat });
-    const engine = new Engine(this.config);
+    const engine = new Engine(this.config, this.budget);
     for (const bytes of cp.states.values()) engine.restore(bytes);
     let next: number;
     if (cp.offset !== null) next = Number(cp.offset);
@@ -431,6 +438,10 @@ export class Monitor {
     if (this.workers.get(w.partition) !== w) return false;
     if (w.next === w.checkpointed && w.dirty.size === 0) return true;
     await this.flushed();
+    // Idle sensors leave memory now and Redis with this save (their baselines are empty anyway).
+    // (A sensor evicted and seen again since is held anew: its new state is written, not deleted.)
+    w.engine.evictIdle();
+    const evicted = w.engine.takeEvicted().filter((sensor) => w.engine.get(sensor) === undefined);
     const entries: [string, Uint8Array][] = [];
     for (const sensor of w.dirty) {
       const bytes = w.engine.encode(sensor);
@@ -438,17 +449,45 @@ export class Monitor {
     }
     const offset = w.next;
     const end = this.metrics.checkpointDuration.startTimer();
-    const ok = await this.retry('redis', () => this.store.save(w.partition, offset.toString(), entries), {
-      whileWaiting: heartbeat,
-    });
+    let result = await this.retry(
+      'redis',
+      () => this.store.save(w.partition, offset.toString(), entries, evicted),
+      { whileWaiting: heartbeat },
+    );
+    if (result === 'owner_gone') {
+      // Redis lost the partition's keys under us (flush, restart without persistence). The memory
+      // state is exact: take ownership back and write all of it, rather than dropping it.
+      this.metrics.checkpoints.inc({ result: 'owner_gone' });
+      this.log.error(
+        { partition: w.partition, sensors: w.engine.sensorCount },
+        'partition state gone from Redis; keeping the exact state in memory and writing it in full again',
+      );
+      const retaken = await this.retry('redis', () => this.store.retake(w.partition), {
+        whileWaiting: heartbeat,
+      });
+      if (retaken) {
+        const all: [string, Uint8Array][] = [];
+        for (const sensor of w.engine.sensors()) all.push([sensor, w.engine.encode(sensor)!]);
+        result = await this.retry('redis', () => this.store.save(w.partition, offset.toString(), all, []), {
+          whileWaiting: heartbeat,
+        });
+      } else result = 'fenced';
+    }
     end();
-    if (!ok) {
+    if (result !== 'written') {
       this.metrics.checkpoints.inc({ result: 'fenced' });
       this.log.warn({ partition: w.partition }, 'partition now owned by another monitor; dropping our copy');
       this.drop(w, 'fenced');
       return false;
     }
     this.metrics.checkpoints.inc({ result: 'written' });
+    if (evicted.length) {
+      this.metrics.sensorsEvicted.inc(evicted.length);
+      this.log.info(
+        { partition: w.partition, evicted: evicted.length },
+        'evicted sensors without a reading for longer than their window',
+      );
+    }
     w.dirty.clear();
     w.checkpointed = offset;
     w.sinceCheckpoint = 0;
@@ -465,6 +504,7 @@ export class Monitor {
 
   private drop(w: PartitionWorker, why: string): void {
     this.workers.delete(w.partition);
+    w.engine.releaseAll();
     this.metrics.partitionLag.remove({ partition: String(w.partition) });
     this.log.info({ partition: w.partition, why }, 'partition released');
   }
@@ -477,6 +517,7 @@ export class Monitor {
       active += w.engine.activeAlertCount();
     }
     this.metrics.sensorsTracked.set(sensors);
+    this.metrics.sensorLimitUsed.set(this.budget.used / this.budget.limit);
     this.metrics.activeAlerts.set(active);
   }
 

@@ -15,14 +15,27 @@ local st = redis.call('HGETALL', KEYS[1])
 return {off or false, st}
 `;
 
-// ARGV: token, offset, then sensor/bytes pairs. Returns 1 when written, 0 when fenced.
+// ARGV: token, offset, count of evicted sensors, their ids, then sensor/bytes pairs.
+// Returns 1 when written, 0 when fenced (another owner), 2 when the owner record is gone (state loss).
 const SAVE_LUA = `
-if redis.call('GET', KEYS[3]) ~= ARGV[1] then return 0 end
-for i = 3, #ARGV, 2 do
+local owner = redis.call('GET', KEYS[3])
+if owner == false then return 2 end
+if owner ~= ARGV[1] then return 0 end
+local evicted = tonumber(ARGV[3])
+for i = 4, 3 + evicted do
+  redis.call('HDEL', KEYS[1], ARGV[i])
+end
+for i = 4 + evicted, #ARGV, 2 do
   redis.call('HSET', KEYS[1], ARGV[i], ARGV[i + 1])
 end
 redis.call('SET', KEYS[2], ARGV[2])
 return 1
+`;
+
+// Take ownership back only if nobody holds it (after a state loss). Returns 1 when taken.
+const RETAKE_LUA = `
+if redis.call('SET', KEYS[3], ARGV[1], 'NX') then return 1 end
+return 0
 `;
 
 // Release ownership only if still ours (graceful hand-over; the next owner claims without waiting).
@@ -40,6 +53,7 @@ interface ScriptedRedis extends Redis {
   ): Promise<[Buffer | null, Buffer[]]>;
   sfSave(state: string, offset: string, owner: string, ...args: (string | Buffer)[]): Promise<number>;
   sfRelease(state: string, offset: string, owner: string, token: string): Promise<number>;
+  sfRetake(state: string, offset: string, owner: string, token: string): Promise<number>;
 }
 
 export interface PartitionCheckpoint {
@@ -62,6 +76,7 @@ export class CheckpointStore {
     redis.defineCommand('sfClaim', { numberOfKeys: 3, lua: CLAIM_LUA });
     redis.defineCommand('sfSave', { numberOfKeys: 3, lua: SAVE_LUA });
     redis.defineCommand('sfRelease', { numberOfKeys: 3, lua: RELEASE_LUA });
+    redis.defineCommand('sfRetake', { numberOfKeys: 3, lua: RETAKE_LUA });
     this.r = redis as ScriptedRedis;
   }
 
@@ -77,13 +92,29 @@ export class CheckpointStore {
     return { offset: off === null ? null : off.toString('utf8'), states };
   }
 
-  /** Returns false when another process owns the partition now (nothing was written). */
-  async save(partition: number, offset: string, dirty: Iterable<[string, Uint8Array]>): Promise<boolean> {
+  /**
+   * Write dirty states, delete evicted sensors and move the offset, in one step. `fenced`: another
+   * process owns the partition now; `owner_gone`: the owner record itself is gone (Redis lost the
+   * partition's keys). Nothing is written in either case.
+   */
+  async save(
+    partition: number,
+    offset: string,
+    dirty: Iterable<[string, Uint8Array]>,
+    evicted: readonly string[] = [],
+  ): Promise<'written' | 'fenced' | 'owner_gone'> {
     const k = this.keys(partition);
-    const args: (string | Buffer)[] = [this.token, offset];
+    const args: (string | Buffer)[] = [this.token, offset, String(evicted.length), ...evicted];
     for (const [sensor, bytes] of dirty)
       args.push(sensor, Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength));
-    return (await this.r.sfSave(k.state, k.offset, k.owner, ...args)) === 1;
+    const res = await this.r.sfSave(k.state, k.offset, k.owner, ...args);
+    return res === 1 ? 'written' : res === 2 ? 'owner_gone' : 'fenced';
+  }
+
+  /** Become the owner again after a state loss, only if no other process has claimed it. */
+  async retake(partition: number): Promise<boolean> {
+    const k = this.keys(partition);
+    return (await this.r.sfRetake(k.state, k.offset, k.owner, this.token)) === 1;
   }
 
   async release(partition: number): Promise<void> {

@@ -26,7 +26,7 @@ import type { Consumer } from 'kafkajs';
 import { parseJsonReading, type ParseResult } from '../../libs/engine/reading.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { InputRecord } from '../replay/input.js';
-import { buildKafka, type KafkaSettings } from '../connect/index.js';
+import { buildKafka, kafkaRefusal, type KafkaSettings } from '../connect/index.js';
 
 export interface KafkaRangeStats {
   /** Partitions of the topic, and how many had messages in the offset span. */
@@ -114,6 +114,8 @@ export async function* kafkaRangeSource(opts: KafkaRangeOptions): AsyncGenerator
     try {
       await admin.connect();
     } catch (err) {
+      const refused = kafkaRefusal(err, opts.connection);
+      if (refused) throw refused;
       throw new StreamfenceError(
         'SERVICE_UNAVAILABLE',
         `cannot reach Kafka at ${brokers.join(',')}: ${(err as Error).message}; check the broker list`,

@@ -11,6 +11,7 @@ import { join } from 'node:path';
 import { configToJson, type EngineConfig } from '../../libs/config/config.js';
 import { Engine, ENGINE_VERSION, type ProcessOutcome } from '../../libs/engine/engine.js';
 import { LIMITS, type Reading } from '../../libs/engine/reading.js';
+import { DEFAULT_MAX_SENSORS, SensorBudget } from '../../libs/engine/sensor-budget.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { InputRecord } from './input.js';
 import { LineWriter } from './writer.js';
@@ -45,6 +46,8 @@ export interface ReplayOptions {
   observers?: ReplayObserver[];
   /** Called after each batch with the records handled so far (drives a progress line). */
   progress?: (records: number) => void;
+  /** Most sensors with state at once; readings of new sensors beyond it are rejected (sensor_limit). */
+  maxSensors?: number;
 }
 
 export interface ReplaySummary {
@@ -59,6 +62,8 @@ export interface ReplaySummary {
   alerts: { raised: number; updated: number; cleared: number };
   /** Alerts still raised when the input ended. */
   activeAtEnd: number;
+  /** The sensor limit in force and the idle sensors evicted to stay under it. */
+  sensorLimit: { max: number; evicted: number };
   config: Record<string, unknown>;
   /** Fields added by observers (summaryFields). */
   [extra: string]: unknown;
@@ -90,7 +95,8 @@ export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
   const readingObs = observers.filter((o) => o.onReading !== undefined);
   const rejectObs = observers.filter((o) => o.onReject !== undefined);
   await prepareDir(outDir);
-  const engine = new Engine(config);
+  const maxSensors = opts.maxSensors ?? DEFAULT_MAX_SENSORS;
+  const engine = new Engine(config, new SensorBudget(maxSensors));
   const alerts = new LineWriter(join(outDir, REPLAY_FILES.alerts));
   const rejected = new LineWriter(join(outDir, REPLAY_FILES.rejected));
   const byReason = new Map<string, number>();
@@ -122,6 +128,8 @@ export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
         for (let j = 0; j < ev.length; j++) alerts.push(JSON.stringify(ev[j]));
       }
       records += batch.length;
+      // Evicted ids matter to the monitor (it deletes them from Redis); a replay only counts them.
+      engine.takeEvicted();
       await alerts.maybeFlush();
       await rejected.maybeFlush();
       opts.progress?.(records);
@@ -148,6 +156,7 @@ export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
     flagged: { fence: c.flagged.fence, outerFence: c.flagged.outerFence, z: c.flagged.z, any: c.flagged.any },
     alerts: { raised: c.alerts.raised, updated: c.alerts.updated, cleared: c.alerts.cleared },
     activeAtEnd: engine.activeAlertCount(),
+    sensorLimit: { max: maxSensors, evicted: engine.evictedTotal },
     config: configToJson(config),
   };
   for (const o of observers) {

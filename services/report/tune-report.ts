@@ -31,7 +31,7 @@ export interface TuningDoc {
   recommended?: (Partial<TunePointDoc> & { reason?: string; index?: number }) | null;
   budgetPerHour?: number;
   input?: { path?: string; readings?: number; sensors?: number; hours?: number };
-  labels?: { incidents?: number };
+  labels?: { incidents?: number; warnings?: string[] };
   scoring?: { floodWindowMs?: number; floodLimit?: number };
   [key: string]: unknown;
 }
@@ -111,6 +111,9 @@ export function renderTuneReport(tuning: TuningDoc): string {
   const inputLine = inp
     ? `<p>Input ${esc(inp.path ?? '')}: ${esc(inp.readings ?? '–')} readings from ${esc(inp.sensors ?? '–')} sensors over ${esc(fmtNum(inp.hours ?? NaN))} h${tuning.labels?.incidents !== undefined ? `, ${esc(tuning.labels.incidents)} labelled incidents` : ''}.</p>`
     : '';
+  const labelNotes = (tuning.labels?.warnings ?? [])
+    .map((w) => `<p class="warning">Labels: ${esc(w)}.</p>`)
+    .join('');
   const flood =
     tuning.scoring?.floodLimit !== undefined
       ? `<p class="note">Flood: more than ${esc(tuning.scoring.floodLimit)} alerts raised within ${esc(fmtNum((tuning.scoring.floodWindowMs ?? 600_000) / 60_000))} minutes.</p>`
@@ -129,6 +132,7 @@ export function renderTuneReport(tuning: TuningDoc): string {
   const body = [
     '<h2>Grid</h2>',
     inputLine,
+    labelNotes,
     table(
       ['grid points', 'within budget', 'best recall', 'budget'],
       [[points.length, withinBudget, pct(bestRecall < 0 ? null : bestRecall), `${fmtNum(budget)} alerts/h`]],

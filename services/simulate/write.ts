@@ -6,7 +6,7 @@ import { createWriteStream } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import { once } from 'node:events';
 import YAML from 'yaml';
-import { buildKafka, type KafkaSettings } from '../connect/index.js';
+import { buildKafka, kafkaRefusal, type KafkaSettings } from '../connect/index.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { PlantSimulator, SimReading } from '../../libs/sim/plant.js';
 
@@ -102,6 +102,8 @@ export async function produceReadings(
     await producer.connect();
   } catch (e) {
     await Promise.allSettled([admin.disconnect(), producer.disconnect()]);
+    const refused = kafkaRefusal(e, connection, `create or write topic ${topic}`);
+    if (refused) throw refused;
     throw new StreamfenceError(
       'SERVICE_UNAVAILABLE',
       `cannot reach Kafka at ${brokers.join(',')} (${(e as Error).message}); check --brokers and that Kafka is running`,

@@ -46,7 +46,7 @@ export type TuningResult = {
     lastTs: string | null;
     hours: number;
   };
-  labels: { path: string; incidents: number; byKind: Record<string, number> };
+  labels: { path: string; incidents: number; byKind: Record<string, number>; warnings: string[] };
   scoring: { graceMs: number; floodWindowMs: number; floodLimit: number; excludedFromRecall: string[] };
   budgetPerHour: number;
   /** The grid that was searched, in --grid syntax, and its number of points. */

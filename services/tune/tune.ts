@@ -9,7 +9,7 @@ import { ENGINE_VERSION } from '../../libs/engine/engine.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import { NOTICE } from '../../libs/schema/notice.js';
 import { ALERT_BUDGET_PER_HOUR, FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../../libs/schema/vocabulary.js';
-import { parseLabelsCsv, type Incident } from '../../libs/scoring/labels.js';
+import { labelWarnings, parseLabelsCsv, type Incident } from '../../libs/scoring/labels.js';
 import { DEFAULT_GRACE_MS, NO_KIND, type ScoreOptions } from '../../libs/scoring/score.js';
 import { applyPoint } from '../../libs/tuning/apply.js';
 import { spanOf } from '../../libs/tuning/columns.js';
@@ -111,6 +111,8 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
     ),
   }));
   const rec = recommend(results, budget);
+  const warnings = labelWarnings(incidents, new Set(cols.names), first, last);
+  for (const w of warnings) stream.write(`tune: warning: ${w}\n`);
   const byKind: Record<string, number> = {};
   for (const i of incidents) byKind[i.kind || NO_KIND] = (byKind[i.kind || NO_KIND] ?? 0) + 1;
   const result: TuningResult = {
@@ -127,7 +129,7 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
       lastTs: new Date(last).toISOString(),
       hours: (last - first) / 3_600_000,
     },
-    labels: { path: o.labels, incidents: incidents.length, byKind },
+    labels: { path: o.labels, incidents: incidents.length, byKind, warnings },
     scoring: {
       graceMs: scoreOptions.graceMs!,
       floodWindowMs: FLOOD_WINDOW_MS,
@@ -153,8 +155,10 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
     `tune: ${points.length} points x ${formatCount(cols.count)} readings in ${formatSeconds(seconds)} ` +
     `(${formatCount((points.length * cols.count) / Math.max(seconds, 1e-9))} readings/s, ${workers} workers); ` +
     (r
-      ? `recommended #${r.index}: recall ${pct(r.recall)}, precision ${pct(r.precision)}, ` +
-        `${r.alertsPerHour.toFixed(2)} alerts/h${r.withinBudget ? '' : ' (OVER BUDGET)'}`
+      ? `recommended #${r.index} (${Object.entries(r.settings)
+          .map(([k, v]) => `${k}=${Array.isArray(v) ? v.join('/') : String(v)}`)
+          .join(' ')}): recall ${pct(r.recall)}, precision ${pct(r.precision)}, ` +
+        `${r.alertsPerHour.toFixed(2)} alerts/h${r.withinBudget ? '' : ' (OVER BUDGET)'}; ${r.reason}`
       : 'no recommendation') +
     `; wrote ${o.out}`;
   gridProgress.finish(summary);

@@ -13,6 +13,7 @@ import { ConfigMap, Secret, Service } from 'kubernetes-models/v1';
 import { describe, expect, it } from 'vitest';
 import { parseAllDocuments } from 'yaml';
 import { parseConfigText } from '../../libs/config/config.js';
+import { DEFAULT_MAX_SENSORS, HEAP_BYTES_PER_SENSOR } from '../../libs/engine/sensor-budget.js';
 import { STOP_DEADLINE_MS } from '../../services/cli/commands/run.js';
 import { DEFAULT_METRICS_PORT, ENV, ENV_NAMES } from '../../services/config/env.js';
 
@@ -215,10 +216,15 @@ describe('deploy/k8s manifests', () => {
     expect(() => parseConfigText(text, 'streamfence-engine')).not.toThrow();
   });
 
-  it('caps memory, with the V8 heap below the limit', () => {
+  it('sizes memory from the sensor limit and the measured bytes per sensor, heap below the limit', () => {
     const { requests, limits } = monitorContainer.resources ?? {};
     const limit = bytesOf(limits!.memory);
     expect(bytesOf(requests!.memory)).toBeLessThanOrEqual(limit);
+    const maxSensors = Number(envOf(monitorContainer).get(ENV.maxSensors)?.value ?? DEFAULT_MAX_SENSORS);
+    // 256 MiB for Node itself, plus every sensor at its measured budget, plus 25 % GC slack.
+    const needed = 256 * 2 ** 20 + maxSensors * HEAP_BYTES_PER_SENSOR * 1.25;
+    expect(limit).toBeGreaterThanOrEqual(needed);
+    expect(bytesOf(requests!.memory)).toBeGreaterThanOrEqual(needed);
     const heapMb = Number(
       /--max-old-space-size=(\d+)/.exec(envOf(monitorContainer).get('NODE_OPTIONS')?.value ?? '')?.[1],
     );

@@ -14,6 +14,7 @@ import {
   KAFKA_OPTIONS,
   buildKafka,
   connectionHelp,
+  kafkaRefusal,
   parseArgsOptions,
   readKafkaSettings,
 } from '../../connect/index.js';
@@ -156,39 +157,44 @@ export async function main(argv: string[]): Promise<number> {
     if (held.length >= HOLD_CAP) flush();
   };
 
-  const follower = await follow({
-    kafka,
-    topics,
-    sinceMs,
-    untilEnd: once,
-    role: 'alerts',
-    onMessage: (m) => {
-      let v: unknown;
-      try {
-        v = JSON.parse(m.value?.toString('utf8') ?? '');
-      } catch {
-        return;
-      }
-      if (m.topic === alertTopic) {
-        const ev = asAlertEvent(v);
-        if (ev === null) return;
-        remember(ev.id, { sensor: ev.sensor, severity: ev.severity });
-        if (!sensorOk(ev.sensor) || !passesSeverity(ev.severity, floor)) return;
-        emit(Date.parse(ev.ts), () => (json ? JSON.stringify(v) : eventLine(ev, style)));
-        return;
-      }
-      const msg = v as Partial<ActionMessage>;
-      const act = msg?.kind === 'streamfence.operator-action' ? asAction(msg.action) : null;
-      if (act === null) return;
-      emit(Date.parse(act.at), () => {
-        const k = known.get(act.id);
-        const filtered = glob !== undefined || floor !== null;
-        if (filtered && (k === undefined || !sensorOk(k.sensor) || !passesSeverity(k.severity, floor)))
-          return null;
-        return json ? JSON.stringify(v) : actionLine(act, k?.sensor ?? null, style);
-      });
-    },
-  });
+  let follower: Awaited<ReturnType<typeof follow>>;
+  try {
+    follower = await follow({
+      kafka,
+      topics,
+      sinceMs,
+      untilEnd: once,
+      role: 'alerts',
+      onMessage: (m) => {
+        let v: unknown;
+        try {
+          v = JSON.parse(m.value?.toString('utf8') ?? '');
+        } catch {
+          return;
+        }
+        if (m.topic === alertTopic) {
+          const ev = asAlertEvent(v);
+          if (ev === null) return;
+          remember(ev.id, { sensor: ev.sensor, severity: ev.severity });
+          if (!sensorOk(ev.sensor) || !passesSeverity(ev.severity, floor)) return;
+          emit(Date.parse(ev.ts), () => (json ? JSON.stringify(v) : eventLine(ev, style)));
+          return;
+        }
+        const msg = v as Partial<ActionMessage>;
+        const act = msg?.kind === 'streamfence.operator-action' ? asAction(msg.action) : null;
+        if (act === null) return;
+        emit(Date.parse(act.at), () => {
+          const k = known.get(act.id);
+          const filtered = glob !== undefined || floor !== null;
+          if (filtered && (k === undefined || !sensorOk(k.sensor) || !passesSeverity(k.severity, floor)))
+            return null;
+          return json ? JSON.stringify(v) : actionLine(act, k?.sensor ?? null, style);
+        });
+      },
+    });
+  } catch (e) {
+    throw kafkaRefusal(e, kafkaSettings, `read ${topics.join(' and ')}`) ?? e;
+  }
   const stop = () => void follower.stop();
   const releaseSignals = onStopSignal(stop);
   const poll = setInterval(() => {

@@ -12,7 +12,9 @@ import {
   buildKafka,
   buildRedis,
   connectionHelp,
+  kafkaRefusal,
   parseArgsOptions,
+  redisRefusal,
   readKafkaSettings,
   readRedisSettings,
 } from '../../connect/index.js';
@@ -91,6 +93,8 @@ export async function main(argv: string[]): Promise<number> {
     await redis.connect();
   } catch (e) {
     redis.disconnect();
+    const refused = redisRefusal(e, redisSettings);
+    if (refused) throw refused;
     throw new StreamfenceError(
       'SERVICE_UNAVAILABLE',
       `cannot reach Redis at --redis: ${(e as Error).message}`,
@@ -116,7 +120,11 @@ export async function main(argv: string[]): Promise<number> {
     await feed.start();
   } catch (e) {
     redis.disconnect();
-    throw e;
+    throw (
+      kafkaRefusal(e, kafkaSettings, `read ${alertTopic} and ${actionTopic}`) ??
+      redisRefusal(e, redisSettings) ??
+      e
+    );
   }
   const metrics = createBoardMetrics(hub);
   const board = await startBoardServer({ hub, metrics, host, port, token });

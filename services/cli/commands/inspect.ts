@@ -8,6 +8,7 @@ import { describeSensor, storedSensors } from '../../monitor/inspect-state.js';
 import {
   REDIS_OPTIONS,
   buildRedis,
+  redisRefusal,
   connectionHelp,
   parseArgsOptions,
   readRedisSettings,
@@ -54,6 +55,8 @@ export async function main(argv: string[]): Promise<number> {
     try {
       await redis.connect();
     } catch (e) {
+      const refused = redisRefusal(e, redisSettings);
+      if (refused) throw refused;
       throw new StreamfenceError(
         'SERVICE_UNAVAILABLE',
         `cannot reach Redis: ${(e as Error).message}; check --redis`,

@@ -32,6 +32,7 @@ import {
   type KafkaSettings,
 } from '../../connect/index.js';
 import { parseTimestamp } from '../../../libs/engine/reading.js';
+import { DEFAULT_MAX_SENSORS } from '../../../libs/engine/sensor-budget.js';
 
 const CMD = 'replay';
 
@@ -50,6 +51,8 @@ INPUT           readings file: NDJSON (one {"sensor","ts","value"} per line; .nd
   --report        also write ${REPORT_FILE}: counts, alert rate against the budget, charts of the top sensors
   --report-top N  sensors charted in the report (default ${REPORT_DEFAULTS.topN})
   --budget N      alert budget in raised alerts per hour for the report (default ${ALERT_BUDGET_PER_HOUR})
+  --max-sensors N most sensors with state at once; readings of new sensors beyond it are
+                  rejected as sensor_limit (default ${DEFAULT_MAX_SENSORS})
   --audit         compare digest quartiles with exact ones for a sample of sensors (implies --report;
                   the numbers also go to ${REPLAY_FILES.summary} under "audit")
   --from TIME     start of the Kafka range, inclusive (ISO-8601 with a zone, or epoch ms)
@@ -80,6 +83,7 @@ export async function main(argv: string[]): Promise<number> {
     ...parseArgsOptions(KAFKA_OPTIONS),
     from: { type: 'string' },
     to: { type: 'string' },
+    'max-sensors': { type: 'string' },
   });
   if (args.help) return printHelp(HELP);
   if (args.positionals.length === 0)
@@ -97,6 +101,11 @@ export async function main(argv: string[]): Promise<number> {
     fallback: REPORT_DEFAULTS.topN,
   });
   const budget = numberOption(args, 'budget', CMD, { above: 0, fallback: ALERT_BUDGET_PER_HOUR });
+  const maxSensors = numberOption(args, 'max-sensors', CMD, {
+    whole: true,
+    above: 0,
+    fallback: DEFAULT_MAX_SENSORS,
+  });
 
   let opened: OpenedInput;
   if (isKafkaUrl(input)) {
@@ -129,6 +138,7 @@ export async function main(argv: string[]): Promise<number> {
     inputInfo: opened.info,
     observers,
     progress: opened.update,
+    maxSensors,
   });
   if (report !== null) await writeReport(outDir, report.render(summary));
   const progress = opened.progress;

@@ -80,6 +80,7 @@ export async function main(argv: string[]): Promise<number> {
       group: o.group,
       checkpointMs: o.checkpointMs,
       checkpointReadings: o.checkpointReadings,
+      maxSensors: o.maxSensors,
       sessionTimeoutMs: o.sessionTimeoutMs,
     },
     log,

@@ -38,7 +38,9 @@ Generate readings from an invented plant, with injected faults and their labels.
   --interval D        reading interval of each sensor, e.g. 60s, 1m (default 1m)
   --sensors N         how many sensors (default: the scenario's set; more repeat its units)
   --seed N            random seed (default 1); same seed, same data
-  --start ISO         time of the first reading (default ${DEFAULT_START})
+  --start ISO         time of the first reading, with a zone (default ${DEFAULT_START}; with
+                      --kafka the default ends the span at the current time, so the topic's
+                      retention keeps the data)
   --out FILE          readings file: .ndjson or .csv (or say --format)
   --format F          ndjson or csv
   --labels FILE       fault labels as CSV: sensor,start,end,kind (ISO-8601 UTC times)
@@ -121,16 +123,26 @@ export async function main(argv: string[]): Promise<number> {
       : readKafkaSettings(args.values, process.env, { cmd: CMD, defaultBrokers: '127.0.0.1:9092' });
   const format = out !== undefined ? formatFromPath(out, s('format')) : undefined;
   const seed = numberOption(args, 'seed', CMD, { whole: true, min: -(2 ** 32), max: 2 ** 32, fallback: 1 });
-  const startText = s('start') ?? DEFAULT_START;
-  const start = parseTimestamp(startText);
-  if (!start.ok) usageError(`--start: ${start.detail}`, CMD);
+  const durationMs = duration(s('duration') ?? '2d', 'duration');
+  const intervalMs = duration(s('interval') ?? '1m', 'interval');
+  const startText = s('start');
+  let startTs: number;
+  if (startText === undefined && topic !== undefined) {
+    // A broker deletes messages older than its retention at once, so data for a topic ends now
+    // (on a whole interval) instead of at a fixed past date that a short retention would drop.
+    startTs = Math.floor((Date.now() - durationMs) / intervalMs) * intervalMs;
+  } else {
+    const start = parseTimestamp(startText ?? DEFAULT_START);
+    if (!start.ok) usageError(`--start: ${start.detail}`, CMD);
+    startTs = (start as { ts: number }).ts;
+  }
   const scenario = s('scenario') ?? DEFAULT_SCENARIO;
 
   const opts = {
     seed,
-    start: (start as { ts: number }).ts,
-    durationMs: duration(s('duration') ?? '2d', 'duration'),
-    intervalMs: duration(s('interval') ?? '1m', 'interval'),
+    start: startTs,
+    durationMs,
+    intervalMs,
     sensors:
       s('sensors') === undefined
         ? undefined
@@ -154,7 +166,7 @@ export async function main(argv: string[]): Promise<number> {
     where = out;
   } else if (topic !== undefined) {
     n = await produceReadings(sim, topic, connection!, onProgress);
-    where = `Kafka topic ${topic}`;
+    where = `Kafka topic ${topic}, reading times ${new Date(startTs).toISOString()} to ${new Date(startTs + durationMs).toISOString()}${startText === undefined ? ' (ending now, so the retention keeps them)' : ''}`;
   }
   const labels = sim.labels().length;
   progress.finish(

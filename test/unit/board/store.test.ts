@@ -104,6 +104,16 @@ describe('AlertBoard actions', () => {
     expect(b.get('a')).toMatchObject({ status: 'cleared', acknowledged: true });
   });
 
+  it('keeps the first acknowledgement; a later one does not overwrite who and when', () => {
+    const b = new AlertBoard();
+    b.applyEvent(ev('a', 'raised', 'warning', 0), T0);
+    b.applyAction(act('acknowledge', 'a', { by: 'first shift' }, T0 + MIN), T0 + MIN);
+    const again = b.applyAction(act('acknowledge', 'a', { by: 'second shift' }, T0 + 2 * MIN), T0 + 2 * MIN);
+    expect(again.ok).toBe(true);
+    expect(b.get('a')).toMatchObject({ acknowledged: true, acknowledgedBy: 'first shift' });
+    expect(b.get('a')!.acknowledgedAt).toBe(new Date(T0 + MIN).toISOString());
+  });
+
   it('records an unnamed operator as "unnamed"', () => {
     const b = new AlertBoard();
     b.applyEvent(ev('a', 'raised', 'warning', 0), T0);

@@ -133,3 +133,35 @@ sensors:
     expect(formatDuration(1500)).toBe('1500ms');
   });
 });
+
+describe('config: critical levels the user left out follow the warning levels', () => {
+  it('zLimit alone derives zCritical = max(5, zLimit + 2); fenceK alone derives outerK = max(3, 2 fenceK)', () => {
+    const c = validateConfig({ defaults: { zLimit: 5, fenceK: 3 } });
+    expect(c.defaults.zCritical).toBe(7);
+    expect(c.defaults.outerK).toBe(6);
+    const mild = validateConfig({ defaults: { zLimit: 2, fenceK: 1 } });
+    expect(mild.defaults.zCritical).toBe(5);
+    expect(mild.defaults.outerK).toBe(3);
+    // The effective values are what summaries show, and they validate as written.
+    expect(configToJson(c).defaults).toMatchObject({ zCritical: 7, outerK: 6 });
+    expect(validateConfig(configToJson(c))).toEqual(c);
+  });
+  it('an override with its own warning level gets its own derived critical level', () => {
+    const c = validateConfig({ sensors: [{ match: 'kiln-*', zLimit: 6, fenceK: 2.5 }] });
+    const s = new SettingsResolver(c).resolve('kiln-1');
+    expect(s.zCritical).toBe(8);
+    expect(s.outerK).toBe(5);
+    expect(new SettingsResolver(c).resolve('dryer').zCritical).toBe(5);
+  });
+  it('values the user wrote are kept, and contradictions between them are still refused', () => {
+    expect(validateConfig({ defaults: { zLimit: 4, zCritical: 4.5 } }).defaults.zCritical).toBe(4.5);
+    expect(refusal(() => validateConfig({ defaults: { zLimit: 5, zCritical: 5 } })).code).toBe(
+      'CONFIG_CONTRADICTION',
+    );
+    const e = refusal(() =>
+      validateConfig({ defaults: { zCritical: 6 }, sensors: [{ match: 'kiln-*', zLimit: 6 }] }),
+    );
+    expect(e.code).toBe('CONFIG_CONTRADICTION');
+    expect(e.message).toContain('kiln-*');
+  });
+});

@@ -57,6 +57,7 @@ describe('runReplay', () => {
       `{"sensor":"x","ts":"yesterday","value":1}`, // 14 ts_invalid
       `{"sensor":"x","ts":-5,"value":1}`, // 15 ts_out_of_range
       `{"sensor":"ok/a","ts":"2026-04-01T00:00:00Z","value":1}`, // 16 late (36 h before ok/a's newest)
+      `{"sensor":"ok/b","ts":"2026-04-02T12:00:00Z","value":1}`, // 17 sensor_limit (limit 1: ok/a holds it)
     ];
     const p = join(dir, 'rejects.ndjson');
     writeFileSync(p, lines.join('\n') + '\n');
@@ -66,11 +67,19 @@ describe('runReplay', () => {
       config: defaultConfig(),
       outDir: out,
       inputInfo: {},
+      maxSensors: 1,
     });
     const rej = ndjsonLines(read(out, REPLAY_FILES.rejected));
     expect(rej.map((r) => r.reason).sort()).toEqual([...REJECT_REASONS].sort());
     const lineOf = Object.fromEntries(rej.map((r) => [r.reason, r.line]));
-    expect(lineOf).toMatchObject({ line_too_long: 2, not_json: 3, ts_missing: 12, ts_invalid: 14, late: 16 });
+    expect(lineOf).toMatchObject({
+      line_too_long: 2,
+      not_json: 3,
+      ts_missing: 12,
+      ts_invalid: 14,
+      late: 16,
+      sensor_limit: 17,
+    });
     for (const r of rej) {
       expect(Object.keys(r)).toEqual(['line', 'raw', 'reason', 'detail']);
       expect(String(r.detail).length).toBeGreaterThan(0);

@@ -60,7 +60,9 @@ describe('simulate + tune', () => {
     expect(csv).toHaveLength(9);
     expect(csv.filter((l) => l.endsWith(',yes'))).toHaveLength(1);
     expect(readFileSync(p('out/report.html'), 'utf8')).toContain('<html');
-    expect(sink.chunks.join('')).toMatch(/^tune: 8 points x 34\.\dk readings .* recommended #\d+: recall/m);
+    expect(sink.chunks.join('')).toMatch(
+      /^tune: 8 points x 34\.\dk readings .* recommended #\d+ \(fenceK=[^)]*\): recall .*within the budget/m,
+    );
   });
 
   it('the recommended config reaches recall >= 0.9 on spikes, steps, drifts and stuck values, precision >= 0.8', () => {

@@ -1,0 +1,95 @@
+/** The sensor limit and idle eviction (libs/engine/sensor-budget.ts, Engine.evictIdle). */
+import { describe, expect, it } from 'vitest';
+import { defaultConfig, validateConfig } from '../../../libs/config/config.js';
+import { Engine } from '../../../libs/engine/engine.js';
+import { SensorBudget } from '../../../libs/engine/sensor-budget.js';
+
+const T0 = Date.parse('2026-03-01T00:00:00.000Z');
+const HOUR = 3_600_000;
+const DAY = 24 * HOUR; // the default window
+
+describe('sensor limit', () => {
+  it('rejects readings of new sensors beyond the limit, with reason sensor_limit; known sensors go on', () => {
+    const engine = new Engine(defaultConfig(), new SensorBudget(3));
+    for (const id of ['a', 'b', 'c'])
+      expect(engine.process({ sensor: id, ts: T0, value: 1 }).accepted).toBe(true);
+    const out = engine.process({ sensor: 'd', ts: T0, value: 1 });
+    expect(out.accepted).toBe(false);
+    if (!out.accepted) {
+      expect(out.reason).toBe('sensor_limit');
+      expect(out.detail).toContain('limit of 3 sensors');
+    }
+    expect(engine.process({ sensor: 'a', ts: T0 + 1, value: 2 }).accepted).toBe(true);
+    expect(engine.sensorCount).toBe(3);
+    expect(engine.get('a')!.seen).toBe(2);
+  });
+
+  it('is shared by every engine of a process', () => {
+    const budget = new SensorBudget(2);
+    const p0 = new Engine(defaultConfig(), budget);
+    const p1 = new Engine(defaultConfig(), budget);
+    expect(p0.process({ sensor: 'a', ts: T0, value: 1 }).accepted).toBe(true);
+    expect(p1.process({ sensor: 'b', ts: T0, value: 1 }).accepted).toBe(true);
+    expect(p0.process({ sensor: 'c', ts: T0, value: 1 }).accepted).toBe(false);
+    // A partition dropped as a whole gives its room back.
+    p1.releaseAll();
+    expect(budget.used).toBe(1);
+    expect(p0.process({ sensor: 'c', ts: T0, value: 1 }).accepted).toBe(true);
+  });
+
+  it('counts restored state without refusing it', () => {
+    const src = new Engine(defaultConfig());
+    for (const id of ['a', 'b', 'c']) src.process({ sensor: id, ts: T0, value: 1 });
+    const budget = new SensorBudget(2);
+    const dst = new Engine(defaultConfig(), budget);
+    for (const id of ['a', 'b', 'c']) dst.restore(src.encode(id)!);
+    expect(dst.sensorCount).toBe(3);
+    expect(budget.used).toBe(3);
+    expect(dst.process({ sensor: 'd', ts: T0, value: 1 }).accepted).toBe(false);
+    dst.forget('a');
+    dst.forget('b');
+    expect(dst.process({ sensor: 'd', ts: T0, value: 1 }).accepted).toBe(true);
+  });
+});
+
+describe('idle eviction', () => {
+  it('evicts sensors silent for longer than their window, measured in event time', () => {
+    const budget = new SensorBudget(10);
+    const engine = new Engine(defaultConfig(), budget);
+    engine.process({ sensor: 'quiet', ts: T0, value: 1 });
+    engine.process({ sensor: 'busy', ts: T0, value: 1 });
+    engine.process({ sensor: 'busy', ts: T0 + DAY, value: 1 });
+    expect(engine.evictIdle()).toBe(0); // exactly one window: kept
+    engine.process({ sensor: 'busy', ts: T0 + DAY + 1, value: 1 });
+    expect(engine.evictIdle()).toBe(1);
+    expect(engine.takeEvicted()).toEqual(['quiet']);
+    expect(engine.takeEvicted()).toEqual([]);
+    expect(engine.get('quiet')).toBeUndefined();
+    expect(budget.used).toBe(1);
+    expect(engine.evictedTotal).toBe(1);
+    // Back again, it starts like a new sensor (its window would have been empty anyway).
+    engine.process({ sensor: 'quiet', ts: T0 + 2 * DAY, value: 1 });
+    expect(engine.get('quiet')!.seen).toBe(1);
+  });
+
+  it('keeps a silent sensor with a raised alert, so its clear can still be published', () => {
+    const config = validateConfig({ sensors: [{ match: 'tank/*', max: 10 }] });
+    const engine = new Engine(config, new SensorBudget(10));
+    const raised = engine.process({ sensor: 'tank/level', ts: T0, value: 50 });
+    expect(raised.events.map((e) => e.state)).toEqual(['raised']);
+    engine.process({ sensor: 'other', ts: T0 + 2 * DAY, value: 1 });
+    expect(engine.evictIdle()).toBe(0);
+    expect(engine.get('tank/level')).toBeDefined();
+  });
+
+  it('makes room at the limit by evicting idle sensors before rejecting', () => {
+    const engine = new Engine(defaultConfig(), new SensorBudget(2));
+    engine.process({ sensor: 'old', ts: T0, value: 1 });
+    engine.process({ sensor: 'live', ts: T0 + 2 * DAY, value: 1 });
+    const out = engine.process({ sensor: 'new', ts: T0 + 2 * DAY, value: 1 });
+    expect(out.accepted).toBe(true);
+    expect(engine.takeEvicted()).toEqual(['old']);
+    // Nothing idle left: the next new sensor is rejected.
+    expect(engine.process({ sensor: 'newer', ts: T0 + 2 * DAY, value: 1 }).accepted).toBe(false);
+  });
+});
