@@ -18,12 +18,24 @@ export interface BoardAlert extends AlertEvent {
   acknowledgedBy: string | null;
   /** ISO-8601, server clock. */
   acknowledgedAt: string | null;
+  /** Acknowledgements after the first (which stands), oldest first, at most LATER_ACKS_KEPT. */
+  laterAcknowledgements: readonly LaterAcknowledgement[];
   shelvedUntil: string | null;
   shelveReason: string | null;
   shelvedBy: string | null;
   /** ISO-8601 (server clock) of the last change the board saw: event or action. */
   changedAt: string;
 }
+
+/** An acknowledgement of an alert someone had already acknowledged: recorded, never overwriting. */
+export interface LaterAcknowledgement {
+  by: string;
+  /** ISO-8601, server clock. */
+  at: string;
+}
+
+/** How many later acknowledgements an alert keeps (the shared action log keeps them all). */
+export const LATER_ACKS_KEPT = 20;
 
 export type ActionKind = 'acknowledge' | 'shelve' | 'unshelve';
 
@@ -102,6 +114,7 @@ export class BoardStore {
       next.acknowledged = false;
       next.acknowledgedBy = null;
       next.acknowledgedAt = null;
+      next.laterAcknowledgements = [];
     }
     this.open.set(ev.id, next);
     return next;
@@ -128,9 +141,17 @@ export class BoardStore {
     let next: BoardAlert;
     switch (act.kind) {
       case 'acknowledge':
-        // The first acknowledgement stands: a later one is still shared and announced as an
-        // action (so it is recorded), but does not overwrite who acknowledged first and when.
-        if (a.acknowledged) return { ok: true, alert: a };
+        // The first acknowledgement stands: a later one is shared and announced as an action and
+        // listed on the alert, but never overwrites who acknowledged first and when.
+        if (a.acknowledged) {
+          const seen = a.laterAcknowledgements.some((l) => l.by === act.by && l.at === act.at);
+          if (seen || (a.acknowledgedBy === act.by && a.acknowledgedAt === act.at)) return { ok: true, alert: a };
+          next = change(a, {
+            laterAcknowledgements: [...a.laterAcknowledgements, { by: act.by, at: act.at }].slice(-LATER_ACKS_KEPT),
+            changedAt: at,
+          });
+          break;
+        }
         next = change(a, {
           acknowledged: true,
           acknowledgedBy: act.by,
@@ -239,6 +260,7 @@ function compose(ev: AlertEvent, f: BoardFields): BoardAlert {
     acknowledged: f.acknowledged,
     acknowledgedBy: f.acknowledgedBy,
     acknowledgedAt: f.acknowledgedAt,
+    laterAcknowledgements: f.laterAcknowledgements,
     shelvedUntil: f.shelvedUntil,
     shelveReason: f.shelveReason,
     shelvedBy: f.shelvedBy,
@@ -252,6 +274,7 @@ function fieldsOf(a: BoardFields): BoardFields {
     acknowledged: a.acknowledged,
     acknowledgedBy: a.acknowledgedBy,
     acknowledgedAt: a.acknowledgedAt,
+    laterAcknowledgements: a.laterAcknowledgements,
     shelvedUntil: a.shelvedUntil,
     shelveReason: a.shelveReason,
     shelvedBy: a.shelvedBy,
@@ -266,6 +289,7 @@ function change(a: BoardAlert, f: Partial<BoardFields>): BoardAlert {
     acknowledged: f.acknowledged ?? a.acknowledged,
     acknowledgedBy: f.acknowledgedBy !== undefined ? f.acknowledgedBy : a.acknowledgedBy,
     acknowledgedAt: f.acknowledgedAt !== undefined ? f.acknowledgedAt : a.acknowledgedAt,
+    laterAcknowledgements: f.laterAcknowledgements ?? a.laterAcknowledgements,
     shelvedUntil: f.shelvedUntil !== undefined ? f.shelvedUntil : a.shelvedUntil,
     shelveReason: f.shelveReason !== undefined ? f.shelveReason : a.shelveReason,
     shelvedBy: f.shelvedBy !== undefined ? f.shelvedBy : a.shelvedBy,
@@ -278,6 +302,7 @@ function blank(at: string): Omit<BoardAlert, keyof AlertEvent | 'status'> {
     acknowledged: false,
     acknowledgedBy: null,
     acknowledgedAt: null,
+    laterAcknowledgements: [],
     shelvedUntil: null,
     shelveReason: null,
     shelvedBy: null,

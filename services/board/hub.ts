@@ -12,6 +12,7 @@ import {
   type OperatorAction,
 } from '../../libs/board/store.js';
 import { RateMeter, type RateReading } from '../../libs/board/rate.js';
+import { AssetNamer, DEFAULT_GROUP_RULE, groupAlerts, type AlertGroup, type GroupRule } from '../../libs/board/groups.js';
 import { RecentSeries, type SeriesPoint } from '../../libs/board/series.js';
 import type { AlertEvent } from '../../libs/schema/alert-event.js';
 
@@ -40,9 +41,15 @@ export interface HubOptions {
   flaggedNow?: (sensor: string, id: string) => number | null;
   /** Called with a validated action before it is applied locally (live mode persists and publishes it). */
   share?: (action: OperatorAction) => Promise<void>;
+  /** Which open alerts form groups (default DEFAULT_GROUP_RULE). */
+  groupRule?: GroupRule;
 }
 
 export type ActRequest = { ok: true; alert: BoardAlert } | { ok: false; status: number; message: string };
+
+export type GroupActRequest =
+  | { ok: true; group: AlertGroup; alerts: BoardAlert[] }
+  | { ok: false; status: number; message: string };
 
 export class BoardHub {
   readonly store: BoardStore;
@@ -54,8 +61,18 @@ export class BoardHub {
     actions: { acknowledge: 0, shelve: 0, unshelve: 0 } as Record<ActionKind, number>,
   };
 
+  readonly groupRule: GroupRule;
+  private readonly assets: AssetNamer;
+
   constructor(readonly opts: HubOptions) {
     this.store = new BoardStore({ clearedKeep: opts.clearedKeep });
+    this.groupRule = opts.groupRule ?? DEFAULT_GROUP_RULE;
+    this.assets = new AssetNamer(this.groupRule);
+  }
+
+  /** The groups among the open alerts now (computed from the list, so always in step with it). */
+  groups(alerts: readonly BoardAlert[] = this.store.list()): AlertGroup[] {
+    return groupAlerts(alerts, this.assets, this.groupRule.windowMs);
   }
 
   get clock(): HubClock {
@@ -117,6 +134,36 @@ export class BoardHub {
     return { ok: true, alert: r.alert };
   }
 
+  /**
+   * An operator's request for a whole group: the same action on every member, each shared and
+   * announced as its own action (so the shared log stays one action per alert). Members the action
+   * does not apply to are left alone: acknowledge skips those already acknowledged.
+   */
+  async actOnGroup(kind: ActionKind, groupId: string, body: unknown): Promise<GroupActRequest> {
+    const group = this.groups().find((g) => g.id === groupId);
+    if (group === undefined)
+      return { ok: false, status: 404, message: `no group with id ${groupId} on this board; reload the list` };
+    const checked = checkAction(kind, groupId, body, this.clock.wall());
+    if (!checked.ok) return { ok: false, status: 400, message: checked.message };
+    if (kind === 'unshelve' && group.status !== 'shelved')
+      return { ok: false, status: 409, message: `group ${groupId} is not shelved` };
+    if (kind === 'shelve' && group.status !== 'active')
+      return { ok: false, status: 409, message: `group ${groupId} is already shelved` };
+    const alerts: BoardAlert[] = [];
+    for (const id of group.members) {
+      const current = this.store.get(id);
+      if (current === undefined) continue;
+      if (kind === 'acknowledge' && current.acknowledged) {
+        alerts.push(current);
+        continue;
+      }
+      const r = await this.act(kind, id, body);
+      if (!r.ok) return { ok: false, status: r.status, message: `${current.sensor}: ${r.message}` };
+      alerts.push(r.alert);
+    }
+    return { ok: true, group, alerts };
+  }
+
   /** Bring back alerts whose shelf has ended; call on a timer. */
   tick(): void {
     for (const a of this.store.expireShelves(this.clock.wall())) this.emit({ type: 'returned', alert: a });
@@ -146,6 +193,7 @@ export class BoardHub {
       plantNow: new Date(this.clock.plant()).toISOString(),
       rate: this.rateNow(),
       alerts,
+      groups: this.groups(alerts),
       series,
       flaggedNow,
       ...extra,

@@ -21,7 +21,7 @@ export interface BoardServerOptions {
   metrics: BoardMetrics;
   host: string;
   port: number;
-  /** Bearer token required on POSTs; null = none (loopback only, see auth.ts). */
+  /** Bearer token required on the API (reads, the event stream and actions); null = none (loopback only, see auth.ts). */
   token: string | null;
   /** How often shelves are checked for expiry. */
   tickMs?: number;
@@ -93,7 +93,11 @@ async function readJsonBody(req: IncomingMessage): Promise<unknown> {
   }
 }
 
-const ACTION_ROUTE = /^\/api\/alerts\/([^/]+)\/(acknowledge|shelve|unshelve)$/;
+const ACTION_ROUTE = /^\/api\/(alerts|groups)\/([^/]+)\/(acknowledge|shelve|unshelve)$/;
+/** Reads that show alerts: behind the token when the board has one (the page and assets are not). */
+const GUARDED_READS = new Set(['/api/alerts', '/api/groups', '/api/board', '/api/events']);
+const TOKEN_NEEDED =
+  'this board needs its token: type it into the "Board token" field in the page header, or send "Authorization: Bearer <token>" from a program';
 
 export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard> {
   const { hub, metrics, token } = opts;
@@ -107,14 +111,7 @@ export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard
     if (method === 'POST') {
       const m = ACTION_ROUTE.exec(path);
       if (!m) return fail(res, 404, 'not_found', `no such endpoint: POST ${path}`);
-      if (!authorized(token, req.headers.authorization)) {
-        return fail(
-          res,
-          401,
-          'unauthorized',
-          'this board needs the board token: send "Authorization: Bearer <token>"',
-        );
-      }
+      if (!authorized(token, req.headers.authorization)) return fail(res, 401, 'unauthorized', TOKEN_NEEDED);
       let body: unknown;
       try {
         body = await readJsonBody(req);
@@ -124,19 +121,23 @@ export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard
       }
       let id: string;
       try {
-        id = decodeURIComponent(m[1]);
+        id = decodeURIComponent(m[2]);
       } catch {
-        return fail(res, 400, 'bad_request', 'the alert id in the path is not valid URL encoding');
+        return fail(res, 400, 'bad_request', 'the id in the path is not valid URL encoding');
       }
-      const r = await hub.act(m[2] as ActionKind, id, body);
+      const kind = m[3] as ActionKind;
+      const r = m[1] === 'groups' ? await hub.actOnGroup(kind, id, body) : await hub.act(kind, id, body);
       if (!r.ok) {
         const code = r.status === 404 ? 'not_found' : r.status === 409 ? 'conflict' : 'bad_request';
         return fail(res, r.status, code, r.message);
       }
-      return json(res, 200, r.alert);
+      return json(res, 200, 'group' in r ? { group: r.group, alerts: r.alerts } : r.alert);
     }
     if (method !== 'GET' && method !== 'HEAD') {
       return fail(res, 405, 'method_not_allowed', `${method} is not supported here; use GET or POST`);
+    }
+    if (GUARDED_READS.has(path) && !authorized(token, req.headers.authorization)) {
+      return fail(res, 401, 'unauthorized', TOKEN_NEEDED);
     }
     switch (path) {
       case '/':
@@ -150,6 +151,8 @@ export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard
         return send(res, 200, 'text/css; charset=utf-8', BOARD_CSS);
       case '/api/alerts':
         return json(res, 200, hub.store.list());
+      case '/api/groups':
+        return json(res, 200, hub.groups());
       case '/api/board':
         return json(res, 200, hub.snapshot({ notice: NOTICE, tokenRequired: token !== null }));
       case '/api/events':

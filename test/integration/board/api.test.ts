@@ -234,8 +234,83 @@ describe('board API with a token', () => {
         { authorization: 'Bearer kiln-secret' },
       );
       expect(ok.status).toBe(200);
-      // Reading stays open: the board is for looking at.
-      expect((await call(board.url, 'GET', '/api/alerts')).status).toBe(200);
+      // Reads that show alerts need the token too; the page shell, assets and probes do not.
+      const bearer = { authorization: 'Bearer kiln-secret' };
+      for (const path of ['/api/alerts', '/api/groups', '/api/board', '/api/events']) {
+        const refused = await call(board.url, 'GET', path);
+        expect(refused.status, path).toBe(401);
+        expect(String(refused.json.message)).toMatch(/Board token/);
+        expect((await call(board.url, 'GET', path, undefined, { authorization: 'Bearer wrong' })).status).toBe(401);
+      }
+      for (const path of ['/api/alerts', '/api/groups', '/api/board']) {
+        expect((await call(board.url, 'GET', path, undefined, bearer)).status, path).toBe(200);
+      }
+      const stream = await fetch(board.url + '/api/events', { headers: bearer });
+      expect(stream.status).toBe(200);
+      expect(stream.headers.get('content-type')).toMatch(/text\/event-stream/);
+      await stream.body?.cancel();
+      for (const path of ['/', '/assets/board.js', '/assets/board.css', '/healthz', '/metrics']) {
+        expect((await call(board.url, 'GET', path)).status, path).toBe(200);
+      }
+    } finally {
+      await board.close();
+    }
+  });
+});
+
+describe('board API: grouped alerts', () => {
+  const member = (id: string, sensor: string, sinceMin: number): AlertEvent => ({
+    ...ev(id, 'raised', 'warning'),
+    sensor,
+    since: new Date(T0 + sinceMin * 60_000).toISOString(),
+    ts: new Date(T0 + sinceMin * 60_000).toISOString(),
+  });
+
+  it('groups one asset\'s alerts, marks the first-out, and acts on the whole group', async () => {
+    const hub = new BoardHub({
+      mode: 'demo',
+      clock: { wall: () => wall, plant: () => wall },
+      groupRule: { depth: 2, globs: [], windowMs: 5 * 60_000 },
+    });
+    const board = await startBoardServer({ hub, metrics: createBoardMetrics(hub), host: '127.0.0.1', port: 0, token: null });
+    try {
+      hub.applyEvent(member('c2', 'kiln-3/burner/flame', 2));
+      hub.applyEvent(member('c1', 'kiln-3/burner/gas-flow', 1));
+      hub.applyEvent(member('c3', 'kiln-3/burner/air-flow', 4));
+      hub.applyEvent(member('far', 'kiln-3/burner/exhaust', 9)); // outside the 5 min window
+      hub.applyEvent(member('other', 'kiln-4/burner/flame', 1)); // another asset
+      const groups = await call(board.url, 'GET', '/api/groups');
+      expect(groups.json).toEqual([
+        { id: 'c1', asset: 'kiln-3/burner', status: 'active', firstOut: 'c1', members: ['c1', 'c2', 'c3'] },
+      ]);
+      const snapshot = await call(board.url, 'GET', '/api/board');
+      expect(snapshot.json.groups).toEqual(groups.json);
+
+      // One alert of the group on its own.
+      expect((await call(board.url, 'POST', '/api/alerts/c2/acknowledge', { by: 'Ines' })).status).toBe(200);
+      const acked = await call(board.url, 'POST', '/api/groups/c1/acknowledge', { by: 'Tomasz' });
+      expect(acked.status).toBe(200);
+      const list = (await call(board.url, 'GET', '/api/alerts')).json as unknown as {
+        id: string;
+        acknowledged: boolean;
+        acknowledgedBy: string | null;
+      }[];
+      const byId = new Map(list.map((a) => [a.id, a]));
+      expect(byId.get('c1')).toMatchObject({ acknowledged: true, acknowledgedBy: 'Tomasz' });
+      expect(byId.get('c2')).toMatchObject({ acknowledged: true, acknowledgedBy: 'Ines' });
+      expect(byId.get('c3')).toMatchObject({ acknowledged: true, acknowledgedBy: 'Tomasz' });
+      expect(byId.get('far')!.acknowledged).toBe(false);
+      expect(byId.get('other')!.acknowledged).toBe(false);
+
+      const shelved = await call(board.url, 'POST', '/api/groups/c1/shelve', { reason: 'burner relit', minutes: 15 });
+      expect(shelved.status).toBe(200);
+      const statuses = ((await call(board.url, 'GET', '/api/alerts')).json as unknown as { id: string; status: string }[])
+        .filter((a) => a.id.startsWith('c'))
+        .map((a) => a.status);
+      expect(statuses).toEqual(['shelved', 'shelved', 'shelved']);
+      expect((await call(board.url, 'POST', '/api/groups/c1/shelve', { reason: 'again', minutes: 15 })).status).toBe(409);
+      expect((await call(board.url, 'POST', '/api/groups/c1/unshelve', {})).status).toBe(200);
+      expect((await call(board.url, 'POST', '/api/groups/nope/acknowledge', {})).status).toBe(404);
     } finally {
       await board.close();
     }

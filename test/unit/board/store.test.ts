@@ -112,6 +112,15 @@ describe('BoardStore actions', () => {
     expect(again.ok).toBe(true);
     expect(b.get('a')).toMatchObject({ acknowledged: true, acknowledgedBy: 'first shift' });
     expect(b.get('a')!.acknowledgedAt).toBe(new Date(T0 + MIN).toISOString());
+    // The later one is recorded beside the first, once, however often it is replayed.
+    const later = act('acknowledge', 'a', { by: 'second shift' }, T0 + 2 * MIN);
+    b.applyAction(later, T0 + 3 * MIN);
+    expect(b.get('a')!.laterAcknowledgements).toEqual([
+      { by: 'second shift', at: new Date(T0 + 2 * MIN).toISOString() },
+    ]);
+    // Replaying the first acknowledgement changes nothing either.
+    b.applyAction(act('acknowledge', 'a', { by: 'first shift' }, T0 + MIN), T0 + 4 * MIN);
+    expect(b.get('a')!.laterAcknowledgements).toHaveLength(1);
   });
 
   it('records an unnamed operator as "unnamed"', () => {
