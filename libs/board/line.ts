@@ -8,6 +8,20 @@ import type { OperatorAction } from './store.js';
 
 export interface LineStyle {
   color: boolean;
+  /** Keep the whole detail text instead of fitting the line into LINE_WIDTH columns. */
+  wide?: boolean;
+}
+
+/** Terminal lines fit this many columns unless `wide` is set (details are cut at a word). */
+export const LINE_WIDTH = 120;
+
+/** How a line shows that its alert belongs to a group (see libs/board/groups.ts). */
+export interface GroupMark {
+  asset: string;
+  /** Sensor of the group's first-out alert. */
+  firstOutSensor: string;
+  /** Whether this line's alert is the first-out. */
+  isFirstOut: boolean;
 }
 
 const ANSI = {
@@ -21,6 +35,19 @@ const ANSI = {
 
 const SEVERITY_MARK: Readonly<Record<Severity, string>> = { critical: '◆ CRITICAL', warning: '▲ WARNING ' };
 const CLEARED_MARK = '○ CLEARED ';
+const OPERATOR_MARK = '» OPERATOR';
+
+/** What happened, as whole words in one column as wide as the longest ("acknowledged"). */
+const WHAT = {
+  raised: 'raised',
+  updated: 'updated',
+  cleared: 'cleared',
+  acknowledge: 'acknowledged',
+  shelve: 'shelved',
+  unshelve: 'unshelved',
+} as const;
+const WHAT_WIDTH = Math.max(...Object.values(WHAT).map((w) => w.length));
+const GAP = '  ';
 
 /** "2026-03-02 08:15:00Z" from an ISO time (UTC, so lines from any machine compare). */
 export function shortTime(iso: string): string {
@@ -36,33 +63,84 @@ function paint(s: string, codes: string, style: LineStyle): string {
   return style.color ? `${codes}${s}${ANSI.reset}` : s;
 }
 
-export function eventLine(ev: AlertEvent, style: LineStyle): string {
-  const cleared = ev.state === 'cleared';
-  const mark = cleared ? CLEARED_MARK : SEVERITY_MARK[ev.severity];
-  const codes = cleared ? ANSI.dim : ev.severity === 'critical' ? ANSI.bold + ANSI.red : ANSI.yellow;
-  return [
-    shortTime(ev.ts),
-    paint(mark, codes, style),
-    ev.state.padEnd(7),
-    paint(ev.sensor, ANSI.bold, style),
-    ev.message,
-  ].join('  ');
+/**
+ * `text` cut at a word boundary so it takes at most `room` columns, with "…" when something was
+ * left out; words are never split (a first word too long for the room leaves just "…").
+ */
+export function fitWords(text: string, room: number): string {
+  const chars = Array.from(text);
+  if (chars.length <= room) return text;
+  if (room < 1) return '';
+  const head = chars.slice(0, room - 1).join('');
+  // Keep the head only up to its last whole word (the char after it ends a word too if it is a space).
+  const cut = chars[room - 1] === ' ' ? head.length : head.lastIndexOf(' ');
+  return `${cut > 0 ? head.slice(0, cut).trimEnd() : ''}…`;
 }
 
-export function actionLine(act: OperatorAction, sensor: string | null, style: LineStyle): string {
-  const what =
-    act.kind === 'acknowledge'
-      ? `acknowledged by ${act.by}`
-      : act.kind === 'shelve'
-        ? `shelved by ${act.by} until ${shortTime(act.until ?? '')}: ${act.reason ?? ''}`
-        : `unshelved by ${act.by}`;
-  return [
-    shortTime(act.at),
-    paint('» OPERATOR', ANSI.cyan, style),
-    act.kind.padEnd(7).slice(0, 7),
-    paint(sensor ?? act.id, ANSI.bold, style),
-    what,
-  ].join('  ');
+/** The group tag of a line: "[first-out of line-1/chiller]" or "[grouped, first-out line-1/chiller/temp]". */
+export function groupTag(mark: GroupMark): string {
+  return mark.isFirstOut ? `[first-out of ${mark.asset}]` : `[grouped, first-out ${mark.firstOutSensor}]`;
+}
+
+/** Columns: time, mark, what happened, sensor, group tag, then the detail fitted into what is left. */
+function compose(
+  parts: { time: string; mark: string; markCodes: string; what: string; sensor: string; group: string | null; detail: string },
+  style: LineStyle,
+): string {
+  const fixed = [parts.time, parts.mark, parts.what.padEnd(WHAT_WIDTH), parts.sensor];
+  if (parts.group !== null) fixed.push(parts.group);
+  const used = fixed.reduce((n, f) => n + Array.from(f).length, 0) + GAP.length * fixed.length;
+  const detail = style.wide === true ? parts.detail : fitWords(parts.detail, LINE_WIDTH - used);
+  const out = [
+    parts.time,
+    paint(parts.mark, parts.markCodes, style),
+    parts.what.padEnd(WHAT_WIDTH),
+    paint(parts.sensor, ANSI.bold, style),
+  ];
+  if (parts.group !== null) out.push(paint(parts.group, ANSI.cyan, style));
+  if (detail.length > 0) out.push(detail);
+  return out.join(GAP);
+}
+
+/** The message without a leading repeat of the sensor name (the line shows it already). */
+function detailOf(ev: AlertEvent): string {
+  return ev.message.startsWith(`${ev.sensor} `) ? ev.message.slice(ev.sensor.length + 1) : ev.message;
+}
+
+export function eventLine(ev: AlertEvent, style: LineStyle, group: GroupMark | null = null): string {
+  const cleared = ev.state === 'cleared';
+  return compose(
+    {
+      time: shortTime(ev.ts),
+      mark: cleared ? CLEARED_MARK : SEVERITY_MARK[ev.severity],
+      markCodes: cleared ? ANSI.dim : ev.severity === 'critical' ? ANSI.bold + ANSI.red : ANSI.yellow,
+      what: WHAT[ev.state],
+      sensor: ev.sensor,
+      group: group === null ? null : groupTag(group),
+      detail: style.wide === true ? ev.message : detailOf(ev),
+    },
+    style,
+  );
+}
+
+/** An operator action; `sensor` is the alert's sensor (the alert id when it is not known). */
+export function actionLine(act: OperatorAction, sensor: string | null, style: LineStyle, group: GroupMark | null = null): string {
+  const detail =
+    act.kind === 'shelve'
+      ? `by ${act.by} until ${shortTime(act.until ?? '')}: ${act.reason ?? ''}`
+      : `by ${act.by}`;
+  return compose(
+    {
+      time: shortTime(act.at),
+      mark: OPERATOR_MARK,
+      markCodes: ANSI.cyan,
+      what: WHAT[act.kind],
+      sensor: sensor ?? `alert ${act.id}`,
+      group: group === null ? null : groupTag(group),
+      detail,
+    },
+    style,
+  );
 }
 
 /** Severity filter is a floor: "warning" shows warnings and criticals, "critical" only criticals. */

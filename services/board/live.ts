@@ -24,6 +24,8 @@ export interface ActionMessage {
   kind: 'streamfence.operator-action';
   origin: string;
   action: OperatorAction;
+  /** The alert's sensor, so viewers that never saw the alert event can still name it. */
+  sensor?: string;
 }
 
 const MAX_PENDING = 10_000;
@@ -155,8 +157,19 @@ export class LiveFeed {
   /** Share an action taken on this board: durable in Redis first, then announced on the topic. */
   async share(act: OperatorAction): Promise<void> {
     const field = `${act.id}|${act.kind === 'acknowledge' ? 'ack' : 'shelf'}`;
-    await this.o.redis.hset(actionsKey(this.o.prefix), field, JSON.stringify(act));
-    const msg: ActionMessage = { kind: 'streamfence.operator-action', origin: this.origin, action: act };
+    const alert = this.hub.store.get(act.id);
+    if (act.kind === 'acknowledge' && alert?.acknowledged === true) {
+      // The first acknowledgement stays the durable one; a later one is recorded on the topic.
+      await this.o.redis.hsetnx(actionsKey(this.o.prefix), field, JSON.stringify(act));
+    } else {
+      await this.o.redis.hset(actionsKey(this.o.prefix), field, JSON.stringify(act));
+    }
+    const msg: ActionMessage = {
+      kind: 'streamfence.operator-action',
+      origin: this.origin,
+      action: act,
+      ...(alert === undefined ? {} : { sensor: alert.sensor }),
+    };
     await this.producer!.send({
       topic: this.o.actionTopic,
       acks: -1,

@@ -44,6 +44,10 @@ export const ENV = {
   kafkaSessionTimeoutMs: 'STREAMFENCE_KAFKA_SESSION_TIMEOUT_MS',
   /** Token operators' actions on the board must carry (streamfence board / demo). */
   boardToken: 'STREAMFENCE_BOARD_TOKEN',
+  /** Alert grouping on the board and terminal view: id prefix depth, asset globs (comma-separated), window. */
+  groupDepth: 'STREAMFENCE_GROUP_DEPTH',
+  groupGlobs: 'STREAMFENCE_GROUP_GLOBS',
+  groupWindow: 'STREAMFENCE_GROUP_WINDOW',
 } as const;
 
 export type EnvKey = keyof typeof ENV;

@@ -20,6 +20,7 @@ import {
 } from '../../connect/index.js';
 import { boardTokenFor } from '../../board/auth.js';
 import { BoardHub } from '../../board/hub.js';
+import { GROUP_ARG_OPTIONS, GROUP_HELP, readGroupRule } from '../../board/group-options.js';
 import { LiveFeed } from '../../board/live.js';
 import { createBoardMetrics } from '../../metrics/board-metrics.js';
 import { startBoardServer } from '../../board/server.js';
@@ -41,6 +42,7 @@ Options:
   --port N              HTTP port (default 8080; 0 picks a free one)
   --host ADDR           address to listen on (default 127.0.0.1; any other needs --board-token)
   --board-token T       token operators' actions must carry (or STREAMFENCE_BOARD_TOKEN)
+${GROUP_HELP}
   -h, --help            this help
 
 ${connectionHelp({ kafka: true, redis: true })}
@@ -65,6 +67,7 @@ export async function main(argv: string[]): Promise<number> {
       port: { type: 'string' },
       host: { type: 'string' },
       'board-token': { type: 'string' },
+      ...GROUP_ARG_OPTIONS,
     },
     false,
   );
@@ -86,6 +89,7 @@ export async function main(argv: string[]): Promise<number> {
     host,
     stringOption(args, 'board-token', CMD) ?? process.env.STREAMFENCE_BOARD_TOKEN,
   );
+  const groupRule = readGroupRule(args, process.env, CMD);
 
   printBanner(CMD);
   const redis = buildRedis(redisSettings);
@@ -104,6 +108,7 @@ export async function main(argv: string[]): Promise<number> {
   let feed: LiveFeed | null = null;
   const hub = new BoardHub({
     mode: 'live',
+    groupRule,
     clock: { wall: () => Date.now(), plant: () => Date.now() },
     share: (a) => feed!.share(a),
   });

@@ -8,6 +8,7 @@ import { DEFAULT_SCENARIO, SCENARIOS } from '../../../libs/sim/plant.js';
 import { boardTokenFor } from '../../board/auth.js';
 import { DemoFeed } from '../../board/demo-feed.js';
 import { BoardHub } from '../../board/hub.js';
+import { GROUP_ARG_OPTIONS, GROUP_HELP, readGroupRule } from '../../board/group-options.js';
 import { createDemoMetrics } from '../../metrics/board-metrics.js';
 import { startBoardServer } from '../../board/server.js';
 import {
@@ -34,6 +35,7 @@ Options:
   --seed N            simulator seed (default 7)
   --preroll DURATION  plant history simulated at start, e.g. 8h (default 8h; at least the 6h window)
   --board-token T     token operators' actions must carry (or STREAMFENCE_BOARD_TOKEN)
+${GROUP_HELP}
   -h, --help          this help
 
 Serves: /  the board   /api/alerts   /api/events (live)   /metrics   /healthz
@@ -52,6 +54,7 @@ export async function main(argv: string[]): Promise<number> {
       seed: { type: 'string' },
       preroll: { type: 'string' },
       'board-token': { type: 'string' },
+      ...GROUP_ARG_OPTIONS,
     },
     false,
   );
@@ -76,12 +79,15 @@ export async function main(argv: string[]): Promise<number> {
     stringOption(args, 'board-token', CMD) ?? process.env.STREAMFENCE_BOARD_TOKEN,
   );
 
+  const groupRule = readGroupRule(args, process.env, CMD);
+
   printBanner(CMD);
   const wallStart = Date.now();
   let feed: DemoFeed | null = null;
   const hub = new BoardHub({
     mode: 'demo',
     speed,
+    groupRule,
     clock: { wall: () => Date.now(), plant: () => (feed ? feed.plantTimeAt(Date.now()) : wallStart) },
     flaggedNow: (sensor, id) => {
       const a = feed?.engine.get(sensor)?.life.active;

@@ -137,10 +137,21 @@ describe('live board (Kafka + Redis)', () => {
       reason: 'mill stopped for relining',
     });
 
+    // A later acknowledgement from the other board is recorded, never overwriting the first.
+    expect((await post(b, '/api/alerts/p1/acknowledge', { by: 'Ossian Vell' })).status).toBe(200);
+    await expect
+      .poll(() => a.hub.store.get('p1')?.laterAcknowledgements.map((l) => l.by), { timeout: 30_000 })
+      .toEqual(['Ossian Vell']);
+    expect(a.hub.store.get('p1')?.acknowledgedBy).toBe('Lene Ashdown');
+    expect(JSON.parse((await redis.hgetall(actionsKey(prefix)))['p1|ack'])).toMatchObject({ by: 'Lene Ashdown' });
+
     const c = await startBoard();
     await expect
       .poll(() => c.hub.store.get('p2')?.shelveReason, { timeout: 30_000 })
       .toBe('mill stopped for relining');
+    await expect
+      .poll(() => c.hub.store.get('p1')?.laterAcknowledgements.map((l) => l.by), { timeout: 30_000 })
+      .toEqual(['Ossian Vell']);
     expect(c.hub.store.get('p1')).toMatchObject({ acknowledged: true, acknowledgedBy: 'Lene Ashdown' });
     const listed = (await (await fetch(c.board.url + '/api/alerts')).json()) as {
       id: string;
