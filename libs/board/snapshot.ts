@@ -5,6 +5,7 @@
  */
 import type { RateReading } from './rate.js';
 import type { BoardAlert } from './store.js';
+import type { AlertGroup } from './groups.js';
 
 /** One recent reading on a card's chart: [event time (epoch ms), value, 1 if flagged else 0]. */
 export type SnapshotPoint = [number, number, number];
@@ -19,6 +20,10 @@ export interface BoardSnapshot {
   plantNow: string;
   rate: RateReading;
   alerts: BoardAlert[];
+  /** Groups of two or more open alerts of one asset (libs/board/groups.ts), first-out first. */
+  groups: AlertGroup[];
+  /** The grouping rule in force, so the page can say what a group means. */
+  grouping: { depth: number | null; globs: readonly string[]; windowMinutes: number };
   /** Recent readings per sensor with an alert that is not cleared. */
   series: Record<string, SnapshotPoint[]>;
   /** Current flagged-reading count of open alerts, by alert id, when the board runs the engine (demo). */

@@ -195,6 +195,11 @@ export class BoardHub {
       rate: this.rateNow(),
       alerts,
       groups: this.groups(alerts),
+      grouping: {
+        depth: this.groupRule.depth,
+        globs: this.groupRule.globs,
+        windowMinutes: this.groupRule.windowMs / 60_000,
+      },
       series,
       flaggedNow,
       ...extra,
