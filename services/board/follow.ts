@@ -26,6 +26,10 @@ export interface FollowOptions {
   /** Stop after the messages present at start have been read (no following). */
   untilEnd?: boolean;
   onMessage: (m: FollowMessage) => void | Promise<void>;
+  /** Called once every message present at start has been read (at once when there were none). */
+  onCaughtUp?: () => void;
+  /** Longest a fetch waits on the broker for new messages (ms); also bounds how long stop() takes. */
+  maxWaitMs?: number;
   /** Name shown in the viewer's group id, e.g. "board" or "alerts". */
   role: string;
 }
@@ -77,10 +81,17 @@ export async function follow(o: FollowOptions): Promise<Follower> {
   }
 
   const remaining = new Set<PartKey>();
-  if (o.untilEnd) for (const [k, e] of end) if (e > start.get(k)!) remaining.add(k);
+  for (const [k, e] of end) if (e > start.get(k)!) remaining.add(k);
+  let caughtUp = false;
+  const markCaughtUp = () => {
+    if (caughtUp) return;
+    caughtUp = true;
+    o.onCaughtUp?.();
+  };
 
   let finish!: () => void;
   const done = new Promise<void>((r) => (finish = r));
+  if (remaining.size === 0) markCaughtUp();
   if (o.untilEnd && remaining.size === 0) {
     finish();
     return { done, stop: async () => {} };
@@ -91,6 +102,7 @@ export async function follow(o: FollowOptions): Promise<Follower> {
     // Viewers read everything; a short session keeps an abandoned viewer's group from lingering.
     sessionTimeout: 10_000,
     heartbeatInterval: 3_000,
+    ...(o.maxWaitMs === undefined ? {} : { maxWaitTimeInMs: o.maxWaitMs }),
   });
   let stopped = false;
   const stop = async () => {
@@ -117,9 +129,12 @@ export async function follow(o: FollowOptions): Promise<Follower> {
           timestamp: Number(message.timestamp),
         });
       }
-      if (o.untilEnd && remaining.has(k) && off + 1n >= end.get(k)!) {
+      if (remaining.has(k) && off + 1n >= end.get(k)!) {
         remaining.delete(k);
-        if (remaining.size === 0) setImmediate(() => void stop());
+        if (remaining.size === 0) {
+          markCaughtUp();
+          if (o.untilEnd) setImmediate(() => void stop());
+        }
       }
     },
   });

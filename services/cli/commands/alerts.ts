@@ -5,7 +5,10 @@
  */
 import picomatch from 'picomatch';
 import { parseDuration } from '../../../libs/config/duration.js';
-import { actionLine, eventLine, passesSeverity } from '../../../libs/board/line.js';
+import { actionLine, eventLine, passesSeverity, LINE_WIDTH, type GroupMark } from '../../../libs/board/line.js';
+import { AssetNamer, groupAlerts } from '../../../libs/board/groups.js';
+import { BoardStore } from '../../../libs/board/store.js';
+import { GROUP_ARG_OPTIONS, GROUP_HELP, readGroupRule } from '../../board/group-options.js';
 import { isSeverity, SEVERITIES, type Severity } from '../../../libs/schema/vocabulary.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { ENV } from '../../config/env.js';
@@ -25,6 +28,12 @@ import { onStopSignal } from '../../setup/signals.js';
 const CMD = 'alerts';
 const KNOWN_CAP = 100_000;
 const HOLD_CAP = 200_000;
+/** While following, lines wait this long so the two topics' messages print in time order. */
+const REORDER_MS = 250;
+/** Longest a fetch waits on the broker: it bounds how long Ctrl-C takes to stop. */
+const FETCH_WAIT_MS = 300;
+/** How long a stop waits for the consumer to leave its group before exiting anyway. */
+const STOP_GRACE_MS = 600;
 
 const HELP = `streamfence alerts: follow alert events in the terminal
 
@@ -38,11 +47,17 @@ Options:
   --sensor GLOB         only sensors matching the glob, e.g. "line-1/**"
   --since ISO|DURATION  start at this time, e.g. 2026-03-02T06:00:00Z or 2h (default: all the topic keeps)
   --once                print what is there now and exit (do not follow)
+  --wide                whole messages (lines are otherwise cut at a word to fit ${LINE_WIDTH} columns)
   --json                one JSON message per line (NDJSON), unchanged, for piping
+${GROUP_HELP}
   -h, --help            this help
 
 ${connectionHelp({ kafka: true })}
 
+Every line names the sensor; lines print in time order (alert events by reading time, operator
+actions by the board's clock). An alert that belongs to a group (alerts of one asset raised within
+the window of the first) has its event lines tagged [first-out of ASSET] or [grouped, first-out
+SENSOR]; operator action lines keep the room for who acted and why.
 Lines are coloured only when stdout is a terminal and NO_COLOR is not set.
 ${NOTICE}
 `;
@@ -73,6 +88,8 @@ export async function main(argv: string[]): Promise<number> {
       since: { type: 'string' },
       once: { type: 'boolean' },
       json: { type: 'boolean' },
+      wide: { type: 'boolean' },
+      ...GROUP_ARG_OPTIONS,
     },
     false,
   );
@@ -91,7 +108,18 @@ export async function main(argv: string[]): Promise<number> {
   const sinceMs = sinceRaw === undefined ? null : parseSince(sinceRaw, Date.now(), CMD);
   const json = args.values.json === true;
   const color = !json && process.stdout.isTTY === true && !process.env.NO_COLOR;
-  const style = { color };
+  const style = { color, wide: args.values.wide === true };
+  const groupRule = readGroupRule(args, process.env, CMD);
+  const assets = new AssetNamer(groupRule);
+  // Open alerts as the board sees them, to tag group membership the same way.
+  const board = new BoardStore({ clearedKeep: 0 });
+  const markOf = (id: string): GroupMark | null => {
+    const open = board.list();
+    const group = groupAlerts(open, assets, groupRule.windowMs).find((g) => g.members.includes(id));
+    if (group === undefined) return null;
+    const first = open.find((a) => a.id === group.firstOut);
+    return { asset: group.asset, firstOutSensor: first?.sensor ?? group.firstOut, isFirstOut: id === group.firstOut };
+  };
 
   printBanner(CMD);
   const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-alerts', retries: 5 });
@@ -133,29 +161,31 @@ export async function main(argv: string[]): Promise<number> {
     if (!broken) process.stdout.write(`${line}\n`);
   };
 
-  // With --once, messages of the two topics are merged in time order before printing (each topic
-  // arrives in its own order); when following, lines are printed as they come.
+  // Each topic arrives in its own order, so lines are held and printed in time order: everything
+  // present at start is merged before the first line, and while following, lines wait REORDER_MS.
+  // Rendering (which also tracks the open alerts for group tags) runs in that order.
   const once = args.values.once === true;
   type Item = { ts: number; seq: number; render: () => string | null };
   let held: Item[] = [];
   let seq = 0;
+  let caughtUp = false;
   const flush = () => {
     held.sort((a, b) => a.ts - b.ts || a.seq - b.seq);
-    for (const it of held) {
+    const batch = held;
+    held = [];
+    for (const it of batch) {
       const line = it.render();
       if (line !== null) out(line);
     }
-    held = [];
   };
   const emit = (ts: number, render: () => string | null) => {
-    if (!once) {
-      const line = render();
-      if (line !== null) out(line);
-      return;
-    }
     held.push({ ts, seq: seq++, render });
     if (held.length >= HOLD_CAP) flush();
   };
+  // Unref'd: a failed start must not be kept alive by this timer.
+  const reorder = setInterval(() => {
+    if (caughtUp && !once) flush();
+  }, REORDER_MS).unref();
 
   let follower: Awaited<ReturnType<typeof follow>>;
   try {
@@ -165,6 +195,11 @@ export async function main(argv: string[]): Promise<number> {
       sinceMs,
       untilEnd: once,
       role: 'alerts',
+      maxWaitMs: FETCH_WAIT_MS,
+      onCaughtUp: () => {
+        caughtUp = true;
+        if (!once) flush();
+      },
       onMessage: (m) => {
         let v: unknown;
         try {
@@ -176,33 +211,55 @@ export async function main(argv: string[]): Promise<number> {
           const ev = asAlertEvent(v);
           if (ev === null) return;
           remember(ev.id, { sensor: ev.sensor, severity: ev.severity });
-          if (!sensorOk(ev.sensor) || !passesSeverity(ev.severity, floor)) return;
-          emit(Date.parse(ev.ts), () => (json ? JSON.stringify(v) : eventLine(ev, style)));
+          const shown = sensorOk(ev.sensor) && passesSeverity(ev.severity, floor);
+          emit(Date.parse(ev.ts), () => {
+            // A clear is tagged with the group it left; a raise or update with the group it is in.
+            const before = ev.state === 'cleared' && shown && !json ? markOf(ev.id) : null;
+            board.applyEvent(ev, Date.parse(ev.ts));
+            if (!shown) return null;
+            if (json) return JSON.stringify(v);
+            return eventLine(ev, style, ev.state === 'cleared' ? before : markOf(ev.id));
+          });
           return;
         }
         const msg = v as Partial<ActionMessage>;
         const act = msg?.kind === 'streamfence.operator-action' ? asAction(msg.action) : null;
         if (act === null) return;
         emit(Date.parse(act.at), () => {
+          board.applyAction(act, Date.parse(act.at));
           const k = known.get(act.id);
+          const sensor = k?.sensor ?? (typeof msg.sensor === 'string' ? msg.sensor : null);
           const filtered = glob !== undefined || floor !== null;
-          if (filtered && (k === undefined || !sensorOk(k.sensor) || !passesSeverity(k.severity, floor)))
+          if (filtered && (sensor === null || !sensorOk(sensor) || (k !== undefined && !passesSeverity(k.severity, floor))))
             return null;
-          return json ? JSON.stringify(v) : actionLine(act, k?.sensor ?? null, style);
+          return json ? JSON.stringify(v) : actionLine(act, sensor, style);
         });
       },
     });
   } catch (e) {
+    clearInterval(reorder);
     throw kafkaRefusal(e, kafkaSettings, `read ${topics.join(' and ')}`) ?? e;
   }
-  const stop = () => void follower.stop();
+  // Stopping must feel immediate (Ctrl-C): print what is held, then give the consumer a moment to
+  // leave its group. A viewer group never commits, so one left behind only lingers until its
+  // session times out.
+  let stopping = false;
+  let stopped!: () => void;
+  const stoppedOrGrace = new Promise<void>((r) => (stopped = r));
+  const stop = () => {
+    if (stopping) return;
+    stopping = true;
+    const grace = new Promise<void>((r) => setTimeout(r, STOP_GRACE_MS).unref());
+    void Promise.race([follower.stop(), grace]).then(stopped);
+  };
   const releaseSignals = onStopSignal(stop);
   const poll = setInterval(() => {
     if (broken) stop();
   }, 200);
-  await follower.done;
-  flush();
+  await Promise.race([follower.done, stoppedOrGrace]);
+  clearInterval(reorder);
   clearInterval(poll);
+  flush();
   releaseSignals();
   return 0;
 }

@@ -3,7 +3,7 @@
  * the lines, the filters, --since, --json and that piped output has no colour codes.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { execFile } from 'node:child_process';
+import { execFile, spawn } from 'node:child_process';
 import { existsSync } from 'node:fs';
 import { promisify } from 'node:util';
 import { createTopic, deleteTopics, kafkaBrokers, kafkaClient, uniqueName } from '../../harness/services.js';
@@ -110,14 +110,12 @@ describe('streamfence alerts (terminal view)', () => {
     expect(lines.join('\n').includes(String.fromCharCode(27))).toBe(false); // no ANSI escape
     // Partitions interleave, so check content rather than global order.
     expect(lines).toContain(
-      '2026-04-01 03:00:00Z  ▲ WARNING   raised   kiln-2/zone-1/temp  kiln-2/zone-1/temp reads 7.5 (raised)',
+      '2026-04-01 03:00:00Z  ▲ WARNING   raised        kiln-2/zone-1/temp  reads 7.5 (raised)',
     );
-    expect(lines.some((l) => /◆ CRITICAL {2}updated {2}kiln-2\/zone-1\/temp/.test(l))).toBe(true);
-    expect(lines.some((l) => /○ CLEARED {3}cleared {2}dryer-4\/fan\/current/.test(l))).toBe(true);
+    expect(lines.some((l) => /◆ CRITICAL {2}updated {7}kiln-2\/zone-1\/temp/.test(l))).toBe(true);
+    expect(lines.some((l) => /○ CLEARED {3}cleared {7}dryer-4\/fan\/current/.test(l))).toBe(true);
     // --once merges both topics in time order, so the action (03:01) comes last, named by its sensor.
-    expect(lines[4]).toBe(
-      '2026-04-01 03:01:00Z  » OPERATOR  acknowl  kiln-2/zone-1/temp  acknowledged by Oskar Feld',
-    );
+    expect(lines[4]).toBe('2026-04-01 03:01:00Z  » OPERATOR  acknowledged  kiln-2/zone-1/temp  by Oskar Feld');
   });
 
   it('filters by severity floor and sensor glob', async () => {
@@ -126,7 +124,7 @@ describe('streamfence alerts (terminal view)', () => {
     expect(crit.lines.every((l) => /CRITICAL|CLEARED/.test(l))).toBe(true);
     const kiln = await alerts('--sensor', 'kiln-2/**');
     expect(kiln.lines).toHaveLength(3);
-    expect(kiln.lines[2]).toContain('acknowledged by Oskar Feld');
+    expect(kiln.lines[2]).toContain('acknowledged  kiln-2/zone-1/temp  by Oskar Feld');
     expect(kiln.lines.every((l) => l.includes('kiln-2/zone-1/temp'))).toBe(true); // action lines name the sensor too
   });
 
@@ -140,6 +138,80 @@ describe('streamfence alerts (terminal view)', () => {
       'a2:raised',
     ]);
     expect(parsed.find((e) => e.id === 'a2' && e.state === 'raised')).toEqual(events[1]);
+  });
+
+  it('following: lines in time order across both topics, at most 120 columns, groups tagged; Ctrl-C stops within 1 s', async () => {
+    const alertTopic2 = uniqueName('alerts-follow');
+    const actionTopic2 = uniqueName('actions-follow');
+    await createTopic(alertTopic2, 3);
+    await createTopic(actionTopic2, 1);
+    try {
+      const at = (m: number) => new Date(Date.parse('2026-04-01T05:00:00Z') + m * 60_000).toISOString();
+      const raise = (id: string, sensor: string, minute: number): AlertEvent => ({
+        ...ev(id, sensor, 'raised', 'warning'),
+        ts: at(minute),
+        since: at(minute),
+        message: `${sensor} reads 7.5, above the upper fence 6.9 of its six-hour baseline, and has stayed there for many readings in a row`,
+      });
+      const p = kafkaClient().producer();
+      await p.connect();
+      // Written out of time order, over three partitions.
+      await p.send({
+        topic: alertTopic2,
+        messages: [
+          raise('g3', 'kiln-5/burner/air-flow', 3),
+          raise('g1', 'kiln-5/burner/gas-flow', 1),
+          raise('g2', 'kiln-5/burner/flame', 2),
+          raise('lone', 'dryer-9/fan/current', 0),
+        ].map((e) => ({ key: e.sensor, value: JSON.stringify(e) })),
+      });
+      await p.send({
+        topic: actionTopic2,
+        messages: [
+          {
+            key: 'g2',
+            value: JSON.stringify({
+              kind: 'streamfence.operator-action',
+              origin: 'test',
+              sensor: 'kiln-5/burner/flame',
+              action: { kind: 'acknowledge', id: 'g2', by: 'Wanjiru Halvorsen', at: at(2.5) },
+            }),
+          },
+        ],
+      });
+      await p.disconnect();
+
+      const child = spawn(process.execPath, [CLI, 'alerts', '--brokers', brokers, '--alert-topic', alertTopic2, '--action-topic', actionTopic2], {
+        env: { ...process.env, NO_COLOR: '' },
+      });
+      let out = '';
+      child.stdout.on('data', (d: Buffer) => (out += d.toString('utf8')));
+      const exited = new Promise<number | null>((r) => child.on('exit', (code) => r(code)));
+      await expect.poll(() => out.split('\n').filter(Boolean).length, { timeout: 30_000 }).toBe(5);
+      const lines = out.split('\n').filter(Boolean);
+      expect(lines.map((l) => l.slice(0, 20))).toEqual([
+        '2026-04-01 05:00:00Z',
+        '2026-04-01 05:01:00Z',
+        '2026-04-01 05:02:00Z',
+        '2026-04-01 05:02:30Z',
+        '2026-04-01 05:03:00Z',
+      ]);
+      for (const l of lines) expect(Array.from(l).length, l).toBeLessThanOrEqual(120);
+      expect(lines[0]).not.toContain('[');
+      expect(lines[1]).not.toContain('['); // alone so far: a group needs a second alert
+      expect(lines[2]).toContain('kiln-5/burner/flame  [grouped, first-out kiln-5/burner/gas-flow]');
+      expect(lines[3]).toContain('acknowledged  kiln-5/burner/flame  by Wanjiru Halvorsen');
+      expect(lines[4]).toContain('kiln-5/burner/air-flow  [grouped, first-out kiln-5/burner/gas-flow]');
+      expect(lines[4].endsWith('…')).toBe(true);
+
+      const t0 = performance.now();
+      child.kill('SIGINT');
+      expect(await exited).toBe(0);
+      const stopMs = performance.now() - t0;
+      expect(stopMs).toBeLessThan(1000);
+    } finally {
+      await deleteTopics(alertTopic2, actionTopic2);
+    }
   });
 
   it('--since after the last message prints nothing; bad options are refused with exit 2', async () => {
