@@ -9,6 +9,7 @@ import YAML from 'yaml';
 import { buildKafka, kafkaRefusal, type KafkaSettings } from '../connect/index.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { PlantSimulator, SimReading } from '../../libs/sim/plant.js';
+import { fileProblem } from '../fs-errors.js';
 
 export type SimFormat = 'ndjson' | 'csv';
 
@@ -37,7 +38,7 @@ export function readingLine(r: SimReading, format: SimFormat): string {
 function unwritable(path: string, e: unknown): StreamfenceError {
   return new StreamfenceError(
     'OUTPUT_UNWRITABLE',
-    `cannot write "${path}": ${(e as Error).message}; choose another path`,
+    `cannot write "${path}": ${fileProblem(e)}; choose another path`,
   );
 }
 
