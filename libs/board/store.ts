@@ -52,7 +52,12 @@ export interface BoardOptions {
   clearedKeep?: number;
 }
 
-export class AlertBoard {
+/**
+ * The board's state: every open alert with its operator status, and the recently cleared ones.
+ * Pure and clock-free (`now` is passed in); BoardHub in services/board wraps it with the server's
+ * clock, rate meter and listeners.
+ */
+export class BoardStore {
   private readonly open = new Map<string, BoardAlert>();
   private readonly cleared: BoardAlert[] = [];
   private readonly clearedKeep: number;

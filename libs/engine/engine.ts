@@ -11,7 +11,7 @@ import type { AlertState, Reason, Severity } from '../schema/vocabulary.js';
 import { NOTICE } from '../schema/notice.js';
 import { fencesOf, judge, robustZ, zScore, type Verdict } from './judge.js';
 import { step } from './lifecycle.js';
-import { alertMessage } from './message.js';
+import { alertMessage } from './alert-wording.js';
 import type { Reading } from './reading.js';
 import type { SensorBudget } from './sensor-budget.js';
 import { decodeSensorState, encodeSensorState, SensorState } from './sensor-state.js';

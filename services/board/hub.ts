@@ -4,7 +4,7 @@
  * shares operator actions (Redis + Kafka) before they are applied here.
  */
 import {
-  AlertBoard,
+  BoardStore,
   checkAction,
   type ActionKind,
   type ActionResult,
@@ -45,7 +45,7 @@ export interface HubOptions {
 export type ActRequest = { ok: true; alert: BoardAlert } | { ok: false; status: number; message: string };
 
 export class BoardHub {
-  readonly store: AlertBoard;
+  readonly store: BoardStore;
   readonly rate = new RateMeter();
   readonly series = new RecentSeries();
   private readonly listeners = new Set<(m: HubMessage) => void>();
@@ -55,7 +55,7 @@ export class BoardHub {
   };
 
   constructor(readonly opts: HubOptions) {
-    this.store = new AlertBoard({ clearedKeep: opts.clearedKeep });
+    this.store = new BoardStore({ clearedKeep: opts.clearedKeep });
   }
 
   get clock(): HubClock {

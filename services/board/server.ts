@@ -8,7 +8,7 @@ import type { ActionKind } from '../../libs/board/store.js';
 import { NOTICE } from '../../libs/schema/notice.js';
 import { authorized } from './auth.js';
 import type { BoardHub, HubMessage } from './hub.js';
-import type { BoardMetrics } from './metrics.js';
+import type { BoardMetrics } from '../metrics/board-metrics.js';
 import { BOARD_CSS } from './page/style.js';
 import { BOARD_HTML } from './page/html.js';
 import { BOARD_JS } from './page/script.js';

@@ -35,7 +35,7 @@ import type { Metrics } from '../metrics/metrics.js';
 import { CheckpointStore } from '../redis/checkpoint-store.js';
 import { configKey } from '../redis/keys.js';
 import { withBackoff, type BackoffHooks } from './backoff.js';
-import { parseMessage, rejectionRecord } from './message.js';
+import { parseMessage, rejectionRecord } from './kafka-message.js';
 
 export interface MonitorSettings {
   statePrefix: string;

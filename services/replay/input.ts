@@ -7,7 +7,8 @@ import { closeSync, createReadStream, openSync, readSync, statSync } from 'node:
 import { StringDecoder } from 'node:string_decoder';
 import { createGunzip } from 'node:zlib';
 import { StreamfenceError } from '../../libs/errors/index.js';
-import { LIMITS, parseJsonReading, type ParseResult } from '../../libs/engine/reading.js';
+import { LIMITS, parseJsonReading } from '../../libs/engine/reading.js';
+import type { InputRecord } from '../../libs/schema/replay.js';
 import { LineSplitter, isBlank } from '../../libs/formats/lines.js';
 import { parseCsvHeader, parseCsvReading, type CsvColumns } from '../../libs/formats/csv.js';
 import { fileProblem } from '../fs-errors.js';
@@ -17,11 +18,7 @@ export type InputFormat = 'ndjson' | 'csv';
 export const INPUT_FORMATS: readonly InputFormat[] = ['ndjson', 'csv'];
 
 /** One non-blank input line: its 1-based physical line number, its text (clipped) and the parse result. */
-export interface InputRecord {
-  line: number;
-  raw: string;
-  result: ParseResult;
-}
+export type { InputRecord } from '../../libs/schema/replay.js';
 
 /** Counters the reader keeps up to date while it runs (for progress and the summary). */
 export interface InputStats {

@@ -9,33 +9,21 @@
 import { mkdir, rm, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { configToJson, type EngineConfig } from '../../libs/config/config.js';
-import { Engine, ENGINE_VERSION, type ProcessOutcome } from '../../libs/engine/engine.js';
-import { LIMITS, type Reading } from '../../libs/engine/reading.js';
+import { Engine, ENGINE_VERSION } from '../../libs/engine/engine.js';
+import { LIMITS } from '../../libs/engine/reading.js';
 import { DEFAULT_MAX_SENSORS, SensorBudget } from '../../libs/engine/sensor-budget.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
-import type { InputRecord } from './input.js';
+import type { InputRecord, ReplayObserver, ReplaySummary } from '../../libs/schema/replay.js';
 import { LineWriter } from './writer.js';
 import { fileProblem } from '../fs-errors.js';
+
+export type { ReplayObserver, ReplaySummary } from '../../libs/schema/replay.js';
 
 export const REPLAY_FILES = {
   alerts: 'alerts.ndjson',
   rejected: 'rejected.ndjson',
   summary: 'summary.json',
 } as const;
-
-export interface ReplayObserver {
-  /** Every valid reading handed to the engine, with its outcome (a `late` outcome is also reported to onReject). */
-  onReading?(r: Reading, outcome: ProcessOutcome, engine: Engine): void;
-  /** Every rejected line: parse rejects and engine `late` rejects, in input order. */
-  onReject?(rec: InputRecord | { line: number; raw: string }, reason: string, detail: string): void;
-  /** Once, after the last record, before summary.json is written. */
-  onEnd?(engine: Engine): void | Promise<void>;
-  /**
-   * Extra top-level fields for summary.json (e.g. a report's audit), asked after onEnd. They follow
-   * the core fields; a name that is already taken is refused, so the core counts stay trustworthy.
-   */
-  summaryFields?(): Record<string, unknown>;
-}
 
 export interface ReplayOptions {
   /** Batches of records in input order (e.g. readInput(...)). */
@@ -49,25 +37,6 @@ export interface ReplayOptions {
   progress?: (records: number) => void;
   /** Most sensors with state at once; readings of new sensors beyond it are rejected (sensor_limit). */
   maxSensors?: number;
-}
-
-export interface ReplaySummary {
-  engineVersion: string;
-  input: Record<string, unknown>;
-  /** Readings accepted by the engine. */
-  readings: number;
-  rejected: { total: number; byReason: Record<string, number> };
-  sensors: number;
-  evaluated: number;
-  flagged: { fence: number; outerFence: number; z: number; any: number };
-  alerts: { raised: number; updated: number; cleared: number };
-  /** Alerts still raised when the input ended. */
-  activeAtEnd: number;
-  /** The sensor limit in force and the idle sensors evicted to stay under it. */
-  sensorLimit: { max: number; evicted: number };
-  config: Record<string, unknown>;
-  /** Fields added by observers (summaryFields). */
-  [extra: string]: unknown;
 }
 
 function sortedCounts(m: Map<string, number>): Record<string, number> {

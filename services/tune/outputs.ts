@@ -3,11 +3,11 @@
  *   tuning.json      every grid point with its scores, and the recommendation (shape: TuningResult)
  *   tuning.csv       the same points as a table
  *   recommended.json a complete config file ({defaults, sensors}) for replay/run --config
- *   report.html      the HTML report (services/report/tune-report)
+ *   report.html      the HTML report (libs/report/tune-report)
  */
 import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
-import { renderTuneReport } from '../report/tune-report.js';
+import { renderTuneReport } from '../../libs/report/tune-report.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { GridPoint } from '../../libs/tuning/grid.js';
 import { fileProblem } from '../fs-errors.js';
@@ -110,7 +110,7 @@ async function write(path: string, text: string): Promise<void> {
   }
 }
 
-/** The HTML report (services/report/tune-report) of the tuning result, to DIR/report.html. */
+/** The HTML report (libs/report/tune-report) of the tuning result, to DIR/report.html. */
 export async function writeReport(dir: string, t: TuningResult): Promise<string> {
   const out = join(dir, 'report.html');
   await write(out, renderTuneReport(t));

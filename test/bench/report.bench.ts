@@ -13,7 +13,7 @@ import { Engine } from '../../libs/engine/engine.js';
 import type { Reading } from '../../libs/engine/reading.js';
 import type { InputRecord } from '../../services/replay/input.js';
 import { runReplay } from '../../services/replay/replay.js';
-import { createReportObserver } from '../../services/report/replay-report.js';
+import { createReportObserver } from '../../libs/report/replay-report.js';
 import { mulberry32 } from './prng.js';
 
 const SENSORS = 500;

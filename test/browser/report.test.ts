@@ -13,8 +13,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { validateConfig } from '../../libs/config/config.js';
 import { NOTICE } from '../../libs/schema/notice.js';
 import { runReplay } from '../../services/replay/replay.js';
-import { createReportObserver } from '../../services/report/replay-report.js';
-import { renderTuneReport, type TuningDoc } from '../../services/report/tune-report.js';
+import { createReportObserver } from '../../libs/report/replay-report.js';
+import { renderTuneReport, type TuningDoc } from '../../libs/report/tune-report.js';
 import { writeReport } from '../../services/report/write.js';
 import { asRecords, feed } from '../unit/report/data.js';
 

@@ -21,7 +21,7 @@ import {
 import { boardTokenFor } from '../../board/auth.js';
 import { BoardHub } from '../../board/hub.js';
 import { LiveFeed } from '../../board/live.js';
-import { createBoardMetrics } from '../../board/metrics.js';
+import { createBoardMetrics } from '../../metrics/board-metrics.js';
 import { startBoardServer } from '../../board/server.js';
 import { parseCommandArgs, printBanner, printHelp, stringOption, numberOption } from '../../setup/args.js';
 import { untilStopSignal } from '../../setup/signals.js';

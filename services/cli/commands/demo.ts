@@ -8,7 +8,7 @@ import { DEFAULT_SCENARIO, SCENARIOS } from '../../../libs/sim/plant.js';
 import { boardTokenFor } from '../../board/auth.js';
 import { DemoFeed } from '../../board/demo-feed.js';
 import { BoardHub } from '../../board/hub.js';
-import { createBoardMetrics } from '../../board/metrics.js';
+import { createBoardMetrics } from '../../metrics/board-metrics.js';
 import { startBoardServer } from '../../board/server.js';
 import {
   numberOption,

@@ -4,7 +4,7 @@
  */
 import { StreamfenceError } from '../../../libs/errors/index.js';
 import { ENV } from '../../config/env.js';
-import { describeSensor, storedSensors } from '../../monitor/inspect-state.js';
+import { describeSensor, storedSensors } from '../inspect-state.js';
 import {
   REDIS_OPTIONS,
   buildRedis,

@@ -23,7 +23,7 @@ import { Progress, formatCount, formatSeconds } from '../../progress.js';
 import { checkInputFile, detectFormat, newInputStats, readInput } from '../../replay/input.js';
 import { REPLAY_FILES, prepareDir, runReplay, type ReplayObserver } from '../../replay/replay.js';
 import type { InputRecord } from '../../replay/input.js';
-import { createReportObserver, REPORT_DEFAULTS } from '../../report/replay-report.js';
+import { createReportObserver, REPORT_DEFAULTS } from '../../../libs/report/replay-report.js';
 import { writeReport, REPORT_FILE } from '../../report/write.js';
 import { isKafkaUrl, parseKafkaUrl, KAFKA_URL_EXAMPLE, type KafkaRange } from '../../replay-kafka/url.js';
 import { kafkaRangeSource, newKafkaRangeStats } from '../../replay-kafka/source.js';

@@ -6,7 +6,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { request } from 'node:http';
 import { BoardHub, type HubMessage } from '../../../services/board/hub.js';
-import { createBoardMetrics } from '../../../services/board/metrics.js';
+import { createBoardMetrics } from '../../../services/metrics/board-metrics.js';
 import { MAX_BODY_BYTES, startBoardServer, type RunningBoard } from '../../../services/board/server.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { NOTICE } from '../../../libs/schema/notice.js';

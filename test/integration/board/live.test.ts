@@ -9,7 +9,7 @@ import { execFile } from 'node:child_process';
 import { promisify } from 'node:util';
 import { BoardHub } from '../../../services/board/hub.js';
 import { actionsKey, LiveFeed } from '../../../services/board/live.js';
-import { createBoardMetrics } from '../../../services/board/metrics.js';
+import { createBoardMetrics } from '../../../services/metrics/board-metrics.js';
 import { startBoardServer, type RunningBoard } from '../../../services/board/server.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { NOTICE } from '../../../libs/schema/notice.js';

@@ -16,7 +16,7 @@ import { parseConfigText, type EngineConfig } from '../../../libs/config/config.
 import { Engine } from '../../../libs/engine/engine.js';
 import type { Reading } from '../../../libs/engine/reading.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
-import { storedSensors } from '../../../services/monitor/inspect-state.js';
+import { storedSensors } from '../../../services/cli/inspect-state.js';
 import { partitionKeys } from '../../../services/redis/keys.js';
 import {
   createTopic,

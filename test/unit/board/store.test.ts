@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { AlertBoard, checkAction, UNNAMED, type OperatorAction } from '../../../libs/board/store.js';
+import { BoardStore, checkAction, UNNAMED, type OperatorAction } from '../../../libs/board/store.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { FIXTURE_BASELINE } from '../../support/alert-fixture.js';
@@ -40,9 +40,9 @@ function act(kind: OperatorAction['kind'], id: string, body: unknown, now: numbe
   return c.action;
 }
 
-describe('AlertBoard ordering', () => {
+describe('BoardStore ordering', () => {
   it('lists active alerts most severe first, then oldest first, then shelved, then cleared newest first', () => {
-    const b = new AlertBoard();
+    const b = new BoardStore();
     b.applyEvent(ev('w-old', 'raised', 'warning', 0), T0);
     b.applyEvent(ev('c-new', 'raised', 'critical', 20), T0);
     b.applyEvent(ev('c-old', 'raised', 'critical', 10), T0);
@@ -63,7 +63,7 @@ describe('AlertBoard ordering', () => {
   });
 
   it('keeps the last event fields and the reasons of a cleared alert', () => {
-    const b = new AlertBoard();
+    const b = new BoardStore();
     b.applyEvent(ev('a', 'raised', 'warning', 0), T0);
     b.applyEvent(ev('a', 'updated', 'critical', 0, { value: 99, message: 'worse' }), T0);
     const c = b.applyEvent(
@@ -78,7 +78,7 @@ describe('AlertBoard ordering', () => {
   });
 
   it('bounds the recently cleared list and ignores replayed duplicates', () => {
-    const b = new AlertBoard({ clearedKeep: 3 });
+    const b = new BoardStore({ clearedKeep: 3 });
     for (let i = 0; i < 6; i++) {
       b.applyEvent(ev(`x${i}`, 'raised', 'warning', i), T0);
       b.applyEvent(ev(`x${i}`, 'cleared', 'warning', i), T0);
@@ -91,9 +91,9 @@ describe('AlertBoard ordering', () => {
   });
 });
 
-describe('AlertBoard actions', () => {
+describe('BoardStore actions', () => {
   it('acknowledge records who and when and keeps the alert listed until it clears', () => {
-    const b = new AlertBoard();
+    const b = new BoardStore();
     b.applyEvent(ev('a', 'raised', 'warning', 0), T0);
     const r = b.applyAction(act('acknowledge', 'a', { by: '  Rhea Okonkwo-Lind ' }, T0 + MIN), T0 + MIN);
     expect(r.ok).toBe(true);
@@ -105,7 +105,7 @@ describe('AlertBoard actions', () => {
   });
 
   it('keeps the first acknowledgement; a later one does not overwrite who and when', () => {
-    const b = new AlertBoard();
+    const b = new BoardStore();
     b.applyEvent(ev('a', 'raised', 'warning', 0), T0);
     b.applyAction(act('acknowledge', 'a', { by: 'first shift' }, T0 + MIN), T0 + MIN);
     const again = b.applyAction(act('acknowledge', 'a', { by: 'second shift' }, T0 + 2 * MIN), T0 + 2 * MIN);
@@ -115,14 +115,14 @@ describe('AlertBoard actions', () => {
   });
 
   it('records an unnamed operator as "unnamed"', () => {
-    const b = new AlertBoard();
+    const b = new BoardStore();
     b.applyEvent(ev('a', 'raised', 'warning', 0), T0);
     b.applyAction(act('acknowledge', 'a', {}, T0), T0);
     expect(b.get('a')!.acknowledgedBy).toBe(UNNAMED);
   });
 
   it('an escalation to critical withdraws an earlier acknowledgement; a milder update keeps it', () => {
-    const b = new AlertBoard();
+    const b = new BoardStore();
     b.applyEvent(ev('a', 'raised', 'warning', 0), T0);
     b.applyAction(act('acknowledge', 'a', { by: 'op' }, T0), T0);
     b.applyEvent(ev('a', 'updated', 'critical', 0), T0);
@@ -133,7 +133,7 @@ describe('AlertBoard actions', () => {
   });
 
   it('shelve hides the alert until the shelf ends, then it returns as active', () => {
-    const b = new AlertBoard();
+    const b = new BoardStore();
     b.applyEvent(ev('a', 'raised', 'critical', 0), T0);
     b.applyAction(act('shelve', 'a', { by: 'op', reason: 'sensor being recalibrated', minutes: 15 }, T0), T0);
     expect(b.get('a')).toMatchObject({
@@ -152,7 +152,7 @@ describe('AlertBoard actions', () => {
   });
 
   it('unshelve returns at once; unshelving an active alert is a conflict', () => {
-    const b = new AlertBoard();
+    const b = new BoardStore();
     b.applyEvent(ev('a', 'raised', 'warning', 0), T0);
     expect(b.applyAction(act('unshelve', 'a', {}, T0), T0)).toMatchObject({ ok: false, error: 'conflict' });
     b.applyAction(act('shelve', 'a', { reason: 'known', minutes: 60 }, T0), T0);
@@ -161,7 +161,7 @@ describe('AlertBoard actions', () => {
   });
 
   it('a shelved alert that clears goes to the cleared list', () => {
-    const b = new AlertBoard();
+    const b = new BoardStore();
     b.applyEvent(ev('a', 'raised', 'warning', 0), T0);
     b.applyAction(act('shelve', 'a', { reason: 'known', minutes: 60 }, T0), T0);
     b.applyEvent(ev('a', 'cleared', 'warning', 0), T0 + MIN);
@@ -170,7 +170,7 @@ describe('AlertBoard actions', () => {
   });
 
   it('a replayed shelf that already ran out changes nothing', () => {
-    const b = new AlertBoard();
+    const b = new BoardStore();
     b.applyEvent(ev('a', 'raised', 'warning', 0), T0);
     const old = act('shelve', 'a', { reason: 'old', minutes: 15 }, T0 - 60 * MIN);
     expect(b.applyAction(old, T0).ok).toBe(true);
@@ -178,7 +178,7 @@ describe('AlertBoard actions', () => {
   });
 
   it('unknown ids are not_found and cleared ids are conflicts', () => {
-    const b = new AlertBoard();
+    const b = new BoardStore();
     expect(b.applyAction(act('acknowledge', 'nope', {}, T0), T0)).toMatchObject({
       ok: false,
       error: 'not_found',

@@ -5,7 +5,7 @@ import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { isStreamfenceError } from '../../../libs/errors/index.js';
 import { safeUrl } from '../../../services/log.js';
-import { parseMessage, rejectionRecord } from '../../../services/monitor/message.js';
+import { parseMessage, rejectionRecord } from '../../../services/monitor/kafka-message.js';
 import { parseRunOptions } from '../../../services/cli/run-options.js';
 import { redisOptions } from '../../../services/connect/index.js';
 import { parseStateKey, partitionKeys, stateKeyPattern } from '../../../services/redis/keys.js';

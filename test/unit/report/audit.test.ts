@@ -3,7 +3,7 @@ import { validateConfig } from '../../../libs/config/config.js';
 import { Engine } from '../../../libs/engine/engine.js';
 import type { Reading } from '../../../libs/engine/reading.js';
 import { AuditSample, sensorHash } from '../../../libs/report/audit.js';
-import { createReportObserver } from '../../../services/report/replay-report.js';
+import { createReportObserver } from '../../../libs/report/replay-report.js';
 import { feed, rng } from './data.js';
 
 /** Hyndman-Fan type 7 written out by hand (R's default): x[j] + (h - j) * (x[j+1] - x[j]), h = (n-1)p. */

@@ -6,8 +6,8 @@ import { validateConfig } from '../../../libs/config/config.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { esc } from '../../../libs/report/escape.js';
 import { runReplay } from '../../../services/replay/replay.js';
-import { createReportObserver } from '../../../services/report/replay-report.js';
-import { renderTuneReport } from '../../../services/report/tune-report.js';
+import { createReportObserver } from '../../../libs/report/replay-report.js';
+import { renderTuneReport } from '../../../libs/report/tune-report.js';
 import { asRecords, feed, SHORT_WINDOW_CONFIG } from './data.js';
 
 const EVIL = '<script>alert("x")</script>&\'';

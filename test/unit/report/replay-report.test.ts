@@ -6,7 +6,7 @@ import { validateConfig } from '../../../libs/config/config.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { esc } from '../../../libs/report/escape.js';
 import { runReplay } from '../../../services/replay/replay.js';
-import { createReportObserver, type ReportOptions } from '../../../services/report/replay-report.js';
+import { createReportObserver, type ReportOptions } from '../../../libs/report/replay-report.js';
 import { asRecords, feed, SHORT_WINDOW_CONFIG } from './data.js';
 
 async function report(

@@ -1,6 +1,6 @@
 /** Prometheus metrics of a board server, on a registry of its own (never the global one). */
 import { Counter, Gauge, Registry, collectDefaultMetrics } from 'prom-client';
-import type { BoardHub } from './hub.js';
+import type { BoardHub } from '../board/hub.js';
 
 export interface BoardMetrics {
   registry: Registry;

@@ -4,11 +4,11 @@
  * the table of points, the recommendation and its reason, the caution). Rendering is pure; the
  * caller writes the file.
  */
-import { tuneScatter, type ScatterPoint } from '../../libs/report/charts.js';
-import { esc } from '../../libs/report/escape.js';
-import { page, table, type Cell } from '../../libs/report/html.js';
-import { fmtNum } from '../../libs/report/svg.js';
-import { ALERT_BUDGET_PER_HOUR } from '../../libs/schema/vocabulary.js';
+import { tuneScatter, type ScatterPoint } from './charts.js';
+import { esc } from './escape.js';
+import { page, table, type Cell } from './html.js';
+import { fmtNum } from './svg.js';
+import { ALERT_BUDGET_PER_HOUR } from '../schema/vocabulary.js';
 
 /** One grid point as the tune command writes it (fields the report reads; others are ignored). */
 export interface TunePointDoc {

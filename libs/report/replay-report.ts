@@ -8,25 +8,19 @@
  * alert markers are capped per sensor, and the optional sketch audit mirrors at most
  * `auditSample` sensors with at most `auditCap` readings each.
  */
-import type { Engine, ProcessOutcome } from '../../libs/engine/engine.js';
-import type { Reading } from '../../libs/engine/reading.js';
-import type { Baseline } from '../../libs/engine/window.js';
-import { ALERT_BUDGET_PER_HOUR, FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../../libs/schema/vocabulary.js';
-import { AuditSample, auditRow, BucketMirror, type AuditRow } from '../../libs/report/audit.js';
-import { AdaptiveBins } from '../../libs/report/bins.js';
-import { HourlyCounts, hourBars } from '../../libs/report/hourly.js';
-import {
-  FENCE_CHANNELS,
-  markerShape,
-  rateChart,
-  sensorChart,
-  type AlertMarker,
-} from '../../libs/report/charts.js';
-import { esc } from '../../libs/report/escape.js';
-import { fenceBand, NO_BAND } from '../../libs/report/fences.js';
-import { page, table, type Cell } from '../../libs/report/html.js';
-import { fmtNum, markerPath } from '../../libs/report/svg.js';
-import type { ReplayObserver, ReplaySummary } from '../replay/replay.js';
+import type { Engine, ProcessOutcome } from '../engine/engine.js';
+import type { Reading } from '../engine/reading.js';
+import type { Baseline } from '../engine/window.js';
+import { ALERT_BUDGET_PER_HOUR, FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../schema/vocabulary.js';
+import { AuditSample, auditRow, BucketMirror, type AuditRow } from './audit.js';
+import { AdaptiveBins } from './bins.js';
+import { HourlyCounts, hourBars } from './hourly.js';
+import { FENCE_CHANNELS, markerShape, rateChart, sensorChart, type AlertMarker } from './charts.js';
+import { esc } from './escape.js';
+import { fenceBand, NO_BAND } from './fences.js';
+import { page, table, type Cell } from './html.js';
+import { fmtNum, markerPath } from './svg.js';
+import type { ReplayObserver, ReplaySummary } from '../schema/replay.js';
 
 export interface ReportOptions {
   /** Sensors charted, by alerts raised (default 8). */

@@ -1,0 +1,47 @@
+/**
+ * The shapes a replay hands around: one input record (a line and its parse), the observer hooks
+ * that features such as the report plug into, and the summary.json document. They live in libs so
+ * pure builders (libs/report) can consume a replay without importing the services that run it.
+ */
+import type { Engine, ProcessOutcome } from '../engine/engine.js';
+import type { ParseResult, Reading } from '../engine/reading.js';
+
+/** One input line and what parsing it gave, numbered from 1 in file (or merged topic) order. */
+export interface InputRecord {
+  line: number;
+  raw: string;
+  result: ParseResult;
+}
+
+export interface ReplayObserver {
+  /** Every valid reading handed to the engine, with its outcome (a `late` outcome is also reported to onReject). */
+  onReading?(r: Reading, outcome: ProcessOutcome, engine: Engine): void;
+  /** Every rejected line: parse rejects and engine `late` rejects, in input order. */
+  onReject?(rec: InputRecord | { line: number; raw: string }, reason: string, detail: string): void;
+  /** Once, after the last record, before summary.json is written. */
+  onEnd?(engine: Engine): void | Promise<void>;
+  /**
+   * Extra top-level fields for summary.json (e.g. a report's audit), asked after onEnd. They follow
+   * the core fields; a name that is already taken is refused, so the core counts stay trustworthy.
+   */
+  summaryFields?(): Record<string, unknown>;
+}
+
+export interface ReplaySummary {
+  engineVersion: string;
+  input: Record<string, unknown>;
+  /** Readings accepted by the engine. */
+  readings: number;
+  rejected: { total: number; byReason: Record<string, number> };
+  sensors: number;
+  evaluated: number;
+  flagged: { fence: number; outerFence: number; z: number; any: number };
+  alerts: { raised: number; updated: number; cleared: number };
+  /** Alerts still raised when the input ended. */
+  activeAtEnd: number;
+  /** The sensor limit in force and the idle sensors evicted to stay under it. */
+  sensorLimit: { max: number; evicted: number };
+  config: Record<string, unknown>;
+  /** Fields added by observers (summaryFields). */
+  [extra: string]: unknown;
+}

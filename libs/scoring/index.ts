@@ -1,2 +1,0 @@
-export * from './labels.js';
-export * from './score.js';
