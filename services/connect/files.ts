@@ -24,10 +24,7 @@ export function readSecretFile(file: string, what: string): string {
   try {
     text = readFileSync(file, 'utf8');
   } catch (e) {
-    throw new StreamfenceError(
-      'ARGS_INVALID',
-      `cannot read the ${what} file ${file}: ${fileProblem(e)}`,
-    );
+    throw new StreamfenceError('ARGS_INVALID', `cannot read the ${what} file ${file}: ${fileProblem(e)}`);
   }
   const secret = text.replace(/\r?\n$/, '');
   if (secret.length === 0) throw new StreamfenceError('ARGS_INVALID', `the ${what} file ${file} is empty`);

@@ -56,7 +56,12 @@ function joinNegativeValues(argv: string[], options: OptionSpec): string[] {
     }
     const next = argv[i + 1];
     const name = arg.startsWith('--') && !arg.includes('=') ? arg.slice(2) : undefined;
-    if (name !== undefined && options[name]?.type === 'string' && next !== undefined && /^-[\d.]/.test(next)) {
+    if (
+      name !== undefined &&
+      options[name]?.type === 'string' &&
+      next !== undefined &&
+      /^-[\d.]/.test(next)
+    ) {
       out.push(`${arg}=${next}`);
       i++;
     } else out.push(arg);
@@ -141,9 +146,12 @@ export interface NumberRule {
   max?: number;
   above?: number;
   what?: string;
+  /** The whole description when the generic one reads badly ("a TCP port from 1 to 65535"). */
+  text?: string;
 }
 
 function describeRule(rule: NumberRule): string {
+  if (rule.text !== undefined) return rule.text;
   const kind = rule.whole === true ? 'whole number' : 'number';
   const unit = rule.what === undefined ? '' : ` of ${rule.what}`;
   if (rule.min !== undefined && rule.max !== undefined)
@@ -156,7 +164,7 @@ function describeRule(rule: NumberRule): string {
 
 /**
  * The number in `raw` if it meets `rule`, else ARGS_INVALID saying what --`name` accepts. `name`
- * may already be a label (`--budget`, `STREAMFENCE_BUDGET`); a bare name gets the `--`.
+ * may already be a label (`--budget`, `STREAMFENCE_ALERT_BUDGET`); a bare name gets the `--`.
  */
 export function parseNumber(raw: string, name: string, rule: NumberRule, cmd?: string): number {
   const label = /^(--|[A-Z])/.test(name) ? name : `--${name}`;
@@ -184,8 +192,13 @@ export function numberOption(
 }
 
 /** TCP ports: 1-65535, or 0 where the command picks any free port (and says which). */
-export const PORT_RULE: NumberRule = { whole: true, min: 1, max: 65535, what: 'a TCP port' };
-export const PORT_OR_ANY_RULE: NumberRule = { whole: true, min: 0, max: 65535, what: 'a TCP port (0 = any free port)' };
+export const PORT_RULE: NumberRule = { whole: true, min: 1, max: 65535, text: 'a TCP port from 1 to 65535' };
+export const PORT_OR_ANY_RULE: NumberRule = {
+  whole: true,
+  min: 0,
+  max: 65535,
+  text: 'a TCP port from 1 to 65535, or 0 for any free port',
+};
 
 /**
  * An absolute time: ISO-8601 with a zone or epoch milliseconds, exactly as readings are read (a
@@ -226,5 +239,7 @@ export function warnNoEffect(
   const given = names.filter((n) => parsed.values[n] !== undefined);
   if (given.length === 0) return;
   const list = given.map((n) => optionLabel(parsed, n)).join(', ');
-  stream.write(`streamfence ${cmd}: warning: ${list} ${given.length === 1 ? 'has' : 'have'} no effect ${why}\n`);
+  stream.write(
+    `streamfence ${cmd}: warning: ${list} ${given.length === 1 ? 'has' : 'have'} no effect ${why}\n`,
+  );
 }

@@ -29,6 +29,7 @@ import { isKafkaUrl, parseKafkaUrl, KAFKA_URL_EXAMPLE, type KafkaRange } from '.
 import { kafkaRangeSource, newKafkaRangeStats } from '../../replay-kafka/source.js';
 import {
   KAFKA_OPTIONS,
+  checkKafka,
   connectionHelp,
   parseArgsOptions,
   readKafkaSettings,
@@ -148,6 +149,11 @@ export async function main(argv: string[]): Promise<number> {
   if (isKafkaUrl(input)) {
     const range = kafkaRange(input, args);
     const connection = readKafkaSettings(args.values, process.env, { cmd: CMD, brokers: range.brokers });
+    await checkKafka(connection, {
+      clientId: 'streamfence-replay',
+      required: [range.topic],
+      what: `read topic ${range.topic}`,
+    });
     opened = openKafka(range, connection);
   } else {
     opened = openFile(input, args);
