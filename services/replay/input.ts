@@ -123,15 +123,9 @@ export function checkInputFile(path: string): InputFileInfo {
 export function unreadable(path: string, err: unknown): StreamfenceError {
   const code = (err as NodeJS.ErrnoException | undefined)?.code;
   const why =
-    code === 'ENOENT'
-      ? 'no such file'
-      : code === 'EISDIR'
-        ? 'it is a directory, not a file'
-        : code === 'EACCES' || code === 'EPERM'
-          ? 'permission denied'
-          : code === 'Z_DATA_ERROR' || code === 'Z_BUF_ERROR'
-            ? 'it starts like gzip but does not decompress (corrupt or cut short)'
-            : fileProblem(err);
+    code === 'Z_DATA_ERROR' || code === 'Z_BUF_ERROR'
+      ? 'it starts like gzip but does not decompress (corrupt or cut short)'
+      : fileProblem(err);
   return new StreamfenceError('INPUT_UNREADABLE', `cannot read input "${path}": ${why}`, { cause: err });
 }
 

@@ -207,8 +207,8 @@ interface OpenedInput {
 }
 
 function openFile(input: string, args: ParsedArgs): OpenedInput {
-  const format = detectFormat(input, stringOption(args, 'format', CMD));
   const file = checkInputFile(input);
+  const format = detectFormat(input, stringOption(args, 'format', CMD));
   const stats = newInputStats();
   const progress = new Progress({ unit: 'lines', total: file.gzip ? undefined : file.size });
   return {
