@@ -68,7 +68,8 @@ export class AssetNamer {
   assetOf(sensor: string): string | null {
     const parts = sensor.split(SEPARATOR);
     for (const g of this.globs) {
-      if (g.test(sensor)) return g.keep > 0 && parts.length > g.keep ? parts.slice(0, g.keep).join(SEPARATOR) : null;
+      if (g.test(sensor))
+        return g.keep > 0 && parts.length > g.keep ? parts.slice(0, g.keep).join(SEPARATOR) : null;
     }
     const depth = this.rule.depth;
     if (depth === null || parts.length <= depth) return null;
@@ -81,7 +82,11 @@ export class AssetNamer {
  * the latest group of its asset and status if it was raised at most `windowMs` after that group's
  * first-out, else starts a new group. Groups come out in their first-out's raise order.
  */
-export function groupAlerts(alerts: readonly GroupCandidate[], namer: AssetNamer, windowMs: number): AlertGroup[] {
+export function groupAlerts(
+  alerts: readonly GroupCandidate[],
+  namer: AssetNamer,
+  windowMs: number,
+): AlertGroup[] {
   const open = alerts
     .filter((a) => a.status !== 'cleared')
     .map((a) => ({ a, t: Date.parse(a.since) }))
@@ -114,7 +119,10 @@ export function groupIndex(groups: readonly AlertGroup[]): Map<string, AlertGrou
 
 /** A one-line problem with a rule, or null when it is usable (for option checking at start-up). */
 export function groupRuleProblem(rule: GroupRule): string | null {
-  if (rule.depth !== null && (!Number.isInteger(rule.depth) || rule.depth < 1 || rule.depth > GROUP_LIMITS.maxDepth))
+  if (
+    rule.depth !== null &&
+    (!Number.isInteger(rule.depth) || rule.depth < 1 || rule.depth > GROUP_LIMITS.maxDepth)
+  )
     return `the group depth must be a whole number from 1 to ${GROUP_LIMITS.maxDepth}`;
   for (const glob of rule.globs) {
     const parts = glob.split(SEPARATOR);
@@ -123,7 +131,11 @@ export function groupRuleProblem(rule: GroupRule): string | null {
     if (keep < 1)
       return `the group glob "${glob}" names no asset: give at least one segment before the sensor part, e.g. "line-1/chiller/*"`;
   }
-  if (!Number.isFinite(rule.windowMs) || rule.windowMs < 0 || rule.windowMs > GROUP_LIMITS.maxWindowMinutes * 60_000)
+  if (
+    !Number.isFinite(rule.windowMs) ||
+    rule.windowMs < 0 ||
+    rule.windowMs > GROUP_LIMITS.maxWindowMinutes * 60_000
+  )
     return `the group window must be from 0 to ${GROUP_LIMITS.maxWindowMinutes} minutes`;
   return null;
 }

@@ -84,7 +84,15 @@ export function groupTag(mark: GroupMark): string {
 
 /** Columns: time, mark, what happened, sensor, group tag, then the detail fitted into what is left. */
 function compose(
-  parts: { time: string; mark: string; markCodes: string; what: string; sensor: string; group: string | null; detail: string },
+  parts: {
+    time: string;
+    mark: string;
+    markCodes: string;
+    what: string;
+    sensor: string;
+    group: string | null;
+    detail: string;
+  },
   style: LineStyle,
 ): string {
   const fixed = [parts.time, parts.mark, parts.what.padEnd(WHAT_WIDTH), parts.sensor];
@@ -124,7 +132,12 @@ export function eventLine(ev: AlertEvent, style: LineStyle, group: GroupMark | n
 }
 
 /** An operator action; `sensor` is the alert's sensor (the alert id when it is not known). */
-export function actionLine(act: OperatorAction, sensor: string | null, style: LineStyle, group: GroupMark | null = null): string {
+export function actionLine(
+  act: OperatorAction,
+  sensor: string | null,
+  style: LineStyle,
+  group: GroupMark | null = null,
+): string {
   const detail =
     act.kind === 'shelve'
       ? `by ${act.by} until ${shortTime(act.until ?? '')}: ${act.reason ?? ''}`

@@ -145,9 +145,12 @@ export class BoardStore {
         // listed on the alert, but never overwrites who acknowledged first and when.
         if (a.acknowledged) {
           const seen = a.laterAcknowledgements.some((l) => l.by === act.by && l.at === act.at);
-          if (seen || (a.acknowledgedBy === act.by && a.acknowledgedAt === act.at)) return { ok: true, alert: a };
+          if (seen || (a.acknowledgedBy === act.by && a.acknowledgedAt === act.at))
+            return { ok: true, alert: a };
           next = change(a, {
-            laterAcknowledgements: [...a.laterAcknowledgements, { by: act.by, at: act.at }].slice(-LATER_ACKS_KEPT),
+            laterAcknowledgements: [...a.laterAcknowledgements, { by: act.by, at: act.at }].slice(
+              -LATER_ACKS_KEPT,
+            ),
             changedAt: at,
           });
           break;

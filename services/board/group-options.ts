@@ -3,7 +3,12 @@
  * (an id prefix depth, or globs) and how close together their alerts must be raised to form a group.
  */
 import { parseDuration } from '../../libs/config/duration.js';
-import { DEFAULT_GROUP_RULE, groupRuleProblem, GROUP_LIMITS, type GroupRule } from '../../libs/board/groups.js';
+import {
+  DEFAULT_GROUP_RULE,
+  groupRuleProblem,
+  GROUP_LIMITS,
+  type GroupRule,
+} from '../../libs/board/groups.js';
 import { ENV } from '../config/env.js';
 import { parseNumber, stringOption, usageError, type ParsedArgs } from '../setup/args.js';
 
@@ -27,7 +32,8 @@ export function readGroupRule(args: ParsedArgs, env: NodeJS.ProcessEnv, cmd: str
   const depth =
     depthRaw === undefined || depthRaw === ''
       ? DEFAULT_GROUP_RULE.depth
-      : parseNumber(depthRaw, 'group-depth', { whole: true, min: 0, max: GROUP_LIMITS.maxDepth }, cmd) || null;
+      : parseNumber(depthRaw, 'group-depth', { whole: true, min: 0, max: GROUP_LIMITS.maxDepth }, cmd) ||
+        null;
   const globArg = args.values['group-glob'];
   const globs = Array.isArray(globArg)
     ? globArg.map(String)
@@ -39,7 +45,8 @@ export function readGroupRule(args: ParsedArgs, env: NodeJS.ProcessEnv, cmd: str
   let windowMs = DEFAULT_GROUP_RULE.windowMs;
   if (windowRaw !== undefined && windowRaw !== '') {
     const parsed = parseDuration(windowRaw);
-    if (parsed === null) usageError(`--group-window must be a duration such as 90s, 5m or 1h, got "${windowRaw}"`, cmd);
+    if (parsed === null)
+      usageError(`--group-window must be a duration such as 90s, 5m or 1h, got "${windowRaw}"`, cmd);
     windowMs = parsed;
   }
   const rule: GroupRule = { depth, globs, windowMs };

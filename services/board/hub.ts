@@ -13,7 +13,13 @@ import {
   type OperatorAction,
 } from '../../libs/board/store.js';
 import { RateMeter, type RateReading } from '../../libs/board/rate.js';
-import { AssetNamer, DEFAULT_GROUP_RULE, groupAlerts, type AlertGroup, type GroupRule } from '../../libs/board/groups.js';
+import {
+  AssetNamer,
+  DEFAULT_GROUP_RULE,
+  groupAlerts,
+  type AlertGroup,
+  type GroupRule,
+} from '../../libs/board/groups.js';
 import { RecentSeries, type SeriesPoint } from '../../libs/board/series.js';
 import type { AlertEvent } from '../../libs/schema/alert-event.js';
 
@@ -49,8 +55,7 @@ export interface HubOptions {
 export type ActRequest = { ok: true; alert: BoardAlert } | { ok: false; status: number; message: string };
 
 export type GroupActRequest =
-  | { ok: true; group: AlertGroup; alerts: BoardAlert[] }
-  | { ok: false; status: number; message: string };
+  { ok: true; group: AlertGroup; alerts: BoardAlert[] } | { ok: false; status: number; message: string };
 
 export class BoardHub {
   readonly store: BoardStore;
@@ -143,7 +148,11 @@ export class BoardHub {
   async actOnGroup(kind: ActionKind, groupId: string, body: unknown): Promise<GroupActRequest> {
     const group = this.groups().find((g) => g.id === groupId);
     if (group === undefined)
-      return { ok: false, status: 404, message: `no group with id ${groupId} on this board; reload the list` };
+      return {
+        ok: false,
+        status: 404,
+        message: `no group with id ${groupId} on this board; reload the list`,
+      };
     const checked = checkAction(kind, groupId, body, this.clock.wall());
     if (!checked.ok) return { ok: false, status: 400, message: checked.message };
     if (kind === 'unshelve' && group.status !== 'shelved')

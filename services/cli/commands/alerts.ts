@@ -4,7 +4,13 @@
  * NDJSON for other programs.
  */
 import picomatch from 'picomatch';
-import { actionLine, eventLine, passesSeverity, LINE_WIDTH, type GroupMark } from '../../../libs/board/line.js';
+import {
+  actionLine,
+  eventLine,
+  passesSeverity,
+  LINE_WIDTH,
+  type GroupMark,
+} from '../../../libs/board/line.js';
 import { AssetNamer, groupAlerts } from '../../../libs/board/groups.js';
 import { BoardStore } from '../../../libs/board/store.js';
 import { GROUP_ARG_OPTIONS, GROUP_HELP, readGroupRule } from '../../board/group-options.js';
@@ -155,7 +161,11 @@ export async function main(argv: string[]): Promise<number> {
     const group = groupAlerts(open, assets, groupRule.windowMs).find((g) => g.members.includes(id));
     if (group === undefined) return null;
     const first = open.find((a) => a.id === group.firstOut);
-    return { asset: group.asset, firstOutSensor: first?.sensor ?? group.firstOut, isFirstOut: id === group.firstOut };
+    return {
+      asset: group.asset,
+      firstOutSensor: first?.sensor ?? group.firstOut,
+      isFirstOut: id === group.firstOut,
+    };
   };
 
   printBanner(CMD);
@@ -268,7 +278,10 @@ export async function main(argv: string[]): Promise<number> {
           const k = known.get(act.id);
           const sensor = k?.sensor ?? (typeof msg.sensor === 'string' ? msg.sensor : null);
           const filtered = glob !== undefined || floor !== null;
-          if (filtered && (sensor === null || !sensorOk(sensor) || (k !== undefined && !passesSeverity(k.severity, floor))))
+          if (
+            filtered &&
+            (sensor === null || !sensorOk(sensor) || (k !== undefined && !passesSeverity(k.severity, floor)))
+          )
             return null;
           return json ? JSON.stringify(v) : actionLine(act, sensor, style);
         });

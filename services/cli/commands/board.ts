@@ -93,7 +93,12 @@ export async function main(argv: string[]): Promise<number> {
   const args = parseCommandArgs(
     CMD,
     argv,
-    { ...parseArgsOptions(KAFKA_OPTIONS), ...parseArgsOptions(REDIS_OPTIONS), ...OPTIONS, ...GROUP_ARG_OPTIONS },
+    {
+      ...parseArgsOptions(KAFKA_OPTIONS),
+      ...parseArgsOptions(REDIS_OPTIONS),
+      ...OPTIONS,
+      ...GROUP_ARG_OPTIONS,
+    },
     false,
     OPTION_ENV,
   );

@@ -115,7 +115,9 @@ describe('streamfence alerts (terminal view)', () => {
     expect(lines.some((l) => /◆ CRITICAL {2}updated {7}kiln-2\/zone-1\/temp/.test(l))).toBe(true);
     expect(lines.some((l) => /○ CLEARED {3}cleared {7}dryer-4\/fan\/current/.test(l))).toBe(true);
     // --once merges both topics in time order, so the action (03:01) comes last, named by its sensor.
-    expect(lines[4]).toBe('2026-04-01 03:01:00Z  » OPERATOR  acknowledged  kiln-2/zone-1/temp  by Oskar Feld');
+    expect(lines[4]).toBe(
+      '2026-04-01 03:01:00Z  » OPERATOR  acknowledged  kiln-2/zone-1/temp  by Oskar Feld',
+    );
   });
 
   it('filters by severity floor and sensor glob', async () => {
@@ -181,9 +183,13 @@ describe('streamfence alerts (terminal view)', () => {
       });
       await p.disconnect();
 
-      const child = spawn(process.execPath, [CLI, 'alerts', '--brokers', brokers, '--alert-topic', alertTopic2, '--action-topic', actionTopic2], {
-        env: { ...process.env, NO_COLOR: '' },
-      });
+      const child = spawn(
+        process.execPath,
+        [CLI, 'alerts', '--brokers', brokers, '--alert-topic', alertTopic2, '--action-topic', actionTopic2],
+        {
+          env: { ...process.env, NO_COLOR: '' },
+        },
+      );
       let out = '';
       child.stdout.on('data', (d: Buffer) => (out += d.toString('utf8')));
       const exited = new Promise<number | null>((r) => child.on('exit', (code) => r(code)));

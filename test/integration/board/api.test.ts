@@ -240,7 +240,9 @@ describe('board API with a token', () => {
         const refused = await call(board.url, 'GET', path);
         expect(refused.status, path).toBe(401);
         expect(String(refused.json.message)).toMatch(/Board token/);
-        expect((await call(board.url, 'GET', path, undefined, { authorization: 'Bearer wrong' })).status).toBe(401);
+        expect(
+          (await call(board.url, 'GET', path, undefined, { authorization: 'Bearer wrong' })).status,
+        ).toBe(401);
       }
       for (const path of ['/api/alerts', '/api/groups', '/api/board']) {
         expect((await call(board.url, 'GET', path, undefined, bearer)).status, path).toBe(200);
@@ -266,13 +268,19 @@ describe('board API: grouped alerts', () => {
     ts: new Date(T0 + sinceMin * 60_000).toISOString(),
   });
 
-  it('groups one asset\'s alerts, marks the first-out, and acts on the whole group', async () => {
+  it("groups one asset's alerts, marks the first-out, and acts on the whole group", async () => {
     const hub = new BoardHub({
       mode: 'demo',
       clock: { wall: () => wall, plant: () => wall },
       groupRule: { depth: 2, globs: [], windowMs: 5 * 60_000 },
     });
-    const board = await startBoardServer({ hub, metrics: createBoardMetrics(hub), host: '127.0.0.1', port: 0, token: null });
+    const board = await startBoardServer({
+      hub,
+      metrics: createBoardMetrics(hub),
+      host: '127.0.0.1',
+      port: 0,
+      token: null,
+    });
     try {
       hub.applyEvent(member('c2', 'kiln-3/burner/flame', 2));
       hub.applyEvent(member('c1', 'kiln-3/burner/gas-flow', 1));
@@ -302,13 +310,20 @@ describe('board API: grouped alerts', () => {
       expect(byId.get('far')!.acknowledged).toBe(false);
       expect(byId.get('other')!.acknowledged).toBe(false);
 
-      const shelved = await call(board.url, 'POST', '/api/groups/c1/shelve', { reason: 'burner relit', minutes: 15 });
+      const shelved = await call(board.url, 'POST', '/api/groups/c1/shelve', {
+        reason: 'burner relit',
+        minutes: 15,
+      });
       expect(shelved.status).toBe(200);
-      const statuses = ((await call(board.url, 'GET', '/api/alerts')).json as unknown as { id: string; status: string }[])
+      const statuses = (
+        (await call(board.url, 'GET', '/api/alerts')).json as unknown as { id: string; status: string }[]
+      )
         .filter((a) => a.id.startsWith('c'))
         .map((a) => a.status);
       expect(statuses).toEqual(['shelved', 'shelved', 'shelved']);
-      expect((await call(board.url, 'POST', '/api/groups/c1/shelve', { reason: 'again', minutes: 15 })).status).toBe(409);
+      expect(
+        (await call(board.url, 'POST', '/api/groups/c1/shelve', { reason: 'again', minutes: 15 })).status,
+      ).toBe(409);
       expect((await call(board.url, 'POST', '/api/groups/c1/unshelve', {})).status).toBe(200);
       expect((await call(board.url, 'POST', '/api/groups/nope/acknowledge', {})).status).toBe(404);
     } finally {

@@ -143,7 +143,9 @@ describe('live board (Kafka + Redis)', () => {
       .poll(() => a.hub.store.get('p1')?.laterAcknowledgements.map((l) => l.by), { timeout: 30_000 })
       .toEqual(['Ossian Vell']);
     expect(a.hub.store.get('p1')?.acknowledgedBy).toBe('Lene Ashdown');
-    expect(JSON.parse((await redis.hgetall(actionsKey(prefix)))['p1|ack'])).toMatchObject({ by: 'Lene Ashdown' });
+    expect(JSON.parse((await redis.hgetall(actionsKey(prefix)))['p1|ack'])).toMatchObject({
+      by: 'Lene Ashdown',
+    });
 
     const c = await startBoard();
     await expect

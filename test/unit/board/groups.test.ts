@@ -30,7 +30,9 @@ describe('asset of a sensor', () => {
     expect(n.assetOf('line-1/chiller')).toBeNull();
     expect(n.assetOf('flow')).toBeNull();
     expect(new AssetNamer(rule({ depth: 1 })).assetOf('line-1/chiller/temp')).toBe('line-1');
-    expect(new AssetNamer(rule({ depth: 3 })).assetOf('line-1/chiller/motor/current')).toBe('line-1/chiller/motor');
+    expect(new AssetNamer(rule({ depth: 3 })).assetOf('line-1/chiller/motor/current')).toBe(
+      'line-1/chiller/motor',
+    );
   });
 
   it('by glob: leading segments before "**", or all but the last; globs win over the depth', () => {
@@ -41,7 +43,9 @@ describe('asset of a sensor', () => {
     expect(n.assetOf('line-3/pump/flow')).toBe('line-3/pump');
     // No glob matches: the depth applies.
     expect(n.assetOf('line-2/chiller/temp')).toBe('line-2');
-    expect(new AssetNamer(rule({ depth: null, globs: ['line-1/chiller/**'] })).assetOf('line-2/chiller/temp')).toBeNull();
+    expect(
+      new AssetNamer(rule({ depth: null, globs: ['line-1/chiller/**'] })).assetOf('line-2/chiller/temp'),
+    ).toBeNull();
   });
 
   it('refuses rules that cannot name an asset', () => {
@@ -129,7 +133,13 @@ describe('grouping open alerts', () => {
     const arb = fc.uniqueArray(
       fc.record({
         id: fc.string({ minLength: 1, maxLength: 4 }),
-        sensor: fc.constantFrom('line-1/chiller/temp', 'line-1/chiller/current', 'line-1/pump/flow', 'flow', 'line-2/chiller/temp'),
+        sensor: fc.constantFrom(
+          'line-1/chiller/temp',
+          'line-1/chiller/current',
+          'line-1/pump/flow',
+          'flow',
+          'line-2/chiller/temp',
+        ),
         minute: fc.integer({ min: 0, max: 30 }),
         status: fc.constantFrom('active' as const, 'shelved' as const, 'cleared' as const),
       }),

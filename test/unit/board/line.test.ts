@@ -1,5 +1,12 @@
 import { describe, expect, it } from 'vitest';
-import { actionLine, eventLine, fitWords, LINE_WIDTH, passesSeverity, shortTime } from '../../../libs/board/line.js';
+import {
+  actionLine,
+  eventLine,
+  fitWords,
+  LINE_WIDTH,
+  passesSeverity,
+  shortTime,
+} from '../../../libs/board/line.js';
 import { parseSince } from '../../../services/cli/commands/alerts.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
@@ -35,7 +42,9 @@ describe('terminal lines', () => {
     expect(coloured).toContain(ESC + '[');
     expect(coloured.replace(new RegExp(ESC + '\\[\\d+m', 'g'), '')).toBe(plain);
     expect(eventLine({ ...ev, severity: 'warning' }, { color: false })).toContain('▲ WARNING ');
-    expect(eventLine({ ...ev, state: 'cleared' }, { color: false })).toContain('○ CLEARED   cleared       press-7/oil/temp');
+    expect(eventLine({ ...ev, state: 'cleared' }, { color: false })).toContain(
+      '○ CLEARED   cleared       press-7/oil/temp',
+    );
   });
 
   it('describe operator actions with who, until when and why', () => {
@@ -58,7 +67,9 @@ describe('terminal lines', () => {
     expect(actionLine(ack, 'press-7/oil/temp', { color: false })).toBe(
       '2026-02-11 10:25:00Z  » OPERATOR  acknowledged  press-7/oil/temp  by Maren Quist',
     );
-    expect(actionLine({ ...ack, kind: 'unshelve' }, 'press-7/oil/temp', { color: false })).toContain(' unshelved ');
+    expect(actionLine({ ...ack, kind: 'unshelve' }, 'press-7/oil/temp', { color: false })).toContain(
+      ' unshelved ',
+    );
     // An alert the view never saw is still named, never shown as a bare id.
     expect(actionLine(ack, null, { color: false })).toContain('alert x1');
     expect(shortTime('not a time')).toBe('not a time');
@@ -76,17 +87,28 @@ describe('terminal lines', () => {
       expect(line.endsWith('…')).toBe(true);
       // Every word before the ellipsis is a whole word of the message.
       const words = new Set(long.message.split(' '));
-      for (const w of line.slice(line.indexOf('reads')).replace(/…$/, '').trim().split(' ')) expect(words.has(w), w).toBe(true);
+      for (const w of line.slice(line.indexOf('reads')).replace(/…$/, '').trim().split(' '))
+        expect(words.has(w), w).toBe(true);
       const coloured = eventLine(long, { color: true }, group);
       expect(coloured.replace(new RegExp(ESC + '\\[\\d+m', 'g'), '')).toBe(line);
     }
     expect(eventLine(long, { color: false }, mark)).toContain('[grouped, first-out press-7/oil/pressure]');
-    expect(eventLine(long, { color: false }, { ...mark, isFirstOut: true })).toContain('[first-out of press-7/oil]');
+    expect(eventLine(long, { color: false }, { ...mark, isFirstOut: true })).toContain(
+      '[first-out of press-7/oil]',
+    );
     const wide = eventLine(long, { color: false, wide: true });
     expect(wide.endsWith(long.message)).toBe(true);
     expect(Array.from(wide).length).toBeGreaterThan(LINE_WIDTH);
     const shelve = actionLine(
-      { kind: 'shelve', id: 'x1', by: 'Maren Quist', at: '2026-02-11T10:25:00Z', until: '2026-02-11T18:25:00Z', reason: 'oil change planned for the whole shift; the pump skid is isolated and drained, readings are meaningless until it is refilled' },
+      {
+        kind: 'shelve',
+        id: 'x1',
+        by: 'Maren Quist',
+        at: '2026-02-11T10:25:00Z',
+        until: '2026-02-11T18:25:00Z',
+        reason:
+          'oil change planned for the whole shift; the pump skid is isolated and drained, readings are meaningless until it is refilled',
+      },
       'press-7/oil/temp',
       { color: false },
     );
