@@ -24,7 +24,9 @@ export const BOARD_HTML = `<!doctype html>
     <input id="operator" type="text" maxlength="80" autocomplete="off" placeholder="your name">
     <span id="operator-state" class="muted"></span>
     <label for="token" id="token-label" hidden>Board token</label>
-    <input id="token" type="password" autocomplete="off" hidden>
+    <input id="token" type="password" autocomplete="off" aria-describedby="token-prompt" hidden>
+    <button type="button" id="token-use" hidden>Use token</button>
+    <span id="token-prompt" class="token-prompt" role="alert" hidden></span>
     <button type="button" id="large-type" aria-pressed="false">Large type</button>
     <span id="link" class="link" role="status">connecting…</span>
   </div>

@@ -72,4 +72,13 @@ dialog fieldset { border: 1px solid var(--line); margin: .6rem 0; }
 dialog fieldset label { display: inline-block; margin-right: 1rem; }
 .error { color: var(--crit); min-height: 1.2rem; }
 .row { display: flex; gap: .6rem; justify-content: flex-end; }
+.token-prompt { color: var(--crit); font-weight: 600; font-size: .9rem; }
+.ack.later { color: var(--muted); font-size: .85rem; }
+.card.group { gap: .5rem; background: #f9fafb; }
+.group-tag { font-weight: 700; font-size: .8rem; letter-spacing: .08em; padding: .05rem .45rem; border: 1px dashed var(--muted); border-radius: 3px; color: var(--muted); }
+.card.group ol { list-style: none; margin: 0; padding: 0; display: grid; gap: .4rem; }
+.card.first-out { border-left-width: 10px; }
+.first-out-tag { font-weight: 700; font-size: .8rem; letter-spacing: .06em; padding: .05rem .45rem; border-radius: 3px; background: var(--ink); color: var(--panel); }
+.member { border-top: 1px solid var(--line); padding-top: .4rem; display: grid; gap: .25rem; }
+.member .msg { font-size: .9rem; }
 `;

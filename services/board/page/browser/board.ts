@@ -9,6 +9,7 @@
 import type { BoardSnapshot } from '../../../../libs/board/snapshot.js';
 import type { BoardAlert } from '../../../../libs/board/store.js';
 import type { RateReading } from '../../../../libs/board/rate.js';
+import type { AlertGroup } from '../../../../libs/board/groups.js';
 
 type ActionName = 'acknowledge' | 'shelve' | 'unshelve';
 type BadgeKind = 'warning' | 'critical' | 'cleared';
@@ -19,10 +20,19 @@ interface ChartPoint {
   flagged: boolean;
 }
 
-/** The answer to an action: the alert as it now stands, or the refusal's message. */
+/** The answer to an action: the alert (or, for a group, every member) as it now stands, or the refusal's message. */
 interface ActionReply {
   ok: boolean;
-  body: Partial<BoardAlert> & { message?: string };
+  status: number;
+  body: Partial<BoardAlert> & { message?: string; alerts?: BoardAlert[]; group?: AlertGroup };
+}
+
+/** What an action applies to: one alert, or every alert of a group. */
+interface ActionTarget {
+  scope: 'alerts' | 'groups';
+  id: string;
+  /** Words for messages: the sensor, or "the group of <asset>". */
+  label: string;
 }
 
 const SVGNS = 'http://www.w3.org/2000/svg';
@@ -34,9 +44,12 @@ const page: {
   data: BoardSnapshot | null;
   fetchedAt: number;
   timer: ReturnType<typeof setTimeout> | null;
-  shelveId: string | null;
+  shelveTarget: ActionTarget | null;
   marked: boolean;
-} = { data: null, fetchedAt: 0, timer: null, shelveId: null, marked: false };
+  /** The server refused the token (or there was none): wait for the operator to type it. */
+  locked: boolean;
+  stream: AbortController | null;
+} = { data: null, fetchedAt: 0, timer: null, shelveTarget: null, marked: false, locked: false, stream: null };
 
 function byId<T extends HTMLElement = HTMLElement>(id: string): T {
   return document.getElementById(id) as T;
@@ -198,12 +211,94 @@ function chart(alert: BoardAlert, points: ChartPoint[]): SVGElement {
 }
 
 function actionButton(label: string, action: ActionName, alert: BoardAlert): HTMLElement {
-  const button = el('button', { type: 'button', 'data-key': alert.id + ':' + action, text: label });
+  return targetButton(label, action, { scope: 'alerts', id: alert.id, label: alert.sensor }, alert.sensor + ': ' + alert.message);
+}
+
+function targetButton(label: string, action: ActionName, target: ActionTarget, what: string): HTMLElement {
+  const button = el('button', { type: 'button', 'data-key': target.scope + ':' + target.id + ':' + action, text: label });
   button.addEventListener('click', () => {
-    if (action === 'shelve') openShelve(alert);
-    else void post(alert.id, action, {});
+    if (action === 'shelve') openShelve(target, what);
+    else void post(target, action, {});
   });
   return button;
+}
+
+/** Acknowledgements after the first, which stands: listed, never replacing it. */
+function laterAcks(alert: BoardAlert): HTMLElement | null {
+  const later = alert.laterAcknowledgements || [];
+  if (later.length === 0) return null;
+  return el('p', {
+    cls: 'ack later',
+    text: 'Also acknowledged by ' + later.map((ack) => ack.by + ' at ' + absTime(ack.at)).join(', '),
+  });
+}
+
+function severityOf(alerts: BoardAlert[]): 'critical' | 'warning' {
+  return alerts.some((alert) => alert.severity === 'critical') ? 'critical' : 'warning';
+}
+
+/** One line of a group's listing: a member other than the first-out, with its own actions. */
+function memberRow(alert: BoardAlert): HTMLElement {
+  const row = el('li', { cls: 'member', 'data-id': alert.id, 'data-status': alert.status });
+  row.appendChild(
+    el('div', { cls: 'head' }, [
+      sevBadge(alert.severity),
+      el('span', { cls: 'sensor', text: alert.sensor }),
+      el('span', { cls: 'muted', text: 'raised ' + absTime(alert.since) }),
+    ]),
+  );
+  row.appendChild(el('p', { cls: 'msg', text: alert.message }));
+  row.appendChild(
+    alert.acknowledged
+      ? el('p', { cls: 'ack yes', text: '✓ Acknowledged by ' + alert.acknowledgedBy + ' at ' + absTime(alert.acknowledgedAt) })
+      : el('p', { cls: 'ack no', text: '• Not acknowledged' }),
+  );
+  const later = laterAcks(alert);
+  if (later) row.appendChild(later);
+  const actions = el('div', { cls: 'actions' });
+  if (!alert.acknowledged) actions.appendChild(actionButton('Acknowledge', 'acknowledge', alert));
+  if (alert.status === 'active') actions.appendChild(actionButton('Shelve…', 'shelve', alert));
+  if (alert.status === 'shelved') actions.appendChild(actionButton('Unshelve', 'unshelve', alert));
+  if (actions.childNodes.length) row.appendChild(actions);
+  return row;
+}
+
+/**
+ * A group as one card: what it is, the actions on all its alerts, the first-out alert in full
+ * (marked), then the other members listed in the order they were raised.
+ */
+function groupCard(group: AlertGroup, members: BoardAlert[]): HTMLElement {
+  const data = page.data!;
+  const first = members[0];
+  const item = el('li', { cls: 'card group ' + severityOf(members), 'data-group': group.id, 'data-status': group.status });
+  const minutes = data.grouping ? data.grouping.windowMinutes : 0;
+  item.appendChild(
+    el('div', { cls: 'head' }, [
+      el('span', { cls: 'group-tag', text: 'GROUP' }),
+      el('span', { cls: 'sensor', text: group.asset }),
+      el('span', {
+        cls: 'muted',
+        text: members.length + ' alerts raised within ' + minutes + ' min of the first-out',
+      }),
+    ]),
+  );
+  const target: ActionTarget = { scope: 'groups', id: group.id, label: 'the group of ' + group.asset };
+  const groupActions = el('div', { cls: 'actions group-actions' });
+  const open = members.filter((alert) => !alert.acknowledged).length;
+  if (open > 0)
+    groupActions.appendChild(targetButton('Acknowledge all ' + members.length, 'acknowledge', target, group.asset));
+  if (group.status === 'active')
+    groupActions.appendChild(targetButton('Shelve group…', 'shelve', target, group.asset + ': ' + members.length + ' alerts'));
+  if (group.status === 'shelved') groupActions.appendChild(targetButton('Unshelve group', 'unshelve', target, group.asset));
+  item.appendChild(groupActions);
+  const firstOut = card(first);
+  firstOut.classList.add('first-out');
+  firstOut.querySelector('.head')!.prepend(el('span', { cls: 'first-out-tag', text: 'FIRST-OUT' }));
+  const list = el('ol', { cls: 'members', 'aria-label': 'Other alerts of ' + group.asset });
+  members.slice(1).forEach((alert) => list.appendChild(memberRow(alert)));
+  item.appendChild(el('ol', { cls: 'first' }, [firstOut]));
+  item.appendChild(list);
+  return item;
 }
 
 function card(alert: BoardAlert): HTMLElement {
@@ -275,6 +370,8 @@ function card(alert: BoardAlert): HTMLElement {
   } else if (alert.status !== 'cleared') {
     item.appendChild(el('p', { cls: 'ack no', text: '• Not acknowledged' }));
   }
+  const later = laterAcks(alert);
+  if (later) item.appendChild(later);
   if (alert.status === 'shelved') {
     item.appendChild(
       el('p', { cls: 'facts' }, [
@@ -296,9 +393,23 @@ function card(alert: BoardAlert): HTMLElement {
   return item;
 }
 
-function fill(listId: string, alerts: BoardAlert[]): void {
+/** A list's cards: a group's card takes the place of its first-out; its other members go inside it. */
+function fill(listId: string, alerts: BoardAlert[], groups: AlertGroup[]): void {
   const list = byId(listId);
-  list.replaceChildren(...alerts.map(card));
+  const byAlert: Record<string, AlertGroup> = {};
+  groups.forEach((group) => group.members.forEach((id) => (byAlert[id] = group)));
+  const alertById: Record<string, BoardAlert> = {};
+  alerts.forEach((alert) => (alertById[alert.id] = alert));
+  const cards: HTMLElement[] = [];
+  alerts.forEach((alert) => {
+    const group = byAlert[alert.id];
+    if (!group) cards.push(card(alert));
+    else if (group.firstOut === alert.id) {
+      const members = group.members.map((id) => alertById[id]).filter((member) => member !== undefined);
+      cards.push(groupCard(group, members));
+    }
+  });
+  list.replaceChildren(...cards);
   byId(listId + '-empty').hidden = alerts.length > 0;
   byId('n-' + listId).textContent = '(' + alerts.length + ')';
 }
@@ -345,16 +456,17 @@ function render(): void {
   data.alerts.forEach((alert) => {
     (alert.status === 'active' ? active : alert.status === 'shelved' ? shelved : cleared).push(alert);
   });
-  fill('active', active);
+  const groups = data.groups || [];
+  fill('active', active, groups);
   // Marks the first time alerts are on screen, for the page-load measurement.
   if (active.length && !page.marked && window.performance && performance.mark) {
     performance.mark('board-first-alert');
     page.marked = true;
   }
-  fill('shelved', shelved);
-  fill('cleared', cleared);
+  fill('shelved', shelved, groups);
+  fill('cleared', cleared, []);
   renderRate(data.rate);
-  byId('token').hidden = byId('token-label').hidden = !data.tokenRequired;
+  if (data.tokenRequired) showToken(false);
   document.title = (active.length ? '(' + active.length + ') ' : '') + 'streamfence board';
   if (focused) {
     const again = document.querySelector<HTMLElement>('[data-key="' + focused.replace(/"/g, '') + '"]');
@@ -362,15 +474,104 @@ function render(): void {
   }
 }
 
+/** The board token typed in the header, as request headers (none when the field is empty). */
+function tokenHeaders(): Record<string, string> {
+  const token = inputById('token').value.trim();
+  return token ? { authorization: 'Bearer ' + token } : {};
+}
+
+/** Show the token field; `ask` also says the board needs it and puts the cursor there. */
+function showToken(ask: boolean): void {
+  byId('token').hidden = byId('token-label').hidden = byId('token-use').hidden = false;
+  const prompt = byId('token-prompt');
+  prompt.hidden = !ask;
+  if (ask) {
+    prompt.textContent = inputById('token').value.trim()
+      ? 'That board token was not accepted. Check it and press Enter.'
+      : 'This board needs its token to show alerts. Type it here and press Enter.';
+    say('');
+    if (document.activeElement !== inputById('token')) inputById('token').focus();
+  }
+}
+
+/** The server refused the token: stop asking it until the operator types one. */
+function lock(): void {
+  page.locked = true;
+  if (page.stream) page.stream.abort();
+  page.stream = null;
+  byId('link').textContent = 'waiting for the board token';
+  byId('link').className = 'link down';
+  showToken(true);
+}
+
+/** After the operator entered a token: try again at once. */
+function unlock(): void {
+  page.locked = false;
+  byId('token-prompt').hidden = true;
+  void load();
+  openStream();
+}
+
 function load(): Promise<void> {
-  return fetch('/api/board', { cache: 'no-store' })
-    .then((response) => response.json() as Promise<BoardSnapshot>)
-    .then((data) => {
-      page.data = data;
-      page.fetchedAt = Date.now();
-      render();
+  if (page.locked) return Promise.resolve();
+  return fetch('/api/board', { cache: 'no-store', headers: tokenHeaders() })
+    .then((response) => {
+      if (response.status === 401) {
+        lock();
+        return;
+      }
+      return (response.json() as Promise<BoardSnapshot>).then((data) => {
+        page.data = data;
+        page.fetchedAt = Date.now();
+        render();
+      });
     })
     .catch((err: Error) => say('Could not load the board: ' + err.message, true));
+}
+
+/**
+ * Follow /api/events. Read with fetch rather than EventSource, which cannot send the token; the
+ * stream only says that something changed, and the page then reloads (at most once a second).
+ */
+function openStream(): void {
+  if (page.locked || page.stream) return;
+  const link = byId('link');
+  const control = new AbortController();
+  page.stream = control;
+  const retry = (): void => {
+    if (page.stream === control) page.stream = null;
+    if (page.locked || control.signal.aborted) return;
+    link.textContent = 'connection lost — retrying';
+    link.className = 'link down';
+    setTimeout(openStream, 3000);
+  };
+  fetch('/api/events', { headers: tokenHeaders(), signal: control.signal, cache: 'no-store' })
+    .then((response) => {
+      if (response.status === 401) {
+        lock();
+        return;
+      }
+      if (!response.ok || !response.body) return retry();
+      link.textContent = 'live';
+      link.className = 'link';
+      const reader = response.body.getReader();
+      const decoder = new TextDecoder();
+      let buffered = '';
+      const next = (): Promise<void> =>
+        reader.read().then((chunk) => {
+          if (chunk.done) return retry();
+          buffered += decoder.decode(chunk.value, { stream: true });
+          const lines = buffered.split('\n');
+          buffered = lines.pop() || '';
+          lines.forEach((line) => {
+            const kind = line.startsWith('event: ') ? line.slice(7).trim() : '';
+            if (kind === 'alert' || kind === 'action' || kind === 'returned') soon();
+          });
+          return next();
+        });
+      return next();
+    })
+    .catch(() => retry());
 }
 function soon(): void {
   if (page.timer) return;
@@ -387,35 +588,40 @@ function say(text: string, bad?: boolean): void {
 }
 
 function post(
-  id: string,
+  target: ActionTarget,
   action: ActionName,
   body: Record<string, unknown>,
 ): Promise<ActionReply | undefined> {
   body.by = operator() || undefined;
-  const headers: Record<string, string> = { 'content-type': 'application/json' };
-  const token = inputById('token').value.trim();
-  if (token) headers.authorization = 'Bearer ' + token;
-  return fetch('/api/alerts/' + encodeURIComponent(id) + '/' + action, {
+  const headers: Record<string, string> = { 'content-type': 'application/json', ...tokenHeaders() };
+  return fetch('/api/' + target.scope + '/' + encodeURIComponent(target.id) + '/' + action, {
     method: 'POST',
     headers,
     body: JSON.stringify(body),
   })
     .then((response) =>
-      response.json().then((answer: ActionReply['body']): ActionReply => ({ ok: response.ok, body: answer })),
+      response
+        .json()
+        .then((answer: ActionReply['body']): ActionReply => ({ ok: response.ok, status: response.status, body: answer })),
     )
     .then((reply) => {
+      if (reply.status === 401) {
+        lock();
+        return reply;
+      }
       if (!reply.ok) {
         say(reply.body.message || 'The board refused the action.', true);
         return reply;
       }
-      const alert = reply.body;
-      const who = alert.acknowledgedBy || alert.shelvedBy || 'unnamed';
+      const alert = reply.body.alerts ? reply.body.alerts[0] || {} : reply.body;
+      const who = operator() || 'unnamed';
+      const count = reply.body.alerts ? ' (' + reply.body.alerts.length + ' alerts)' : '';
       say(
         action === 'acknowledge'
-          ? 'Acknowledged ' + alert.sensor + ' as ' + who + '.'
+          ? 'Acknowledged ' + target.label + count + ' as ' + who + '.'
           : action === 'shelve'
-            ? 'Shelved ' + alert.sensor + ' until ' + absTime(alert.shelvedUntil) + '.'
-            : 'Unshelved ' + alert.sensor + '.',
+            ? 'Shelved ' + target.label + count + ' until ' + absTime(alert.shelvedUntil) + '.'
+            : 'Unshelved ' + target.label + count + '.',
       );
       void load();
       return reply;
@@ -426,9 +632,9 @@ function post(
     });
 }
 
-function openShelve(alert: BoardAlert): void {
-  page.shelveId = alert.id;
-  byId('shelve-what').textContent = alert.sensor + ': ' + alert.message;
+function openShelve(target: ActionTarget, what: string): void {
+  page.shelveTarget = target;
+  byId('shelve-what').textContent = what;
   byId<HTMLTextAreaElement>('shelve-reason').value = '';
   byId('shelve-error').textContent = '';
   byId<HTMLDialogElement>('shelve-dialog').showModal();
@@ -460,6 +666,10 @@ function setup(): void {
   token.addEventListener('input', () =>
     remember(() => sessionStorage.setItem(TOKEN_KEY, token.value.trim())),
   );
+  token.addEventListener('keydown', (event) => {
+    if (event.key === 'Enter') unlock();
+  });
+  byId('token-use').addEventListener('click', unlock);
   const large = byId('large-type');
   const setLarge = (on: boolean): void => {
     document.documentElement.classList.toggle('large', on);
@@ -482,23 +692,13 @@ function setup(): void {
     }
     const picked = document.querySelector<HTMLInputElement>('input[name="shelve-minutes"]:checked');
     const minutes = Number(picked ? picked.value : 15);
-    void post(page.shelveId!, 'shelve', { reason, minutes }).then((reply) => {
+    void post(page.shelveTarget!, 'shelve', { reason, minutes }).then((reply) => {
       if (reply && reply.ok) dialog.close();
       else if (reply) byId('shelve-error').textContent = reply.body.message || 'Refused.';
     });
   });
 
-  const link = byId('link');
-  const events = new EventSource('/api/events');
-  events.addEventListener('open', () => {
-    link.textContent = 'live';
-    link.className = 'link';
-  });
-  events.addEventListener('error', () => {
-    link.textContent = 'connection lost — retrying';
-    link.className = 'link down';
-  });
-  ['alert', 'action', 'returned'].forEach((type) => events.addEventListener(type, soon));
+  openStream();
   // Relative times and charts move on even when no event arrives.
   setInterval(load, 10000);
   void load();
