@@ -16,12 +16,23 @@ import type { AlertEvent } from '../../libs/schema/alert-event.js';
 import { NOTICE } from '../../libs/schema/notice.js';
 import { FIXTURE_BASELINE } from '../support/alert-fixture.js';
 
-const ARGS = ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--no-first-run'];
+const ARGS = [
+  '--headless',
+  '--no-sandbox',
+  '--disable-gpu',
+  '--disable-background-networking',
+  '--no-first-run',
+];
 const ARTIFACTS = 'test-artifacts';
 const T0 = Date.parse('2026-06-03T09:00:00Z');
 const TOKEN = 'glaze-line-token-2026';
 
-function raised(id: string, sensor: string, minute: number, severity: AlertEvent['severity'] = 'warning'): AlertEvent {
+function raised(
+  id: string,
+  sensor: string,
+  minute: number,
+  severity: AlertEvent['severity'] = 'warning',
+): AlertEvent {
   const at = new Date(T0 + minute * 60_000).toISOString();
   return {
     id,
@@ -52,7 +63,13 @@ interface ApiAlert {
 async function startBoard(token: string | null): Promise<{ hub: BoardHub; board: RunningBoard }> {
   const clock = { wall: () => T0 + 10 * 60_000, plant: () => T0 + 10 * 60_000 };
   const hub = new BoardHub({ mode: 'live', clock, groupRule: { depth: 2, globs: [], windowMs: 5 * 60_000 } });
-  const board = await startBoardServer({ hub, metrics: createBoardMetrics(hub), host: '127.0.0.1', port: 0, token });
+  const board = await startBoardServer({
+    hub,
+    metrics: createBoardMetrics(hub),
+    host: '127.0.0.1',
+    port: 0,
+    token,
+  });
   return { hub, board };
 }
 
@@ -96,10 +113,9 @@ describe('board page: grouped alerts', () => {
     const firstOut = kiln.locator('li.card.first-out');
     expect(await firstOut.getAttribute('data-id')).toBe('b-gas');
     expect(await firstOut.locator('.first-out-tag').textContent()).toBe('FIRST-OUT');
-    expect(await kiln.locator('li.member').evaluateAll((rows) => rows.map((r) => r.getAttribute('data-id')))).toEqual([
-      'b-flame',
-      'b-exhaust',
-    ]);
+    expect(
+      await kiln.locator('li.member').evaluateAll((rows) => rows.map((r) => r.getAttribute('data-id'))),
+    ).toEqual(['b-flame', 'b-exhaust']);
     // The critical member makes the whole card critical.
     expect(await kiln.getAttribute('class')).toContain('critical');
     expect(await page.locator('#active li.card.group').count()).toBe(2);
@@ -111,11 +127,16 @@ describe('board page: grouped alerts', () => {
 
   it('acknowledging the group from the page acknowledges each member', async () => {
     await page.fill('#operator', 'Dalia Ferreira-Holm');
-    await page.locator('li.card.group[data-group="b-gas"] .group-actions button', { hasText: 'Acknowledge all 3' }).click();
+    await page
+      .locator('li.card.group[data-group="b-gas"] .group-actions button', { hasText: 'Acknowledge all 3' })
+      .click();
     await expect
       .poll(async () => {
         const list = (await (await fetch(running.board.url + '/api/alerts')).json()) as ApiAlert[];
-        return list.filter((a) => a.id.startsWith('b-')).map((a) => `${a.id}:${a.acknowledgedBy}`).sort();
+        return list
+          .filter((a) => a.id.startsWith('b-'))
+          .map((a) => `${a.id}:${a.acknowledgedBy}`)
+          .sort();
       })
       .toEqual(['b-exhaust:Dalia Ferreira-Holm', 'b-flame:Dalia Ferreira-Holm', 'b-gas:Dalia Ferreira-Holm']);
     const kiln = page.locator('li.card.group[data-group="b-gas"]');
@@ -143,12 +164,18 @@ describe('board page: grouped alerts', () => {
   });
 
   it('shelving the group from the page moves every member to Shelved as one group card', async () => {
-    await page.locator('li.card.group[data-group="b-gas"] .group-actions button', { hasText: 'Shelve group' }).click();
+    await page
+      .locator('li.card.group[data-group="b-gas"] .group-actions button', { hasText: 'Shelve group' })
+      .click();
     await page.fill('#shelve-reason', 'burner relight in progress');
     await page.click('#shelve-ok');
     await page.locator('#shelved li.card.group[data-group="b-gas"]').waitFor({ timeout: 15_000 });
     const list = (await (await fetch(running.board.url + '/api/alerts')).json()) as ApiAlert[];
-    expect(list.filter((a) => a.id.startsWith('b-')).map((a) => a.status)).toEqual(['shelved', 'shelved', 'shelved']);
+    expect(list.filter((a) => a.id.startsWith('b-')).map((a) => a.status)).toEqual([
+      'shelved',
+      'shelved',
+      'shelved',
+    ]);
     expect(problems).toEqual([]);
   });
 });

@@ -74,6 +74,8 @@ dialog fieldset label { display: inline-block; margin-right: 1rem; }
 .row { display: flex; gap: .6rem; justify-content: flex-end; }
 .token-prompt { color: var(--crit); font-weight: 600; font-size: .9rem; }
 .ack.later { color: var(--muted); font-size: .85rem; }
+.cards { align-items: start; }
+.card { align-content: start; }
 .card.group { gap: .5rem; background: #f9fafb; }
 .group-tag { font-weight: 700; font-size: .8rem; letter-spacing: .08em; padding: .05rem .45rem; border: 1px dashed var(--muted); border-radius: 3px; color: var(--muted); }
 .card.group ol { list-style: none; margin: 0; padding: 0; display: grid; gap: .4rem; }
