@@ -6,7 +6,7 @@ import { ByteReader, ByteWriter } from './bytes.js';
 import type { Fences } from './judge.js';
 import { isReason, SEVERITIES, type Reason } from '../schema/vocabulary.js';
 import { newLifecycle, type LifecycleState } from './lifecycle.js';
-import { SKETCH } from './sketch-params.js';
+import { openBins, SKETCH } from './sketch-params.js';
 import { SensorWindow, type Baseline } from './window.js';
 
 export class SensorState {
@@ -175,7 +175,7 @@ export function decodeSensorState(
       win.openMoments = om;
       win.openFirstTs = openFirstTs;
       win.openLastTs = openLastTs;
-      win.open = OpenDigest.restore(snap, SKETCH.openDelta, SKETCH.openCap);
+      win.open = OpenDigest.restore(snap, openBins(buckets), SKETCH.openCap);
       win.closed = closed;
       win.rebuildBaseline();
     } else {

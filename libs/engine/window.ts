@@ -12,13 +12,13 @@
  */
 import { addValue, emptyMoments, mergeMoments, sampleStdDev, type Moments } from '../stats/moments.js';
 import {
-  compressCentroids,
+  compressToBins,
   FrozenDigest,
   OpenDigest,
   roundForStorage,
   type Centroids,
 } from '../stats/digest.js';
-import { SKETCH } from './sketch-params.js';
+import { closedBins, openBins, SKETCH } from './sketch-params.js';
 
 export interface ClosedBucket {
   index: number;
@@ -60,7 +60,7 @@ export class SensorWindow {
     readonly buckets: number,
   ) {
     this.bucketMs = windowMs / buckets;
-    this.open = new OpenDigest(SKETCH.openDelta, SKETCH.openCap);
+    this.open = new OpenDigest(openBins(buckets), SKETCH.openCap);
   }
 
   /** True when ts is older than the window relative to the newest reading. */
@@ -103,7 +103,7 @@ export class SensorWindow {
         moments: this.openMoments,
         firstTs: this.openFirstTs,
         lastTs: this.openLastTs,
-        centroids: roundForStorage(compressCentroids([this.open.centroids()], SKETCH.closedDelta)),
+        centroids: roundForStorage(compressToBins([this.open.centroids()], closedBins(this.buckets))),
       });
       this.open.reset();
       this.openMoments = emptyMoments();
@@ -131,9 +131,9 @@ export class SensorWindow {
       if (b.lastTs > to) to = b.lastTs;
     }
     const digest = new FrozenDigest(
-      compressCentroids(
+      compressToBins(
         this.closed.map((b) => b.centroids),
-        SKETCH.baselineDelta,
+        SKETCH.baselineBins,
       ),
     );
     const q1 = digest.quantile(0.25);

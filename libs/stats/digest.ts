@@ -1,6 +1,9 @@
 /**
  * Quantile sketches for the rolling baseline: t-digests (Dunning and Ertl 2019) in the "merging"
- * form.
+ * form, with a uniform scale function (k0: every centroid covers at most an equal share of the
+ * ranks), because the fences hang on Q1 and Q3, where the usual tail-heavy scale functions are
+ * coarsest. `compressToBins` is the engine's compression; `compressCentroids` (the classic
+ * q(1 - q) bound) is kept as the reference design the accuracy tests and the bench compare with.
  *
  * - The open (filling) bucket appends readings to a small buffer; when the buffer is full it is
  *   sorted and merged into the bucket's centroids under the t-digest size bound. This is far
@@ -92,6 +95,68 @@ export function compressCentroids(parts: readonly Centroids[], delta: number): C
   }
   outMeans[out] = curMean;
   outCounts[out++] = curCount;
+  return { means: outMeans.slice(0, out), counts: outCounts.slice(0, out) };
+}
+
+/**
+ * Deterministic compression to at most `bins` centroids of equal rank share (a uniform scale
+ * function): walk the lists in mean order (k-way merge, ties to the earlier list) and give each
+ * centroid the bin floor(bins * midRank / total) of its own mid-rank; neighbours in one bin merge.
+ * Unlike a weight bound, this uses the whole allowance even when the input is unit weights, so a
+ * bucket holding fewer readings than `bins` stays exact and a bigger one keeps `bins` centroids.
+ */
+export function compressToBins(parts: readonly Centroids[], bins: number): Centroids {
+  const partCount = parts.length;
+  let len = 0;
+  let total = 0;
+  for (let p = 0; p < partCount; p++) {
+    len += parts[p].means.length;
+    total += totalCount(parts[p]);
+  }
+  if (len === 0) return EMPTY_CENTROIDS;
+  if (scratchMeans.length < len) {
+    scratchMeans = new Float64Array(len * 2);
+    scratchCounts = new Float64Array(len * 2);
+  }
+  const outMeans = scratchMeans;
+  const outCounts = scratchCounts;
+  const positions = new Int32Array(partCount);
+  const lastBin = bins - 1;
+  let out = 0;
+  let currentMean = 0;
+  let currentCount = 0;
+  let currentBin = -1;
+  let cumulative = 0;
+  for (let taken = 0; taken < len; taken++) {
+    let best = -1;
+    let bestMean = Infinity;
+    for (let p = 0; p < partCount; p++) {
+      const index = positions[p];
+      const means = parts[p].means;
+      if (index < means.length && (best < 0 || means[index] < bestMean)) {
+        best = p;
+        bestMean = means[index];
+      }
+    }
+    const count = parts[best].counts[positions[best]++];
+    const bin = Math.min(lastBin, Math.floor((bins * (cumulative + count / 2)) / total));
+    cumulative += count;
+    if (bin === currentBin) {
+      const merged = currentCount + count;
+      currentMean += ((bestMean - currentMean) * count) / merged;
+      currentCount = merged;
+      continue;
+    }
+    if (currentBin >= 0) {
+      outMeans[out] = currentMean;
+      outCounts[out++] = currentCount;
+    }
+    currentMean = bestMean;
+    currentCount = count;
+    currentBin = bin;
+  }
+  outMeans[out] = currentMean;
+  outCounts[out++] = currentCount;
   return { means: outMeans.slice(0, out), counts: outCounts.slice(0, out) };
 }
 
@@ -188,8 +253,8 @@ export interface OpenDigestSnapshot {
 }
 
 /**
- * The filling bucket's digest: a buffer of up to `bufferSize` raw readings merged into sorted
- * centroids whenever it fills. The state is only ever changed by `push` and by reading the
+ * The filling bucket's digest: a buffer of up to `bufferSize` raw readings merged into at most
+ * `bins` sorted centroids (compressToBins) whenever it fills. The state is only ever changed by `push` and by reading the
  * centroids at bucket close, never by encoding it, so a checkpointed run and an uninterrupted
  * run stay identical.
  */
@@ -199,7 +264,7 @@ export class OpenDigest {
   private bufLen = 0;
 
   constructor(
-    readonly delta: number,
+    readonly bins: number,
     readonly bufferSize: number,
   ) {
     this.buf = new Float64Array(bufferSize);
@@ -227,7 +292,7 @@ export class OpenDigest {
     const vals = this.buf.subarray(0, n).sort();
     this.bufLen = 0;
     if (ones.length < n) ones = new Float64Array(n).fill(1);
-    this.c = compressCentroids([this.c, { means: vals, counts: ones.subarray(0, n) }], this.delta);
+    this.c = compressToBins([this.c, { means: vals, counts: ones.subarray(0, n) }], this.bins);
   }
 
   /** Empty the digest for the next bucket, keeping its buffer. */
@@ -240,9 +305,9 @@ export class OpenDigest {
     return { means: this.c.means, counts: this.c.counts, buffer: this.buf.slice(0, this.bufLen) };
   }
 
-  static restore(s: OpenDigestSnapshot, delta: number, bufferSize: number): OpenDigest {
+  static restore(s: OpenDigestSnapshot, bins: number, bufferSize: number): OpenDigest {
     if (s.buffer.length >= bufferSize) throw new RangeError('open digest buffer larger than its capacity');
-    const o = new OpenDigest(delta, bufferSize);
+    const o = new OpenDigest(bins, bufferSize);
     o.c = { means: s.means, counts: s.counts };
     o.buf.set(s.buffer);
     o.bufLen = s.buffer.length;
