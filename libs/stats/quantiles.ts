@@ -47,10 +47,12 @@ export function exactRank(sorted: ArrayLike<number>, x: number): number {
 }
 
 /**
- * Quartile accuracy measure used by the tests and the bench: how far p lies outside the rank range
- * of the estimate x in sorted data, [share below x, share at or below x]. With `ties` (discrete
- * data, many equal values), an x between two data values gets the rank range of the values either
- * side, since any point between them is an equally good quantile of the data.
+ * Quantile accuracy measure used by the audit, the tests and the bench: how far p lies outside the
+ * rank range of the estimate x in sorted data, [share below x, share at or below x]; positive when x
+ * ranks above p, negative when below, 0 inside. With `ties` (data with many equal values), an x
+ * between two data values gets the rank range of the values either side, since any point between
+ * them is an equally good quantile of the data (and a stored mean a rounding step off a repeated
+ * value must not count as a whole tie group off).
  */
 export function rankRangeError(sorted: ArrayLike<number>, x: number, p: number, ties = false): number {
   const n = sorted.length;
@@ -77,5 +79,5 @@ export function rankRangeError(sorted: ArrayLike<number>, x: number, p: number, 
   }
   const from = below / n;
   const to = atOrBelow / n;
-  return p < from ? from - p : p > to ? p - to : 0;
+  return p < from ? from - p : p > to ? -(p - to) : 0;
 }

@@ -70,7 +70,7 @@ export function classicAccuracy(
     );
     const sorted = Float64Array.from(closed.flatMap((b) => b.values)).sort();
     for (const p of PROBES) {
-      const error = rankRangeError(sorted, digest.quantile(p), p, dist.ties);
+      const error = Math.abs(rankRangeError(sorted, digest.quantile(p), p, dist.ties));
       worst = Math.max(worst, error);
       sum += error;
       count++;

@@ -79,7 +79,7 @@ export function shippedAccuracy(
         );
         const estimates = [baseline.q1, baseline.median, baseline.q3];
         PROBES.forEach((p, k) => {
-          const error = rankRangeError(sorted, estimates[k], p, dist.ties);
+          const error = Math.abs(rankRangeError(sorted, estimates[k], p, dist.ties));
           worst = Math.max(worst, error);
           sum += error;
           count++;
