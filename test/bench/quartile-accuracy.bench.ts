@@ -8,7 +8,7 @@
  *
  * Designs:
  * - shipped: uniform bins (`compressToBins`): the window's closed buckets keep 1,800 centroids in
- *   all, the filling bucket twice its share, the baseline 300 (libs/engine/sketch-params.ts);
+ *   all, the filling bucket as many as a closed one, the baseline 300 (libs/engine/sketch-params.ts);
  * - classic: the t-digest bound 4 n delta q (1 - q) at delta 0.05 for the filling bucket, the
  *   closed bucket and the baseline (`compressCentroids`; the engine's design before this one).
  */
