@@ -7,10 +7,10 @@ import { SettingsResolver, type EngineConfig } from '../config/config.js';
 import { formatDuration } from '../config/duration.js';
 import type { SensorSettings } from '../config/settings.js';
 import type { AlertEvent } from '../schema/alert-event.js';
-import type { AlertState, Reason, Severity } from '../schema/vocabulary.js';
+import type { AlertState } from '../schema/vocabulary.js';
 import { NOTICE } from '../schema/notice.js';
 import { fencesOf, judge, robustZ, zScore, type Verdict } from './judge.js';
-import { step } from './lifecycle.js';
+import { step, type ActiveAlert } from './lifecycle.js';
 import { alertMessage } from './alert-wording.js';
 import type { Reading } from './reading.js';
 import type { SensorBudget } from './sensor-budget.js';
@@ -69,120 +69,129 @@ export class Engine {
     return this.resolver.resolve(sensor);
   }
 
-  /** Judge one validated reading and advance its sensor's state. */
-  process(r: Reading): ProcessOutcome {
-    let st = this.states.get(r.sensor);
-    if (st === undefined) {
+  /**
+   * Judge one validated reading and advance its sensor's state. The only path from a reading to
+   * alert events: replay, the live monitor, tune workers and the demo all call it.
+   *
+   * @example
+   * const engine = new Engine(validateConfig({ defaults: { window: '1h' } }));
+   * const outcome = engine.process({ sensor: 'line-1/pump/temp', ts: Date.parse('2026-03-01T08:00:00Z'), value: 71.4 });
+   * if (outcome.accepted) for (const event of outcome.events) publish(event); // raised/updated/cleared
+   * else keepRejected(outcome.reason, outcome.detail); // 'late' or 'sensor_limit'
+   */
+  process(reading: Reading): ProcessOutcome {
+    let state = this.states.get(reading.sensor);
+    if (state === undefined) {
       if (!this.admit()) {
         return {
           accepted: false,
           reason: 'sensor_limit',
-          detail: `sensor "${r.sensor}" is new, and state is already held for the limit of ${this.budget!.limit} sensors (raise --max-sensors, or find the producer that puts changing values into sensor ids)`,
+          detail: `sensor "${reading.sensor}" is new, and state is already held for the limit of ${this.budget!.limit} sensors (raise --max-sensors, or find the producer that puts changing values into sensor ids)`,
           events: NO_EVENTS,
         };
       }
-      st = new SensorState(r.sensor, this.resolver.resolve(r.sensor));
-      this.states.set(r.sensor, st);
+      state = new SensorState(reading.sensor, this.resolver.resolve(reading.sensor));
+      this.states.set(reading.sensor, state);
     }
-    const s = st.settings;
-    const w = st.window;
-    if (w.isLate(r.ts)) {
+    const settings = state.settings;
+    const window = state.window;
+    if (window.isLate(reading.ts)) {
       this.counters.late++;
       return {
         accepted: false,
         reason: 'late',
-        detail: `reading at ${iso(r.ts)} is older than the ${formatDuration(s.window)} window before the sensor's newest reading ${iso(w.newestTs)}`,
+        detail: `reading at ${iso(reading.ts)} is older than the ${formatDuration(settings.window)} window before the sensor's newest reading ${iso(window.newestTs)}`,
         events: NO_EVENTS,
       };
     }
-    w.advance(r.ts);
-    if (r.ts > this.watermark) this.watermark = r.ts;
-    const b = w.baseline();
-    if (b !== st.fencesFor) {
-      st.fencesFor = b;
-      st.fences = b === null ? null : fencesOf(b, s);
+    window.advance(reading.ts);
+    if (reading.ts > this.watermark) this.watermark = reading.ts;
+    const baseline = window.baseline();
+    if (baseline !== state.fencesFor) {
+      state.fencesFor = baseline;
+      state.fences = baseline === null ? null : fencesOf(baseline, settings);
     }
-    if (r.value === st.lastValue) st.stuckRun++;
+    if (reading.value === state.lastValue) state.stuckRun++;
     else {
-      st.stuckRun = 1;
-      st.lastValue = r.value;
+      state.stuckRun = 1;
+      state.lastValue = reading.value;
     }
-    st.seen++;
-    const c = this.counters;
-    c.readings++;
+    state.seen++;
+    const counters = this.counters;
+    counters.readings++;
 
-    const v = judge(r.value, s, b, st.fences, st.stuckRun);
-    if (v.evaluated) c.evaluated++;
-    if (v.flagged || v.fenceHit || v.zHit) {
-      if (v.fenceHit) c.flagged.fence++;
-      if (v.outerHit) c.flagged.outerFence++;
-      if (v.zHit) c.flagged.z++;
-      if (v.flagged) c.flagged.any++;
+    const verdict = judge(reading.value, settings, baseline, state.fences, state.stuckRun);
+    if (verdict.evaluated) counters.evaluated++;
+    if (verdict.flagged || verdict.fenceHit || verdict.zHit) {
+      if (verdict.fenceHit) counters.flagged.fence++;
+      if (verdict.outerHit) counters.flagged.outerFence++;
+      if (verdict.zHit) counters.flagged.z++;
+      if (verdict.flagged) counters.flagged.any++;
     }
 
-    const life = st.life;
+    const life = state.life;
     const before = life.active;
-    const t = step(life, s, v.flagged, v.severity, v.reasons, r.sensor, r.ts, st.seen);
+    const transition = step(life, settings, {
+      sensor: reading.sensor,
+      ts: reading.ts,
+      seen: state.seen,
+      verdict,
+    });
 
     // Readings that raise, continue or clear an alert feed the baseline only when configured to.
-    if (s.learnWhileRaised || (before === null && life.active === null)) w.add(r.ts, r.value);
+    if (settings.learnWhileRaised || (before === null && life.active === null))
+      window.add(reading.ts, reading.value);
 
-    if (t === null) return { accepted: true, verdict: v, events: NO_EVENTS };
-    c.alerts[t]++;
-    const alert = t === 'cleared' ? before! : life.active!;
-    return { accepted: true, verdict: v, events: [this.makeEvent(st, r, t, alert)] };
+    if (transition === null) return { accepted: true, verdict, events: NO_EVENTS };
+    counters.alerts[transition]++;
+    const alert = transition === 'cleared' ? before! : life.active!;
+    return { accepted: true, verdict, events: [this.makeEvent(state, reading, transition, alert)] };
   }
 
   private makeEvent(
-    st: SensorState,
-    r: Reading,
-    state: AlertState,
-    a: {
-      id: string;
-      severity: Severity;
-      reasons: Reason[];
-      raisedTs: number;
-      flaggedReadings: number;
-    },
+    state: SensorState,
+    reading: Reading,
+    transition: AlertState,
+    alert: ActiveAlert,
   ): AlertEvent {
-    const b = st.window.baseline();
-    const f = st.fences;
-    const warm = b !== null;
+    const baseline = state.window.baseline();
+    const fences = state.fences;
+    const warm = baseline !== null;
     const body = {
-      sensor: st.sensor,
-      state,
-      severity: a.severity,
-      reasons: state === 'cleared' ? [] : [...a.reasons],
-      value: r.value,
-      ts: iso(r.ts),
-      since: iso(a.raisedTs),
-      flaggedReadings: a.flaggedReadings,
+      sensor: state.sensor,
+      state: transition,
+      severity: alert.severity,
+      reasons: transition === 'cleared' ? [] : [...alert.reasons],
+      value: reading.value,
+      ts: iso(reading.ts),
+      since: iso(alert.raisedTs),
+      flaggedReadings: alert.flaggedReadings,
       baseline: {
-        q1: warm ? b.q1 : null,
-        median: warm ? b.median : null,
-        q3: warm ? b.q3 : null,
-        iqr: warm ? b.iqr : null,
-        lowerFence: f ? f.lower : null,
-        upperFence: f ? f.upper : null,
-        lowerOuterFence: f ? f.lowerOuter : null,
-        upperOuterFence: f ? f.upperOuter : null,
-        mean: warm ? b.mean : null,
-        stdDev: warm ? b.stdDev : null,
-        count: warm ? b.count : 0,
-        from: warm ? iso(b.from) : null,
-        to: warm ? iso(b.to) : null,
+        q1: warm ? baseline.q1 : null,
+        median: warm ? baseline.median : null,
+        q3: warm ? baseline.q3 : null,
+        iqr: warm ? baseline.iqr : null,
+        lowerFence: fences ? fences.lower : null,
+        upperFence: fences ? fences.upper : null,
+        lowerOuterFence: fences ? fences.lowerOuter : null,
+        upperOuterFence: fences ? fences.upperOuter : null,
+        mean: warm ? baseline.mean : null,
+        stdDev: warm ? baseline.stdDev : null,
+        count: warm ? baseline.count : 0,
+        from: warm ? iso(baseline.from) : null,
+        to: warm ? iso(baseline.to) : null,
       },
-      z: warm ? zScore(r.value, b) : null,
-      robustZ: warm ? robustZ(r.value, b) : null,
-      percentileRank: warm ? b.digest.rank(r.value) * 100 : null,
+      z: warm ? zScore(reading.value, baseline) : null,
+      robustZ: warm ? robustZ(reading.value, baseline) : null,
+      percentileRank: warm ? baseline.digest.rank(reading.value) * 100 : null,
     };
     const message = alertMessage({
       ...body,
-      min: st.settings.min,
-      max: st.settings.max,
-      stuckRun: st.stuckRun,
+      min: state.settings.min,
+      max: state.settings.max,
+      stuckRun: state.stuckRun,
     });
-    return { id: a.id, ...body, message, notice: NOTICE };
+    return { id: alert.id, ...body, message, notice: NOTICE };
   }
 
   /** Sensors with state in this engine. */
@@ -199,24 +208,24 @@ export class Engine {
   }
 
   activeAlertCount(): number {
-    let n = 0;
-    for (const st of this.states.values()) if (st.life.active !== null) n++;
-    return n;
+    let active = 0;
+    for (const state of this.states.values()) if (state.life.active !== null) active++;
+    return active;
   }
 
   encode(sensor: string): Uint8Array | null {
-    const st = this.states.get(sensor);
-    return st === undefined ? null : encodeSensorState(st);
+    const state = this.states.get(sensor);
+    return state === undefined ? null : encodeSensorState(state);
   }
 
   /** Install a sensor's state decoded from `encode` output (replacing what was there). */
   restore(bytes: Uint8Array): SensorState {
-    const st = decodeSensorState(bytes, (sensor) => this.resolver.resolve(sensor));
+    const state = decodeSensorState(bytes, (sensor) => this.resolver.resolve(sensor));
     // Restored state is never refused (that would lose it); it counts against the budget all the same.
-    if (!this.states.has(st.sensor)) this.budget?.add(1);
-    this.states.set(st.sensor, st);
-    if (st.window.newestTs > this.watermark) this.watermark = st.window.newestTs;
-    return st;
+    if (!this.states.has(state.sensor)) this.budget?.add(1);
+    this.states.set(state.sensor, state);
+    if (state.window.newestTs > this.watermark) this.watermark = state.window.newestTs;
+    return state;
   }
 
   /** Drop a sensor's in-memory state (e.g. when its partition is revoked). */
@@ -245,17 +254,17 @@ export class Engine {
    */
   evictIdle(): number {
     this.sweptAt = this.watermark;
-    let n = 0;
-    for (const [sensor, st] of this.states) {
-      if (st.life.active !== null) continue;
-      if (this.watermark - st.window.newestTs <= st.settings.window) continue;
+    let evicted = 0;
+    for (const [sensor, state] of this.states) {
+      if (state.life.active !== null) continue;
+      if (this.watermark - state.window.newestTs <= state.settings.window) continue;
       this.states.delete(sensor);
       this.evicted.push(sensor);
-      n++;
+      evicted++;
     }
-    this.budget?.release(n);
-    this.evictedTotal += n;
-    return n;
+    this.budget?.release(evicted);
+    this.evictedTotal += evicted;
+    return evicted;
   }
 
   /** Ids evicted since the last call. */

@@ -8,8 +8,10 @@
  */
 import type { SensorSettings } from '../config/settings.js';
 import { alertId } from './alert-id.js';
+import type { Verdict } from './judge.js';
 import { severityRank, type AlertState, type Reason, type Severity } from '../schema/vocabulary.js';
 
+/** A raised alert of one sensor, as its lifecycle tracks it. */
 export interface ActiveAlert {
   id: string;
   severity: Severity;
@@ -21,6 +23,7 @@ export interface ActiveAlert {
   easeRun: number;
 }
 
+/** The debounce ring and the raised alert, if any, of one sensor (encoded with its state). */
 export interface LifecycleState {
   /** Ring of the last raiseWindow flags (1 = flagged). */
   ring: Uint8Array;
@@ -29,40 +32,44 @@ export interface LifecycleState {
   active: ActiveAlert | null;
 }
 
+/** What one reading did to the alert: raised, updated or cleared it, or nothing (null). */
 export type Transition = AlertState | null;
 
-export function newLifecycle(s: SensorSettings): LifecycleState {
-  return { ring: new Uint8Array(s.raiseWindow), ringPos: 0, ringFlagged: 0, active: null };
+/** A sensor's lifecycle before its first reading: empty ring, no alert. */
+export function newLifecycle(settings: SensorSettings): LifecycleState {
+  return { ring: new Uint8Array(settings.raiseWindow), ringPos: 0, ringFlagged: 0, active: null };
+}
+
+/** One judged reading, as the lifecycle needs it. */
+export interface LifecycleStep {
+  sensor: string;
+  /** Event time, epoch ms. */
+  ts: number;
+  /** The reading's lifetime position for its sensor (with sensor and ts, it makes the alert id). */
+  seen: number;
+  verdict: Pick<Verdict, 'flagged' | 'severity' | 'reasons'>;
 }
 
 /**
- * Advance the lifecycle by one judged reading (`seen` is its lifetime position, part of the id).
- * Returns the transition, if any; the state is updated in place.
+ * Advance the lifecycle by one judged reading. Returns the transition, if any; `life` is updated
+ * in place.
  */
-export function step(
-  st: LifecycleState,
-  s: SensorSettings,
-  flagged: boolean,
-  severity: Severity | null,
-  reasons: Reason[],
-  sensor: string,
-  ts: number,
-  seen: number,
-): Transition {
+export function step(life: LifecycleState, settings: SensorSettings, reading: LifecycleStep): Transition {
+  const { flagged, severity, reasons } = reading.verdict;
   const bit = flagged ? 1 : 0;
-  st.ringFlagged += bit - st.ring[st.ringPos];
-  st.ring[st.ringPos] = bit;
-  st.ringPos = (st.ringPos + 1) % st.ring.length;
+  life.ringFlagged += bit - life.ring[life.ringPos];
+  life.ring[life.ringPos] = bit;
+  life.ringPos = (life.ringPos + 1) % life.ring.length;
 
-  const a = st.active;
-  if (a === null) {
-    if (flagged && st.ringFlagged >= s.raiseAfter) {
-      st.active = {
-        id: alertId(sensor, ts, seen),
+  const alert = life.active;
+  if (alert === null) {
+    if (flagged && life.ringFlagged >= settings.raiseAfter) {
+      life.active = {
+        id: alertId(reading.sensor, reading.ts, reading.seen),
         severity: severity!,
         reasons,
-        raisedTs: ts,
-        flaggedReadings: st.ringFlagged,
+        raisedTs: reading.ts,
+        flaggedReadings: life.ringFlagged,
         clearRun: 0,
         easeRun: 0,
       };
@@ -71,27 +78,27 @@ export function step(
     return null;
   }
   if (flagged) {
-    a.clearRun = 0;
-    a.flaggedReadings += 1;
-    const worse = severityRank(severity) > severityRank(a.severity);
-    const milder = severityRank(severity) < severityRank(a.severity);
-    a.easeRun = milder ? a.easeRun + 1 : 0;
-    if (worse || (milder && a.easeRun >= s.clearAfter)) {
-      a.severity = severity!;
-      a.reasons = reasons;
-      a.easeRun = 0;
+    alert.clearRun = 0;
+    alert.flaggedReadings += 1;
+    const worse = severityRank(severity) > severityRank(alert.severity);
+    const milder = severityRank(severity) < severityRank(alert.severity);
+    alert.easeRun = milder ? alert.easeRun + 1 : 0;
+    if (worse || (milder && alert.easeRun >= settings.clearAfter)) {
+      alert.severity = severity!;
+      alert.reasons = reasons;
+      alert.easeRun = 0;
       return 'updated';
     }
-    if (!milder) a.reasons = reasons;
+    if (!milder) alert.reasons = reasons;
     return null;
   }
-  a.easeRun += 1;
-  a.clearRun += 1;
-  if (a.clearRun >= s.clearAfter) {
+  alert.easeRun += 1;
+  alert.clearRun += 1;
+  if (alert.clearRun >= settings.clearAfter) {
     // Forget the debounce history so flags from before the clear cannot re-raise at once.
-    st.ring.fill(0);
-    st.ringFlagged = 0;
-    st.active = null;
+    life.ring.fill(0);
+    life.ringFlagged = 0;
+    life.active = null;
     return 'cleared';
   }
   return null;

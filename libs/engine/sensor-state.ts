@@ -1,14 +1,13 @@
 /** Everything the engine knows about one sensor, and its compact versioned encoding. */
 import { StreamfenceError } from '../errors/index.js';
 import type { SensorSettings } from '../config/settings.js';
-import { OpenDigest } from '../stats/digest.js';
 import { ByteReader, ByteWriter } from './bytes.js';
 import type { Fences } from './judge.js';
 import { isReason, SEVERITIES, type Reason } from '../schema/vocabulary.js';
 import { newLifecycle, type LifecycleState } from './lifecycle.js';
-import { openBins, SKETCH } from './sketch-params.js';
-import { SensorWindow, type Baseline } from './window.js';
+import { SensorWindow, type Baseline, type ClosedBucket, type WindowSnapshot } from './window.js';
 
+/** Everything the engine knows about one sensor: counters, its rolling window, its alert lifecycle. */
 export class SensorState {
   /** Lifetime accepted readings. */
   seen = 0;
@@ -21,206 +20,230 @@ export class SensorState {
   fencesFor: Baseline | null = null;
   fences: Fences | null = null;
 
+  /** A new sensor, or (decodeSensorState) one whose window was restored from its encoding. */
   constructor(
     readonly sensor: string,
     readonly settings: SensorSettings,
+    window: SensorWindow = new SensorWindow(settings.window, settings.buckets),
   ) {
-    this.window = new SensorWindow(settings.window, settings.buckets);
+    this.window = window;
     this.life = newLifecycle(settings);
   }
 }
 
 const MAGIC_0 = 0x53; // 'S'
 const MAGIC_1 = 0x46; // 'F'
+/** Bump whenever the encoding changes: a state of another version is refused, never misread. */
 export const STATE_VERSION = 3;
 
 // Reused across calls: encoding is synchronous, and checkpoints encode thousands of sensors at once.
-const writer = new ByteWriter();
+const sharedWriter = new ByteWriter();
 
-export function encodeSensorState(st: SensorState): Uint8Array {
-  const w = writer;
-  w.reset();
-  w.u8(MAGIC_0);
-  w.u8(MAGIC_1);
-  w.u8(STATE_VERSION);
-  w.str(st.sensor);
-  w.uvar(st.seen);
-  w.f64(st.lastValue);
-  w.uvar(st.stuckRun);
+/**
+ * The state's bytes: magic 'SF', STATE_VERSION, the sensor's counters, its window, its lifecycle.
+ * Encoding never changes the state, and decoding the bytes then continuing gives the same events
+ * as never stopping (the exact-state invariant).
+ */
+export function encodeSensorState(state: SensorState): Uint8Array {
+  const out = sharedWriter;
+  out.reset();
+  out.u8(MAGIC_0);
+  out.u8(MAGIC_1);
+  out.u8(STATE_VERSION);
+  out.str(state.sensor);
+  out.uvar(state.seen);
+  out.f64(state.lastValue);
+  out.uvar(state.stuckRun);
+  writeWindow(out, state.window);
+  writeLifecycle(out, state.life);
+  return out.bytes();
+}
 
-  const win = st.window;
-  w.f64(win.windowMs);
-  w.uvar(win.buckets);
-  w.f64(win.newestTs);
-  w.f64(win.openIndex);
-  w.f64(win.openMoments.n);
-  w.f64(win.openMoments.mean);
-  w.f64(win.openMoments.m2);
-  w.f64(win.openFirstTs);
-  w.f64(win.openLastTs);
-  const snap = win.open.snapshot();
-  w.uvar(snap.means.length);
-  for (let i = 0; i < snap.means.length; i++) {
-    w.f64(snap.means[i]);
-    w.uvar(snap.counts[i]);
+function writeWindow(out: ByteWriter, window: SensorWindow): void {
+  out.f64(window.windowMs);
+  out.uvar(window.buckets);
+  out.f64(window.newestTs);
+  out.f64(window.openIndex);
+  out.f64(window.openMoments.n);
+  out.f64(window.openMoments.mean);
+  out.f64(window.openMoments.m2);
+  out.f64(window.openFirstTs);
+  out.f64(window.openLastTs);
+  const open = window.open.snapshot();
+  out.uvar(open.means.length);
+  for (let i = 0; i < open.means.length; i++) {
+    out.f64(open.means[i]);
+    out.uvar(open.counts[i]);
   }
-  w.uvar(snap.buffer.length);
-  for (let i = 0; i < snap.buffer.length; i++) w.f64(snap.buffer[i]);
-  w.uvar(win.closed.length);
-  for (const b of win.closed) {
-    w.f64(b.index);
-    w.f64(b.moments.n);
-    w.f64(b.moments.mean);
-    w.f64(b.moments.m2);
-    w.f64(b.firstTs);
-    w.f64(b.lastTs);
+  out.uvar(open.buffer.length);
+  for (let i = 0; i < open.buffer.length; i++) out.f64(open.buffer[i]);
+  out.uvar(window.closed.length);
+  for (const bucket of window.closed) {
+    out.f64(bucket.index);
+    out.f64(bucket.moments.n);
+    out.f64(bucket.moments.mean);
+    out.f64(bucket.moments.m2);
+    out.f64(bucket.firstTs);
+    out.f64(bucket.lastTs);
     // Closed means were rounded by roundForStorage: the first as a double, then single-precision steps.
-    const { means, counts } = b.centroids;
-    w.uvar(means.length);
+    const { means, counts } = bucket.centroids;
+    out.uvar(means.length);
     for (let i = 0; i < means.length; i++) {
-      if (i === 0) w.f64(means[0]);
-      else w.f32(means[i] - means[i - 1]);
-      w.uvar(counts[i]);
+      if (i === 0) out.f64(means[0]);
+      else out.f32(means[i] - means[i - 1]);
+      out.uvar(counts[i]);
     }
   }
+}
 
-  const life = st.life;
-  w.uvar(life.ring.length);
-  for (let i = 0; i < life.ring.length; i++) w.u8(life.ring[i]);
-  w.uvar(life.ringPos);
-  w.uvar(life.ringFlagged);
-  const a = life.active;
-  w.u8(a ? 1 : 0);
-  if (a) {
-    w.str(a.id);
-    w.u8(SEVERITIES.indexOf(a.severity));
-    w.uvar(a.reasons.length);
-    for (const r of a.reasons) w.str(r);
-    w.f64(a.raisedTs);
-    w.uvar(a.flaggedReadings);
-    w.uvar(a.clearRun);
-    w.uvar(a.easeRun);
+function writeLifecycle(out: ByteWriter, life: LifecycleState): void {
+  out.uvar(life.ring.length);
+  for (let i = 0; i < life.ring.length; i++) out.u8(life.ring[i]);
+  out.uvar(life.ringPos);
+  out.uvar(life.ringFlagged);
+  const active = life.active;
+  out.u8(active ? 1 : 0);
+  if (active) {
+    out.str(active.id);
+    out.u8(SEVERITIES.indexOf(active.severity));
+    out.uvar(active.reasons.length);
+    for (const reason of active.reasons) out.str(reason);
+    out.f64(active.raisedTs);
+    out.uvar(active.flaggedReadings);
+    out.uvar(active.clearRun);
+    out.uvar(active.easeRun);
   }
-  return w.bytes();
 }
 
 /**
  * Decode a sensor's state. When the sensor's window or bucket count changed in the config since
  * the state was written, the baseline is restarted (it cannot be re-bucketed) while the lifetime
  * count and any raised alert are kept. Likewise a changed raiseWindow restarts the debounce ring.
+ *
+ * @throws StreamfenceError STATE_CORRUPT (not a state, trailing bytes, unknown reason) or
+ *   STATE_VERSION (written by a build with another encoding).
  */
 export function decodeSensorState(
   bytes: Uint8Array,
   resolve: (sensor: string) => SensorSettings,
 ): SensorState {
   try {
-    const r = new ByteReader(bytes);
-    if (r.u8() !== MAGIC_0 || r.u8() !== MAGIC_1)
+    const input = new ByteReader(bytes);
+    if (input.u8() !== MAGIC_0 || input.u8() !== MAGIC_1)
       throw new StreamfenceError('STATE_CORRUPT', 'not a streamfence sensor state');
-    const version = r.u8();
+    const version = input.u8();
     if (version !== STATE_VERSION) {
       throw new StreamfenceError(
         'STATE_VERSION',
         `sensor state version ${version} is not supported by this build (expects ${STATE_VERSION})`,
       );
     }
-    const sensor = r.str();
+    const sensor = input.str();
     const settings = resolve(sensor);
-    const st = new SensorState(sensor, settings);
-    st.seen = r.uvar();
-    st.lastValue = r.f64();
-    st.stuckRun = r.uvar();
-
-    const windowMs = r.f64();
-    const buckets = r.uvar();
-    const win = st.window;
-    const sameShape = windowMs === settings.window && buckets === settings.buckets;
-    const newestTs = r.f64();
-    const openIndex = r.f64();
-    const om = { n: r.f64(), mean: r.f64(), m2: r.f64() };
-    const openFirstTs = r.f64();
-    const openLastTs = r.f64();
-    const size = r.uvar();
-    const snap = {
-      means: new Float64Array(size),
-      counts: new Float64Array(size),
-      buffer: new Float64Array(0),
-    };
-    for (let i = 0; i < size; i++) {
-      snap.means[i] = r.f64();
-      snap.counts[i] = r.uvar();
-    }
-    const buffered = r.uvar();
-    snap.buffer = new Float64Array(buffered);
-    for (let i = 0; i < buffered; i++) snap.buffer[i] = r.f64();
-    const closedCount = r.uvar();
-    const closed = [];
-    for (let k = 0; k < closedCount; k++) {
-      const index = r.f64();
-      const moments = { n: r.f64(), mean: r.f64(), m2: r.f64() };
-      const firstTs = r.f64();
-      const lastTs = r.f64();
-      const len = r.uvar();
-      const means = new Float64Array(len);
-      const counts = new Float64Array(len);
-      for (let i = 0; i < len; i++) {
-        means[i] = i === 0 ? r.f64() : means[i - 1] + r.f32();
-        counts[i] = r.uvar();
-      }
-      closed.push({ index, moments, firstTs, lastTs, centroids: { means, counts } });
-    }
-    if (sameShape) {
-      win.newestTs = newestTs;
-      win.openIndex = openIndex;
-      win.openMoments = om;
-      win.openFirstTs = openFirstTs;
-      win.openLastTs = openLastTs;
-      win.open = OpenDigest.restore(snap, openBins(buckets), SKETCH.openCap);
-      win.closed = closed;
-      win.rebuildBaseline();
-    } else {
-      win.newestTs = newestTs;
-    }
-
-    const ringLen = r.uvar();
-    const ring = new Uint8Array(ringLen);
-    for (let i = 0; i < ringLen; i++) ring[i] = r.u8();
-    const ringPos = r.uvar();
-    const ringFlagged = r.uvar();
-    if (ringLen === settings.raiseWindow) {
-      st.life.ring = ring;
-      st.life.ringPos = ringPos;
-      st.life.ringFlagged = ringFlagged;
-    }
-    if (r.u8() === 1) {
-      const id = r.str();
-      const severity = SEVERITIES[r.u8()];
-      const reasonCount = r.uvar();
-      const reasons: Reason[] = [];
-      for (let i = 0; i < reasonCount; i++) {
-        const reason = r.str();
-        if (!isReason(reason))
-          throw new StreamfenceError(
-            'STATE_CORRUPT',
-            `sensor state for "${sensor}" has an unknown reason "${reason}"`,
-          );
-        reasons.push(reason);
-      }
-      st.life.active = {
-        id,
-        severity,
-        reasons,
-        raisedTs: r.f64(),
-        flaggedReadings: r.uvar(),
-        clearRun: r.uvar(),
-        easeRun: r.uvar(),
-      };
-    }
-    if (!r.done)
+    const seen = input.uvar();
+    const lastValue = input.f64();
+    const stuckRun = input.uvar();
+    const window = SensorWindow.restore(settings.window, settings.buckets, readWindow(input));
+    const state = new SensorState(sensor, settings, window);
+    state.seen = seen;
+    state.lastValue = lastValue;
+    state.stuckRun = stuckRun;
+    readLifecycle(input, state.life, settings, sensor);
+    if (!input.done)
       throw new StreamfenceError('STATE_CORRUPT', `sensor state for "${sensor}" has trailing bytes`);
-    return st;
+    return state;
   } catch (e) {
     if (e instanceof StreamfenceError) throw e;
     throw new StreamfenceError('STATE_CORRUPT', `sensor state could not be decoded: ${(e as Error).message}`);
   }
+}
+
+function readWindow(input: ByteReader): WindowSnapshot {
+  const windowMs = input.f64();
+  const buckets = input.uvar();
+  const newestTs = input.f64();
+  const openIndex = input.f64();
+  const openMoments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
+  const openFirstTs = input.f64();
+  const openLastTs = input.f64();
+  const centroidCount = input.uvar();
+  const means = new Float64Array(centroidCount);
+  const counts = new Float64Array(centroidCount);
+  for (let i = 0; i < centroidCount; i++) {
+    means[i] = input.f64();
+    counts[i] = input.uvar();
+  }
+  const buffer = new Float64Array(input.uvar());
+  for (let i = 0; i < buffer.length; i++) buffer[i] = input.f64();
+  const closedCount = input.uvar();
+  const closed: ClosedBucket[] = [];
+  for (let k = 0; k < closedCount; k++) closed.push(readClosedBucket(input));
+  return {
+    windowMs,
+    buckets,
+    newestTs,
+    openIndex,
+    openMoments,
+    openFirstTs,
+    openLastTs,
+    open: { means, counts, buffer },
+    closed,
+  };
+}
+
+function readClosedBucket(input: ByteReader): ClosedBucket {
+  const index = input.f64();
+  const moments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
+  const firstTs = input.f64();
+  const lastTs = input.f64();
+  const length = input.uvar();
+  const means = new Float64Array(length);
+  const counts = new Float64Array(length);
+  for (let i = 0; i < length; i++) {
+    means[i] = i === 0 ? input.f64() : means[i - 1] + input.f32();
+    counts[i] = input.uvar();
+  }
+  return { index, moments, firstTs, lastTs, centroids: { means, counts } };
+}
+
+/** Read the lifecycle into `life` (fresh from the settings); a ring of another length is dropped. */
+function readLifecycle(
+  input: ByteReader,
+  life: LifecycleState,
+  settings: SensorSettings,
+  sensor: string,
+): void {
+  const ringLength = input.uvar();
+  const ring = new Uint8Array(ringLength);
+  for (let i = 0; i < ringLength; i++) ring[i] = input.u8();
+  const ringPos = input.uvar();
+  const ringFlagged = input.uvar();
+  if (ringLength === settings.raiseWindow) {
+    life.ring = ring;
+    life.ringPos = ringPos;
+    life.ringFlagged = ringFlagged;
+  }
+  if (input.u8() !== 1) return;
+  const id = input.str();
+  const severity = SEVERITIES[input.u8()];
+  const reasonCount = input.uvar();
+  const reasons: Reason[] = [];
+  for (let i = 0; i < reasonCount; i++) {
+    const reason = input.str();
+    if (!isReason(reason))
+      throw new StreamfenceError(
+        'STATE_CORRUPT',
+        `sensor state for "${sensor}" has an unknown reason "${reason}"`,
+      );
+    reasons.push(reason);
+  }
+  life.active = {
+    id,
+    severity,
+    reasons,
+    raisedTs: input.f64(),
+    flaggedReadings: input.uvar(),
+    clearRun: input.uvar(),
+    easeRun: input.uvar(),
+  };
 }

@@ -17,6 +17,7 @@ import {
   OpenDigest,
   roundForStorage,
   type Centroids,
+  type OpenDigestSnapshot,
 } from '../stats/digest.js';
 import { closedBins, openBins, SKETCH } from './sketch-params.js';
 
@@ -42,6 +43,29 @@ export interface Baseline {
   to: number;
 }
 
+/** Everything a window holds, as the state encoding stores it (see sensor-state.ts). */
+export interface WindowSnapshot {
+  windowMs: number;
+  buckets: number;
+  newestTs: number;
+  openIndex: number;
+  openMoments: Moments;
+  openFirstTs: number;
+  openLastTs: number;
+  open: OpenDigestSnapshot;
+  closed: ClosedBucket[];
+}
+
+/**
+ * The rolling event-time window of one sensor: the open bucket being filled, the closed buckets
+ * of the last `windowMs`, and the baseline built from the closed ones.
+ *
+ * @example
+ * const window = new SensorWindow(24 * 3600_000, 24);
+ * window.advance(ts); // rolls buckets when ts enters a later one
+ * const baseline = window.baseline(); // judge against this, then:
+ * window.add(ts, value);
+ */
 export class SensorWindow {
   readonly bucketMs: number;
   /** Index (ts / bucketMs) of the open bucket; -1 before the first reading. */
@@ -63,6 +87,25 @@ export class SensorWindow {
     this.open = new OpenDigest(openBins(buckets), SKETCH.openCap);
   }
 
+  /**
+   * The window a snapshot describes, baseline rebuilt. A snapshot of another shape (the sensor's
+   * window or bucket count changed in the config since) cannot be re-bucketed: the window starts
+   * empty at `windowMs`/`buckets` and keeps only the newest event time, so lateness still holds.
+   */
+  static restore(windowMs: number, buckets: number, saved: WindowSnapshot): SensorWindow {
+    const window = new SensorWindow(windowMs, buckets);
+    window.newestTs = saved.newestTs;
+    if (saved.windowMs !== windowMs || saved.buckets !== buckets) return window;
+    window.openIndex = saved.openIndex;
+    window.openMoments = saved.openMoments;
+    window.openFirstTs = saved.openFirstTs;
+    window.openLastTs = saved.openLastTs;
+    window.open = OpenDigest.restore(saved.open, openBins(buckets), SKETCH.openCap);
+    window.closed = saved.closed;
+    window.rebuildBaseline();
+    return window;
+  }
+
   /** True when ts is older than the window relative to the newest reading. */
   isLate(ts: number): boolean {
     return this.newestTs >= 0 && ts < this.newestTs - this.windowMs;
@@ -71,12 +114,12 @@ export class SensorWindow {
   /** Move event time forward to ts, rolling buckets as needed. Call before judging. */
   advance(ts: number): void {
     if (ts > this.newestTs) this.newestTs = ts;
-    const idx = Math.floor(ts / this.bucketMs);
+    const bucketIndex = Math.floor(ts / this.bucketMs);
     if (this.openIndex < 0) {
-      this.openIndex = idx;
+      this.openIndex = bucketIndex;
       return;
     }
-    if (idx > this.openIndex) this.roll(idx);
+    if (bucketIndex > this.openIndex) this.roll(bucketIndex);
   }
 
   /** Add a reading to the open bucket. Out-of-order readings whose bucket has closed count here too. */
@@ -92,11 +135,12 @@ export class SensorWindow {
     this.open.push(value);
   }
 
+  /** The baseline readings are judged against: closed buckets only; null before the first roll. */
   baseline(): Baseline | null {
     return this.cached;
   }
 
-  private roll(idx: number): void {
+  private roll(bucketIndex: number): void {
     if (this.openMoments.n > 0) {
       this.closed.push({
         index: this.openIndex,
@@ -108,11 +152,11 @@ export class SensorWindow {
       this.open.reset();
       this.openMoments = emptyMoments();
     }
-    this.openIndex = idx;
-    const oldest = idx - this.buckets;
-    let drop = 0;
-    while (drop < this.closed.length && this.closed[drop].index < oldest) drop++;
-    if (drop > 0) this.closed.splice(0, drop);
+    this.openIndex = bucketIndex;
+    const oldest = bucketIndex - this.buckets;
+    let expired = 0;
+    while (expired < this.closed.length && this.closed[expired].index < oldest) expired++;
+    if (expired > 0) this.closed.splice(0, expired);
     this.rebuildBaseline();
   }
 
@@ -122,17 +166,17 @@ export class SensorWindow {
       this.cached = null;
       return;
     }
-    let m = emptyMoments();
+    let moments = emptyMoments();
     let from = Infinity;
     let to = -Infinity;
-    for (const b of this.closed) {
-      m = mergeMoments(m, b.moments);
-      if (b.firstTs < from) from = b.firstTs;
-      if (b.lastTs > to) to = b.lastTs;
+    for (const bucket of this.closed) {
+      moments = mergeMoments(moments, bucket.moments);
+      if (bucket.firstTs < from) from = bucket.firstTs;
+      if (bucket.lastTs > to) to = bucket.lastTs;
     }
     const digest = new FrozenDigest(
       compressToBins(
-        this.closed.map((b) => b.centroids),
+        this.closed.map((bucket) => bucket.centroids),
         SKETCH.baselineBins,
       ),
     );
@@ -140,9 +184,9 @@ export class SensorWindow {
     const q3 = digest.quantile(0.75);
     this.cached = {
       digest,
-      count: m.n,
-      mean: m.mean,
-      stdDev: sampleStdDev(m),
+      count: moments.n,
+      mean: moments.mean,
+      stdDev: sampleStdDev(moments),
       q1,
       median: digest.quantile(0.5),
       q3,

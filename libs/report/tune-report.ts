@@ -8,7 +8,7 @@ import { tuneScatter, type ScatterPoint } from './charts.js';
 import { esc } from './escape.js';
 import { page, table, type Cell } from './html.js';
 import { fmtNum } from './svg.js';
-import { ALERT_BUDGET_PER_HOUR } from '../schema/vocabulary.js';
+import { ALERT_BUDGET_PER_HOUR, FLOOD_WINDOW_MS } from '../schema/vocabulary.js';
 
 /** One grid point as the tune command writes it (fields the report reads; others are ignored). */
 export interface TunePointDoc {
@@ -116,7 +116,7 @@ export function renderTuneReport(tuning: TuningDoc): string {
     .join('');
   const flood =
     tuning.scoring?.floodLimit !== undefined
-      ? `<p class="note">Flood: more than ${esc(tuning.scoring.floodLimit)} alerts raised within ${esc(fmtNum((tuning.scoring.floodWindowMs ?? 600_000) / 60_000))} minutes.</p>`
+      ? `<p class="note">Flood: more than ${esc(tuning.scoring.floodLimit)} alerts raised within ${esc(fmtNum((tuning.scoring.floodWindowMs ?? FLOOD_WINDOW_MS) / 60_000))} minutes.</p>`
       : '';
   const fixed =
     fixedKeys.length > 0

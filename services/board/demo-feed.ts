@@ -6,6 +6,7 @@
 import { validateConfig } from '../../libs/config/config.js';
 import { Engine } from '../../libs/engine/engine.js';
 import { PlantSimulator, suggestedConfig, type SimReading } from '../../libs/sim/plant.js';
+import { countOutcome, type EngineMetrics } from '../metrics/metrics.js';
 import type { BoardHub } from './hub.js';
 
 export interface DemoFeedOptions {
@@ -32,6 +33,8 @@ export class DemoFeed {
   constructor(
     readonly hub: BoardHub,
     readonly opts: DemoFeedOptions,
+    /** Counted as `run` counts its engine (same metric names and labels); none in tests. */
+    private readonly metrics: EngineMetrics | null = null,
   ) {
     this.engine = new Engine(validateConfig(suggestedConfig(opts.scenario), `scenario ${opts.scenario}`));
     this.liveFrom = opts.wallStart;
@@ -61,20 +64,25 @@ export class DemoFeed {
 
   /** Judge every simulated reading up to plant time `until` (at most `budget` of them this call). */
   advanceTo(until: number, budget = 50_000): number {
-    let n = 0;
-    while (this.pending !== null && this.pending.ts <= until && n < budget) {
-      const r = this.pending;
-      const out = this.engine.process(r);
-      this.hub.addReading(r.sensor, {
-        ts: r.ts,
-        value: r.value,
-        flagged: out.accepted && out.verdict.flagged,
+    let judged = 0;
+    while (this.pending !== null && this.pending.ts <= until && judged < budget) {
+      const reading = this.pending;
+      const outcome = this.engine.process(reading);
+      if (this.metrics) countOutcome(this.metrics, outcome);
+      this.hub.addReading(reading.sensor, {
+        ts: reading.ts,
+        value: reading.value,
+        flagged: outcome.accepted && outcome.verdict.flagged,
       });
-      for (const ev of out.events) this.hub.applyEvent(ev);
-      n++;
+      for (const event of outcome.events) this.hub.applyEvent(event);
+      judged++;
       this.pending = this.sim.next();
     }
-    this.readings += n;
-    return n;
+    this.readings += judged;
+    if (this.metrics) {
+      this.metrics.activeAlerts.set(this.engine.activeAlertCount());
+      this.metrics.sensorsTracked.set(this.engine.sensorCount);
+    }
+    return judged;
   }
 }

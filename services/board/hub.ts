@@ -3,6 +3,7 @@
  * the charts, and the SSE listeners. Demo and live mode both drive it; live mode adds a hook that
  * shares operator actions (Redis + Kafka) before they are applied here.
  */
+import type { BoardSnapshot, SnapshotPoint } from '../../libs/board/snapshot.js';
 import {
   BoardStore,
   checkAction,
@@ -127,10 +128,10 @@ export class BoardHub {
   }
 
   /** Everything the page needs in one response. */
-  snapshot(extra: Record<string, unknown> = {}): Record<string, unknown> {
+  snapshot(extra: Pick<BoardSnapshot, 'notice' | 'tokenRequired'> = {}): BoardSnapshot {
     const alerts = this.store.list();
     // Points as [ts, value, flagged 0/1]: half the bytes of objects, which matters in a flood.
-    const series: Record<string, [number, number, number][]> = {};
+    const series: Record<string, SnapshotPoint[]> = {};
     const flaggedNow: Record<string, number> = {};
     for (const a of alerts) {
       if (!(a.sensor in series) && a.status !== 'cleared') {

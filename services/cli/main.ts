@@ -5,6 +5,7 @@
  */
 import { NOTICE } from '../../libs/schema/notice.js';
 import { isStreamfenceError } from '../../libs/errors/index.js';
+import { packageVersion } from '../setup/version.js';
 
 interface CommandEntry {
   summary: string;
@@ -65,7 +66,7 @@ async function main(argv: string[]): Promise<number> {
     return 0;
   }
   if (cmd === '--version') {
-    process.stdout.write('streamfence 0.1.0\n');
+    process.stdout.write(`streamfence ${packageVersion()}\n`);
     return 0;
   }
   const entry = COMMANDS[cmd];

@@ -1,47 +1,62 @@
-/** Prometheus metrics of a board server, on a registry of its own (never the global one). */
-import { Counter, Gauge, Registry, collectDefaultMetrics } from 'prom-client';
+/**
+ * Prometheus metrics of a board server (`board` and `demo`), on a registry of its own (never the
+ * global one): the board's own figures, the process metrics every command shares and, for the
+ * demo, the engine metrics under the names and labels `run` uses. Figures the board only ever
+ * adds to are counters (`_total`); figures that go up and down are gauges.
+ */
+import { Counter, Gauge, Registry } from 'prom-client';
 import type { BoardHub } from '../board/hub.js';
+import { collectProcessMetrics, createEngineMetrics, type EngineMetrics } from './metrics.js';
 
 export interface BoardMetrics {
   registry: Registry;
-  readings: Counter;
 }
 
+/** A demo's metrics: the board's, plus the engine metrics its simulated plant is counted in. */
+export interface DemoMetrics extends BoardMetrics {
+  engine: EngineMetrics;
+}
+
+/** The metrics of `streamfence board`: alerts by status, events and actions applied, the rate meter. */
 export function createBoardMetrics(hub: BoardHub): BoardMetrics {
   const registry = new Registry();
-  collectDefaultMetrics({ register: registry, prefix: 'streamfence_' });
+  collectProcessMetrics(registry);
+  const registers = [registry];
   new Gauge({
     name: 'streamfence_board_alerts',
     help: 'Alerts on the board by status',
     labelNames: ['status'],
-    registers: [registry],
+    registers,
     collect() {
-      const n = { active: 0, shelved: 0, cleared: 0 };
-      for (const a of hub.store.list()) n[a.status]++;
-      for (const [k, v] of Object.entries(n)) this.set({ status: k }, v);
+      const byStatus = { active: 0, shelved: 0, cleared: 0 };
+      for (const alert of hub.store.list()) byStatus[alert.status]++;
+      for (const [status, count] of Object.entries(byStatus)) this.set({ status }, count);
     },
   });
-  new Gauge({
-    name: 'streamfence_board_alert_events',
+  // The hub keeps these counts; each scrape copies them (they only grow, so the counter does too).
+  new Counter({
+    name: 'streamfence_board_alert_events_total',
     help: 'Alert events the board has applied since start',
-    registers: [registry],
+    registers,
     collect() {
-      this.set(hub.counts.events);
+      this.reset();
+      this.inc(hub.counts.events);
     },
   });
-  new Gauge({
-    name: 'streamfence_board_operator_actions',
+  new Counter({
+    name: 'streamfence_board_operator_actions_total',
     help: 'Operator actions taken on this board since start, by kind',
     labelNames: ['kind'],
-    registers: [registry],
+    registers,
     collect() {
-      for (const [k, v] of Object.entries(hub.counts.actions)) this.set({ kind: k }, v);
+      this.reset();
+      for (const [kind, count] of Object.entries(hub.counts.actions)) this.inc({ kind }, count);
     },
   });
   new Gauge({
     name: 'streamfence_board_raised_last_hour',
     help: 'Alerts raised in the last hour of plant time (the rate meter)',
-    registers: [registry],
+    registers,
     collect() {
       this.set(hub.rateNow().lastHour);
     },
@@ -49,15 +64,16 @@ export function createBoardMetrics(hub: BoardHub): BoardMetrics {
   new Gauge({
     name: 'streamfence_board_event_stream_clients',
     help: 'Pages connected to the live event stream',
-    registers: [registry],
+    registers,
     collect() {
       this.set(hub.listenerCount);
     },
   });
-  const readings = new Counter({
-    name: 'streamfence_demo_readings_total',
-    help: 'Simulated readings judged by the demo engine',
-    registers: [registry],
-  });
-  return { registry, readings };
+  return { registry };
+}
+
+/** The metrics of `streamfence demo`: the board's, and the engine metrics `run` exposes. */
+export function createDemoMetrics(hub: BoardHub): DemoMetrics {
+  const board = createBoardMetrics(hub);
+  return { ...board, engine: createEngineMetrics(board.registry) };
 }

@@ -1,12 +1,24 @@
 /**
- * Every Prometheus metric streamfence exposes, defined once so the live monitor and the demo serve
- * the same names. Each call builds its own Registry (tests and the demo can run several side by
- * side). No metric ever carries a per-sensor label: thousands of sensors would explode the series.
+ * The live monitor's Prometheus metrics (`run`), and the engine metrics and process metrics every
+ * command that serves /metrics shares: the demo registers the same engine metrics (same names,
+ * labels and types) and the board the same process metrics. Board metrics are in board-metrics.ts.
+ * Each call builds its own Registry (tests can run several side by side). No metric ever carries a
+ * per-sensor label: thousands of sensors would explode the series. The README's metrics table
+ * lists every name with its type, checked by test/unit/metrics-table.test.ts.
  */
 import { Counter, Gauge, Histogram, Registry, collectDefaultMetrics } from 'prom-client';
+import type { ProcessOutcome } from '../../libs/engine/engine.js';
 
-export interface Metrics {
-  registry: Registry;
+/**
+ * Node's process metrics (prom-client's default collectors) under their standard names
+ * (`process_*`, `nodejs_*`, no prefix), the same in every command.
+ */
+export function collectProcessMetrics(registry: Registry): void {
+  collectDefaultMetrics({ register: registry });
+}
+
+/** What an Engine's readings and alerts are counted as, wherever the engine runs (run, demo). */
+export interface EngineMetrics {
   /** outcome = accepted | rejected */
   readings: Counter<'outcome'>;
   /** reason = one of the reading reject reasons (REJECT_REASONS) */
@@ -15,6 +27,11 @@ export interface Metrics {
   alerts: Counter<'state' | 'severity'>;
   activeAlerts: Gauge;
   sensorsTracked: Gauge;
+}
+
+/** The monitor's metrics: the engine metrics plus checkpoints, lag, partitions and limits. */
+export interface Metrics extends EngineMetrics {
+  registry: Registry;
   checkpointDuration: Histogram;
   /** processing wall time minus the reading's event time */
   eventDelay: Histogram;
@@ -34,94 +51,118 @@ export interface Metrics {
   ready: Gauge;
 }
 
-export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics {
-  const registry = new Registry();
-  if (opts.defaultMetrics !== false) collectDefaultMetrics({ register: registry });
-  const r = [registry];
+/** The engine metrics, registered on `registry`. */
+export function createEngineMetrics(registry: Registry): EngineMetrics {
+  const registers = [registry];
   return {
-    registry,
     readings: new Counter({
       name: 'streamfence_readings_total',
       help: 'Readings taken off the input, by outcome (accepted by the engine, or rejected).',
       labelNames: ['outcome'],
-      registers: r,
+      registers,
     }),
     rejected: new Counter({
       name: 'streamfence_rejected_total',
       help: 'Rejected readings by reason (malformed, out of range, late, ...).',
       labelNames: ['reason'],
-      registers: r,
+      registers,
     }),
     alerts: new Counter({
       name: 'streamfence_alerts_total',
       help: 'Alert events emitted, by lifecycle state and severity.',
       labelNames: ['state', 'severity'],
-      registers: r,
+      registers,
     }),
     activeAlerts: new Gauge({
       name: 'streamfence_active_alerts',
       help: 'Sensors with a raised (not yet cleared) alert.',
-      registers: r,
+      registers,
     }),
     sensorsTracked: new Gauge({
       name: 'streamfence_sensors_tracked',
       help: 'Sensors whose state is held in memory.',
-      registers: r,
+      registers,
     }),
+  };
+}
+
+/**
+ * Count one `Engine.process` outcome as the monitor counts it: the reading by outcome, a refusal
+ * by reason, every alert event by state and severity. For engines run outside the monitor (the
+ * monitor counts per batch).
+ */
+export function countOutcome(metrics: EngineMetrics, outcome: ProcessOutcome): void {
+  if (!outcome.accepted) {
+    metrics.readings.inc({ outcome: 'rejected' });
+    metrics.rejected.inc({ reason: outcome.reason });
+    return;
+  }
+  metrics.readings.inc({ outcome: 'accepted' });
+  for (const event of outcome.events) metrics.alerts.inc({ state: event.state, severity: event.severity });
+}
+
+/** The live monitor's registry; `defaultMetrics: false` leaves out the process metrics (benches). */
+export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics {
+  const registry = new Registry();
+  if (opts.defaultMetrics !== false) collectProcessMetrics(registry);
+  const registers = [registry];
+  return {
+    registry,
+    ...createEngineMetrics(registry),
     checkpointDuration: new Histogram({
       name: 'streamfence_checkpoint_duration_seconds',
       help: 'Time to write one partition checkpoint (dirty sensor states plus offset) to Redis.',
       buckets: [0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10],
-      registers: r,
+      registers,
     }),
     eventDelay: new Histogram({
       name: 'streamfence_event_delay_seconds',
       help: 'Processing time minus reading event time (how far behind real time the readings are judged).',
       buckets: [0.01, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10, 30, 60, 300, 900, 3600, 86400],
-      registers: r,
+      registers,
     }),
     partitionLag: new Gauge({
       name: 'streamfence_partition_lag',
       help: 'Messages behind the high watermark, per input partition.',
       labelNames: ['partition'],
-      registers: r,
+      registers,
     }),
     backoff: new Counter({
       name: 'streamfence_backoff_total',
       help: 'Retries after a dependency failed or timed out, by dependency.',
       labelNames: ['dependency'],
-      registers: r,
+      registers,
     }),
     checkpoints: new Counter({
       name: 'streamfence_checkpoints_total',
       help: 'Partition checkpoints, by result (written; fenced: the partition now belongs to another monitor; owner_gone: Redis lost the partition keys, state rewritten in full).',
       labelNames: ['result'],
-      registers: r,
+      registers,
     }),
     assignedPartitions: new Gauge({
       name: 'streamfence_assigned_partitions',
       help: 'Input partitions this monitor currently owns.',
-      registers: r,
+      registers,
     }),
     sensorLimit: new Gauge({
       name: 'streamfence_sensor_limit',
       help: 'Most sensors this process holds state for (--max-sensors); readings of new sensors beyond it are rejected.',
-      registers: r,
+      registers,
     }),
     sensorLimitUsed: new Gauge({
       name: 'streamfence_sensor_limit_used_ratio',
       help: 'Sensors held divided by the sensor limit (1 = new sensors are rejected with reason sensor_limit).',
-      registers: r,
+      registers,
     }),
     sensorsEvicted: new Counter({
       name: 'streamfence_sensors_evicted_total',
       help: 'Sensors evicted from memory and Redis after more than their window without a reading.',
-      registers: r,
+      registers,
     }),
     ready: new Gauge({
       name: 'streamfence_ready',
       help: '1 while the monitor is ready (joined its consumer group and Redis answers), else 0.',
-      registers: r,
+      registers,
     }),
   };
 }

@@ -50,6 +50,16 @@ export interface MonitorSettings {
   maxSensors?: number;
 }
 
+/** What a Monitor is built from: clients (from services/connect), the engine config, settings, log and metrics. */
+export interface MonitorParts {
+  kafka: Kafka;
+  redis: Redis;
+  config: EngineConfig;
+  settings: MonitorSettings;
+  log: Logger;
+  metrics: Metrics;
+}
+
 interface PartitionWorker {
   partition: number;
   engine: Engine;
@@ -98,22 +108,35 @@ export class Monitor {
   private stopGiveUpAt = Infinity;
   private timer: NodeJS.Timeout | null = null;
 
-  constructor(
-    private readonly kafka: Kafka,
-    private readonly redis: Redis,
-    private readonly config: EngineConfig,
-    private readonly s: MonitorSettings,
-    private readonly log: Logger,
-    private readonly metrics: Metrics,
-  ) {
-    this.store = new CheckpointStore(redis, s.statePrefix, s.group, s.inputTopic, this.token);
-    this.budget = new SensorBudget(s.maxSensors ?? DEFAULT_MAX_SENSORS);
+  private readonly kafka: Kafka;
+  private readonly redis: Redis;
+  private readonly config: EngineConfig;
+  private readonly settings: MonitorSettings;
+  private readonly log: Logger;
+  private readonly metrics: Metrics;
+
+  constructor(parts: MonitorParts) {
+    const { kafka, redis, settings, metrics } = parts;
+    this.kafka = kafka;
+    this.redis = redis;
+    this.config = parts.config;
+    this.settings = settings;
+    this.log = parts.log;
+    this.metrics = metrics;
+    this.store = new CheckpointStore(
+      redis,
+      settings.statePrefix,
+      settings.group,
+      settings.inputTopic,
+      this.token,
+    );
+    this.budget = new SensorBudget(settings.maxSensors ?? DEFAULT_MAX_SENSORS);
     metrics.sensorLimit.set(this.budget.limit);
     this.consumer = kafka.consumer({
-      groupId: s.group,
-      sessionTimeout: s.sessionTimeoutMs,
-      rebalanceTimeout: Math.max(60_000, s.sessionTimeoutMs),
-      heartbeatInterval: Math.max(100, Math.floor(s.sessionTimeoutMs / 10)),
+      groupId: settings.group,
+      sessionTimeout: settings.sessionTimeoutMs,
+      rebalanceTimeout: Math.max(60_000, settings.sessionTimeoutMs),
+      heartbeatInterval: Math.max(100, Math.floor(settings.sessionTimeoutMs / 10)),
       maxBytesPerPartition: 1_048_576,
       // Never give up on the group: retriable failures restart the consumer after a pause.
       retry: { retries: 10, initialRetryTime: 300, maxRetryTime: 10_000, restartOnFailure: async () => true },
@@ -132,7 +155,7 @@ export class Monitor {
     await this.retry('redis', () => this.redis.ping());
     await this.retry('redis', () =>
       this.redis.set(
-        configKey(this.s.statePrefix, this.s.group, this.s.inputTopic),
+        configKey(this.settings.statePrefix, this.settings.group, this.settings.inputTopic),
         JSON.stringify(configToJson(this.config)),
       ),
     );
@@ -141,7 +164,7 @@ export class Monitor {
     await this.retry('kafka', () => this.consumer.connect());
     this.wireEvents();
     await this.retry('kafka', () =>
-      this.consumer.subscribe({ topic: this.s.inputTopic, fromBeginning: true }),
+      this.consumer.subscribe({ topic: this.settings.inputTopic, fromBeginning: true }),
     );
     await this.consumer.run({
       autoCommit: false,
@@ -155,8 +178,11 @@ export class Monitor {
       );
       this.updateGauges();
       void this.readiness();
-    }, this.s.checkpointMs);
-    this.log.info({ topic: this.s.inputTopic, group: this.s.group, owner: this.token }, 'consuming');
+    }, this.settings.checkpointMs);
+    this.log.info(
+      { topic: this.settings.inputTopic, group: this.settings.group, owner: this.token },
+      'consuming',
+    );
   }
 
   /** Joined the group and Redis answers. */
@@ -197,7 +223,7 @@ export class Monitor {
   private wireEvents(): void {
     const ev = this.consumer.events;
     this.consumer.on(ev.GROUP_JOIN, (e) => {
-      const mine = e.payload.memberAssignment[this.s.inputTopic] ?? [];
+      const mine = e.payload.memberAssignment[this.settings.inputTopic] ?? [];
       this.assigned = new Set(mine);
       this.joined = true;
       this.metrics.assignedPartitions.set(mine.length);
@@ -271,7 +297,7 @@ export class Monitor {
     if (cp.offset !== null) next = Number(cp.offset);
     else {
       // Never checkpointed: the state is empty, which is exact only from the start of the log.
-      const offsets = await this.retry('kafka', () => this.admin.fetchTopicOffsets(this.s.inputTopic));
+      const offsets = await this.retry('kafka', () => this.admin.fetchTopicOffsets(this.settings.inputTopic));
       const p = offsets.find((o) => o.partition === partition);
       next = Number(p?.low ?? '0');
     }
@@ -369,7 +395,7 @@ export class Monitor {
     this.flush();
     if (this.unsent > MAX_UNSENT) await this.flushed();
     this.metrics.partitionLag.set({ partition: String(part) }, Number(batch.highWatermark) - w.next);
-    if (w.sinceCheckpoint >= this.s.checkpointReadings) await this.checkpoint(w, heartbeat);
+    if (w.sinceCheckpoint >= this.settings.checkpointReadings) await this.checkpoint(w, heartbeat);
   }
 
   private reject(
@@ -400,8 +426,8 @@ export class Monitor {
     const { alerts, rejects } = this.outbox;
     if (alerts.length === 0 && rejects.length === 0) return;
     const topicMessages: TopicMessages[] = [];
-    if (alerts.length) topicMessages.push({ topic: this.s.alertTopic, messages: alerts });
-    if (rejects.length) topicMessages.push({ topic: this.s.rejectedTopic, messages: rejects });
+    if (alerts.length) topicMessages.push({ topic: this.settings.alertTopic, messages: alerts });
+    if (rejects.length) topicMessages.push({ topic: this.settings.rejectedTopic, messages: rejects });
     this.outbox.alerts = [];
     this.outbox.rejects = [];
     this.unsent += alerts.length + rejects.length;
@@ -497,7 +523,7 @@ export class Monitor {
     );
     // A hint only (the Redis offset is the truth): lets a fresh group start near the right place.
     await this.consumer
-      .commitOffsets([{ topic: this.s.inputTopic, partition: w.partition, offset: offset.toString() }])
+      .commitOffsets([{ topic: this.settings.inputTopic, partition: w.partition, offset: offset.toString() }])
       .catch((e: unknown) => this.log.debug({ err: errText(e) }, 'offset commit skipped'));
     return true;
   }
@@ -521,7 +547,7 @@ export class Monitor {
     this.metrics.activeAlerts.set(active);
   }
 
-  /** For tests and the bench: sensors held in memory across owned partitions. */
+  /** For tests and the bench: the partitions this monitor holds a worker (an engine) for. */
   get partitions(): number[] {
     return [...this.workers.keys()];
   }

@@ -232,7 +232,14 @@ export async function run(): Promise<Record<string, unknown>> {
     const before = await totalCommands(probe);
     const metrics = createMetrics({ defaultMetrics: false });
     const redis = buildRedis({ url });
-    let mon = new Monitor(mkKafka(), redis, config, settings(topic, prefix, group, alertTopic), log, metrics);
+    let mon = new Monitor({
+      kafka: mkKafka(),
+      redis,
+      config,
+      settings: settings(topic, prefix, group, alertTopic),
+      log,
+      metrics,
+    });
     await mon.start();
     let first = 0;
     for (;;) {
@@ -273,14 +280,14 @@ export async function run(): Promise<Record<string, unknown>> {
     const more = readings(SENSORS, 1, Date.UTC(2026, 4, 1) + PER_SENSOR * STEP_MS, 2);
     await produce(kafka, topic, more);
     const t0 = performance.now();
-    mon = new Monitor(
-      mkKafka(),
+    mon = new Monitor({
+      kafka: mkKafka(),
       redis,
       config,
-      settings(topic, prefix, group, alertTopic),
+      settings: settings(topic, prefix, group, alertTopic),
       log,
-      createMetrics({ defaultMetrics: false }),
-    );
+      metrics: createMetrics({ defaultMetrics: false }),
+    });
     await mon.start();
     await waitCheckpointed(probe, prefix, group, topic, kafka, 50_000);
     out.restart = {

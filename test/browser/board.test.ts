@@ -2,7 +2,8 @@
  * The operator board in real headless Chromium against a running `streamfence demo`: it loads
  * without console errors, the caution is always visible, demo alerts appear, acknowledge and shelve
  * work from the page (mouse and keyboard) and show in /api/alerts, and a shelved alert comes back.
- * Screenshots go to test-artifacts/ (and one to deploy/docs/board.png for the README).
+ * Screenshots go to test-artifacts/ only; test-artifacts/docs/board.png is the README's image, which
+ * `npm run docs:images` copies to deploy/docs/.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { mkdirSync, writeFileSync } from 'node:fs';
@@ -148,9 +149,9 @@ describe('operator board in Chromium', () => {
     expect(minutes).toBeGreaterThan(58);
     expect(minutes).toBeLessThanOrEqual(60);
     await page.screenshot({ path: `${ARTIFACTS}/board-shelved.png`, fullPage: true });
-    mkdirSync('deploy/docs', { recursive: true });
+    mkdirSync(`${ARTIFACTS}/docs`, { recursive: true });
     await page.evaluate('window.scrollTo(0, 0)');
-    await page.screenshot({ path: 'deploy/docs/board.png' });
+    await page.screenshot({ path: `${ARTIFACTS}/docs/board.png` });
 
     await page.locator(`#shelved li.card[data-id="${id}"]`).getByRole('button', { name: 'Unshelve' }).click();
     await page.locator(`#active li.card[data-id="${id}"]`).waitFor();

@@ -1,8 +1,9 @@
 /**
  * The HTML reports in real headless Chromium: a replay report and a tune report are generated from
  * invented data, opened from disk, and checked for drawn charts (SVG with non-zero size and real
- * path data), the visible caution and no console errors. Screenshots go to test-artifacts/; set
- * STREAMFENCE_DOCS_SCREENSHOTS=1 to also refresh deploy/docs/report.png for the README.
+ * path data), the visible caution and no console errors. Screenshots go to test-artifacts/ only;
+ * test-artifacts/docs/report.png is the README's image, which `npm run docs:images` copies to
+ * deploy/docs/.
  */
 import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -169,34 +170,33 @@ describe('HTML reports in Chromium', () => {
       .locator('svg.sensor-chart')
       .first()
       .screenshot({ path: join(ARTIFACTS, 'report-replay-chart.png') });
-    if (process.env.STREAMFENCE_DOCS_SCREENSHOTS === '1') {
-      // The top sensors' charts: what a reader of the README should see.
-      // Page coordinates (boundingBox() is relative to the scrolled viewport).
-      const [top, bottom] = await page.evaluate(() => {
-        const doc = globalThis as unknown as {
-          scrollY: number;
-          document: {
-            querySelectorAll(s: string): ArrayLike<{
-              textContent: string | null;
-              getBoundingClientRect(): { top: number; bottom: number };
-            }>;
-          };
+    // The top sensors' charts: what a reader of the README should see.
+    // Page coordinates (boundingBox() is relative to the scrolled viewport).
+    const [top, bottom] = await page.evaluate(() => {
+      const doc = globalThis as unknown as {
+        scrollY: number;
+        document: {
+          querySelectorAll(s: string): ArrayLike<{
+            textContent: string | null;
+            getBoundingClientRect(): { top: number; bottom: number };
+          }>;
         };
-        const heads = Array.from(doc.document.querySelectorAll('h2')).filter((h) =>
-          (h.textContent ?? '').startsWith('Top '),
-        );
-        const svgs = doc.document.querySelectorAll('svg.sensor-chart');
-        return [
-          heads[0].getBoundingClientRect().top + doc.scrollY,
-          svgs[1].getBoundingClientRect().bottom + doc.scrollY,
-        ];
-      });
-      await page.screenshot({
-        path: resolve('deploy/docs/report.png'),
-        clip: { x: 0, y: top - 10, width: 1100, height: bottom - top + 20 },
-        fullPage: true,
-      });
-    }
+      };
+      const heads = Array.from(doc.document.querySelectorAll('h2')).filter((h) =>
+        (h.textContent ?? '').startsWith('Top '),
+      );
+      const svgs = doc.document.querySelectorAll('svg.sensor-chart');
+      return [
+        heads[0].getBoundingClientRect().top + doc.scrollY,
+        svgs[1].getBoundingClientRect().bottom + doc.scrollY,
+      ];
+    });
+    mkdirSync(join(ARTIFACTS, 'docs'), { recursive: true });
+    await page.screenshot({
+      path: join(ARTIFACTS, 'docs', 'report.png'),
+      clip: { x: 0, y: top - 10, width: 1100, height: bottom - top + 20 },
+      fullPage: true,
+    });
     expect(errors).toEqual([]);
     await page.close();
   });

@@ -69,7 +69,7 @@ export const BOARD_HTML = `<!doctype html>
   </form>
 </dialog>
 <footer class="caution" id="caution" role="note"><strong>Caution</strong> ${esc(NOTICE)}</footer>
-<script src="/assets/board.js" defer></script>
+<script type="module" src="/assets/board.js"></script>
 </body>
 </html>
 `;

@@ -8,7 +8,7 @@ import { DEFAULT_SCENARIO, SCENARIOS } from '../../../libs/sim/plant.js';
 import { boardTokenFor } from '../../board/auth.js';
 import { DemoFeed } from '../../board/demo-feed.js';
 import { BoardHub } from '../../board/hub.js';
-import { createBoardMetrics } from '../../metrics/board-metrics.js';
+import { createDemoMetrics } from '../../metrics/board-metrics.js';
 import { startBoardServer } from '../../board/server.js';
 import {
   numberOption,
@@ -88,11 +88,10 @@ export async function main(argv: string[]): Promise<number> {
       return a && a.id === id ? a.flaggedReadings : null;
     },
   });
-  feed = new DemoFeed(hub, { scenario, seed, speed, prerollMs, wallStart });
-  const metrics = createBoardMetrics(hub);
+  const metrics = createDemoMetrics(hub);
+  feed = new DemoFeed(hub, { scenario, seed, speed, prerollMs, wallStart }, metrics.engine);
   const t0 = performance.now();
   const pre = feed.advanceTo(wallStart);
-  metrics.readings.inc(pre);
   process.stderr.write(
     `streamfence demo: ${feed.sensorCount} sensors, ${(prerollMs / 3_600_000).toFixed(1)} h of history pre-rolled (${pre} readings in ${Math.round(performance.now() - t0)} ms); plant time now runs ${speed}x\n`,
   );
@@ -100,10 +99,7 @@ export async function main(argv: string[]): Promise<number> {
   const board = await startBoardServer({ hub, metrics, host, port, token });
   process.stdout.write(`streamfence demo: board at ${board.url}/\n`);
 
-  const pump = setInterval(() => {
-    const n = feed.advanceTo(feed.plantTimeAt(Date.now()));
-    metrics.readings.inc(n);
-  }, 250);
+  const pump = setInterval(() => feed.advanceTo(feed.plantTimeAt(Date.now())), 250);
 
   await untilStopSignal();
   clearInterval(pump);

@@ -68,11 +68,11 @@ export async function main(argv: string[]): Promise<number> {
     'starting',
   );
 
-  const monitor = new Monitor(
+  const monitor = new Monitor({
     kafka,
     redis,
     config,
-    {
+    settings: {
       statePrefix: o.statePrefix,
       inputTopic: o.inputTopic,
       alertTopic: o.alertTopic,
@@ -85,7 +85,7 @@ export async function main(argv: string[]): Promise<number> {
     },
     log,
     metrics,
-  );
+  });
   const http = await startMetricsServer(metrics.registry, o.metricsPort, () => monitor.readiness());
   log.info({ port: http.port }, `metrics listening on port ${http.port}`);
 

@@ -1,0 +1,30 @@
+/**
+ * What the board page gets from `GET /api/board` in one response: the alerts, the rate meter, the
+ * recent readings of the charted sensors and the two clocks. BoardHub.snapshot() builds it; the
+ * page script (services/board/page/browser/board.ts) is type-checked against it.
+ */
+import type { RateReading } from './rate.js';
+import type { BoardAlert } from './store.js';
+
+/** One recent reading on a card's chart: [event time (epoch ms), value, 1 if flagged else 0]. */
+export type SnapshotPoint = [number, number, number];
+
+export interface BoardSnapshot {
+  mode: 'demo' | 'live';
+  /** Plant time runs `speed` times the wall clock (1 in live mode). */
+  speed: number;
+  /** ISO-8601 server wall clock (actions, shelves). */
+  wallNow: string;
+  /** ISO-8601 plant clock (event time "now": the rate meter and relative times). */
+  plantNow: string;
+  rate: RateReading;
+  alerts: BoardAlert[];
+  /** Recent readings per sensor with an alert that is not cleared. */
+  series: Record<string, SnapshotPoint[]>;
+  /** Current flagged-reading count of open alerts, by alert id, when the board runs the engine (demo). */
+  flaggedNow: Record<string, number>;
+  /** The caution (libs/schema/notice.ts); the server adds it. */
+  notice?: string;
+  /** Whether actions need the board token; the server adds it. */
+  tokenRequired?: boolean;
+}

@@ -1,0 +1,507 @@
+/**
+ * The board page's script (browser code, DOM types; its own tsconfig.json here). It renders from
+ * /api/board and refreshes when the event stream (/api/events) says something changed. Text is
+ * always inserted with textContent, never as HTML. It imports types only, so the page loads one
+ * file and nothing from the network: `npm run board:script` transpiles it into
+ * services/board/page/script.ts (BOARD_JS, served as /assets/board.js); a unit test checks that
+ * file is up to date.
+ */
+import type { BoardSnapshot } from '../../../../libs/board/snapshot.js';
+import type { BoardAlert } from '../../../../libs/board/store.js';
+import type { RateReading } from '../../../../libs/board/rate.js';
+
+type ActionName = 'acknowledge' | 'shelve' | 'unshelve';
+type BadgeKind = 'warning' | 'critical' | 'cleared';
+
+interface ChartPoint {
+  ts: number;
+  value: number;
+  flagged: boolean;
+}
+
+/** The answer to an action: the alert as it now stands, or the refusal's message. */
+interface ActionReply {
+  ok: boolean;
+  body: Partial<BoardAlert> & { message?: string };
+}
+
+const SVGNS = 'http://www.w3.org/2000/svg';
+const NAME_KEY = 'streamfence.board.operator';
+const LARGE_KEY = 'streamfence.board.large';
+const TOKEN_KEY = 'streamfence.board.token';
+
+const page: {
+  data: BoardSnapshot | null;
+  fetchedAt: number;
+  timer: ReturnType<typeof setTimeout> | null;
+  shelveId: string | null;
+  marked: boolean;
+} = { data: null, fetchedAt: 0, timer: null, shelveId: null, marked: false };
+
+function byId<T extends HTMLElement = HTMLElement>(id: string): T {
+  return document.getElementById(id) as T;
+}
+const inputById = (id: string): HTMLInputElement => byId<HTMLInputElement>(id);
+
+/** Attributes to set; `text` becomes textContent and `cls` the class name. */
+type ElementAttributes = Record<string, string>;
+
+function el(tag: string, attrs?: ElementAttributes, children?: (Node | string | null)[]): HTMLElement {
+  const node = document.createElement(tag);
+  if (attrs)
+    for (const key in attrs) {
+      if (key === 'text') node.textContent = attrs[key];
+      else if (key === 'cls') node.className = attrs[key];
+      else node.setAttribute(key, attrs[key]);
+    }
+  (children || []).forEach((child) => {
+    if (child) node.appendChild(typeof child === 'string' ? document.createTextNode(child) : child);
+  });
+  return node;
+}
+function svg(tag: string, attrs: Record<string, string | number>): SVGElement {
+  const node = document.createElementNS(SVGNS, tag);
+  for (const key in attrs) node.setAttribute(key, String(attrs[key]));
+  return node;
+}
+function pad(n: number): string {
+  return (n < 10 ? '0' : '') + n;
+}
+function absTime(iso: string | null | undefined): string {
+  if (!iso) return '';
+  const date = new Date(iso);
+  return (
+    date.getFullYear() +
+    '-' +
+    pad(date.getMonth() + 1) +
+    '-' +
+    pad(date.getDate()) +
+    ' ' +
+    pad(date.getHours()) +
+    ':' +
+    pad(date.getMinutes()) +
+    ':' +
+    pad(date.getSeconds())
+  );
+}
+function relTime(ms: number): string {
+  const seconds = Math.round(Math.abs(ms) / 1000);
+  const text =
+    seconds < 60
+      ? seconds + ' s'
+      : seconds < 3600
+        ? Math.round(seconds / 60) + ' min'
+        : seconds < 172800
+          ? (seconds / 3600).toFixed(1) + ' h'
+          : Math.round(seconds / 86400) + ' days';
+  return ms >= 0 ? text + ' ago' : 'in ' + text;
+}
+// The plant clock runs at "speed" times the wall clock in the demo; relative times use it.
+function plantNow(): number {
+  const data = page.data;
+  if (!data) return Date.now();
+  return Date.parse(data.plantNow) + (Date.now() - page.fetchedAt) * (data.speed || 1);
+}
+function wallNow(): number {
+  const data = page.data;
+  return data ? Date.parse(data.wallNow) + (Date.now() - page.fetchedAt) : Date.now();
+}
+function fmt(value: number | null | undefined): string {
+  if (value === null || value === undefined || !isFinite(value)) return '–';
+  const magnitude = Math.abs(value);
+  return magnitude >= 1000 ? value.toFixed(0) : magnitude >= 10 ? value.toFixed(1) : value.toFixed(2);
+}
+function operator(): string {
+  return (inputById('operator').value || '').trim();
+}
+
+function sevBadge(kind: BadgeKind): HTMLElement {
+  const badge = el('span', { cls: 'sev ' + kind });
+  const icon = svg('svg', { viewBox: '0 0 10 10', 'aria-hidden': 'true', focusable: 'false' });
+  if (kind === 'critical')
+    icon.appendChild(svg('polygon', { points: '5,0 10,5 5,10 0,5', fill: 'currentColor' }));
+  else if (kind === 'warning')
+    icon.appendChild(svg('polygon', { points: '5,0.5 9.8,9.5 0.2,9.5', fill: 'currentColor' }));
+  else
+    icon.appendChild(
+      svg('circle', { cx: 5, cy: 5, r: 4, fill: 'none', stroke: 'currentColor', 'stroke-width': 1.6 }),
+    );
+  badge.appendChild(icon);
+  badge.appendChild(
+    document.createTextNode(kind === 'critical' ? 'CRITICAL' : kind === 'warning' ? 'WARNING' : 'CLEARED'),
+  );
+  return badge;
+}
+
+const usable = (value: number | null | undefined): value is number =>
+  value !== null && value !== undefined && isFinite(value);
+
+function chart(alert: BoardAlert, points: ChartPoint[]): SVGElement {
+  const width = 320,
+    height = 80,
+    inset = 4;
+  const baseline = alert.baseline;
+  const values = points.map((point) => point.value);
+  const ys = [...values, baseline.median, baseline.lowerFence, baseline.upperFence, alert.value].filter(
+    usable,
+  );
+  const box = svg('svg', { viewBox: '0 0 ' + width + ' ' + height, cls: 'chart', role: 'img' });
+  box.setAttribute('class', 'chart');
+  let desc = 'Recent readings of ' + alert.sensor + ': ' + points.length + ' points';
+  if (baseline.lowerFence !== null && baseline.upperFence !== null)
+    desc += '; normal band ' + fmt(baseline.lowerFence) + ' to ' + fmt(baseline.upperFence);
+  if (baseline.median !== null) desc += '; median ' + fmt(baseline.median);
+  box.setAttribute('aria-label', desc);
+  if (ys.length === 0) return box;
+  let lo = Math.min.apply(null, ys),
+    hi = Math.max.apply(null, ys);
+  if (hi === lo) {
+    hi += 1;
+    lo -= 1;
+  }
+  const span = hi - lo;
+  lo -= span * 0.08;
+  hi += span * 0.08;
+  const y = (value: number): number => inset + (height - 2 * inset) * (1 - (value - lo) / (hi - lo));
+  if (baseline.lowerFence !== null && baseline.upperFence !== null) {
+    const top = y(Math.min(hi, baseline.upperFence)),
+      bottom = y(Math.max(lo, baseline.lowerFence));
+    if (bottom > top)
+      box.appendChild(svg('rect', { x: 0, y: top, width, height: bottom - top, class: 'band' }));
+  }
+  if (baseline.median !== null)
+    box.appendChild(
+      svg('line', { x1: 0, x2: width, y1: y(baseline.median), y2: y(baseline.median), class: 'median' }),
+    );
+  if (points.length > 0) {
+    const t0 = points[0].ts,
+      t1 = points[points.length - 1].ts;
+    const x = (ts: number): number =>
+      t1 === t0 ? width / 2 : inset + ((width - 2 * inset) * (ts - t0)) / (t1 - t0);
+    box.appendChild(
+      svg('polyline', {
+        points: points.map((point) => x(point.ts).toFixed(1) + ',' + y(point.value).toFixed(1)).join(' '),
+        class: 'line',
+      }),
+    );
+    points.forEach((point) => {
+      if (!point.flagged) return;
+      const cx = x(point.ts),
+        cy = y(point.value);
+      // Flagged points: a small diamond, so they differ by shape as well as colour.
+      box.appendChild(
+        svg('polygon', { points: [cx, cy - 4, cx + 4, cy, cx, cy + 4, cx - 4, cy].join(','), class: 'flag' }),
+      );
+    });
+  }
+  return box;
+}
+
+function actionButton(label: string, action: ActionName, alert: BoardAlert): HTMLElement {
+  const button = el('button', { type: 'button', 'data-key': alert.id + ':' + action, text: label });
+  button.addEventListener('click', () => {
+    if (action === 'shelve') openShelve(alert);
+    else void post(alert.id, action, {});
+  });
+  return button;
+}
+
+function card(alert: BoardAlert): HTMLElement {
+  const data = page.data!;
+  const kind: BadgeKind = alert.status === 'cleared' ? 'cleared' : alert.severity;
+  const item = el('li', { cls: 'card ' + kind, 'data-id': alert.id, 'data-status': alert.status });
+  const head = el('div', { cls: 'head' }, [
+    sevBadge(kind),
+    el('span', { cls: 'sensor', text: alert.sensor }),
+  ]);
+  if (alert.status === 'cleared')
+    head.appendChild(el('span', { cls: 'muted', text: 'was ' + alert.severity }));
+  item.appendChild(head);
+  item.appendChild(el('p', { cls: 'msg', text: alert.message }));
+  const since = Date.parse(alert.since);
+  const facts = el('p', { cls: 'facts' });
+  facts.appendChild(
+    el('span', {}, [
+      'Since ',
+      el('b', { text: absTime(alert.since) }),
+      ' (' + relTime(plantNow() - since) + ')',
+    ]),
+  );
+  const live = data.flaggedNow && data.flaggedNow[alert.id];
+  facts.appendChild(
+    el('span', {}, [
+      'Flagged readings ',
+      el('b', { text: String(Math.max(alert.flaggedReadings, live || 0)) }),
+    ]),
+  );
+  facts.appendChild(
+    el('span', {}, [
+      'Value at last alert event ',
+      el('b', { text: fmt(alert.value) }),
+      ' at ' + absTime(alert.ts),
+    ]),
+  );
+  if (alert.status === 'cleared')
+    facts.appendChild(el('span', {}, ['Cleared ', el('b', { text: absTime(alert.ts) })]));
+  item.appendChild(facts);
+  const raw = (data.series && data.series[alert.sensor]) || [];
+  const points = raw.map((point): ChartPoint => ({ ts: point[0], value: point[1], flagged: point[2] === 1 }));
+  if (alert.status !== 'cleared') {
+    item.appendChild(chart(alert, points));
+    const baseline = alert.baseline;
+    item.appendChild(
+      el('p', {
+        cls: 'legend',
+        text:
+          'Shaded: normal band ' +
+          fmt(baseline.lowerFence) +
+          ' to ' +
+          fmt(baseline.upperFence) +
+          '. Dashed: median ' +
+          fmt(baseline.median) +
+          '. Diamonds: flagged readings. ' +
+          points.length +
+          ' recent readings.',
+      }),
+    );
+  }
+  if (alert.acknowledged) {
+    item.appendChild(
+      el('p', {
+        cls: 'ack yes',
+        text: '✓ Acknowledged by ' + alert.acknowledgedBy + ' at ' + absTime(alert.acknowledgedAt),
+      }),
+    );
+  } else if (alert.status !== 'cleared') {
+    item.appendChild(el('p', { cls: 'ack no', text: '• Not acknowledged' }));
+  }
+  if (alert.status === 'shelved') {
+    item.appendChild(
+      el('p', { cls: 'facts' }, [
+        'Shelved by ',
+        el('b', { text: alert.shelvedBy || 'unnamed' }),
+        ' until ',
+        el('b', { text: absTime(alert.shelvedUntil) }),
+        ' (back ' + relTime(wallNow() - Date.parse(alert.shelvedUntil ?? '')) + '). Reason: ',
+        el('b', { text: alert.shelveReason || '' }),
+      ]),
+    );
+  }
+  const actions = el('div', { cls: 'actions' });
+  if (alert.status !== 'cleared' && !alert.acknowledged)
+    actions.appendChild(actionButton('Acknowledge', 'acknowledge', alert));
+  if (alert.status === 'active') actions.appendChild(actionButton('Shelve…', 'shelve', alert));
+  if (alert.status === 'shelved') actions.appendChild(actionButton('Unshelve', 'unshelve', alert));
+  if (actions.childNodes.length) item.appendChild(actions);
+  return item;
+}
+
+function fill(listId: string, alerts: BoardAlert[]): void {
+  const list = byId(listId);
+  list.replaceChildren(...alerts.map(card));
+  byId(listId + '-empty').hidden = alerts.length > 0;
+  byId('n-' + listId).textContent = '(' + alerts.length + ')';
+}
+
+function renderRate(rate: RateReading): void {
+  const box = byId('rate');
+  const meter = el('meter', {
+    min: '0',
+    max: String(Math.max(rate.budgetPerHour * 2, rate.lastHour)),
+    low: String(rate.budgetPerHour * 0.67),
+    high: String(rate.budgetPerHour),
+    optimum: '0',
+    value: String(rate.lastHour),
+    'aria-label': 'alerts raised in the last hour against the budget',
+  });
+  box.replaceChildren(
+    el('span', {}, ['Raised in the last 10 min: ', el('b', { text: String(rate.last10Min) })]),
+    el('span', { cls: rate.overBudget ? 'over' : '' }, [
+      'Last hour: ',
+      el('b', { text: String(rate.lastHour) }),
+      ' of budget ' + rate.budgetPerHour + '/h' + (rate.overBudget ? ' — over budget' : ''),
+    ]),
+    meter,
+  );
+  const flood = byId('flood');
+  flood.hidden = !rate.flood;
+  flood.textContent = rate.flood
+    ? 'Alert flood: ' +
+      rate.last10Min +
+      ' alerts raised in the last 10 minutes (more than ' +
+      rate.floodPer10Min +
+      '). Deal with the most severe first.'
+    : '';
+}
+
+function render(): void {
+  const data = page.data;
+  if (!data) return;
+  const current = document.activeElement;
+  const focused = current && current.getAttribute && current.getAttribute('data-key');
+  const active: BoardAlert[] = [],
+    shelved: BoardAlert[] = [],
+    cleared: BoardAlert[] = [];
+  data.alerts.forEach((alert) => {
+    (alert.status === 'active' ? active : alert.status === 'shelved' ? shelved : cleared).push(alert);
+  });
+  fill('active', active);
+  // Marks the first time alerts are on screen, for the page-load measurement.
+  if (active.length && !page.marked && window.performance && performance.mark) {
+    performance.mark('board-first-alert');
+    page.marked = true;
+  }
+  fill('shelved', shelved);
+  fill('cleared', cleared);
+  renderRate(data.rate);
+  byId('token').hidden = byId('token-label').hidden = !data.tokenRequired;
+  document.title = (active.length ? '(' + active.length + ') ' : '') + 'streamfence board';
+  if (focused) {
+    const again = document.querySelector<HTMLElement>('[data-key="' + focused.replace(/"/g, '') + '"]');
+    if (again) again.focus();
+  }
+}
+
+function load(): Promise<void> {
+  return fetch('/api/board', { cache: 'no-store' })
+    .then((response) => response.json() as Promise<BoardSnapshot>)
+    .then((data) => {
+      page.data = data;
+      page.fetchedAt = Date.now();
+      render();
+    })
+    .catch((err: Error) => say('Could not load the board: ' + err.message, true));
+}
+function soon(): void {
+  if (page.timer) return;
+  // At most one refresh a second however many events arrive (an alert flood stays cheap).
+  page.timer = setTimeout(() => {
+    page.timer = null;
+    void load();
+  }, 1000);
+}
+function say(text: string, bad?: boolean): void {
+  const message = byId('message');
+  message.textContent = text;
+  message.className = 'message' + (bad ? ' bad' : '');
+}
+
+function post(
+  id: string,
+  action: ActionName,
+  body: Record<string, unknown>,
+): Promise<ActionReply | undefined> {
+  body.by = operator() || undefined;
+  const headers: Record<string, string> = { 'content-type': 'application/json' };
+  const token = inputById('token').value.trim();
+  if (token) headers.authorization = 'Bearer ' + token;
+  return fetch('/api/alerts/' + encodeURIComponent(id) + '/' + action, {
+    method: 'POST',
+    headers,
+    body: JSON.stringify(body),
+  })
+    .then((response) =>
+      response.json().then((answer: ActionReply['body']): ActionReply => ({ ok: response.ok, body: answer })),
+    )
+    .then((reply) => {
+      if (!reply.ok) {
+        say(reply.body.message || 'The board refused the action.', true);
+        return reply;
+      }
+      const alert = reply.body;
+      const who = alert.acknowledgedBy || alert.shelvedBy || 'unnamed';
+      say(
+        action === 'acknowledge'
+          ? 'Acknowledged ' + alert.sensor + ' as ' + who + '.'
+          : action === 'shelve'
+            ? 'Shelved ' + alert.sensor + ' until ' + absTime(alert.shelvedUntil) + '.'
+            : 'Unshelved ' + alert.sensor + '.',
+      );
+      void load();
+      return reply;
+    })
+    .catch((err: Error) => {
+      say('The action did not reach the board: ' + err.message, true);
+      return undefined;
+    });
+}
+
+function openShelve(alert: BoardAlert): void {
+  page.shelveId = alert.id;
+  byId('shelve-what').textContent = alert.sensor + ': ' + alert.message;
+  byId<HTMLTextAreaElement>('shelve-reason').value = '';
+  byId('shelve-error').textContent = '';
+  byId<HTMLDialogElement>('shelve-dialog').showModal();
+  byId('shelve-reason').focus();
+}
+
+/** Storage may be switched off in the browser; the page then simply does not remember. */
+function remember(action: () => void): void {
+  try {
+    action();
+  } catch {
+    /* storage off */
+  }
+}
+
+function setup(): void {
+  const name = inputById('operator');
+  remember(() => (name.value = localStorage.getItem(NAME_KEY) || ''));
+  const showName = (): void => {
+    byId('operator-state').textContent = operator() ? '' : 'actions recorded as "unnamed"';
+  };
+  name.addEventListener('input', () => {
+    remember(() => localStorage.setItem(NAME_KEY, operator()));
+    showName();
+  });
+  showName();
+  const token = inputById('token');
+  remember(() => (token.value = sessionStorage.getItem(TOKEN_KEY) || ''));
+  token.addEventListener('input', () =>
+    remember(() => sessionStorage.setItem(TOKEN_KEY, token.value.trim())),
+  );
+  const large = byId('large-type');
+  const setLarge = (on: boolean): void => {
+    document.documentElement.classList.toggle('large', on);
+    large.setAttribute('aria-pressed', on ? 'true' : 'false');
+    remember(() => localStorage.setItem(LARGE_KEY, on ? '1' : '0'));
+  };
+  remember(() => setLarge(localStorage.getItem(LARGE_KEY) === '1'));
+  large.addEventListener('click', () => setLarge(large.getAttribute('aria-pressed') !== 'true'));
+
+  const dialog = byId<HTMLDialogElement>('shelve-dialog');
+  byId('shelve-cancel').addEventListener('click', () => dialog.close());
+  byId('shelve-form').addEventListener('submit', (event) => {
+    event.preventDefault();
+    const reasonBox = byId<HTMLTextAreaElement>('shelve-reason');
+    const reason = reasonBox.value.trim();
+    if (!reason) {
+      byId('shelve-error').textContent = 'Say why this alert can wait.';
+      reasonBox.focus();
+      return;
+    }
+    const picked = document.querySelector<HTMLInputElement>('input[name="shelve-minutes"]:checked');
+    const minutes = Number(picked ? picked.value : 15);
+    void post(page.shelveId!, 'shelve', { reason, minutes }).then((reply) => {
+      if (reply && reply.ok) dialog.close();
+      else if (reply) byId('shelve-error').textContent = reply.body.message || 'Refused.';
+    });
+  });
+
+  const link = byId('link');
+  const events = new EventSource('/api/events');
+  events.addEventListener('open', () => {
+    link.textContent = 'live';
+    link.className = 'link';
+  });
+  events.addEventListener('error', () => {
+    link.textContent = 'connection lost — retrying';
+    link.className = 'link down';
+  });
+  ['alert', 'action', 'returned'].forEach((type) => events.addEventListener(type, soon));
+  // Relative times and charts move on even when no event arrives.
+  setInterval(load, 10000);
+  void load();
+}
+if (document.readyState === 'loading') document.addEventListener('DOMContentLoaded', setup);
+else setup();
