@@ -15,8 +15,9 @@ import {
   compressToBins,
   FrozenDigest,
   OpenDigest,
-  roundForStorage,
-  type Centroids,
+  packCentroids,
+  unpackCentroids,
+  type PackedCentroids,
   type OpenDigestSnapshot,
 } from '../stats/digest.js';
 import { closedBins, openBins, SKETCH } from './sketch-params.js';
@@ -26,7 +27,7 @@ export interface ClosedBucket {
   moments: Moments;
   firstTs: number;
   lastTs: number;
-  centroids: Centroids;
+  centroids: PackedCentroids;
 }
 
 /** Summary of the closed buckets; rebuilt at each roll. */
@@ -147,7 +148,7 @@ export class SensorWindow {
         moments: this.openMoments,
         firstTs: this.openFirstTs,
         lastTs: this.openLastTs,
-        centroids: roundForStorage(compressToBins([this.open.centroids()], closedBins(this.buckets))),
+        centroids: packCentroids(compressToBins([this.open.centroids()], closedBins(this.buckets))),
       });
       this.open.reset();
       this.openMoments = emptyMoments();
@@ -176,7 +177,7 @@ export class SensorWindow {
     }
     const digest = new FrozenDigest(
       compressToBins(
-        this.closed.map((bucket) => bucket.centroids),
+        this.closed.map((bucket) => unpackCentroids(bucket.centroids)),
         SKETCH.baselineBins,
       ),
     );
