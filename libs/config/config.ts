@@ -9,16 +9,19 @@ import { StreamfenceError } from '../errors/index.js';
 import { parseDuration, formatDuration } from './duration.js';
 import { DEFAULT_SETTINGS, SETTING_BOUNDS, SETTING_KEYS, type SensorSettings } from './settings.js';
 
+/** One `sensors` entry: a glob over sensor ids and the settings it overrides. */
 export interface SensorRule {
   match: string;
   overrides: Partial<SensorSettings>;
 }
 
+/** A validated engine config: the default settings and the per-sensor rules, first match wins. */
 export interface EngineConfig {
   defaults: SensorSettings;
   sensors: SensorRule[];
 }
 
+/** The config used when no file is given: DEFAULT_SETTINGS for every sensor. */
 export function defaultConfig(): EngineConfig {
   return { defaults: { ...DEFAULT_SETTINGS }, sensors: [] };
 }
@@ -37,6 +40,16 @@ export function parseConfigText(text: string, source = 'config'): EngineConfig {
   return validateConfig(raw ?? {}, source);
 }
 
+/**
+ * Check a parsed config object and fill in the defaults. Refuses unknown keys
+ * (CONFIG_UNKNOWN_KEY), wrong types and out-of-range values (CONFIG_INVALID) and settings that
+ * contradict each other (CONFIG_CONTRADICTION), each with a message naming the key and what to
+ * change; `source` (a file name) starts the message.
+ *
+ * @example
+ * const config = validateConfig({ defaults: { window: '6h', buckets: 6 }, sensors: [{ match: 'line-1/**', fenceK: 2 }] });
+ * validateConfig({ defaults: { fenceK: 3, outerK: 2 } }); // throws CONFIG_CONTRADICTION: "outerK (2) must be greater than fenceK (3)"
+ */
 export function validateConfig(raw: unknown, source = 'config'): EngineConfig {
   if (typeof raw !== 'object' || raw === null || Array.isArray(raw)) {
     throw new StreamfenceError(

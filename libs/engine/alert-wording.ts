@@ -5,6 +5,10 @@
 import type { AlertEvent } from '../schema/alert-event.js';
 import { REASON_WORDS, type Reason } from '../schema/vocabulary.js';
 
+/**
+ * A number as an alert message writes it: 4 significant digits, exponent form when very large or
+ * small, `n/a` for none.
+ */
 export function fmt(x: number | null, digits = 4): string {
   if (x === null || !Number.isFinite(x)) return 'n/a';
   const a = Math.abs(x);
@@ -12,6 +16,7 @@ export function fmt(x: number | null, digits = 4): string {
   return String(Number(x.toPrecision(digits)));
 }
 
+/** The reasons in plain words (REASON_WORDS), comma-separated. */
 export function describeReasons(reasons: readonly Reason[]): string {
   return reasons.map((reason) => REASON_WORDS[reason] ?? reason).join(', ');
 }
@@ -22,6 +27,7 @@ type MessageInput = Omit<AlertEvent, 'message' | 'notice' | 'id'> & {
   stuckRun: number;
 };
 
+/** The plain sentence of an alert event: the value against the fences, z, percentile and since when. */
 export function alertMessage(e: MessageInput): string {
   const b = e.baseline;
   const parts: string[] = [];

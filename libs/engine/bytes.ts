@@ -2,6 +2,10 @@
 const enc = new TextEncoder();
 const dec = new TextDecoder('utf-8', { fatal: true });
 
+/**
+ * Appends varints, doubles, floats and strings to a growing buffer; `bytes()` copies out what was
+ * written.
+ */
 export class ByteWriter {
   private buf = new Uint8Array(1024);
   private view = new DataView(this.buf.buffer);
@@ -63,6 +67,7 @@ export class ByteWriter {
   }
 }
 
+/** Reads what ByteWriter wrote, in the same order; throws on a read past the end. */
 export class ByteReader {
   private pos = 0;
   private readonly view: DataView;

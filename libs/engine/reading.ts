@@ -5,6 +5,7 @@
 import { isEpochText, parseIsoTime } from './iso-time.js';
 import { scanReadingObject } from './reading-scan.js';
 
+/** One validated sensor reading. */
 export interface Reading {
   sensor: string;
   /** Event time, epoch milliseconds. */
@@ -12,6 +13,7 @@ export interface Reading {
   value: number;
 }
 
+/** Why an input line is not an accepted reading (kept with the line in rejected output). */
 export type RejectReason =
   | 'line_too_long'
   | 'not_json'
@@ -29,6 +31,7 @@ export type RejectReason =
   | 'late'
   | 'sensor_limit';
 
+/** Every reject reason, in the order the README lists them. */
 export const REJECT_REASONS: readonly RejectReason[] = [
   'line_too_long',
   'not_json',
@@ -58,6 +61,7 @@ export const LIMITS = {
   maxTs: 253_402_300_799_999,
 } as const;
 
+/** A parsed reading, or the reason and detail of the refusal. */
 export type ParseResult =
   { ok: true; reading: Reading } | { ok: false; reason: RejectReason; detail: string };
 

@@ -8,6 +8,7 @@
  */
 import { LIMITS, validateFields, type ParseResult } from '../engine/reading.js';
 
+/** Where the three reading fields are in a CSV row (0-based), from the header. */
 export interface CsvColumns {
   sensor: number;
   ts: number;
@@ -16,6 +17,7 @@ export interface CsvColumns {
   needed: number;
 }
 
+/** The columns a readings CSV header must name. */
 export const REQUIRED_COLUMNS = ['sensor', 'ts', 'value'] as const;
 
 /** Split a CSV line into at most `limit` fields (the rest of the line is not scanned). */

@@ -8,6 +8,7 @@
 /** Called once per physical line. `fullLength` exceeds `line.length` only when the line was clipped. */
 export type LineSink = (line: string, lineNo: number, fullLength: number) => void;
 
+/** Splits streamed text into physical lines (LF or CRLF), numbered from 1, clipping over-long ones. */
 export class LineSplitter {
   private carry = '';
   private lineNo = 0;

@@ -110,6 +110,7 @@ export class BucketMirror {
   }
 }
 
+/** One quantile of the sketch audit: the digest's answer against the exact quantile. */
 export interface QuantileCheck {
   p: number;
   /** The digest's answer. */
@@ -122,6 +123,7 @@ export interface QuantileCheck {
   rankError: number;
 }
 
+/** The sketch audit of one sensor's baseline: quartiles and median, digest against exact. */
 export interface AuditRow {
   sensor: string;
   /** Readings in the baseline (the closed buckets). */
@@ -131,11 +133,13 @@ export interface AuditRow {
   q3: QuantileCheck;
 }
 
+/** Compare the digest's `p`-quantile with the exact one of the same sorted readings. */
 export function checkQuantile(sorted: Float64Array, p: number, digest: number): QuantileCheck {
   const exact = quantileType7(sorted, p);
   return { p, digest, exact, diff: digest - exact, rankError: exactRank(sorted, digest) - p };
 }
 
+/** The audit row of one sensor from its sorted baseline readings and the digest's quartiles. */
 export function auditRow(
   sensor: string,
   sorted: Float64Array,

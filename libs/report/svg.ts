@@ -5,6 +5,7 @@
  */
 import { coord, esc } from './escape.js';
 
+/** A chart's size and margins, in SVG user units. */
 export interface Frame {
   width: number;
   height: number;
@@ -14,10 +15,13 @@ export interface Frame {
   bottom: number;
 }
 
+/** The frame every report chart uses unless told otherwise. */
 export const DEFAULT_FRAME: Frame = { width: 960, height: 280, left: 64, right: 16, top: 14, bottom: 34 };
 
+/** Maps a data value to an SVG coordinate. */
 export type Scale = (v: number) => number;
 
+/** The linear map from [d0, d1] to [r0, r1] (a zero-width domain maps as if it were 1 wide). */
 export function linearScale(d0: number, d1: number, r0: number, r1: number): Scale {
   const span = d1 - d0 || 1;
   return (v) => r0 + ((v - d0) / span) * (r1 - r0);

@@ -21,6 +21,7 @@ export type { FaultKind } from './faults.js';
 export { FAULT_KINDS } from './faults.js';
 export { DEFAULT_SCENARIO } from './scenarios.js';
 
+/** What to simulate: seed, time span, reading interval, scenario and which faults. */
 export interface SimOptions {
   seed: number;
   /** Epoch ms of the first reading slot. */
@@ -36,6 +37,7 @@ export interface SimOptions {
   scenario?: string;
 }
 
+/** One simulated reading. */
 export interface SimReading {
   sensor: string;
   ts: number;
@@ -50,6 +52,7 @@ export interface FaultLabel {
   kind: FaultKind;
 }
 
+/** One simulated sensor as the sensor table lists it. */
 export interface SensorInfo {
   id: string;
   unit: string;
@@ -57,6 +60,7 @@ export interface SensorInfo {
   machine: string;
 }
 
+/** The scenarios by name, with title and description (for help texts). */
 export const SCENARIOS: Record<string, { title: string; description: string }> = Object.fromEntries(
   Object.entries(SCENARIO_DEFS).map(([k, d]) => [k, { title: d.title, description: d.description }]),
 );
@@ -116,6 +120,7 @@ function checkOptions(o: SimOptions): ScenarioDef {
   return def!;
 }
 
+/** The seeded plant: `next()` yields readings in time order, the same for the same options. */
 export class PlantSimulator {
   readonly scenario: string;
   private readonly def: ScenarioDef;

@@ -18,8 +18,10 @@ export interface Centroids {
   counts: Float64Array;
 }
 
+/** No centroids (shared, never written to). */
 export const EMPTY_CENTROIDS: Centroids = { means: new Float64Array(0), counts: new Float64Array(0) };
 
+/** The number of values the centroids stand for. */
 export function totalCount(c: Centroids): number {
   let t = 0;
   for (let i = 0; i < c.counts.length; i++) t += c.counts[i];

@@ -9,6 +9,7 @@ export interface Moments {
   m2: number;
 }
 
+/** Moments of no values. */
 export function emptyMoments(): Moments {
   return { n: 0, mean: 0, m2: 0 };
 }
@@ -35,6 +36,7 @@ export function sampleVariance(m: Moments): number {
   return m.n < 2 ? 0 : Math.max(0, m.m2 / (m.n - 1));
 }
 
+/** Sample standard deviation (n − 1 denominator); 0 for fewer than two values. */
 export function sampleStdDev(m: Moments): number {
   return Math.sqrt(sampleVariance(m));
 }
