@@ -27,15 +27,24 @@ export function defaultConfig(): EngineConfig {
 }
 
 /** Parse config text (YAML is a superset of JSON, so one parser reads both). */
+/**
+ * A YAML parse failure as "line L, column C: problem": the parser's own first line ends in a bare
+ * "at line L, column C:" that introduces a code excerpt, which a one-line message cannot show.
+ */
+export function describeYamlError(e: unknown): string {
+  const first = (e instanceof Error ? e.message : String(e)).split('\n')[0].trim();
+  const pos = (e as { linePos?: { line: number; col: number }[] }).linePos?.[0];
+  const problem = first.replace(/\s*at line \d+, column \d+:?\s*$/, '').replace(/:\s*$/, '');
+  const where = pos ? `line ${pos.line}, column ${pos.col}: ` : '';
+  return `not valid YAML or JSON: ${where}${problem}`;
+}
+
 export function parseConfigText(text: string, source = 'config'): EngineConfig {
   let raw: unknown;
   try {
     raw = YAML.parse(text);
   } catch (e) {
-    throw new StreamfenceError(
-      'CONFIG_INVALID',
-      `${source}: not valid YAML or JSON (${(e as Error).message.split('\n')[0]})`,
-    );
+    throw new StreamfenceError('CONFIG_INVALID', `${source}: ${describeYamlError(e)}`);
   }
   return validateConfig(raw ?? {}, source);
 }
