@@ -39,6 +39,7 @@ export function describeYamlError(e: unknown): string {
   return `not valid YAML or JSON: ${where}${problem}`;
 }
 
+/** Parse config text (YAML is a superset of JSON, so one parser reads both), then validate it. */
 export function parseConfigText(text: string, source = 'config'): EngineConfig {
   let raw: unknown;
   try {
