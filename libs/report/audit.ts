@@ -37,8 +37,8 @@ export class AuditSample<T> {
 
   /** The sensor's mirror when it is in the sample, else undefined. Call on every reading. */
   get(sensor: string): T | undefined {
-    const m = this.members.get(sensor);
-    if (m !== undefined) return m.data;
+    const member = this.members.get(sensor);
+    if (member !== undefined) return member.data;
     if (this.size <= 0 || this.seen.has(sensor)) return undefined;
     this.seen.add(sensor);
     const hash = sensorHash(sensor);
@@ -79,12 +79,12 @@ export class BucketMirror {
       this.overflowed = true;
       return;
     }
-    let b = this.buckets.get(bucketIndex);
-    if (b === undefined) {
-      b = [];
-      this.buckets.set(bucketIndex, b);
+    let bucket = this.buckets.get(bucketIndex);
+    if (bucket === undefined) {
+      bucket = [];
+      this.buckets.set(bucketIndex, bucket);
     }
-    b.push(value);
+    bucket.push(value);
     this.held++;
   }
 
@@ -105,7 +105,7 @@ export class BucketMirror {
     for (const i of indexes) n += this.buckets.get(i)?.length ?? 0;
     const out = new Float64Array(n);
     let k = 0;
-    for (const i of indexes) for (const v of this.buckets.get(i) ?? []) out[k++] = v;
+    for (const i of indexes) for (const value of this.buckets.get(i) ?? []) out[k++] = value;
     return out.sort();
   }
 }
