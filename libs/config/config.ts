@@ -169,6 +169,7 @@ function parseOne(key: keyof SensorSettings, v: unknown, where: string): unknown
     case 'minSamples':
       return count(2);
     case 'flatlineAfter':
+    case 'badQualityAfter':
       return count(0);
     case 'raiseAfter':
       return count(1, SETTING_BOUNDS.maxRaiseWindow);

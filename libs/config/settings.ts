@@ -37,6 +37,8 @@ export interface SensorSettings {
   buckets: number;
   /** Whether readings taken while an alert is raised feed the baseline. */
   learnWhileRaised: boolean;
+  /** Consecutive readings of quality other than good that raise a bad_quality alert (0 turns it off). */
+  badQualityAfter: number;
 }
 
 export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
@@ -56,6 +58,7 @@ export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
   window: 24 * 3600 * 1000,
   buckets: 12,
   learnWhileRaised: true,
+  badQualityAfter: 10,
 });
 
 export const SETTING_KEYS = Object.keys(DEFAULT_SETTINGS) as (keyof SensorSettings)[];

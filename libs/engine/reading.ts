@@ -5,11 +5,25 @@
 import { isEpochText, parseIsoTime } from './iso-time.js';
 import { scanReadingObject } from './reading-scan.js';
 
+/**
+ * How far a reading can be trusted, as the source tags it (the OPC UA status-code classes that
+ * plant historians also use). Only `good` readings are judged and learned.
+ */
+export const QUALITIES = ['good', 'uncertain', 'bad'] as const;
+
+/** The quality class of a reading. */
+export type Quality = (typeof QUALITIES)[number];
+
+/** The quality classes other than `good`: readings of these are counted but not judged or learned. */
+export type DoubtfulQuality = Exclude<Quality, 'good'>;
+
 export interface Reading {
   sensor: string;
   /** Event time, epoch milliseconds. */
   ts: number;
   value: number;
+  /** Absent means `good`; the parsers set it only for `uncertain` and `bad` readings. */
+  quality?: DoubtfulQuality;
 }
 
 export type RejectReason =
@@ -26,6 +40,7 @@ export type RejectReason =
   | 'ts_missing'
   | 'ts_invalid'
   | 'ts_out_of_range'
+  | 'quality_invalid'
   | 'late'
   | 'sensor_limit';
 
@@ -43,6 +58,7 @@ export const REJECT_REASONS: readonly RejectReason[] = [
   'ts_missing',
   'ts_invalid',
   'ts_out_of_range',
+  'quality_invalid',
   'late',
   'sensor_limit',
 ];
@@ -129,12 +145,13 @@ export function parseTimestamp(
   return { ok: true, ts };
 }
 
-/** Validate the three fields, whatever the container (JSON object or CSV row). */
+/** Validate the fields, whatever the container (JSON object or CSV row); `quality` undefined = good. */
 export function validateFields(
   sensor: unknown,
   ts: unknown,
   value: unknown,
   valueFromText = false,
+  quality: unknown = undefined,
 ): ParseResult {
   if (sensor === undefined || sensor === null) return reject('sensor_missing', 'field "sensor" is missing');
   if (typeof sensor !== 'string') return reject('sensor_missing', 'field "sensor" must be a string');
@@ -169,7 +186,14 @@ export function validateFields(
 
   const t = parseTimestamp(ts);
   if (!t.ok) return t;
-  return { ok: true, reading: { sensor, ts: t.ts, value: v } };
+  if (quality === undefined || quality === 'good')
+    return { ok: true, reading: { sensor, ts: t.ts, value: v } };
+  if (quality === 'uncertain' || quality === 'bad')
+    return { ok: true, reading: { sensor, ts: t.ts, value: v, quality } };
+  return reject(
+    'quality_invalid',
+    `field "quality" must be "good", "uncertain" or "bad" (or left out for good), got ${describe(quality)}`,
+  );
 }
 
 /** Parse one NDJSON line or one message payload. Never throws. */
@@ -181,7 +205,7 @@ export function parseJsonReading(line: string): ParseResult {
     );
   }
   const fields = scanReadingObject(line);
-  if (fields !== null) return validateFields(fields.sensor, fields.ts, fields.value);
+  if (fields !== null) return validateFields(fields.sensor, fields.ts, fields.value, false, fields.quality);
   let obj: unknown;
   try {
     obj = JSON.parse(line);
@@ -192,7 +216,7 @@ export function parseJsonReading(line: string): ParseResult {
     return reject('not_object', 'a reading must be a JSON object {"sensor","ts","value"}');
   }
   const o = obj as Record<string, unknown>;
-  return validateFields(o.sensor, o.ts, o.value);
+  return validateFields(o.sensor, o.ts, o.value, false, o.quality);
 }
 
 function clip(s: string): string {
@@ -202,6 +226,7 @@ function clip(s: string): string {
 function describe(v: unknown): string {
   if (typeof v === 'string') return `the string "${clip(v)}"`;
   if (typeof v === 'boolean') return 'a boolean';
+  if (v === null) return 'null';
   if (Array.isArray(v)) return 'an array';
   return typeof v;
 }
