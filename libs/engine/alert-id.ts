@@ -5,8 +5,9 @@
 import { createHash } from 'node:crypto';
 
 /**
- * The id of the alert raised at this point of the sensor's stream. `kind` tells a sensor
- * condition's alert (e.g. "bad_quality") from a judged reading's (none), so the two can never share an id.
+ * The id of an alert raised by the `seen`-th reading of `sensor`, at event time `ts`: 24 hex
+ * characters of SHA-256. `kind` tells a sensor condition's alert (e.g. "bad_quality") from a
+ * judged reading's (none), so the two can never share an id.
  */
 export function alertId(sensor: string, ts: number, seen: number, kind?: string): string {
   const key =

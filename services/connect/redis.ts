@@ -11,6 +11,11 @@ import type { RedisSettings } from './options.js';
 export interface RedisClientOptions {
   /** Per-command timeout; a paused server makes calls fail after this and the caller retries. */
   commandTimeoutMs?: number;
+  /**
+   * One-shot commands (inspect) try once and fail: no reconnecting, so a closed port is reported
+   * at once with its cause instead of after reconnect attempts.
+   */
+  once?: boolean;
 }
 
 /** The ioredis options for the settings (exported for tests). */
@@ -42,7 +47,7 @@ export function redisOptions(s: RedisSettings, o: RedisClientOptions = {}): Redi
     connectTimeout: 5_000,
     lazyConnect: true,
     // Reconnect forever with a capped delay; the caller's retries decide what waits.
-    retryStrategy: (times) => Math.min(100 * 2 ** Math.min(times, 6), 3_000),
+    retryStrategy: o.once === true ? () => null : (times) => Math.min(100 * 2 ** Math.min(times, 6), 3_000),
   };
   if (u.protocol === 'rediss:') {
     opts.tls = {

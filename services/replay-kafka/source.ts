@@ -26,7 +26,7 @@ import type { Consumer } from 'kafkajs';
 import { parseJsonReading, type ParseResult } from '../../libs/engine/reading.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { InputRecord } from '../replay/input.js';
-import { buildKafka, kafkaRefusal, type KafkaSettings } from '../connect/index.js';
+import { buildKafka, kafkaFailure, type KafkaSettings } from '../connect/index.js';
 
 export interface KafkaRangeStats {
   /** Partitions of the topic, and how many had messages in the offset span. */
@@ -114,19 +114,13 @@ export async function* kafkaRangeSource(opts: KafkaRangeOptions): AsyncGenerator
     try {
       await admin.connect();
     } catch (err) {
-      const refused = kafkaRefusal(err, opts.connection);
-      if (refused) throw refused;
-      throw new StreamfenceError(
-        'SERVICE_UNAVAILABLE',
-        `cannot reach Kafka at ${brokers.join(',')}: ${(err as Error).message}; check the broker list`,
-        { cause: err },
-      );
+      throw kafkaFailure(err, opts.connection, `read topic ${topic}`);
     }
     const topics = await admin.listTopics();
     if (!topics.includes(topic)) {
       throw new StreamfenceError(
         'NOT_FOUND',
-        `Kafka topic "${topic}" does not exist on ${brokers.join(',')}; check the topic name`,
+        `kafka ${brokers.join(',')}: topic "${topic}" does not exist; check the topic name or create it first`,
       );
     }
     const starts = await admin.fetchTopicOffsetsByTimestamp(topic, from);
@@ -213,7 +207,7 @@ export async function* kafkaRangeSource(opts: KafkaRangeOptions): AsyncGenerator
           out = [];
           continue;
         }
-        if (failure !== null) throw kafkaFailure(opts, failure);
+        if (failure !== null) throw readFailure(opts, failure);
         const got = await new Promise<boolean>((resolve) => {
           const timer = setTimeout(() => resolve(false), idleMs);
           wake = () => {
@@ -221,7 +215,7 @@ export async function* kafkaRangeSource(opts: KafkaRangeOptions): AsyncGenerator
             resolve(true);
           };
         });
-        if (failure !== null) throw kafkaFailure(opts, failure);
+        if (failure !== null) throw readFailure(opts, failure);
         if (!got && !ready()) {
           throw new StreamfenceError(
             'SERVICE_UNAVAILABLE',
@@ -266,10 +260,6 @@ export async function* kafkaRangeSource(opts: KafkaRangeOptions): AsyncGenerator
   }
 }
 
-function kafkaFailure(opts: KafkaRangeOptions, err: unknown): StreamfenceError {
-  return new StreamfenceError(
-    'SERVICE_UNAVAILABLE',
-    `reading Kafka topic "${opts.topic}" failed: ${(err as Error)?.message ?? String(err)}; check the brokers and retry`,
-    { cause: err },
-  );
+function readFailure(opts: KafkaRangeOptions, err: unknown): StreamfenceError {
+  return kafkaFailure(err, opts.connection, `read topic ${opts.topic}`);
 }
