@@ -4,6 +4,7 @@
  */
 import type { DoubtfulQuality, Reading } from '../engine/reading.js';
 
+/** Readings as columns: reading i is (names[sensor[i]], ts[i], value[i], quality[i]). */
 export interface ReadingColumns {
   /** Sensor ids; `sensor[i]` indexes this table. */
   names: string[];
