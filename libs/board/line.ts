@@ -6,6 +6,7 @@ import type { AlertEvent } from '../schema/alert-event.js';
 import { severityRank, type Severity } from '../schema/vocabulary.js';
 import type { OperatorAction } from './store.js';
 
+/** How the terminal view draws a line: with ANSI colours, or plain text (pipes, NO_COLOR). */
 export interface LineStyle {
   color: boolean;
   /** Keep the whole detail text instead of fitting the line into LINE_WIDTH columns. */
@@ -115,6 +116,7 @@ function detailOf(ev: AlertEvent): string {
   return ev.message.startsWith(`${ev.sensor} `) ? ev.message.slice(ev.sensor.length + 1) : ev.message;
 }
 
+/** One terminal line for an alert event: time, severity mark, what happened, sensor, group tag, message. */
 export function eventLine(ev: AlertEvent, style: LineStyle, group: GroupMark | null = null): string {
   const cleared = ev.state === 'cleared';
   return compose(

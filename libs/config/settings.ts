@@ -2,9 +2,12 @@
  * Per-sensor detection settings: the config keys, their defaults and their meaning.
  * One table drives validation, documentation and the effective config in summaries.
  */
+/** Which rules raise a flag: the fences, the z limit, either of them or both together. */
 export type Trigger = 'fence' | 'z' | 'either' | 'both';
+/** Which side of normal is flagged. */
 export type Direction = 'both' | 'high' | 'low';
 
+/** Everything that decides how one sensor is judged (the config keys; meanings in the README). */
 export interface SensorSettings {
   /** Inner Tukey fence multiplier: Q1 - k*IQR, Q3 + k*IQR -> warning. */
   fenceK: number;
@@ -37,8 +40,11 @@ export interface SensorSettings {
   buckets: number;
   /** Whether readings taken while an alert is raised feed the baseline. */
   learnWhileRaised: boolean;
+  /** Consecutive readings of quality other than good that raise a bad_quality alert (0 turns it off). */
+  badQualityAfter: number;
 }
 
+/** The default value of every setting (the README's configuration table lists them). */
 export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
   fenceK: 1.5,
   outerK: 3,
@@ -56,8 +62,10 @@ export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
   window: 24 * 3600 * 1000,
   buckets: 12,
   learnWhileRaised: true,
+  badQualityAfter: 10,
 });
 
+/** The names of all settings, in the order of DEFAULT_SETTINGS. */
 export const SETTING_KEYS = Object.keys(DEFAULT_SETTINGS) as (keyof SensorSettings)[];
 
 /** Hard ceilings that keep per-sensor memory bounded whatever the config says. */

@@ -13,6 +13,7 @@ export interface InputRecord {
   result: ParseResult;
 }
 
+/** Hooks a feature plugs into a replay with (the report, the audit); all optional. */
 export interface ReplayObserver {
   /** Every valid reading handed to the engine, with its outcome (a `late` outcome is also reported to onReject). */
   onReading?(r: Reading, outcome: ProcessOutcome, engine: Engine): void;
@@ -27,11 +28,14 @@ export interface ReplayObserver {
   summaryFields?(): Record<string, unknown>;
 }
 
+/** summary.json of a replay: counts, the effective config, the input, and observers' fields. */
 export interface ReplaySummary {
   engineVersion: string;
   input: Record<string, unknown>;
-  /** Readings accepted by the engine. */
+  /** Readings accepted by the engine, of every quality. */
   readings: number;
+  /** Accepted readings by quality; only `good` ones were judged and learned. */
+  quality: { good: number; uncertain: number; bad: number };
   rejected: { total: number; byReason: Record<string, number> };
   sensors: number;
   evaluated: number;

@@ -15,11 +15,13 @@
 import { FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../schema/vocabulary.js';
 import type { Incident } from './labels.js';
 
+/** A raised alert as scoring sees it: its sensor and the raising reading's time. */
 export interface RaisedAlert {
   sensor: string;
   ts: number;
 }
 
+/** How alerts are matched to incidents and rates counted. */
 export interface ScoreOptions {
   /** Extra time after an incident's end in which an alert still counts (ms, default 120 000). */
   graceMs?: number;
@@ -30,12 +32,14 @@ export interface ScoreOptions {
   excludeFromRecall?: readonly string[];
 }
 
+/** Recall of one fault kind. */
 export interface KindScore {
   incidents: number;
   caught: number;
   recall: number | null;
 }
 
+/** How well a set of raised alerts catches the labelled incidents, and at what alert rate. */
 export interface Score {
   incidents: number;
   caught: number;
@@ -50,6 +54,7 @@ export interface Score {
   recallByKind: Record<string, KindScore>;
 }
 
+/** Default grace after an incident's end in which a raise still counts as catching it (2 minutes). */
 export const DEFAULT_GRACE_MS = 120_000;
 /** The kind name incidents without a kind are reported under. */
 export const NO_KIND = '(none)';
@@ -93,6 +98,21 @@ function lastAtOrBefore(sorted: readonly number[], x: number): number {
   return ans;
 }
 
+/** Index of the last element < x in a sorted array, or -1. */
+function lastBefore(sorted: readonly number[], x: number): number {
+  let lo = 0;
+  let hi = sorted.length - 1;
+  let ans = -1;
+  while (lo <= hi) {
+    const mid = (lo + hi) >> 1;
+    if (sorted[mid] < x) {
+      ans = mid;
+      lo = mid + 1;
+    } else hi = mid - 1;
+  }
+  return ans;
+}
+
 /** The most timestamps in any window [t, t + width). */
 export function worstWindow(times: readonly number[], width: number): number {
   const ts = [...times].sort((a, b) => a - b);
@@ -105,6 +125,36 @@ export function worstWindow(times: readonly number[], width: number): number {
   return best;
 }
 
+/** Raise times per sensor, sorted. */
+function raisesBySensor(raised: readonly RaisedAlert[]): Map<string, number[]> {
+  const alertsBy = new Map<string, number[]>();
+  for (const a of raised) {
+    let list = alertsBy.get(a.sensor);
+    if (list === undefined) alertsBy.set(a.sensor, (list = []));
+    list.push(a.ts);
+  }
+  for (const list of alertsBy.values()) list.sort((a, b) => a - b);
+  return alertsBy;
+}
+
+/** Raises on each incident's sensor within [start, end + grace], per incident (0 = missed). */
+export function incidentRaises(
+  incidents: readonly Incident[],
+  raised: readonly RaisedAlert[],
+  graceMs: number,
+): number[] {
+  const alertsBy = raisesBySensor(raised);
+  return incidents.map((inc) => {
+    const list = alertsBy.get(inc.sensor);
+    if (list === undefined) return 0;
+    return Math.max(0, lastAtOrBefore(list, inc.end + graceMs) - lastBefore(list, inc.start));
+  });
+}
+
+/**
+ * Score raised alerts against incidents: recall (overall and per kind), precision, alerts per hour,
+ * worst 10 minutes.
+ */
 export function score(
   incidents: readonly Incident[],
   raised: readonly RaisedAlert[],
