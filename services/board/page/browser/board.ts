@@ -211,11 +211,20 @@ function chart(alert: BoardAlert, points: ChartPoint[]): SVGElement {
 }
 
 function actionButton(label: string, action: ActionName, alert: BoardAlert): HTMLElement {
-  return targetButton(label, action, { scope: 'alerts', id: alert.id, label: alert.sensor }, alert.sensor + ': ' + alert.message);
+  return targetButton(
+    label,
+    action,
+    { scope: 'alerts', id: alert.id, label: alert.sensor },
+    alert.sensor + ': ' + alert.message,
+  );
 }
 
 function targetButton(label: string, action: ActionName, target: ActionTarget, what: string): HTMLElement {
-  const button = el('button', { type: 'button', 'data-key': target.scope + ':' + target.id + ':' + action, text: label });
+  const button = el('button', {
+    type: 'button',
+    'data-key': target.scope + ':' + target.id + ':' + action,
+    text: label,
+  });
   button.addEventListener('click', () => {
     if (action === 'shelve') openShelve(target, what);
     else void post(target, action, {});
@@ -250,7 +259,10 @@ function memberRow(alert: BoardAlert): HTMLElement {
   row.appendChild(el('p', { cls: 'msg', text: alert.message }));
   row.appendChild(
     alert.acknowledged
-      ? el('p', { cls: 'ack yes', text: '✓ Acknowledged by ' + alert.acknowledgedBy + ' at ' + absTime(alert.acknowledgedAt) })
+      ? el('p', {
+          cls: 'ack yes',
+          text: '✓ Acknowledged by ' + alert.acknowledgedBy + ' at ' + absTime(alert.acknowledgedAt),
+        })
       : el('p', { cls: 'ack no', text: '• Not acknowledged' }),
   );
   const later = laterAcks(alert);
@@ -270,7 +282,11 @@ function memberRow(alert: BoardAlert): HTMLElement {
 function groupCard(group: AlertGroup, members: BoardAlert[]): HTMLElement {
   const data = page.data!;
   const first = members[0];
-  const item = el('li', { cls: 'card group ' + severityOf(members), 'data-group': group.id, 'data-status': group.status });
+  const item = el('li', {
+    cls: 'card group ' + severityOf(members),
+    'data-group': group.id,
+    'data-status': group.status,
+  });
   const minutes = data.grouping ? data.grouping.windowMinutes : 0;
   item.appendChild(
     el('div', { cls: 'head' }, [
@@ -286,10 +302,15 @@ function groupCard(group: AlertGroup, members: BoardAlert[]): HTMLElement {
   const groupActions = el('div', { cls: 'actions group-actions' });
   const open = members.filter((alert) => !alert.acknowledged).length;
   if (open > 0)
-    groupActions.appendChild(targetButton('Acknowledge all ' + members.length, 'acknowledge', target, group.asset));
+    groupActions.appendChild(
+      targetButton('Acknowledge all ' + members.length, 'acknowledge', target, group.asset),
+    );
   if (group.status === 'active')
-    groupActions.appendChild(targetButton('Shelve group…', 'shelve', target, group.asset + ': ' + members.length + ' alerts'));
-  if (group.status === 'shelved') groupActions.appendChild(targetButton('Unshelve group', 'unshelve', target, group.asset));
+    groupActions.appendChild(
+      targetButton('Shelve group…', 'shelve', target, group.asset + ': ' + members.length + ' alerts'),
+    );
+  if (group.status === 'shelved')
+    groupActions.appendChild(targetButton('Unshelve group', 'unshelve', target, group.asset));
   item.appendChild(groupActions);
   const firstOut = card(first);
   firstOut.classList.add('first-out');
@@ -600,9 +621,11 @@ function post(
     body: JSON.stringify(body),
   })
     .then((response) =>
-      response
-        .json()
-        .then((answer: ActionReply['body']): ActionReply => ({ ok: response.ok, status: response.status, body: answer })),
+      response.json().then((answer: ActionReply['body']): ActionReply => ({
+        ok: response.ok,
+        status: response.status,
+        body: answer,
+      })),
     )
     .then((reply) => {
       if (reply.status === 401) {
