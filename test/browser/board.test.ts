@@ -47,7 +47,8 @@ describe('operator board in Chromium', () => {
     mkdirSync(ARTIFACTS, { recursive: true });
     // Speed 1: the pre-rolled history puts alerts on the board at once, and they stay put while
     // the test acts on them (a faster plant could clear an alert between click and check).
-    demo = await startDemo(['--speed', '1', '--seed', '11']);
+    // Grouping off: this file checks single alert cards; test/browser/board-groups.test.ts covers groups.
+    demo = await startDemo(['--speed', '1', '--seed', '11', '--group-depth', '0']);
     browser = await chromium.launch({ executablePath: '/usr/bin/chromium', args: ARGS });
     page = await browser.newPage({ viewport: { width: 1400, height: 900 } });
     page.on('console', (m) => {
@@ -186,7 +187,7 @@ describe('operator board in Chromium', () => {
 
 describe('board live updates in Chromium', () => {
   it('new alerts arrive on an open page without a reload (fast plant)', async () => {
-    const demo = await startDemo(['--speed', '600', '--seed', '5']);
+    const demo = await startDemo(['--speed', '600', '--seed', '5', '--group-depth', '0']);
     const browser = await chromium.launch({ executablePath: '/usr/bin/chromium', args: ARGS });
     try {
       const page = await browser.newPage();
