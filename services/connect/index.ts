@@ -23,5 +23,5 @@ export {
   type SaslMechanism,
 } from './options.js';
 export { buildKafka, kafkaConfig, type KafkaClientOptions } from './kafka.js';
-export { buildRedis, redisOptions, type RedisClientOptions } from './redis.js';
+export { buildRedis, connectRedis, redisOptions, type RedisClientOptions } from './redis.js';
 export { kafkaRefusal, redisRefusal } from './refusals.js';

@@ -200,9 +200,14 @@ export async function main(argv: string[]): Promise<number> {
   const poll = setInterval(() => {
     if (broken) stop();
   }, 200);
-  await follower.done;
+  try {
+    await follower.done;
+  } catch (e) {
+    throw kafkaRefusal(e, kafkaSettings, `read ${topics.join(' and ')}`) ?? e;
+  } finally {
+    clearInterval(poll);
+    releaseSignals();
+  }
   flush();
-  clearInterval(poll);
-  releaseSignals();
   return 0;
 }

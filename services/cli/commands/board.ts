@@ -11,6 +11,7 @@ import {
   REDIS_OPTIONS,
   buildKafka,
   buildRedis,
+  connectRedis,
   connectionHelp,
   kafkaRefusal,
   parseArgsOptions,
@@ -90,11 +91,9 @@ export async function main(argv: string[]): Promise<number> {
   printBanner(CMD);
   const redis = buildRedis(redisSettings);
   try {
-    await redis.connect();
+    await connectRedis(redis, redisSettings);
   } catch (e) {
-    redis.disconnect();
-    const refused = redisRefusal(e, redisSettings);
-    if (refused) throw refused;
+    if (e instanceof StreamfenceError) throw e;
     throw new StreamfenceError(
       'SERVICE_UNAVAILABLE',
       `cannot reach Redis at --redis: ${(e as Error).message}`,

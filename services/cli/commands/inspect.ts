@@ -8,7 +8,7 @@ import { describeSensor, storedSensors } from '../inspect-state.js';
 import {
   REDIS_OPTIONS,
   buildRedis,
-  redisRefusal,
+  connectRedis,
   connectionHelp,
   parseArgsOptions,
   readRedisSettings,
@@ -53,10 +53,9 @@ export async function main(argv: string[]): Promise<number> {
   const found = new Set<string>();
   try {
     try {
-      await redis.connect();
+      await connectRedis(redis, redisSettings);
     } catch (e) {
-      const refused = redisRefusal(e, redisSettings);
-      if (refused) throw refused;
+      if (e instanceof StreamfenceError) throw e;
       throw new StreamfenceError(
         'SERVICE_UNAVAILABLE',
         `cannot reach Redis: ${(e as Error).message}; check --redis`,
