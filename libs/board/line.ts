@@ -6,6 +6,7 @@ import type { AlertEvent } from '../schema/alert-event.js';
 import { severityRank, type Severity } from '../schema/vocabulary.js';
 import type { OperatorAction } from './store.js';
 
+/** How the terminal view draws a line: with ANSI colours, or plain text (pipes, NO_COLOR). */
 export interface LineStyle {
   color: boolean;
 }
@@ -36,6 +37,7 @@ function paint(s: string, codes: string, style: LineStyle): string {
   return style.color ? `${codes}${s}${ANSI.reset}` : s;
 }
 
+/** One terminal line for an alert event: time, severity mark, sensor, state and the message. */
 export function eventLine(ev: AlertEvent, style: LineStyle): string {
   const cleared = ev.state === 'cleared';
   const mark = cleared ? CLEARED_MARK : SEVERITY_MARK[ev.severity];
@@ -49,6 +51,7 @@ export function eventLine(ev: AlertEvent, style: LineStyle): string {
   ].join('  ');
 }
 
+/** One terminal line for an operator action (acknowledge, shelve, unshelve); `sensor` when known. */
 export function actionLine(act: OperatorAction, sensor: string | null, style: LineStyle): string {
   const what =
     act.kind === 'acknowledge'

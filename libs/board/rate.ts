@@ -10,6 +10,7 @@ export const RATE_DEFAULTS = { budgetPerHour: ALERT_BUDGET_PER_HOUR, floodPer10M
 const TEN_MIN = 10 * 60_000;
 const HOUR = 60 * 60_000;
 
+/** What the rate meter reads at one moment: raises in the last 10 minutes and hour, against the budget. */
 export interface RateReading {
   last10Min: number;
   lastHour: number;
@@ -21,6 +22,7 @@ export interface RateReading {
   floodPer10Min: number;
 }
 
+/** Counts raised alerts over the last hour of plant time against the budget and the flood mark. */
 export class RateMeter {
   /** Raise times (epoch ms), ascending; only the last hour is kept so memory stays bounded. */
   private times: number[] = [];

@@ -8,6 +8,10 @@ export interface SeriesPoint {
   flagged: boolean;
 }
 
+/**
+ * The last `perSensor` readings of each sensor for the card charts, for at most a fixed number of
+ * sensors.
+ */
 export class RecentSeries {
   private readonly rings = new Map<string, { pts: SeriesPoint[]; pos: number }>();
 

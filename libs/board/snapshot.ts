@@ -9,6 +9,7 @@ import type { BoardAlert } from './store.js';
 /** One recent reading on a card's chart: [event time (epoch ms), value, 1 if flagged else 0]. */
 export type SnapshotPoint = [number, number, number];
 
+/** The board page's whole state in one response (`GET /api/board`). */
 export interface BoardSnapshot {
   mode: 'demo' | 'live';
   /** Plant time runs `speed` times the wall clock (1 in live mode). */

@@ -10,8 +10,10 @@
 import type { AlertEvent } from '../schema/alert-event.js';
 import { severityRank } from '../schema/vocabulary.js';
 
+/** Where an alert stands on the board: active, shelved (hidden for a while) or recently cleared. */
 export type BoardStatus = 'active' | 'shelved' | 'cleared';
 
+/** An alert event as the board shows it: the last event plus the operators' acknowledgement and shelf. */
 export interface BoardAlert extends AlertEvent {
   status: BoardStatus;
   acknowledged: boolean;
@@ -25,8 +27,10 @@ export interface BoardAlert extends AlertEvent {
   changedAt: string;
 }
 
+/** What an operator can do to an alert. */
 export type ActionKind = 'acknowledge' | 'shelve' | 'unshelve';
 
+/** One operator action, as validated, stamped and shared between boards (action topic, Redis). */
 export interface OperatorAction {
   kind: ActionKind;
   id: string;
@@ -39,14 +43,19 @@ export interface OperatorAction {
   until?: string;
 }
 
+/** The alert after an action, or why the action was refused (HTTP 404, 409 or 400). */
 export type ActionResult =
   | { ok: true; alert: BoardAlert }
   | { ok: false; error: 'not_found' | 'conflict' | 'invalid'; message: string };
 
+/** The name actions are recorded under when the operator gave none. */
 export const UNNAMED = 'unnamed';
+/** Bounds of a shelve request: reason length, and the shelf's duration in minutes. */
 export const SHELF_LIMITS = { maxReasonChars: 500, minMinutes: 0.05, maxMinutes: 1440 } as const;
+/** Longest operator name kept (characters). */
 export const OPERATOR_NAME_MAX = 80;
 
+/** Options of a BoardStore. */
 export interface BoardOptions {
   /** How many cleared alerts stay listed. */
   clearedKeep?: number;
@@ -285,6 +294,7 @@ function blank(at: string): Omit<BoardAlert, keyof AlertEvent | 'status'> {
   };
 }
 
+/** A request body checked into an action, or the reason it is refused. */
 export type CheckedAction = { ok: true; action: OperatorAction } | { ok: false; message: string };
 
 /**

@@ -2,9 +2,12 @@
  * Per-sensor detection settings: the config keys, their defaults and their meaning.
  * One table drives validation, documentation and the effective config in summaries.
  */
+/** Which rules raise a flag: the fences, the z limit, either of them or both together. */
 export type Trigger = 'fence' | 'z' | 'either' | 'both';
+/** Which side of normal is flagged. */
 export type Direction = 'both' | 'high' | 'low';
 
+/** Everything that decides how one sensor is judged (the config keys; meanings in the README). */
 export interface SensorSettings {
   /** Inner Tukey fence multiplier: Q1 - k*IQR, Q3 + k*IQR -> warning. */
   fenceK: number;
@@ -39,6 +42,7 @@ export interface SensorSettings {
   learnWhileRaised: boolean;
 }
 
+/** The default value of every setting (the README's configuration table lists them). */
 export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
   fenceK: 1.5,
   outerK: 3,
@@ -58,6 +62,7 @@ export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
   learnWhileRaised: true,
 });
 
+/** The names of all settings, in the order of DEFAULT_SETTINGS. */
 export const SETTING_KEYS = Object.keys(DEFAULT_SETTINGS) as (keyof SensorSettings)[];
 
 /** Hard ceilings that keep per-sensor memory bounded whatever the config says. */

@@ -4,6 +4,10 @@
  */
 import { createHash } from 'node:crypto';
 
+/**
+ * The id of an alert raised by the `seen`-th reading of `sensor`, at event time `ts`: 24 hex
+ * characters of SHA-256.
+ */
 export function alertId(sensor: string, ts: number, seen: number): string {
   return createHash('sha256').update(`${sensor}\u0000${ts}\u0000${seen}`).digest('hex').slice(0, 24);
 }

@@ -5,13 +5,18 @@
 import type { AlertEvent } from '../schema/alert-event.js';
 import { REASON_WORDS, type Reason } from '../schema/vocabulary.js';
 
+/**
+ * A number as an alert message writes it: 4 significant digits, exponent form when very large or
+ * small, `n/a` for none.
+ */
 export function fmt(x: number | null, digits = 4): string {
   if (x === null || !Number.isFinite(x)) return 'n/a';
-  const a = Math.abs(x);
-  if (a !== 0 && (a >= 1e6 || a < 1e-3)) return x.toExponential(2);
+  const magnitude = Math.abs(x);
+  if (magnitude !== 0 && (magnitude >= 1e6 || magnitude < 1e-3)) return x.toExponential(2);
   return String(Number(x.toPrecision(digits)));
 }
 
+/** The reasons in plain words (REASON_WORDS), comma-separated. */
 export function describeReasons(reasons: readonly Reason[]): string {
   return reasons.map((reason) => REASON_WORDS[reason] ?? reason).join(', ');
 }
@@ -22,36 +27,45 @@ type MessageInput = Omit<AlertEvent, 'message' | 'notice' | 'id'> & {
   stuckRun: number;
 };
 
-export function alertMessage(e: MessageInput): string {
-  const b = e.baseline;
+/** The plain sentence of an alert event: the value against the fences, z, percentile and since when. */
+export function alertMessage(input: MessageInput): string {
+  const baseline = input.baseline;
   const parts: string[] = [];
-  if (e.state === 'cleared') {
+  if (input.state === 'cleared') {
     parts.push(
-      `${e.sensor} is back to normal at ${fmt(e.value)} (${e.ts}); it had been abnormal since ${e.since}`,
+      `${input.sensor} is back to normal at ${fmt(input.value)} (${input.ts}); it had been abnormal since ${input.since}`,
     );
-    if (b.lowerFence !== null && b.upperFence !== null) {
-      parts.push(`normal range ${fmt(b.lowerFence)} to ${fmt(b.upperFence)}`);
+    if (baseline.lowerFence !== null && baseline.upperFence !== null) {
+      parts.push(`normal range ${fmt(baseline.lowerFence)} to ${fmt(baseline.upperFence)}`);
     }
     return parts.join('; ') + '.';
   }
-  const verb = e.state === 'raised' ? 'reads' : e.severity === 'critical' ? 'worsened to' : 'eased to';
-  parts.push(`${e.sensor} ${verb} ${fmt(e.value)}, ${describeReasons(e.reasons)} (${e.severity})`);
-  const has = (reason: Reason) => e.reasons.includes(reason);
-  if ((has('fence_high') || has('outer_fence_high')) && b.upperFence !== null) {
-    parts.push(`${fmt(e.value - b.upperFence)} above the upper fence ${fmt(b.upperFence)}`);
-  } else if ((has('fence_low') || has('outer_fence_low')) && b.lowerFence !== null) {
-    parts.push(`${fmt(b.lowerFence - e.value)} below the lower fence ${fmt(b.lowerFence)}`);
-  } else if (b.lowerFence !== null && b.upperFence !== null && b.iqr !== null && b.iqr > 0) {
-    parts.push(`fences ${fmt(b.lowerFence)} to ${fmt(b.upperFence)}`);
+  const verb =
+    input.state === 'raised' ? 'reads' : input.severity === 'critical' ? 'worsened to' : 'eased to';
+  parts.push(
+    `${input.sensor} ${verb} ${fmt(input.value)}, ${describeReasons(input.reasons)} (${input.severity})`,
+  );
+  const has = (reason: Reason) => input.reasons.includes(reason);
+  if ((has('fence_high') || has('outer_fence_high')) && baseline.upperFence !== null) {
+    parts.push(`${fmt(input.value - baseline.upperFence)} above the upper fence ${fmt(baseline.upperFence)}`);
+  } else if ((has('fence_low') || has('outer_fence_low')) && baseline.lowerFence !== null) {
+    parts.push(`${fmt(baseline.lowerFence - input.value)} below the lower fence ${fmt(baseline.lowerFence)}`);
+  } else if (
+    baseline.lowerFence !== null &&
+    baseline.upperFence !== null &&
+    baseline.iqr !== null &&
+    baseline.iqr > 0
+  ) {
+    parts.push(`fences ${fmt(baseline.lowerFence)} to ${fmt(baseline.upperFence)}`);
   }
-  if (has('limit_high') && e.max !== null) parts.push(`physical maximum ${fmt(e.max)}`);
-  if (has('limit_low') && e.min !== null) parts.push(`physical minimum ${fmt(e.min)}`);
-  if (has('flatline')) parts.push(`the same value ${e.stuckRun} readings in a row`);
-  if (e.z !== null) parts.push(`z = ${fmt(e.z, 3)}`);
-  if (e.percentileRank !== null) {
-    parts.push(`${fmt(e.percentileRank, 3)}% of the window (${b.count} readings) was lower`);
+  if (has('limit_high') && input.max !== null) parts.push(`physical maximum ${fmt(input.max)}`);
+  if (has('limit_low') && input.min !== null) parts.push(`physical minimum ${fmt(input.min)}`);
+  if (has('flatline')) parts.push(`the same value ${input.stuckRun} readings in a row`);
+  if (input.z !== null) parts.push(`z = ${fmt(input.z, 3)}`);
+  if (input.percentileRank !== null) {
+    parts.push(`${fmt(input.percentileRank, 3)}% of the window (${baseline.count} readings) was lower`);
   }
-  if (b.median !== null) parts.push(`median ${fmt(b.median)}`);
-  parts.push(`abnormal since ${e.since}`);
+  if (baseline.median !== null) parts.push(`median ${fmt(baseline.median)}`);
+  parts.push(`abnormal since ${input.since}`);
   return parts.join('; ') + '.';
 }

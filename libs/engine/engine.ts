@@ -16,8 +16,10 @@ import type { Reading } from './reading.js';
 import type { SensorBudget } from './sensor-budget.js';
 import { decodeSensorState, encodeSensorState, SensorState } from './sensor-state.js';
 
+/** Version of the judging semantics, written into replay and tune summaries. */
 export const ENGINE_VERSION = '1.0.0';
 
+/** Lifetime counts of one Engine: readings, late refusals, evaluated and flagged readings, alert events. */
 export interface EngineCounters {
   readings: number;
   late: number;
@@ -28,10 +30,12 @@ export interface EngineCounters {
 
 const NO_EVENTS: readonly AlertEvent[] = Object.freeze([]);
 
+/** What one reading did: accepted with its verdict and alert events, or refused (`late`, `sensor_limit`). */
 export type ProcessOutcome =
   | { accepted: true; verdict: Verdict; events: readonly AlertEvent[] }
   | { accepted: false; reason: 'late' | 'sensor_limit'; detail: string; events: readonly AlertEvent[] };
 
+/** Counters at zero. */
 export function newCounters(): EngineCounters {
   return {
     readings: 0,
@@ -44,6 +48,10 @@ export function newCounters(): EngineCounters {
 
 const iso = (ts: number): string => new Date(ts).toISOString();
 
+/**
+ * Judges a stream of readings, keeping each sensor's state in memory (one per replay, per
+ * partition, per worker).
+ */
 export class Engine {
   readonly resolver: SettingsResolver;
   private readonly states = new Map<string, SensorState>();

@@ -11,6 +11,7 @@ import type { SensorSettings } from '../config/settings.js';
 import { severityRank, type Reason, type Severity } from '../schema/vocabulary.js';
 import type { Baseline } from './window.js';
 
+/** The rules' answer for one reading: flagged or not, severity and reasons, and which rules fired. */
 export interface Verdict {
   /** The baseline was warm, so statistical rules ran. */
   evaluated: boolean;
@@ -23,6 +24,7 @@ export interface Verdict {
   zHit: boolean;
 }
 
+/** The verdict for an unflagged reading before the baseline is warm (shared, frozen: no allocation). */
 export const NORMAL_COLD: Verdict = Object.freeze({
   evaluated: false,
   flagged: false,
@@ -33,6 +35,7 @@ export const NORMAL_COLD: Verdict = Object.freeze({
   zHit: false,
 }) as Verdict;
 
+/** The verdict for an unflagged reading against a warm baseline (shared, frozen). */
 export const NORMAL_WARM: Verdict = Object.freeze({ ...NORMAL_COLD, evaluated: true }) as Verdict;
 
 /** Fences derived from a baseline and the sensor's multipliers. */
@@ -43,54 +46,66 @@ export interface Fences {
   upperOuter: number;
 }
 
+/** Tukey's fences of a baseline: Q1 − k·IQR and Q3 + k·IQR, inner (fenceK) and outer (outerK). */
 export function fencesOf(
-  b: Pick<Baseline, 'q1' | 'q3' | 'iqr'>,
-  s: Pick<SensorSettings, 'fenceK' | 'outerK'>,
+  baseline: Pick<Baseline, 'q1' | 'q3' | 'iqr'>,
+  settings: Pick<SensorSettings, 'fenceK' | 'outerK'>,
 ): Fences {
   return {
-    lower: b.q1 - s.fenceK * b.iqr,
-    upper: b.q3 + s.fenceK * b.iqr,
-    lowerOuter: b.q1 - s.outerK * b.iqr,
-    upperOuter: b.q3 + s.outerK * b.iqr,
+    lower: baseline.q1 - settings.fenceK * baseline.iqr,
+    upper: baseline.q3 + settings.fenceK * baseline.iqr,
+    lowerOuter: baseline.q1 - settings.outerK * baseline.iqr,
+    upperOuter: baseline.q3 + settings.outerK * baseline.iqr,
   };
 }
 
 /** z, or null when the baseline has no spread. */
-export function zScore(x: number, b: Baseline): number | null {
-  return b.stdDev > 0 ? (x - b.mean) / b.stdDev : null;
+export function zScore(value: number, baseline: Baseline): number | null {
+  return baseline.stdDev > 0 ? (value - baseline.mean) / baseline.stdDev : null;
 }
 
 /** Robust z from median and IQR (sigma ~ IQR / 1.349 for normal data), or null when IQR is 0. */
-export function robustZ(x: number, b: Baseline): number | null {
-  return b.iqr > 0 ? ((x - b.median) * 1.349) / b.iqr : null;
+export function robustZ(value: number, baseline: Baseline): number | null {
+  return baseline.iqr > 0 ? ((value - baseline.median) * 1.349) / baseline.iqr : null;
 }
 
 /** Collects reasons and the highest severity; allocated only for readings that are flagged. */
 class Flags {
   reasons: Reason[] = [];
   severity: Severity | null = null;
-  add(r: Reason, sev: Severity): void {
-    this.reasons.push(r);
-    if (severityRank(sev) > severityRank(this.severity)) this.severity = sev;
+  add(reason: Reason, severity: Severity): void {
+    this.reasons.push(reason);
+    if (severityRank(severity) > severityRank(this.severity)) this.severity = severity;
   }
 }
 
+/**
+ * Judge one reading against its sensor's baseline: physical limits first (no baseline needed), then,
+ * once the baseline holds `minSamples`, the fence and z rules combined by `trigger`, a departure
+ * from a constant baseline and a flatline (`stuckRun` identical values). Pure: the verdict depends
+ * on the arguments only; the open bucket is never part of `baseline`.
+ *
+ * @example
+ * const fences = fencesOf(baseline, settings); // cached per baseline by the engine
+ * const verdict = judge(97.2, settings, baseline, fences, 1);
+ * // { evaluated: true, flagged: true, severity: 'critical', reasons: ['outer_fence_high', 'z_high'], ... }
+ */
 export function judge(
-  x: number,
-  s: SensorSettings,
-  b: Baseline | null,
-  f: Fences | null,
+  value: number,
+  settings: SensorSettings,
+  baseline: Baseline | null,
+  fences: Fences | null,
   stuckRun: number,
 ): Verdict {
   let flags: Flags | null = null;
-  const high = s.direction !== 'low';
-  const low = s.direction !== 'high';
+  const high = settings.direction !== 'low';
+  const low = settings.direction !== 'high';
 
   // Physical limits need no baseline and ignore `direction`: they are explicit.
-  if (s.max !== null && x > s.max) (flags ??= new Flags()).add('limit_high', 'critical');
-  if (s.min !== null && x < s.min) (flags ??= new Flags()).add('limit_low', 'critical');
+  if (settings.max !== null && value > settings.max) (flags ??= new Flags()).add('limit_high', 'critical');
+  if (settings.min !== null && value < settings.min) (flags ??= new Flags()).add('limit_low', 'critical');
 
-  if (b === null || f === null || b.count < s.minSamples) {
+  if (baseline === null || fences === null || baseline.count < settings.minSamples) {
     return flags === null
       ? NORMAL_COLD
       : { ...NORMAL_COLD, flagged: true, severity: flags.severity, reasons: flags.reasons };
@@ -99,30 +114,30 @@ export function judge(
   // Fence rule.
   let fenceSev: Severity | null = null;
   let fenceReason: Reason = 'fence_high';
-  if (b.iqr > 0) {
-    if (high && x > f.upper) {
-      fenceSev = x > f.upperOuter ? 'critical' : 'warning';
-      fenceReason = x > f.upperOuter ? 'outer_fence_high' : 'fence_high';
-    } else if (low && x < f.lower) {
-      fenceSev = x < f.lowerOuter ? 'critical' : 'warning';
-      fenceReason = x < f.lowerOuter ? 'outer_fence_low' : 'fence_low';
+  if (baseline.iqr > 0) {
+    if (high && value > fences.upper) {
+      fenceSev = value > fences.upperOuter ? 'critical' : 'warning';
+      fenceReason = value > fences.upperOuter ? 'outer_fence_high' : 'fence_high';
+    } else if (low && value < fences.lower) {
+      fenceSev = value < fences.lowerOuter ? 'critical' : 'warning';
+      fenceReason = value < fences.lowerOuter ? 'outer_fence_low' : 'fence_low';
     }
   }
   // z rule.
   let zSev: Severity | null = null;
   let zReason: Reason = 'z_high';
-  if (b.stdDev > 0) {
-    const z = (x - b.mean) / b.stdDev;
-    if (high && z > s.zLimit) {
-      zSev = z > s.zCritical ? 'critical' : 'warning';
-    } else if (low && z < -s.zLimit) {
-      zSev = z < -s.zCritical ? 'critical' : 'warning';
+  if (baseline.stdDev > 0) {
+    const z = (value - baseline.mean) / baseline.stdDev;
+    if (high && z > settings.zLimit) {
+      zSev = z > settings.zCritical ? 'critical' : 'warning';
+    } else if (low && z < -settings.zLimit) {
+      zSev = z < -settings.zCritical ? 'critical' : 'warning';
       zReason = 'z_low';
     }
   }
 
   if (fenceSev !== null || zSev !== null) {
-    if (s.trigger === 'both') {
+    if (settings.trigger === 'both') {
       if (fenceSev !== null && zSev !== null) {
         // Both must agree: the alert takes the level both reached.
         const both: Severity = severityRank(fenceSev) <= severityRank(zSev) ? fenceSev : zSev;
@@ -131,16 +146,20 @@ export function judge(
         flags.add(zReason, both);
       }
     } else {
-      if (fenceSev !== null && s.trigger !== 'z') (flags ??= new Flags()).add(fenceReason, fenceSev);
-      if (zSev !== null && s.trigger !== 'fence') (flags ??= new Flags()).add(zReason, zSev);
+      if (fenceSev !== null && settings.trigger !== 'z') (flags ??= new Flags()).add(fenceReason, fenceSev);
+      if (zSev !== null && settings.trigger !== 'fence') (flags ??= new Flags()).add(zReason, zSev);
     }
   }
 
-  if (b.iqr === 0 && b.stdDev === 0 && x !== b.median) {
-    if ((high && x > b.median) || (low && x < b.median))
+  if (baseline.iqr === 0 && baseline.stdDev === 0 && value !== baseline.median) {
+    if ((high && value > baseline.median) || (low && value < baseline.median))
       (flags ??= new Flags()).add('departs_constant', 'warning');
   }
-  if (s.flatlineAfter > 0 && stuckRun >= s.flatlineAfter && (b.iqr > 0 || b.stdDev > 0)) {
+  if (
+    settings.flatlineAfter > 0 &&
+    stuckRun >= settings.flatlineAfter &&
+    (baseline.iqr > 0 || baseline.stdDev > 0)
+  ) {
     (flags ??= new Flags()).add('flatline', 'warning');
   }
 

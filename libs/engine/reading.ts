@@ -5,6 +5,7 @@
 import { isEpochText, parseIsoTime } from './iso-time.js';
 import { scanReadingObject } from './reading-scan.js';
 
+/** One validated sensor reading. */
 export interface Reading {
   sensor: string;
   /** Event time, epoch milliseconds. */
@@ -12,6 +13,7 @@ export interface Reading {
   value: number;
 }
 
+/** Why an input line is not an accepted reading (kept with the line in rejected output). */
 export type RejectReason =
   | 'line_too_long'
   | 'not_json'
@@ -29,6 +31,7 @@ export type RejectReason =
   | 'late'
   | 'sensor_limit';
 
+/** Every reject reason, in the order the README lists them. */
 export const REJECT_REASONS: readonly RejectReason[] = [
   'line_too_long',
   'not_json',
@@ -58,6 +61,7 @@ export const LIMITS = {
   maxTs: 253_402_300_799_999,
 } as const;
 
+/** A parsed reading, or the reason and detail of the refusal. */
 export type ParseResult =
   { ok: true; reading: Reading } | { ok: false; reason: RejectReason; detail: string };
 
@@ -67,18 +71,18 @@ const reject = (reason: RejectReason, detail: string): ParseResult => ({ ok: fal
  * Whether trim() could change `s`: its first or last character is at most U+0020 or beyond
  * U+007E (where the other white space of String.prototype.trim lives). Saves a trim per reading.
  */
-function hasEdgeSpace(s: string): boolean {
-  if (s.length === 0) return false;
-  const first = s.charCodeAt(0);
-  const last = s.charCodeAt(s.length - 1);
+function hasEdgeSpace(text: string): boolean {
+  if (text.length === 0) return false;
+  const first = text.charCodeAt(0);
+  const last = text.charCodeAt(text.length - 1);
   return first <= 32 || first > 126 || last <= 32 || last > 126;
 }
 
 /** C0 and C1 control characters (and DEL) are refused in sensor ids: they break logs, terminals and keys. */
-function hasControlChars(s: string): boolean {
-  for (let i = 0; i < s.length; i++) {
-    const c = s.charCodeAt(i);
-    if (c <= 0x1f || (c >= 0x7f && c <= 0x9f)) return true;
+function hasControlChars(text: string): boolean {
+  for (let i = 0; i < text.length; i++) {
+    const code = text.charCodeAt(i);
+    if (code <= 0x1f || (code >= 0x7f && code <= 0x9f)) return true;
   }
   return false;
 }
@@ -97,20 +101,20 @@ export function parseTimestamp(
       return { ok: false, reason: 'ts_invalid', detail: 'timestamp is not a finite number' };
     ts = Math.round(raw);
   } else if (typeof raw === 'string') {
-    const s = hasEdgeSpace(raw) ? raw.trim() : raw;
-    if (isEpochText(s)) {
-      ts = Math.round(Number(s));
+    const trimmed = hasEdgeSpace(raw) ? raw.trim() : raw;
+    if (isEpochText(trimmed)) {
+      ts = Math.round(Number(trimmed));
     } else {
-      const parsed = parseIsoTime(s);
+      const parsed = parseIsoTime(trimmed);
       if (parsed === 'structure') {
         return {
           ok: false,
           reason: 'ts_invalid',
-          detail: `timestamp "${clip(s)}" is not ISO-8601 with a zone (e.g. 2026-05-01T08:00:00Z) nor epoch milliseconds`,
+          detail: `timestamp "${clip(trimmed)}" is not ISO-8601 with a zone (e.g. 2026-05-01T08:00:00Z) nor epoch milliseconds`,
         };
       }
       if (parsed === 'value') {
-        return { ok: false, reason: 'ts_invalid', detail: `timestamp "${clip(s)}" is not a real date` };
+        return { ok: false, reason: 'ts_invalid', detail: `timestamp "${clip(trimmed)}" is not a real date` };
       }
       ts = parsed;
     }
@@ -148,28 +152,28 @@ export function validateFields(
   }
   if (hasControlChars(sensor)) return reject('sensor_bad_chars', 'sensor id contains control characters');
 
-  let v: number;
+  let numeric: number;
   if (value === undefined || value === null || (valueFromText && value === '')) {
     return reject('value_missing', 'field "value" is missing');
   }
   if (typeof value === 'number') {
-    v = value;
+    numeric = value;
   } else if (
     valueFromText &&
     typeof value === 'string' &&
     /^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$/.test(value)
   ) {
-    v = Number(value);
+    numeric = Number(value);
   } else if (valueFromText && typeof value === 'string' && /^\s*[-+]?(inf|infinity|nan)\s*$/i.test(value)) {
     return reject('value_not_finite', `value "${clip(value)}" is not a finite number`);
   } else {
     return reject('value_not_number', `field "value" must be a number, got ${describe(value)}`);
   }
-  if (!Number.isFinite(v)) return reject('value_not_finite', 'value is not a finite number');
+  if (!Number.isFinite(numeric)) return reject('value_not_finite', 'value is not a finite number');
 
-  const t = parseTimestamp(ts);
-  if (!t.ok) return t;
-  return { ok: true, reading: { sensor, ts: t.ts, value: v } };
+  const time = parseTimestamp(ts);
+  if (!time.ok) return time;
+  return { ok: true, reading: { sensor, ts: time.ts, value: numeric } };
 }
 
 /** Parse one NDJSON line or one message payload. Never throws. */
@@ -191,17 +195,17 @@ export function parseJsonReading(line: string): ParseResult {
   if (typeof obj !== 'object' || obj === null || Array.isArray(obj)) {
     return reject('not_object', 'a reading must be a JSON object {"sensor","ts","value"}');
   }
-  const o = obj as Record<string, unknown>;
-  return validateFields(o.sensor, o.ts, o.value);
+  const record = obj as Record<string, unknown>;
+  return validateFields(record.sensor, record.ts, record.value);
 }
 
-function clip(s: string): string {
-  return s.length > 40 ? `${s.slice(0, 40)}...` : s;
+function clip(text: string): string {
+  return text.length > 40 ? `${text.slice(0, 40)}...` : text;
 }
 
-function describe(v: unknown): string {
-  if (typeof v === 'string') return `the string "${clip(v)}"`;
-  if (typeof v === 'boolean') return 'a boolean';
-  if (Array.isArray(v)) return 'an array';
-  return typeof v;
+function describe(value: unknown): string {
+  if (typeof value === 'string') return `the string "${clip(value)}"`;
+  if (typeof value === 'boolean') return 'a boolean';
+  if (Array.isArray(value)) return 'an array';
+  return typeof value;
 }

@@ -21,6 +21,7 @@ import {
 } from '../stats/digest.js';
 import { SKETCH } from './sketch-params.js';
 
+/** A closed bucket of the window: its moments, time span and frozen centroids. */
 export interface ClosedBucket {
   index: number;
   moments: Moments;

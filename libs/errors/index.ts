@@ -20,6 +20,7 @@ export const ERROR_CODES = [
   'TLS_FAILED',
   'NOT_AUTHORISED',
   'NOT_FOUND',
+  'INPUT_EMPTY',
 ] as const;
 
 /** A stable error code: what programs and tests match on (the message is for people). */

@@ -8,6 +8,7 @@
  */
 import { LIMITS, validateFields, type ParseResult } from '../engine/reading.js';
 
+/** Where the three reading fields are in a CSV row (0-based), from the header. */
 export interface CsvColumns {
   sensor: number;
   ts: number;
@@ -16,6 +17,7 @@ export interface CsvColumns {
   needed: number;
 }
 
+/** The columns a readings CSV header must name. */
 export const REQUIRED_COLUMNS = ['sensor', 'ts', 'value'] as const;
 
 /** Split a CSV line into at most `limit` fields (the rest of the line is not scanned). */
@@ -25,13 +27,13 @@ export function splitCsvLine(line: string, limit = Number.MAX_SAFE_INTEGER): str
     // Fast path for the common unquoted row.
     let start = 0;
     while (out.length < limit) {
-      const c = line.indexOf(',', start);
-      if (c < 0) {
+      const comma = line.indexOf(',', start);
+      if (comma < 0) {
         out.push(line.slice(start));
         break;
       }
-      out.push(line.slice(start, c));
-      start = c + 1;
+      out.push(line.slice(start, comma));
+      start = comma + 1;
     }
     return out;
   }
@@ -43,36 +45,36 @@ export function splitCsvLine(line: string, limit = Number.MAX_SAFE_INTEGER): str
       let field = '';
       let j = i + 1;
       for (;;) {
-        const q = line.indexOf('"', j);
-        if (q < 0) {
+        const quote = line.indexOf('"', j);
+        if (quote < 0) {
           field += line.slice(j);
           j = n;
           break;
         }
-        field += line.slice(j, q);
-        if (line.charCodeAt(q + 1) === 34) {
+        field += line.slice(j, quote);
+        if (line.charCodeAt(quote + 1) === 34) {
           field += '"';
-          j = q + 2;
+          j = quote + 2;
         } else {
-          j = q + 1;
+          j = quote + 1;
           break;
         }
       }
-      const c = line.indexOf(',', j);
-      if (c < 0) {
+      const comma = line.indexOf(',', j);
+      if (comma < 0) {
         out.push(field + line.slice(j));
         break;
       }
-      out.push(field + line.slice(j, c));
-      i = c + 1;
+      out.push(field + line.slice(j, comma));
+      i = comma + 1;
     } else {
-      const c = line.indexOf(',', i);
-      if (c < 0) {
+      const comma = line.indexOf(',', i);
+      if (comma < 0) {
         out.push(line.slice(i));
         break;
       }
-      out.push(line.slice(i, c));
-      i = c + 1;
+      out.push(line.slice(i, comma));
+      i = comma + 1;
     }
   }
   return out;
@@ -110,7 +112,7 @@ export function parseCsvReading(line: string, cols: CsvColumns): ParseResult {
       detail: `line has ${line.length} characters; the limit is ${LIMITS.maxLineLength}`,
     };
   }
-  const f = splitCsvLine(line, cols.needed);
-  const ts = f[cols.ts];
-  return validateFields(f[cols.sensor], ts === '' ? undefined : ts, f[cols.value], true);
+  const fields = splitCsvLine(line, cols.needed);
+  const ts = fields[cols.ts];
+  return validateFields(fields[cols.sensor], ts === '' ? undefined : ts, fields[cols.value], true);
 }

@@ -37,8 +37,8 @@ export class AuditSample<T> {
 
   /** The sensor's mirror when it is in the sample, else undefined. Call on every reading. */
   get(sensor: string): T | undefined {
-    const m = this.members.get(sensor);
-    if (m !== undefined) return m.data;
+    const member = this.members.get(sensor);
+    if (member !== undefined) return member.data;
     if (this.size <= 0 || this.seen.has(sensor)) return undefined;
     this.seen.add(sensor);
     const hash = sensorHash(sensor);
@@ -79,12 +79,12 @@ export class BucketMirror {
       this.overflowed = true;
       return;
     }
-    let b = this.buckets.get(bucketIndex);
-    if (b === undefined) {
-      b = [];
-      this.buckets.set(bucketIndex, b);
+    let bucket = this.buckets.get(bucketIndex);
+    if (bucket === undefined) {
+      bucket = [];
+      this.buckets.set(bucketIndex, bucket);
     }
-    b.push(value);
+    bucket.push(value);
     this.held++;
   }
 
@@ -105,11 +105,12 @@ export class BucketMirror {
     for (const i of indexes) n += this.buckets.get(i)?.length ?? 0;
     const out = new Float64Array(n);
     let k = 0;
-    for (const i of indexes) for (const v of this.buckets.get(i) ?? []) out[k++] = v;
+    for (const i of indexes) for (const value of this.buckets.get(i) ?? []) out[k++] = value;
     return out.sort();
   }
 }
 
+/** One quantile of the sketch audit: the digest's answer against the exact quantile. */
 export interface QuantileCheck {
   p: number;
   /** The digest's answer. */
@@ -122,6 +123,7 @@ export interface QuantileCheck {
   rankError: number;
 }
 
+/** The sketch audit of one sensor's baseline: quartiles and median, digest against exact. */
 export interface AuditRow {
   sensor: string;
   /** Readings in the baseline (the closed buckets). */
@@ -131,11 +133,13 @@ export interface AuditRow {
   q3: QuantileCheck;
 }
 
+/** Compare the digest's `p`-quantile with the exact one of the same sorted readings. */
 export function checkQuantile(sorted: Float64Array, p: number, digest: number): QuantileCheck {
   const exact = quantileType7(sorted, p);
   return { p, digest, exact, diff: digest - exact, rankError: exactRank(sorted, digest) - p };
 }
 
+/** The audit row of one sensor from its sorted baseline readings and the digest's quartiles. */
 export function auditRow(
   sensor: string,
   sorted: Float64Array,

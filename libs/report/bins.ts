@@ -33,6 +33,7 @@ export interface Bin {
   sum: Record<string, number>;
 }
 
+/** A fixed number of time bins (min/max per bin) whose width doubles in place as time runs on. */
 export class AdaptiveBins {
   readonly slots: number;
   widthMs: number;

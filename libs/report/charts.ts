@@ -21,6 +21,7 @@ import {
   type Frame,
 } from './svg.js';
 
+/** An alert event drawn on a sensor chart. */
 export interface AlertMarker {
   ts: number;
   value: number;
@@ -28,6 +29,7 @@ export interface AlertMarker {
   severity: Severity;
 }
 
+/** What a sensor chart draws: the readings' bins, the baseline band and the alert markers. */
 export interface SensorChartInput {
   /** Unique within the page (used for the clip path id); any text, it is sanitised. */
   key: string;
@@ -47,6 +49,7 @@ function svgOpen(f: Frame, cls: string, label: string): string {
 
 const safeId = (key: string): string => key.replace(/[^A-Za-z0-9_-]/g, '_');
 
+/** The marker of an alert event: shape tells the state and severity apart without colour. */
 export function markerShape(m: AlertMarker): 'triangle' | 'diamond' | 'circle' | 'dot' {
   if (m.state === 'cleared') return 'circle';
   if (m.state === 'updated') return 'dot';
@@ -113,6 +116,7 @@ export function sensorChart(input: SensorChartInput): string {
   ].join('');
 }
 
+/** What the alert-rate chart draws: raised alerts per clock hour against the budget and flood rate. */
 export interface RateChartInput {
   /** Clock-hour bars over the whole data span (hourBars). */
   bars: readonly HourBar[];
@@ -169,6 +173,7 @@ export function rateChart(input: RateChartInput): string {
   ].join('');
 }
 
+/** One grid point on the tune chart: alert rate against recall, precision as marker size. */
 export interface ScatterPoint {
   label: string;
   alertsPerHour: number;

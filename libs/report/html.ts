@@ -44,6 +44,10 @@ svg .pt.recommended { fill: var(--ok); stroke: #1c5a45; }
 svg .ring { fill: none; stroke: var(--ok); stroke-width: 2; }
 `;
 
+/**
+ * A whole self-contained report page (inline style, strict Content-Security-Policy, no script, the
+ * caution).
+ */
 export function page(title: string, subtitle: string, body: string): string {
   return [
     '<!doctype html>',
@@ -61,6 +65,7 @@ export function page(title: string, subtitle: string, body: string): string {
   ].join('\n');
 }
 
+/** A table cell: text (escaped), a number (formatted), trusted markup, or empty. */
 export type Cell = string | number | null | { html: string } | { num: number | null; digits?: number };
 
 /** A table; strings are escaped, `{html}` cells are trusted markup built by our own code. */

@@ -22,6 +22,7 @@ import { page, table, type Cell } from './html.js';
 import { fmtNum, markerPath } from './svg.js';
 import type { ReplayObserver, ReplaySummary } from '../schema/replay.js';
 
+/** Options of the replay report (`replay --report`, `--audit`). */
 export interface ReportOptions {
   /** Sensors charted, by alerts raised (default 8). */
   topN?: number;
@@ -41,6 +42,7 @@ export interface ReportOptions {
   maxMarkersPerSensor?: number;
 }
 
+/** Defaults of the replay report options. */
 export const REPORT_DEFAULTS = {
   topN: 8,
   auditSample: 20,
@@ -81,6 +83,7 @@ interface Mirror {
   openIndex: number;
 }
 
+/** A replay observer that collects the report's figures and renders report.html at the end. */
 export type ReportObserver = ReplayObserver & {
   render(summary: ReplaySummary): string;
   /** Audit numbers (null when the audit is off); available after onEnd. */
@@ -93,6 +96,7 @@ const RATE_BARS = 168;
 // The first bin width: fine enough for a few minutes of data; it doubles as the span grows.
 const FIRST_BIN_MS = 1000;
 
+/** The replay report: pass it to runReplay as an observer, then `render(summary)`. */
 export function createReportObserver(opts: ReportOptions = {}): ReportObserver {
   const o: Required<Omit<ReportOptions, 'audit'>> = { ...REPORT_DEFAULTS, ...stripUndefined(opts) };
   const series = new Map<string, Series>();

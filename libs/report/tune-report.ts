@@ -24,6 +24,7 @@ export interface TunePointDoc {
   recallByKind?: Record<string, number | null>;
 }
 
+/** tuning.json as the tune report reads it (fields it does not know are ignored). */
 export interface TuningDoc {
   points?: TunePointDoc[];
   /** Accepted as another name for `points`. */
@@ -58,6 +59,7 @@ function recommendedIndex(points: readonly TunePointDoc[], rec: TuningDoc['recom
 const pct = (v: number | null | undefined): Cell =>
   v === null || v === undefined ? null : `${(v * 100).toFixed(1)} %`;
 
+/** The tune report page for a tuning.json document. */
 export function renderTuneReport(tuning: TuningDoc): string {
   const points = tuning.points ?? tuning.grid ?? [];
   const budget =

@@ -13,6 +13,7 @@ export interface InputRecord {
   result: ParseResult;
 }
 
+/** Hooks a feature plugs into a replay with (the report, the audit); all optional. */
 export interface ReplayObserver {
   /** Every valid reading handed to the engine, with its outcome (a `late` outcome is also reported to onReject). */
   onReading?(r: Reading, outcome: ProcessOutcome, engine: Engine): void;
@@ -27,6 +28,7 @@ export interface ReplayObserver {
   summaryFields?(): Record<string, unknown>;
 }
 
+/** summary.json of a replay: counts, the effective config, the input, and observers' fields. */
 export interface ReplaySummary {
   engineVersion: string;
   input: Record<string, unknown>;

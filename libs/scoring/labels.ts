@@ -6,6 +6,7 @@
 import { StreamfenceError } from '../errors/index.js';
 import { parseTimestamp } from '../engine/reading.js';
 
+/** One labelled incident: a sensor, a time span (epoch ms) and a kind. */
 export interface Incident {
   sensor: string;
   start: number;
@@ -54,6 +55,10 @@ function csvField(s: string): string {
   return /[",\n\r]/.test(s) || s !== s.trim() ? `"${s.replace(/"/g, '""')}"` : s;
 }
 
+/**
+ * Parse a labels CSV (header `sensor,start,end[,kind]` in any order; times ISO-8601 with a zone, or
+ * epoch ms). A bad line is an INPUT_UNREADABLE error naming the line and what to fix.
+ */
 export function parseLabelsCsv(text: string, source = 'labels'): Incident[] {
   const fail = (line: number, msg: string): never => {
     throw new StreamfenceError('INPUT_UNREADABLE', `${source} line ${line}: ${msg}`);

@@ -15,11 +15,13 @@
 import { FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../schema/vocabulary.js';
 import type { Incident } from './labels.js';
 
+/** A raised alert as scoring sees it: its sensor and the raising reading's time. */
 export interface RaisedAlert {
   sensor: string;
   ts: number;
 }
 
+/** How alerts are matched to incidents and rates counted. */
 export interface ScoreOptions {
   /** Extra time after an incident's end in which an alert still counts (ms, default 120 000). */
   graceMs?: number;
@@ -30,12 +32,14 @@ export interface ScoreOptions {
   excludeFromRecall?: readonly string[];
 }
 
+/** Recall of one fault kind. */
 export interface KindScore {
   incidents: number;
   caught: number;
   recall: number | null;
 }
 
+/** How well a set of raised alerts catches the labelled incidents, and at what alert rate. */
 export interface Score {
   incidents: number;
   caught: number;
@@ -50,6 +54,7 @@ export interface Score {
   recallByKind: Record<string, KindScore>;
 }
 
+/** Default grace after an incident's end in which a raise still counts as catching it (2 minutes). */
 export const DEFAULT_GRACE_MS = 120_000;
 /** The kind name incidents without a kind are reported under. */
 export const NO_KIND = '(none)';
@@ -105,6 +110,10 @@ export function worstWindow(times: readonly number[], width: number): number {
   return best;
 }
 
+/**
+ * Score raised alerts against incidents: recall (overall and per kind), precision, alerts per hour,
+ * worst 10 minutes.
+ */
 export function score(
   incidents: readonly Incident[],
   raised: readonly RaisedAlert[],

@@ -5,8 +5,10 @@
  */
 import type { Prng } from './prng.js';
 
+/** The kinds of fault the simulator plants. */
 export type FaultKind = 'spike' | 'step' | 'drift' | 'stuck' | 'noise' | 'dropout';
 
+/** Every fault kind, in plan order. */
 export const FAULT_KINDS: readonly FaultKind[] = ['spike', 'step', 'drift', 'stuck', 'noise', 'dropout'];
 
 /** One planned fault, in reading slots of its sensor (both ends inclusive). */
@@ -56,6 +58,7 @@ const KIND_SIZE: Record<FaultKind, [number, number]> = {
 /** Quiet time between two faults of one sensor, so its baseline settles in between. */
 const GAP_MS: [number, number] = [3 * HOUR, 9 * HOUR];
 
+/** Plan one sensor's faults over `slots` readings after the warm-up, from its own seeded stream. */
 export function planFaults(
   rng: Prng,
   opts: { slots: number; intervalMs: number; warmupMs: number; oneSided: 'high' | 'low' | null },

@@ -8,6 +8,7 @@
  */
 import type { Direction } from '../config/settings.js';
 
+/** One sensor kind of a machine: unit, level, spread and how it follows the machine's load. */
 export interface SensorTemplate {
   name: string;
   unit: string;
@@ -32,6 +33,7 @@ export interface SensorTemplate {
   max: number | null;
 }
 
+/** One machine of a unit and its sensors. */
 export interface MachineTemplate {
   name: string;
   description: string;
@@ -40,6 +42,7 @@ export interface MachineTemplate {
   sensors: SensorTemplate[];
 }
 
+/** An invented plant: a repeating unit of machines. */
 export interface ScenarioDef {
   title: string;
   description: string;
@@ -373,13 +376,16 @@ const HEATING: ScenarioDef = {
   ],
 };
 
+/** Every scenario, by name. */
 export const SCENARIO_DEFS: Record<string, ScenarioDef> = {
   'harbour-brewery': BREWERY,
   'district-heat': HEATING,
 };
 
+/** The scenario used when none is named. */
 export const DEFAULT_SCENARIO = 'harbour-brewery';
 
+/** How many sensors one unit of the scenario has. */
 export function sensorsPerUnit(def: ScenarioDef): number {
   return def.machines.reduce((n, m) => n + m.sensors.length, 0);
 }

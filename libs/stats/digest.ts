@@ -18,12 +18,14 @@ export interface Centroids {
   counts: Float64Array;
 }
 
+/** No centroids (shared, never written to). */
 export const EMPTY_CENTROIDS: Centroids = { means: new Float64Array(0), counts: new Float64Array(0) };
 
-export function totalCount(c: Centroids): number {
-  let t = 0;
-  for (let i = 0; i < c.counts.length; i++) t += c.counts[i];
-  return t;
+/** The number of values the centroids stand for. */
+export function totalCount(centroids: Centroids): number {
+  let total = 0;
+  for (let i = 0; i < centroids.counts.length; i++) total += centroids.counts[i];
+  return total;
 }
 
 // Scratch space for compression output, grown on demand and reused: compression runs at every
@@ -64,10 +66,10 @@ export function compressCentroids(parts: readonly Centroids[], delta: number): C
     let bestMean = Infinity;
     for (let p = 0; p < k; p++) {
       const i = pos[p];
-      const m = parts[p].means;
-      if (i < m.length && (best < 0 || m[i] < bestMean)) {
+      const means = parts[p].means;
+      if (i < means.length && (best < 0 || means[i] < bestMean)) {
         best = p;
-        bestMean = m[i];
+        bestMean = means[i];
       }
     }
     const count = parts[best].counts[pos[best]++];
@@ -77,8 +79,8 @@ export function compressCentroids(parts: readonly Centroids[], delta: number): C
       continue;
     }
     const merged = curCount + count;
-    const q = (before + merged / 2) / total;
-    const bound = Math.max(1, Math.floor(scale * q * (1 - q)));
+    const quantile = (before + merged / 2) / total;
+    const bound = Math.max(1, Math.floor(scale * quantile * (1 - quantile)));
     if (merged <= bound) {
       curMean += ((bestMean - curMean) * count) / merged;
       curCount = merged;
@@ -102,13 +104,14 @@ export function compressCentroids(parts: readonly Centroids[], delta: number): C
  * sketch's own error) and halves the bytes per centroid. Applied when a bucket closes, so the
  * in-memory bucket and its encoding are always identical.
  */
-export function roundForStorage(c: Centroids): Centroids {
-  const n = c.means.length;
-  if (n === 0) return c;
+export function roundForStorage(centroids: Centroids): Centroids {
+  const n = centroids.means.length;
+  if (n === 0) return centroids;
   const means = new Float64Array(n);
-  means[0] = c.means[0];
-  for (let i = 1; i < n; i++) means[i] = means[i - 1] + Math.max(0, Math.fround(c.means[i] - means[i - 1]));
-  return { means, counts: c.counts };
+  means[0] = centroids.means[0];
+  for (let i = 1; i < n; i++)
+    means[i] = means[i - 1] + Math.max(0, Math.fround(centroids.means[i] - means[i - 1]));
+  return { means, counts: centroids.counts };
 }
 
 /** A frozen digest answering quantile and rank queries; built once per bucket roll. */
@@ -119,14 +122,14 @@ export class FrozenDigest {
   private readonly mid: Float64Array;
   readonly total: number;
 
-  constructor(c: Centroids) {
-    this.means = c.means;
-    this.counts = c.counts;
-    this.mid = new Float64Array(c.means.length);
+  constructor(centroids: Centroids) {
+    this.means = centroids.means;
+    this.counts = centroids.counts;
+    this.mid = new Float64Array(centroids.means.length);
     let cum = 0;
-    for (let i = 0; i < c.means.length; i++) {
-      this.mid[i] = cum + c.counts[i] / 2;
-      cum += c.counts[i];
+    for (let i = 0; i < centroids.means.length; i++) {
+      this.mid[i] = cum + centroids.counts[i] / 2;
+      cum += centroids.counts[i];
     }
     this.total = cum;
   }
@@ -137,42 +140,42 @@ export class FrozenDigest {
 
   /** Value at quantile p in [0, 1]; NaN when empty. */
   quantile(p: number): number {
-    const m = this.means;
-    const len = m.length;
+    const means = this.means;
+    const len = means.length;
     if (len === 0) return NaN;
-    const h = this.total * p;
+    const target = this.total * p;
     const mid = this.mid;
-    if (h <= mid[0]) return m[0];
-    if (h >= mid[len - 1]) return m[len - 1];
-    // Largest i with mid[i] <= h.
+    if (target <= mid[0]) return means[0];
+    if (target >= mid[len - 1]) return means[len - 1];
+    // Largest i with mid[i] <= target.
     let lo = 0;
     let hi = len - 1;
     while (lo < hi) {
       const j = (lo + hi + 1) >>> 1;
-      if (mid[j] <= h) lo = j;
+      if (mid[j] <= target) lo = j;
       else hi = j - 1;
     }
-    if (mid[lo] === h || lo === len - 1) return m[lo];
-    return m[lo] + ((h - mid[lo]) * (m[lo + 1] - m[lo])) / (mid[lo + 1] - mid[lo]);
+    if (mid[lo] === target || lo === len - 1) return means[lo];
+    return means[lo] + ((target - mid[lo]) * (means[lo + 1] - means[lo])) / (mid[lo + 1] - mid[lo]);
   }
 
   /** Share of the baseline below x, in [0, 1]; NaN when empty. */
   rank(x: number): number {
-    const m = this.means;
-    const len = m.length;
+    const means = this.means;
+    const len = means.length;
     if (len === 0) return NaN;
-    if (x < m[0]) return 0;
-    if (x > m[len - 1]) return 1;
+    if (x < means[0]) return 0;
+    if (x > means[len - 1]) return 1;
     let lo = 0;
     let hi = len - 1;
     while (lo < hi) {
       const j = (lo + hi + 1) >>> 1;
-      if (m[j] <= x) lo = j;
+      if (means[j] <= x) lo = j;
       else hi = j - 1;
     }
     const mid = this.mid;
-    if (m[lo] === x || lo === len - 1) return mid[lo] / this.total;
-    return (mid[lo] + ((x - m[lo]) * (mid[lo + 1] - mid[lo])) / (m[lo + 1] - m[lo])) / this.total;
+    if (means[lo] === x || lo === len - 1) return mid[lo] / this.total;
+    return (mid[lo] + ((x - means[lo]) * (mid[lo + 1] - mid[lo])) / (means[lo + 1] - means[lo])) / this.total;
   }
 }
 
@@ -240,12 +243,13 @@ export class OpenDigest {
     return { means: this.c.means, counts: this.c.counts, buffer: this.buf.slice(0, this.bufLen) };
   }
 
-  static restore(s: OpenDigestSnapshot, delta: number, bufferSize: number): OpenDigest {
-    if (s.buffer.length >= bufferSize) throw new RangeError('open digest buffer larger than its capacity');
-    const o = new OpenDigest(delta, bufferSize);
-    o.c = { means: s.means, counts: s.counts };
-    o.buf.set(s.buffer);
-    o.bufLen = s.buffer.length;
-    return o;
+  static restore(snapshot: OpenDigestSnapshot, delta: number, bufferSize: number): OpenDigest {
+    if (snapshot.buffer.length >= bufferSize)
+      throw new RangeError('open digest buffer larger than its capacity');
+    const digest = new OpenDigest(delta, bufferSize);
+    digest.c = { means: snapshot.means, counts: snapshot.counts };
+    digest.buf.set(snapshot.buffer);
+    digest.bufLen = snapshot.buffer.length;
+    return digest;
   }
 }

@@ -12,6 +12,7 @@ export function quantileType7(sorted: ArrayLike<number>, p: number): number {
   return sorted[lo] + (h - lo) * (sorted[hi] - sorted[lo]);
 }
 
+/** Hyndman-Fan type 6 quantile (rank p(n + 1), clamped to the ends) of ascending values; NaN when empty. */
 export function quantileType6(sorted: ArrayLike<number>, p: number): number {
   const n = sorted.length;
   if (n === 0) return NaN;

@@ -7,6 +7,7 @@ import { configToJson, validateConfig, type EngineConfig } from '../config/confi
 import type { SensorSettings } from '../config/settings.js';
 import type { GridPoint } from './grid.js';
 
+/** The config with a grid point's settings applied (validated again). */
 export function applyPoint(base: EngineConfig, p: GridPoint): EngineConfig {
   const tuned = p as unknown as Partial<SensorSettings>;
   const keys = Object.keys(p) as (keyof SensorSettings)[];

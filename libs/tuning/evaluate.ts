@@ -21,6 +21,7 @@ export function replayRaised(cfg: EngineConfig, c: ReadingColumns): RaisedAlert[
   return out;
 }
 
+/** Score one config on the columns against the incidents (what tune reports for a grid point). */
 export function evaluateConfig(
   cfg: EngineConfig,
   c: ReadingColumns,

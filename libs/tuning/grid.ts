@@ -15,6 +15,7 @@
 import { StreamfenceError } from '../errors/index.js';
 import type { SensorSettings, Trigger } from '../config/settings.js';
 
+/** The values tried per setting (`--grid`); the grid is every combination. */
 export interface GridSpec {
   fenceK?: number[];
   zLimit?: number[];
@@ -37,11 +38,13 @@ export type GridPoint = {
   flatlineAfter: number;
 };
 
+/** The settings a grid may vary. */
 export const GRID_KEYS = ['fenceK', 'zLimit', 'trigger', 'debounce', 'clearAfter', 'flatlineAfter'] as const;
 const TRIGGERS: readonly Trigger[] = ['fence', 'z', 'either', 'both'];
 /** Refuse grids that would take hours by mistake. */
 export const MAX_GRID_POINTS = 5000;
 
+/** The grid tune tries without `--grid`. */
 export const DEFAULT_GRID_SPEC =
   'fenceK=1.5,2,2.5,3;zLimit=3,4,5;trigger=either,both,fence;debounce=1/1,2/3,3/5;clearAfter=3,10';
 
@@ -83,6 +86,7 @@ function numbers(part: string, text: string, opts: { integer: boolean; min: numb
   return out;
 }
 
+/** Parse `--grid` (`key=v1,v2;key=...`); an unknown key or a bad value is an ARGS_INVALID error naming it. */
 export function parseGridSpec(text: string): GridSpec {
   const spec: GridSpec = {};
   const parts = text

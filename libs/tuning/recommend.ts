@@ -11,6 +11,7 @@ export interface Scored {
   raised: number;
 }
 
+/** The recommended grid point, whether it is within the budget, and why it was picked. */
 export interface Recommendation {
   index: number;
   withinBudget: boolean;
@@ -21,6 +22,7 @@ const num = (x: number | null): number => (x === null ? -1 : x);
 const pct = (x: number | null): string => (x === null ? 'n/a' : `${(x * 100).toFixed(1)}%`);
 const rate = (x: number | null): string => (x === null ? 'n/a' : x.toFixed(2));
 
+/** Pick the recommended point by the rule above; null for an empty grid. */
 export function recommend(points: readonly Scored[], budgetPerHour: number): Recommendation | null {
   if (points.length === 0) return null;
   const within = points.map((p, i) => ({ p, i })).filter(({ p }) => (p.alertsPerHour ?? 0) <= budgetPerHour);

@@ -204,9 +204,15 @@ export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard
   heartbeat.unref();
 
   return new Promise((resolve, reject) => {
-    server.once('error', reject);
+    // A port that cannot be taken leaves nothing running behind (the caller may try another).
+    const failed = (e: unknown) => {
+      clearInterval(ticker);
+      clearInterval(heartbeat);
+      reject(e);
+    };
+    server.once('error', failed);
     server.listen(opts.port, opts.host, () => {
-      server.off('error', reject);
+      server.off('error', failed);
       const addr = server.address() as AddressInfo;
       const hostPart = addr.family === 'IPv6' ? `[${addr.address}]` : addr.address;
       resolve({

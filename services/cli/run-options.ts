@@ -16,7 +16,7 @@ import {
   type RedisSettings,
 } from '../connect/index.js';
 import { LOG_LEVELS, type LogLevel } from '../log.js';
-import { parseCommandArgs, parseNumber, usageError } from '../setup/args.js';
+import { PORT_OR_ANY_RULE, parseCommandArgs, parseNumber, usageError } from '../setup/args.js';
 
 export { optionsHelp } from '../connect/index.js';
 
@@ -60,7 +60,7 @@ const MONITOR_OPTIONS: Record<string, OptionSpec> = {
   'metrics-port': {
     env: ENV.metricsPort,
     def: String(DEFAULT_METRICS_PORT),
-    help: 'port of /metrics, /healthz, /readyz (0 = any free port, logged)',
+    help: 'port of /metrics, /healthz, /readyz, 1-65535 (0 = any free port, logged)',
   },
   config: { env: ENV.configFile, help: 'engine config file (YAML or JSON); built-in defaults when absent' },
   'checkpoint-ms': {
@@ -148,7 +148,7 @@ export function parseRunOptions(
       alertTopic: get('alert-topic')!,
       rejectedTopic: get('rejected-topic')!,
       group,
-      metricsPort: wholeNumber(get('metrics-port')!, 'metrics-port', 0),
+      metricsPort: parseNumber(get('metrics-port')!, 'metrics-port', PORT_OR_ANY_RULE, CMD),
       configFile: get('config') ?? null,
       checkpointMs: wholeNumber(get('checkpoint-ms')!, 'checkpoint-ms', 10),
       checkpointReadings: wholeNumber(get('checkpoint-readings')!, 'checkpoint-readings', 1),

@@ -42,8 +42,64 @@ export const ENV = {
   redisKeyFile: 'STREAMFENCE_REDIS_KEY_FILE',
   /** Kafka consumer group session timeout (ms): how long a silent monitor keeps its partitions. */
   kafkaSessionTimeoutMs: 'STREAMFENCE_KAFKA_SESSION_TIMEOUT_MS',
-  /** Token operators' actions on the board must carry (streamfence board / demo). */
+  /** Token operators' actions on the board must carry (streamfence board / demo); a secret, so env or file only. */
   boardToken: 'STREAMFENCE_BOARD_TOKEN',
+  /** File holding the board token (the --board-token-file option). */
+  boardTokenFile: 'STREAMFENCE_BOARD_TOKEN_FILE',
+
+  // Options shared by several commands, each mirroring the flag of the same name.
+  /** Output folder of replay and tune (--out). */
+  outDir: 'STREAMFENCE_OUT',
+  /** Input file format of replay and tune when the extension does not say (--format). */
+  inputFormat: 'STREAMFENCE_INPUT_FORMAT',
+  /** Alert budget, raised alerts per hour (--budget of replay and tune). */
+  alertBudget: 'STREAMFENCE_ALERT_BUDGET',
+  /** Operator action topic (--action-topic of board and alerts). */
+  actionTopic: 'STREAMFENCE_ACTION_TOPIC',
+  /** Where board and alerts start reading the alert topic (--since): a time with a zone or a duration back. */
+  since: 'STREAMFENCE_SINCE',
+  /** HTTP port and address of the board page (--port, --host of board and demo). */
+  boardPort: 'STREAMFENCE_BOARD_PORT',
+  boardHost: 'STREAMFENCE_BOARD_HOST',
+  /** Simulator scenario and seed (--scenario, --seed of simulate and demo). */
+  scenario: 'STREAMFENCE_SCENARIO',
+  seed: 'STREAMFENCE_SEED',
+
+  // replay
+  report: 'STREAMFENCE_REPLAY_REPORT',
+  reportTop: 'STREAMFENCE_REPLAY_REPORT_TOP',
+  audit: 'STREAMFENCE_REPLAY_AUDIT',
+  replayFrom: 'STREAMFENCE_REPLAY_FROM',
+  replayTo: 'STREAMFENCE_REPLAY_TO',
+
+  // tune
+  tuneLabels: 'STREAMFENCE_TUNE_LABELS',
+  tuneGrid: 'STREAMFENCE_TUNE_GRID',
+  tuneGrace: 'STREAMFENCE_TUNE_GRACE',
+  tuneWorkers: 'STREAMFENCE_TUNE_WORKERS',
+
+  // simulate
+  simDuration: 'STREAMFENCE_SIMULATE_DURATION',
+  simInterval: 'STREAMFENCE_SIMULATE_INTERVAL',
+  simSensors: 'STREAMFENCE_SIMULATE_SENSORS',
+  simStart: 'STREAMFENCE_SIMULATE_START',
+  simReadings: 'STREAMFENCE_SIMULATE_READINGS',
+  simFormat: 'STREAMFENCE_SIMULATE_FORMAT',
+  simLabels: 'STREAMFENCE_SIMULATE_LABELS',
+  simNoFaults: 'STREAMFENCE_SIMULATE_NO_FAULTS',
+  simKafkaTopic: 'STREAMFENCE_SIMULATE_KAFKA',
+  simConfigOut: 'STREAMFENCE_SIMULATE_CONFIG_OUT',
+
+  // alerts
+  alertsNoActions: 'STREAMFENCE_ALERTS_NO_ACTIONS',
+  alertsSeverity: 'STREAMFENCE_ALERTS_SEVERITY',
+  alertsSensor: 'STREAMFENCE_ALERTS_SENSOR',
+  alertsOnce: 'STREAMFENCE_ALERTS_ONCE',
+  alertsJson: 'STREAMFENCE_ALERTS_JSON',
+
+  // demo
+  demoSpeed: 'STREAMFENCE_DEMO_SPEED',
+  demoPreroll: 'STREAMFENCE_DEMO_PREROLL',
 } as const;
 
 export type EnvKey = keyof typeof ENV;

@@ -4,6 +4,7 @@
  */
 import { readFileSync } from 'node:fs';
 import { StreamfenceError } from '../../libs/errors/index.js';
+import { fileProblem } from '../fs-errors.js';
 
 /** A PEM file named by a --kafka-*-file or --redis-*-file option. */
 export function readPem(service: 'Kafka' | 'Redis', file: string, what: string): Buffer {
@@ -12,7 +13,7 @@ export function readPem(service: 'Kafka' | 'Redis', file: string, what: string):
   } catch (e) {
     throw new StreamfenceError(
       'ARGS_INVALID',
-      `cannot read the ${service} ${what} file ${file}: ${(e as Error).message}`,
+      `cannot read the ${service} ${what} file ${file}: ${fileProblem(e)}`,
     );
   }
 }
@@ -23,10 +24,7 @@ export function readSecretFile(file: string, what: string): string {
   try {
     text = readFileSync(file, 'utf8');
   } catch (e) {
-    throw new StreamfenceError(
-      'ARGS_INVALID',
-      `cannot read the ${what} file ${file}: ${(e as Error).message}`,
-    );
+    throw new StreamfenceError('ARGS_INVALID', `cannot read the ${what} file ${file}: ${fileProblem(e)}`);
   }
   const secret = text.replace(/\r?\n$/, '');
   if (secret.length === 0) throw new StreamfenceError('ARGS_INVALID', `the ${what} file ${file} is empty`);

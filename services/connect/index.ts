@@ -24,4 +24,14 @@ export {
 } from './options.js';
 export { buildKafka, kafkaConfig, type KafkaClientOptions } from './kafka.js';
 export { buildRedis, connectRedis, redisOptions, type RedisClientOptions } from './redis.js';
-export { kafkaRefusal, redisRefusal } from './refusals.js';
+export {
+  kafkaFailure,
+  kafkaRefusal,
+  kafkaUnreachable,
+  networkCause,
+  redisFailure,
+  redisRefusal,
+  redisUnreachable,
+  unreachableLine,
+} from './refusals.js';
+export { checkKafka, connectRedisOnce } from './preflight.js';

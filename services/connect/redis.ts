@@ -8,11 +8,16 @@ import { Redis, type RedisOptions } from 'ioredis';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import { readPem } from './files.js';
 import type { RedisSettings } from './options.js';
-import { redisRefusal } from './refusals.js';
+import { redisFailure, redisRefusal } from './refusals.js';
 
 export interface RedisClientOptions {
   /** Per-command timeout; a paused server makes calls fail after this and the caller retries. */
   commandTimeoutMs?: number;
+  /**
+   * One-shot commands (inspect) try once and fail: no reconnecting, so a closed port is reported
+   * at once with its cause instead of after reconnect attempts.
+   */
+  once?: boolean;
 }
 
 /** The ioredis options for the settings (exported for tests). */
@@ -44,7 +49,7 @@ export function redisOptions(s: RedisSettings, o: RedisClientOptions = {}): Redi
     connectTimeout: 5_000,
     lazyConnect: true,
     // Reconnect forever with a capped delay; the caller's retries decide what waits.
-    retryStrategy: (times) => Math.min(100 * 2 ** Math.min(times, 6), 3_000),
+    retryStrategy: o.once === true ? () => null : (times) => Math.min(100 * 2 ** Math.min(times, 6), 3_000),
   };
   if (u.protocol === 'rediss:') {
     opts.tls = {
@@ -71,8 +76,9 @@ export function buildRedis(s: RedisSettings, o: RedisClientOptions = {}): Redis 
  * certificate, plain text to a TLS port) is thrown as its one-line typed error. ioredis reports
  * the server's answer (WRONGPASS, NOPERM) only as an 'error' event and rejects connect() with a
  * bare "Connection is closed", so the last event is kept and judged instead. Any other failure is
- * rethrown with the underlying reason (e.g. "connect ECONNREFUSED 127.0.0.1:6379"); the client is
- * disconnected on every failure, so nothing keeps reconnecting in the background.
+ * the one-line SERVICE_UNAVAILABLE of redisFailure; the client is disconnected on every failure,
+ * so nothing keeps reconnecting in the background. For long-running commands (the client keeps
+ * reconnecting once started); one-shot commands use connectRedisOnce.
  */
 export async function connectRedis(redis: Redis, s: RedisSettings): Promise<void> {
   let last: unknown;
@@ -85,7 +91,7 @@ export async function connectRedis(redis: Redis, s: RedisSettings): Promise<void
   } catch (e) {
     redis.disconnect();
     const cause = last ?? e;
-    throw redisRefusal(cause, s) ?? redisRefusal(e, s) ?? cause;
+    throw redisRefusal(cause, s) ?? redisRefusal(e, s) ?? redisFailure(cause, s);
   } finally {
     redis.off('error', keep);
   }

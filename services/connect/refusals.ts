@@ -87,6 +87,7 @@ export function redisRefusal(err: unknown, s: RedisSettings): StreamfenceError |
     );
   if (
     u.protocol === 'redis:' &&
+    networkCause(err) === null &&
     all.some((e) => /Connection is closed|ECONNRESET|socket hang up/i.test(e.message))
   )
     return new StreamfenceError(
@@ -94,4 +95,101 @@ export function redisRefusal(err: unknown, s: RedisSettings): StreamfenceError |
       `redis: ${at} closed the connection; if it expects TLS, use a rediss:// URL`,
     );
   return null;
+}
+
+/** Network failures in words, tried in order against each error in the chain (message and code). */
+const NETWORK_CAUSES: [RegExp, string][] = [
+  [/ECONNREFUSED/, 'connection refused'],
+  [/ENOTFOUND|EAI_AGAIN|EAI_NONAME/, 'unknown host'],
+  [/EHOSTUNREACH/, 'host unreachable'],
+  [/ENETUNREACH/, 'network unreachable'],
+  [/ETIMEDOUT|Connection timeout|connect timed? ?out/i, 'no answer (timed out)'],
+];
+
+/**
+ * Why a connection could not be made, in words ("connection refused", "unknown host", ...) and
+ * the address the failure names when it names one; null when the failure is not a network one.
+ * Long-running commands can use it for their retry lines, one-shot commands for their refusal.
+ */
+export function networkCause(err: unknown): { cause: string; address: string | null } | null {
+  for (const e of chain(err)) {
+    const text = `${e.code ?? ''} ${e.message}`;
+    for (const [pattern, words] of NETWORK_CAUSES) {
+      if (pattern.test(text)) {
+        const addr = /(\d{1,3}(?:\.\d{1,3}){3}|\[[0-9a-f:]+\]|[A-Za-z0-9.-]+):(\d{1,5})\b/.exec(e.message);
+        return { cause: words, address: addr ? `${addr[1]}:${addr[2]}` : null };
+      }
+    }
+  }
+  return null;
+}
+
+/** The one line for an unreachable dependency: "kafka 127.0.0.1:9999: connection refused". */
+export function unreachableLine(dependency: 'kafka' | 'redis', address: string, cause: string): string {
+  return `${dependency} ${address}: ${cause}`;
+}
+
+/** SERVICE_UNAVAILABLE for a Kafka that cannot be reached at all, or null for other failures. */
+export function kafkaUnreachable(err: unknown, s: KafkaSettings): StreamfenceError | null {
+  const n = networkCause(err);
+  if (n === null) return null;
+  const at = n.address ?? s.brokers.join(',');
+  return new StreamfenceError(
+    'SERVICE_UNAVAILABLE',
+    `${unreachableLine('kafka', at, n.cause)}; check --brokers (or STREAMFENCE_BROKERS) and that Kafka is running there`,
+    { cause: err },
+  );
+}
+
+/** SERVICE_UNAVAILABLE for a Redis that cannot be reached at all, or null for other failures. */
+export function redisUnreachable(err: unknown, s: RedisSettings): StreamfenceError | null {
+  const n = networkCause(err);
+  if (n === null) return null;
+  const u = new URL(s.url);
+  const at = n.address ?? `${u.hostname}:${u.port || 6379}`;
+  return new StreamfenceError(
+    'SERVICE_UNAVAILABLE',
+    `${unreachableLine('redis', at, n.cause)}; check --redis (or STREAMFENCE_REDIS_URL) and that Redis is running there`,
+    { cause: err },
+  );
+}
+
+/**
+ * The one-line typed error for any failure to start talking to Kafka: unreachable, refused (auth,
+ * TLS, ACL), or else a generic line that names the brokers without the client library's text.
+ */
+export function kafkaFailure(err: unknown, s: KafkaSettings, what = 'connect'): StreamfenceError {
+  if (err instanceof StreamfenceError) return err;
+  // Refusals first: a TLS or SASL listener answering plain text can look like a timeout.
+  return (
+    kafkaRefusal(err, s, what) ??
+    kafkaUnreachable(err, s) ??
+    new StreamfenceError(
+      'SERVICE_UNAVAILABLE',
+      `kafka ${s.brokers.join(',')}: could not ${what} (${kafkaReason(err)}); check --brokers and the broker's state`,
+      { cause: err },
+    )
+  );
+}
+
+/** The same for Redis. */
+export function redisFailure(err: unknown, s: RedisSettings): StreamfenceError {
+  if (err instanceof StreamfenceError) return err;
+  const u = new URL(s.url);
+  return (
+    redisUnreachable(err, s) ??
+    redisRefusal(err, s) ??
+    new StreamfenceError(
+      'SERVICE_UNAVAILABLE',
+      `redis ${u.hostname}:${u.port || 6379}: could not connect (${kafkaReason(err)}); check --redis and the server's state`,
+      { cause: err },
+    )
+  );
+}
+
+/** The innermost cause's message, shortened to its first clause, without class names. */
+function kafkaReason(err: unknown): string {
+  const inner = chain(err)[0];
+  const text = (inner?.message ?? String(err)).split('\n')[0];
+  return text.replace(/^KafkaJS\w+:\s*/, '').slice(0, 160);
 }

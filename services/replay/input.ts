@@ -1,9 +1,9 @@
 /**
  * Reading files of readings: NDJSON (one {"sensor","ts","value"} per line) or CSV with a header,
- * optionally gzip-compressed. The file is streamed in chunks and split into lines incrementally,
+ * optionally gzip-compressed (told by content, not by name). The file is streamed in chunks and split into lines incrementally,
  * so memory does not grow with the file, and records come out in file order in batches.
  */
-import { createReadStream } from 'node:fs';
+import { closeSync, createReadStream, openSync, readSync, statSync } from 'node:fs';
 import { StringDecoder } from 'node:string_decoder';
 import { createGunzip } from 'node:zlib';
 import { StreamfenceError } from '../../libs/errors/index.js';
@@ -11,6 +11,7 @@ import { LIMITS, parseJsonReading } from '../../libs/engine/reading.js';
 import type { InputRecord } from '../../libs/schema/replay.js';
 import { LineSplitter, isBlank } from '../../libs/formats/lines.js';
 import { parseCsvHeader, parseCsvReading, type CsvColumns } from '../../libs/formats/csv.js';
+import { fileProblem } from '../fs-errors.js';
 
 export type InputFormat = 'ndjson' | 'csv';
 
@@ -70,19 +71,61 @@ export function isGzipPath(path: string): boolean {
   return path.toLowerCase().endsWith('.gz');
 }
 
+/** The two bytes every gzip stream starts with (RFC 1952, ID1 ID2). */
+const GZIP_MAGIC = [0x1f, 0x8b];
+
+/**
+ * Whether the file's content is gzip, by its first bytes rather than its name: a compressed file
+ * named .ndjson is read decompressed, and a plain file named .gz is read as it is.
+ */
+export function isGzipContent(path: string): boolean {
+  const head = Buffer.alloc(2);
+  let fd: number | undefined;
+  try {
+    fd = openSync(path, 'r');
+    const n = readSync(fd, head, 0, 2, 0);
+    return n === 2 && head[0] === GZIP_MAGIC[0] && head[1] === GZIP_MAGIC[1];
+  } catch (err) {
+    throw unreadable(path, err);
+  } finally {
+    if (fd !== undefined) closeSync(fd);
+  }
+}
+
+/** What a command needs to know about an input file before reading it. */
+export interface InputFileInfo {
+  size: number;
+  gzip: boolean;
+}
+
+/**
+ * Check an input file before any output is written: it exists, is a readable file and is not
+ * empty; and whether it is gzip-compressed (by content). Failures are one-line typed errors.
+ */
+export function checkInputFile(path: string): InputFileInfo {
+  let size: number;
+  try {
+    const st = statSync(path);
+    if (st.isDirectory()) throw Object.assign(new Error('is a directory'), { code: 'EISDIR' });
+    size = st.size;
+  } catch (err) {
+    throw unreadable(path, err);
+  }
+  if (size === 0)
+    throw new StreamfenceError(
+      'INPUT_EMPTY',
+      `input "${path}" is empty (0 bytes): check the path, or that the file was written completely`,
+    );
+  return { size, gzip: isGzipContent(path) };
+}
+
 /** Turn a file-system or decompression error into a message that says what to change. */
 export function unreadable(path: string, err: unknown): StreamfenceError {
   const code = (err as NodeJS.ErrnoException | undefined)?.code;
   const why =
-    code === 'ENOENT'
-      ? 'no such file'
-      : code === 'EISDIR'
-        ? 'it is a directory, not a file'
-        : code === 'EACCES' || code === 'EPERM'
-          ? 'permission denied'
-          : code === 'Z_DATA_ERROR' || code === 'Z_BUF_ERROR'
-            ? 'it is not a valid gzip file (drop the .gz extension if it is not compressed)'
-            : ((err as Error | undefined)?.message ?? String(err));
+    code === 'Z_DATA_ERROR' || code === 'Z_BUF_ERROR'
+      ? 'it starts like gzip but does not decompress (corrupt or cut short)'
+      : fileProblem(err);
   return new StreamfenceError('INPUT_UNREADABLE', `cannot read input "${path}": ${why}`, { cause: err });
 }
 
@@ -96,9 +139,10 @@ export async function* readInput(
   format: InputFormat,
   stats: InputStats = newInputStats(),
 ): AsyncGenerator<InputRecord[]> {
+  const gzip = isGzipContent(path);
   const file = createReadStream(path, { highWaterMark: 256 * 1024 });
   let source: AsyncIterable<Buffer> = file;
-  if (isGzipPath(path)) {
+  if (gzip) {
     file.on('data', (b: Buffer | string) => {
       stats.bytes += b.length;
     });
@@ -112,6 +156,7 @@ export async function* readInput(
   let columns: CsvColumns | null = null;
   let headerError: string | null = null;
   const maxLen = LIMITS.maxLineLength;
+  let anyRecord = false;
 
   const onLine = (line: string, lineNo: number, fullLength: number): void => {
     if (isBlank(line)) {
@@ -143,11 +188,12 @@ export async function* readInput(
 
   try {
     for await (const chunk of source) {
-      if (!isGzipPath(path)) stats.bytes += chunk.length;
+      if (!gzip) stats.bytes += chunk.length;
       splitter.feed(decoder.write(chunk), onLine);
       stats.lines = splitter.lines;
       if (headerError !== null) break;
       if (batch.length >= BATCH_SIZE) {
+        anyRecord = true;
         const out = batch;
         batch = [];
         yield out;
@@ -173,4 +219,9 @@ export async function* readInput(
     );
   }
   if (batch.length > 0) yield batch;
+  if (!anyRecord && batch.length === 0)
+    throw new StreamfenceError(
+      'INPUT_EMPTY',
+      `input "${path}" holds nothing to read (${format === 'csv' ? 'only a header and ' : ''}${stats.blank} blank line${stats.blank === 1 ? '' : 's'}): check the path, or that the file was written completely`,
+    );
 }

@@ -15,6 +15,7 @@ import { DEFAULT_MAX_SENSORS, SensorBudget } from '../../libs/engine/sensor-budg
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { InputRecord, ReplayObserver, ReplaySummary } from '../../libs/schema/replay.js';
 import { LineWriter } from './writer.js';
+import { fileProblem } from '../fs-errors.js';
 
 export type { ReplayObserver, ReplaySummary } from '../../libs/schema/replay.js';
 
@@ -44,7 +45,11 @@ function sortedCounts(m: Map<string, number>): Record<string, number> {
   return out;
 }
 
-async function prepareDir(outDir: string): Promise<void> {
+/**
+ * Create the output folder and remove a summary left by an earlier run; exported so a command can
+ * find an unusable --out before it starts reading.
+ */
+export async function prepareDir(outDir: string): Promise<void> {
   try {
     await mkdir(outDir, { recursive: true });
     // A summary.json left by an earlier run would look like a finished run if this one fails.
@@ -52,7 +57,7 @@ async function prepareDir(outDir: string): Promise<void> {
   } catch (err) {
     throw new StreamfenceError(
       'OUTPUT_UNWRITABLE',
-      `cannot use output directory "${outDir}": ${(err as Error).message}; choose another with --out`,
+      `cannot use output folder "${outDir}": ${fileProblem(err)}; choose another with --out`,
       { cause: err },
     );
   }
@@ -141,7 +146,7 @@ export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
   } catch (err) {
     throw new StreamfenceError(
       'OUTPUT_UNWRITABLE',
-      `cannot write summary in "${outDir}": ${(err as Error).message}`,
+      `cannot write the summary in "${outDir}": ${fileProblem(err)}; choose another folder with --out`,
       {
         cause: err,
       },

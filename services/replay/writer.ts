@@ -5,6 +5,7 @@
 import { createWriteStream, type WriteStream } from 'node:fs';
 import { once } from 'node:events';
 import { StreamfenceError } from '../../libs/errors/index.js';
+import { fileProblem } from '../fs-errors.js';
 
 const FLUSH_AT = 256 * 1024;
 
@@ -60,7 +61,7 @@ export class LineWriter {
     if (this.failure !== null) {
       throw new StreamfenceError(
         'OUTPUT_UNWRITABLE',
-        `cannot write "${this.path}": ${this.failure.message}`,
+        `cannot write "${this.path}": ${fileProblem(this.failure)}; choose another folder with --out`,
         {
           cause: this.failure,
         },

@@ -2,6 +2,7 @@
 import { writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { StreamfenceError } from '../../libs/errors/index.js';
+import { fileProblem } from '../fs-errors.js';
 
 export const REPORT_FILE = 'report.html';
 
@@ -13,7 +14,7 @@ export async function writeReport(dir: string, html: string, name = REPORT_FILE)
   } catch (err) {
     throw new StreamfenceError(
       'OUTPUT_UNWRITABLE',
-      `cannot write the report "${path}": ${(err as Error).message}; choose another output directory`,
+      `cannot write the report "${path}": ${fileProblem(err)}; choose another --out folder`,
       { cause: err },
     );
   }

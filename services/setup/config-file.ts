@@ -6,6 +6,7 @@
 import { readFileSync } from 'node:fs';
 import { defaultConfig, parseConfigText, type EngineConfig } from '../../libs/config/config.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
+import { fileProblem } from '../fs-errors.js';
 
 /**
  * The engine config in the file at `path` (YAML or JSON), or the built-in defaults when `path` is
@@ -17,9 +18,7 @@ export function loadEngineConfig(path: string | null | undefined, hint = '--conf
   try {
     text = readFileSync(path, 'utf8');
   } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    const why =
-      code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'it is a directory' : (err as Error).message;
+    const why = fileProblem(err);
     throw new StreamfenceError(
       'CONFIG_INVALID',
       `cannot read the config file "${path}": ${why}; check ${hint}`,
@@ -28,5 +27,12 @@ export function loadEngineConfig(path: string | null | undefined, hint = '--conf
       },
     );
   }
+  // An empty file is almost always a mistake (a wrong path, a failed copy); the built-in defaults
+  // are what leaving --config out gives, so an empty file is refused rather than read as them.
+  if (text.replace(/#.*$/gm, '').trim() === '')
+    throw new StreamfenceError(
+      'CONFIG_INVALID',
+      `the config file "${path}" is empty (or only comments): write settings under defaults: / sensors:, or leave ${hint} out for the built-in defaults`,
+    );
   return parseConfigText(text, path);
 }

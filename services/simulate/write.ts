@@ -6,9 +6,10 @@ import { createWriteStream } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import { once } from 'node:events';
 import YAML from 'yaml';
-import { buildKafka, kafkaRefusal, type KafkaSettings } from '../connect/index.js';
+import { buildKafka, kafkaFailure, type KafkaSettings } from '../connect/index.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { PlantSimulator, SimReading } from '../../libs/sim/plant.js';
+import { fileProblem } from '../fs-errors.js';
 
 export type SimFormat = 'ndjson' | 'csv';
 
@@ -37,7 +38,7 @@ export function readingLine(r: SimReading, format: SimFormat): string {
 function unwritable(path: string, e: unknown): StreamfenceError {
   return new StreamfenceError(
     'OUTPUT_UNWRITABLE',
-    `cannot write "${path}": ${(e as Error).message}; choose another path`,
+    `cannot write "${path}": ${fileProblem(e)}; choose another path`,
   );
 }
 
@@ -91,7 +92,6 @@ export async function produceReadings(
   connection: KafkaSettings,
   onProgress?: (n: number) => void,
 ): Promise<number> {
-  const brokers = connection.brokers;
   const kafka = buildKafka(connection, { clientId: 'streamfence-simulate', retries: 3 });
   const admin = kafka.admin();
   const producer = kafka.producer({ allowAutoTopicCreation: false });
@@ -102,12 +102,7 @@ export async function produceReadings(
     await producer.connect();
   } catch (e) {
     await Promise.allSettled([admin.disconnect(), producer.disconnect()]);
-    const refused = kafkaRefusal(e, connection, `create or write topic ${topic}`);
-    if (refused) throw refused;
-    throw new StreamfenceError(
-      'SERVICE_UNAVAILABLE',
-      `cannot reach Kafka at ${brokers.join(',')} (${(e as Error).message}); check --brokers and that Kafka is running`,
-    );
+    throw kafkaFailure(e, connection, `create or write topic ${topic}`);
   }
   let n = 0;
   try {

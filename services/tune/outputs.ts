@@ -10,6 +10,7 @@ import { join } from 'node:path';
 import { renderTuneReport } from '../../libs/report/tune-report.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { GridPoint } from '../../libs/tuning/grid.js';
+import { fileProblem } from '../fs-errors.js';
 
 export const TUNING_FORMAT_VERSION = 1;
 
@@ -104,7 +105,7 @@ async function write(path: string, text: string): Promise<void> {
   } catch (e) {
     throw new StreamfenceError(
       'OUTPUT_UNWRITABLE',
-      `cannot write "${path}": ${(e as Error).message}; choose another --out directory`,
+      `cannot write "${path}": ${fileProblem(e)}; choose another --out folder`,
     );
   }
 }
@@ -116,19 +117,25 @@ export async function writeReport(dir: string, t: TuningResult): Promise<string>
   return out;
 }
 
-export async function writeOutputs(
-  dir: string,
-  t: TuningResult,
-  recommendedConfig: Record<string, unknown> | null,
-): Promise<{ files: string[]; report: string }> {
+/** Create the --out folder (and its parents); a path that cannot be a folder is a one-line error. */
+export async function prepareOutDir(dir: string): Promise<void> {
   try {
     await mkdir(dir, { recursive: true });
   } catch (e) {
     throw new StreamfenceError(
       'OUTPUT_UNWRITABLE',
-      `cannot create "${dir}": ${(e as Error).message}; choose another --out directory`,
+      `cannot create the folder "${dir}": ${fileProblem(e)}; choose another --out folder`,
+      { cause: e },
     );
   }
+}
+
+export async function writeOutputs(
+  dir: string,
+  t: TuningResult,
+  recommendedConfig: Record<string, unknown> | null,
+): Promise<{ files: string[]; report: string }> {
+  await prepareOutDir(dir);
   const files = [join(dir, 'tuning.json'), join(dir, 'tuning.csv')];
   await write(files[0], `${JSON.stringify(t, null, 2)}\n`);
   await write(files[1], tuningCsv(t));

@@ -19,7 +19,15 @@ import { Progress, formatCount, formatSeconds, type ProgressSink } from '../prog
 import { loadEngineConfig } from '../setup/config-file.js';
 import { loadColumns } from './load.js';
 import { runGrid } from './pool.js';
-import { writeOutputs, TUNING_FORMAT_VERSION, type PointResult, type TuningResult } from './outputs.js';
+import {
+  prepareOutDir,
+  writeOutputs,
+  TUNING_FORMAT_VERSION,
+  type PointResult,
+  type TuningResult,
+} from './outputs.js';
+import { checkInputFile } from '../replay/input.js';
+import { fileProblem } from '../fs-errors.js';
 
 export interface TuneOptions {
   input: string;
@@ -33,6 +41,8 @@ export interface TuneOptions {
   graceMs?: number;
   /** Where progress and the summary go (default process.stderr). */
   stream?: ProgressSink;
+  /** Called once the arguments, config, labels, input and output folder have passed their checks. */
+  onStart?: () => void;
 }
 
 export interface TuneOutcome {
@@ -47,7 +57,7 @@ async function readText(path: string, what: string): Promise<string> {
   try {
     return await readFile(path, 'utf8');
   } catch (e) {
-    throw new StreamfenceError('INPUT_UNREADABLE', `cannot read ${what} "${path}": ${(e as Error).message}`);
+    throw new StreamfenceError('INPUT_UNREADABLE', `cannot read ${what} "${path}": ${fileProblem(e)}`);
   }
 }
 
@@ -63,6 +73,10 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   // Fail on a point the config would refuse before spending time on the input.
   points.forEach((p) => applyPoint(base, p));
   const incidents: Incident[] = parseLabelsCsv(await readText(o.labels, 'labels'), o.labels);
+  checkInputFile(o.input);
+  // The output folder is made now, so a path that cannot take it fails before the grid runs.
+  await prepareOutDir(o.out);
+  o.onStart?.();
 
   const started = performance.now();
   const reading = new Progress({ unit: 'readings', stream });

@@ -4,7 +4,6 @@
  * NDJSON for other programs.
  */
 import picomatch from 'picomatch';
-import { parseDuration } from '../../../libs/config/duration.js';
 import { actionLine, eventLine, passesSeverity } from '../../../libs/board/line.js';
 import { isSeverity, SEVERITIES, type Severity } from '../../../libs/schema/vocabulary.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
@@ -13,13 +12,23 @@ import { follow } from '../../board/follow.js';
 import {
   KAFKA_OPTIONS,
   buildKafka,
+  checkKafka,
   connectionHelp,
   kafkaRefusal,
   parseArgsOptions,
   readKafkaSettings,
 } from '../../connect/index.js';
 import { asAction, asAlertEvent, type ActionMessage } from '../../board/live.js';
-import { parseCommandArgs, printBanner, printHelp, stringOption, usageError } from '../../setup/args.js';
+import {
+  optionLabel,
+  parseCommandArgs,
+  parseTimeOrAgo,
+  printBanner,
+  printHelp,
+  stringOption,
+  usageError,
+  warnNoEffect,
+} from '../../setup/args.js';
 import { onStopSignal } from '../../setup/signals.js';
 
 const CMD = 'alerts';
@@ -31,14 +40,17 @@ const HELP = `streamfence alerts: follow alert events in the terminal
 Usage: streamfence alerts --brokers HOST:PORT[,...] [options]
 
 Options:
-  --alert-topic NAME    alert topic (default sensor-alerts, or ${ENV.alertTopic})
-  --action-topic NAME   operator action topic (default sensor-alert-actions; skipped if it does not exist)
-  --no-actions          do not show operator actions
-  --severity LEVEL      warning (warnings and criticals) or critical (criticals only)
-  --sensor GLOB         only sensors matching the glob, e.g. "line-1/**"
-  --since ISO|DURATION  start at this time, e.g. 2026-03-02T06:00:00Z or 2h (default: all the topic keeps)
-  --once                print what is there now and exit (do not follow)
-  --json                one JSON message per line (NDJSON), unchanged, for piping
+  --alert-topic NAME    alert topic (default sensor-alerts; env ${ENV.alertTopic})
+  --action-topic NAME   operator action topic (default sensor-alert-actions, skipped if it does
+                        not exist; a topic named here must exist; env ${ENV.actionTopic})
+  --no-actions          do not show operator actions (env ${ENV.alertsNoActions})
+  --severity LEVEL      warning (warnings and criticals) or critical (criticals only) (env ${ENV.alertsSeverity})
+  --sensor GLOB         only sensors matching the glob, e.g. "line-1/**" (env ${ENV.alertsSensor})
+  --since TIME|AGO      start at this Kafka message time (when the monitor published the event,
+                        not the reading time): ISO-8601 with a zone (2026-03-02T06:00:00Z), epoch
+                        ms, or a duration back from now (2h); default: all the topic keeps (env ${ENV.since})
+  --once                print what is there now and exit (do not follow) (env ${ENV.alertsOnce})
+  --json                one JSON message per line (NDJSON), unchanged, for piping (env ${ENV.alertsJson})
   -h, --help            this help
 
 ${connectionHelp({ kafka: true })}
@@ -47,38 +59,49 @@ Lines are coloured only when stdout is a terminal and NO_COLOR is not set.
 ${NOTICE}
 `;
 
-/** --since as an ISO time or a duration back from now. */
-export function parseSince(raw: string, now: number, cmd: string): number {
-  const ms = parseDuration(raw);
-  if (ms !== null && /[a-z]$/i.test(raw.trim())) return now - ms;
-  const t = Date.parse(raw);
-  if (/^\d{4}-\d{2}-\d{2}/.test(raw.trim()) && Number.isFinite(t)) return t;
-  return usageError(
-    `--since must be an ISO-8601 time (2026-03-02T06:00:00Z) or a duration back from now (90m, 24h), got "${raw}"`,
-    cmd,
-  );
+/**
+ * --since as a time with a zone (or epoch ms) or a duration back from now; it selects by Kafka
+ * message time. A time without a zone is refused, as readings refuse it.
+ */
+export function parseSince(raw: string, now: number, cmd: string, label = '--since'): number {
+  return parseTimeOrAgo(raw, label, now, cmd);
 }
+
+/** alerts' own options (the Kafka connection options are services/connect's). */
+export const OPTIONS = {
+  'alert-topic': { type: 'string' },
+  'action-topic': { type: 'string' },
+  'no-actions': { type: 'boolean' },
+  severity: { type: 'string' },
+  sensor: { type: 'string' },
+  since: { type: 'string' },
+  once: { type: 'boolean' },
+  json: { type: 'boolean' },
+} as const;
+
+/** The environment variable of each option (a flag wins over its variable). */
+export const OPTION_ENV: Record<keyof typeof OPTIONS, string> = {
+  'alert-topic': ENV.alertTopic,
+  'action-topic': ENV.actionTopic,
+  'no-actions': ENV.alertsNoActions,
+  severity: ENV.alertsSeverity,
+  sensor: ENV.alertsSensor,
+  since: ENV.since,
+  once: ENV.alertsOnce,
+  json: ENV.alertsJson,
+};
 
 export async function main(argv: string[]): Promise<number> {
   const args = parseCommandArgs(
     CMD,
     argv,
-    {
-      ...parseArgsOptions(KAFKA_OPTIONS),
-      'alert-topic': { type: 'string' },
-      'action-topic': { type: 'string' },
-      'no-actions': { type: 'boolean' },
-      severity: { type: 'string' },
-      sensor: { type: 'string' },
-      since: { type: 'string' },
-      once: { type: 'boolean' },
-      json: { type: 'boolean' },
-    },
+    { ...parseArgsOptions(KAFKA_OPTIONS), ...OPTIONS },
     false,
+    OPTION_ENV,
   );
   if (args.help) return printHelp(HELP);
   const kafkaSettings = readKafkaSettings(args.values, process.env, { cmd: CMD });
-  const alertTopic = stringOption(args, 'alert-topic', CMD) ?? process.env[ENV.alertTopic] ?? 'sensor-alerts';
+  const alertTopic = stringOption(args, 'alert-topic', CMD) ?? 'sensor-alerts';
   const actionTopicOpt = stringOption(args, 'action-topic', CMD);
   const severityRaw = stringOption(args, 'severity', CMD);
   if (severityRaw !== undefined && !isSeverity(severityRaw)) {
@@ -88,25 +111,40 @@ export async function main(argv: string[]): Promise<number> {
   const glob = stringOption(args, 'sensor', CMD);
   const sensorOk = glob === undefined ? () => true : picomatch(glob, { dot: true });
   const sinceRaw = stringOption(args, 'since', CMD);
-  const sinceMs = sinceRaw === undefined ? null : parseSince(sinceRaw, Date.now(), CMD);
+  const sinceMs =
+    sinceRaw === undefined ? null : parseSince(sinceRaw, Date.now(), CMD, optionLabel(args, 'since'));
   const json = args.values.json === true;
+  const once = args.values.once === true;
+  const noActions = args.values['no-actions'] === true;
+  if (noActions) warnNoEffect(CMD, args, ['action-topic'], 'with --no-actions');
+  // A one-shot look (--once) checks Kafka and the topics first: a wrong address or topic name is
+  // one line at once. Following keeps to the path below, which follow() reports on.
+  const existing = once
+    ? await checkKafka(kafkaSettings, {
+        clientId: 'streamfence-alerts',
+        required: [alertTopic, ...(actionTopicOpt !== undefined && !noActions ? [actionTopicOpt] : [])],
+        what: `read topic ${alertTopic}`,
+      })
+    : null;
   const color = !json && process.stdout.isTTY === true && !process.env.NO_COLOR;
   const style = { color };
 
   printBanner(CMD);
   const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-alerts', retries: 5 });
   const topics = [alertTopic];
-  if (args.values['no-actions'] !== true) {
+  if (!noActions) {
     const actionTopic = actionTopicOpt ?? 'sensor-alert-actions';
-    const admin = kafka.admin();
-    let exists = true;
-    try {
-      await admin.connect();
-      exists = (await admin.listTopics()).includes(actionTopic);
-    } catch {
-      // follow() reports an unreachable Kafka with a clear message below.
-    } finally {
-      await admin.disconnect().catch(() => {});
+    let exists = existing === null ? true : existing.has(actionTopic);
+    if (existing === null) {
+      const admin = kafka.admin();
+      try {
+        await admin.connect();
+        exists = (await admin.listTopics()).includes(actionTopic);
+      } catch {
+        // follow() reports an unreachable Kafka with a clear message below.
+      } finally {
+        await admin.disconnect().catch(() => {});
+      }
     }
     if (exists) topics.push(actionTopic);
     else if (actionTopicOpt !== undefined)
@@ -135,7 +173,6 @@ export async function main(argv: string[]): Promise<number> {
 
   // With --once, messages of the two topics are merged in time order before printing (each topic
   // arrives in its own order); when following, lines are printed as they come.
-  const once = args.values.once === true;
   type Item = { ts: number; seq: number; render: () => string | null };
   let held: Item[] = [];
   let seq = 0;
@@ -157,6 +194,7 @@ export async function main(argv: string[]): Promise<number> {
     if (held.length >= HOLD_CAP) flush();
   };
 
+  const readWhat = `read ${topics.length > 1 ? 'topics' : 'topic'} ${topics.join(' and ')}`;
   let follower: Awaited<ReturnType<typeof follow>>;
   try {
     follower = await follow({
@@ -193,7 +231,7 @@ export async function main(argv: string[]): Promise<number> {
       },
     });
   } catch (e) {
-    throw kafkaRefusal(e, kafkaSettings, `read ${topics.join(' and ')}`) ?? e;
+    throw kafkaRefusal(e, kafkaSettings, readWhat) ?? e;
   }
   const stop = () => void follower.stop();
   const releaseSignals = onStopSignal(stop);
@@ -203,7 +241,7 @@ export async function main(argv: string[]): Promise<number> {
   try {
     await follower.done;
   } catch (e) {
-    throw kafkaRefusal(e, kafkaSettings, `read ${topics.join(' and ')}`) ?? e;
+    throw kafkaRefusal(e, kafkaSettings, readWhat) ?? e;
   } finally {
     clearInterval(poll);
     releaseSignals();

@@ -4,7 +4,6 @@
  * the action topic so every board and terminal view agree.
  */
 import { NOTICE } from '../../../libs/schema/notice.js';
-import { StreamfenceError } from '../../../libs/errors/index.js';
 import { ENV } from '../../config/env.js';
 import {
   KAFKA_OPTIONS,
@@ -19,12 +18,20 @@ import {
   readKafkaSettings,
   readRedisSettings,
 } from '../../connect/index.js';
-import { boardTokenFor } from '../../board/auth.js';
+import { MIN_BOARD_TOKEN_LENGTH, boardTokenFor, readBoardToken, refuseTokenFlag } from '../../board/auth.js';
 import { BoardHub } from '../../board/hub.js';
 import { LiveFeed } from '../../board/live.js';
 import { createBoardMetrics } from '../../metrics/board-metrics.js';
 import { startBoardServer } from '../../board/server.js';
-import { parseCommandArgs, printBanner, printHelp, stringOption, numberOption } from '../../setup/args.js';
+import {
+  PORT_OR_ANY_RULE,
+  numberOption,
+  optionLabel,
+  parseCommandArgs,
+  printBanner,
+  printHelp,
+  stringOption,
+} from '../../setup/args.js';
 import { untilStopSignal } from '../../setup/signals.js';
 import { parseSince } from './alerts.js';
 
@@ -35,13 +42,17 @@ const HELP = `streamfence board: serve the operator board for the live system
 Usage: streamfence board --brokers HOST:PORT[,...] --redis URL [options]
 
 Options:
-  --alert-topic NAME    topic the monitor publishes alert events to (default sensor-alerts, or ${ENV.alertTopic})
-  --action-topic NAME   topic operator actions are shared on (default sensor-alert-actions)
-  --state-prefix P      prefix of the Redis keys (default streamfence, or ${ENV.statePrefix})
-  --since ISO|DURATION  read alert history from this time (e.g. 24h); default: all the topic keeps
-  --port N              HTTP port (default 8080; 0 picks a free one)
-  --host ADDR           address to listen on (default 127.0.0.1; any other needs --board-token)
-  --board-token T       token operators' actions must carry (or STREAMFENCE_BOARD_TOKEN)
+  --alert-topic NAME    topic the monitor publishes alert events to (default sensor-alerts; env ${ENV.alertTopic})
+  --action-topic NAME   topic operator actions are shared on (default sensor-alert-actions; env ${ENV.actionTopic})
+  --state-prefix P      prefix of the Redis keys (default streamfence; env ${ENV.statePrefix})
+  --since TIME|AGO      read alert history from this Kafka message time (when the monitor published
+                        the event, not the reading time): ISO-8601 with a zone, epoch ms, or a
+                        duration back from now (24h); default: all the topic keeps (env ${ENV.since})
+  --port N              HTTP port, 1-65535 (default 8080; 0 picks a free one; env ${ENV.boardPort})
+  --host ADDR           address to listen on (default 127.0.0.1; any other needs a token; env ${ENV.boardHost})
+  --board-token-file F  file holding the token operators' actions must carry (env
+                        ${ENV.boardTokenFile}); or set the token itself in ${ENV.boardToken}.
+                        At least ${MIN_BOARD_TOKEN_LENGTH} characters; never given as a flag value.
   -h, --help            this help
 
 ${connectionHelp({ kafka: true, redis: true })}
@@ -52,22 +63,37 @@ the monitor's position. Both topics must exist.
 ${NOTICE}
 `;
 
+/** board's own options (the Kafka and Redis connection options are services/connect's). */
+export const OPTIONS = {
+  'alert-topic': { type: 'string' },
+  'action-topic': { type: 'string' },
+  'state-prefix': { type: 'string' },
+  since: { type: 'string' },
+  port: { type: 'string' },
+  host: { type: 'string' },
+  'board-token-file': { type: 'string' },
+  /** Accepted only to be refused with the way to give the token: a flag value shows in `ps`. */
+  'board-token': { type: 'string' },
+} as const;
+
+/** The environment variable of each option (a flag wins over its variable). */
+export const OPTION_ENV: Record<Exclude<keyof typeof OPTIONS, 'board-token'>, string> = {
+  'alert-topic': ENV.alertTopic,
+  'action-topic': ENV.actionTopic,
+  'state-prefix': ENV.statePrefix,
+  since: ENV.since,
+  port: ENV.boardPort,
+  host: ENV.boardHost,
+  'board-token-file': ENV.boardTokenFile,
+};
+
 export async function main(argv: string[]): Promise<number> {
   const args = parseCommandArgs(
     CMD,
     argv,
-    {
-      ...parseArgsOptions(KAFKA_OPTIONS),
-      ...parseArgsOptions(REDIS_OPTIONS),
-      'alert-topic': { type: 'string' },
-      'action-topic': { type: 'string' },
-      'state-prefix': { type: 'string' },
-      since: { type: 'string' },
-      port: { type: 'string' },
-      host: { type: 'string' },
-      'board-token': { type: 'string' },
-    },
+    { ...parseArgsOptions(KAFKA_OPTIONS), ...parseArgsOptions(REDIS_OPTIONS), ...OPTIONS },
     false,
+    OPTION_ENV,
   );
   if (args.help) return printHelp(HELP);
   const kafkaSettings = readKafkaSettings(args.values, process.env, { cmd: CMD });
@@ -76,29 +102,20 @@ export async function main(argv: string[]): Promise<number> {
     required: true,
     why: 'operator actions are kept there',
   });
-  const alertTopic = stringOption(args, 'alert-topic', CMD) ?? process.env[ENV.alertTopic] ?? 'sensor-alerts';
+  const alertTopic = stringOption(args, 'alert-topic', CMD) ?? 'sensor-alerts';
   const actionTopic = stringOption(args, 'action-topic', CMD) ?? 'sensor-alert-actions';
-  const prefix = stringOption(args, 'state-prefix', CMD) ?? process.env[ENV.statePrefix] ?? 'streamfence';
+  const prefix = stringOption(args, 'state-prefix', CMD) ?? 'streamfence';
   const sinceRaw = stringOption(args, 'since', CMD);
-  const sinceMs = sinceRaw === undefined ? null : parseSince(sinceRaw, Date.now(), CMD);
-  const port = numberOption(args, 'port', CMD, { whole: true, min: 0, max: 65535, fallback: 8080 });
+  const sinceMs =
+    sinceRaw === undefined ? null : parseSince(sinceRaw, Date.now(), CMD, optionLabel(args, 'since'));
+  const port = numberOption(args, 'port', CMD, { ...PORT_OR_ANY_RULE, fallback: 8080 });
   const host = stringOption(args, 'host', CMD) ?? '127.0.0.1';
-  const token = boardTokenFor(
-    host,
-    stringOption(args, 'board-token', CMD) ?? process.env.STREAMFENCE_BOARD_TOKEN,
-  );
+  if (args.values['board-token'] !== undefined) refuseTokenFlag(CMD);
+  const token = boardTokenFor(host, readBoardToken(stringOption(args, 'board-token-file', CMD), process.env));
 
   printBanner(CMD);
   const redis = buildRedis(redisSettings);
-  try {
-    await connectRedis(redis, redisSettings);
-  } catch (e) {
-    if (e instanceof StreamfenceError) throw e;
-    throw new StreamfenceError(
-      'SERVICE_UNAVAILABLE',
-      `cannot reach Redis at --redis: ${(e as Error).message}`,
-    );
-  }
+  await connectRedis(redis, redisSettings);
   const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-board', retries: 5 });
   let feed: LiveFeed | null = null;
   const hub = new BoardHub({

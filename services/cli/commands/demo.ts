@@ -5,13 +5,17 @@
 import { parseDuration } from '../../../libs/config/duration.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { DEFAULT_SCENARIO, SCENARIOS } from '../../../libs/sim/plant.js';
-import { boardTokenFor } from '../../board/auth.js';
+import { MIN_BOARD_TOKEN_LENGTH, boardTokenFor, readBoardToken, refuseTokenFlag } from '../../board/auth.js';
+import { ENV } from '../../config/env.js';
+import { errorCode } from '../../fs-errors.js';
 import { DemoFeed } from '../../board/demo-feed.js';
 import { BoardHub } from '../../board/hub.js';
 import { createDemoMetrics } from '../../metrics/board-metrics.js';
 import { startBoardServer } from '../../board/server.js';
 import {
+  PORT_OR_ANY_RULE,
   numberOption,
+  optionLabel,
   parseCommandArgs,
   printBanner,
   printHelp,
@@ -21,45 +25,61 @@ import {
 import { untilStopSignal } from '../../setup/signals.js';
 
 const CMD = 'demo';
+const DEFAULT_PORT = 8080;
 
 const HELP = `streamfence demo: run an invented plant through the engine and serve the operator board
 
 Usage: streamfence demo [options]
 
 Options:
-  --port N            HTTP port (default 8080; 0 picks a free one)
-  --host ADDR         address to listen on (default 127.0.0.1; any other needs --board-token)
-  --speed N           plant time runs N times faster than the clock (default 60: one plant hour per minute)
-  --scenario NAME     ${Object.keys(SCENARIOS).join(', ')} (default ${DEFAULT_SCENARIO})
-  --seed N            simulator seed (default 7)
-  --preroll DURATION  plant history simulated at start, e.g. 8h (default 8h; at least the 6h window)
-  --board-token T     token operators' actions must carry (or STREAMFENCE_BOARD_TOKEN)
+  --port N            HTTP port, 1-65535 (default ${DEFAULT_PORT}, or a free one when that is taken;
+                      0 picks a free one; env ${ENV.boardPort})
+  --host ADDR         address to listen on (default 127.0.0.1; any other needs a token; env ${ENV.boardHost})
+  --speed N           plant time runs N times faster than the clock, 1-3600 (default 60: one plant
+                      hour per minute; env ${ENV.demoSpeed})
+  --scenario NAME     ${Object.keys(SCENARIOS).join(', ')} (default ${DEFAULT_SCENARIO}; env ${ENV.scenario})
+  --seed N            simulator seed, 0-${2 ** 31 - 1} (default 7; env ${ENV.seed})
+  --preroll DURATION  plant history simulated at start, 6h-7d (default 8h; env ${ENV.demoPreroll})
+  --board-token-file F  file holding the token operators' actions must carry (env
+                      ${ENV.boardTokenFile}); or set it in ${ENV.boardToken}; at least ${MIN_BOARD_TOKEN_LENGTH} characters
   -h, --help          this help
 
 Serves: /  the board   /api/alerts   /api/events (live)   /metrics   /healthz
 ${NOTICE}
 `;
 
+/** demo's options. */
+export const OPTIONS = {
+  port: { type: 'string' },
+  host: { type: 'string' },
+  speed: { type: 'string' },
+  scenario: { type: 'string' },
+  seed: { type: 'string' },
+  preroll: { type: 'string' },
+  'board-token-file': { type: 'string' },
+  /** Accepted only to be refused with the way to give the token: a flag value shows in `ps`. */
+  'board-token': { type: 'string' },
+} as const;
+
+/** The environment variable of each option (a flag wins over its variable). */
+export const OPTION_ENV: Record<Exclude<keyof typeof OPTIONS, 'board-token'>, string> = {
+  port: ENV.boardPort,
+  host: ENV.boardHost,
+  speed: ENV.demoSpeed,
+  scenario: ENV.scenario,
+  seed: ENV.seed,
+  preroll: ENV.demoPreroll,
+  'board-token-file': ENV.boardTokenFile,
+};
+
 export async function main(argv: string[]): Promise<number> {
-  const args = parseCommandArgs(
-    CMD,
-    argv,
-    {
-      port: { type: 'string' },
-      host: { type: 'string' },
-      speed: { type: 'string' },
-      scenario: { type: 'string' },
-      seed: { type: 'string' },
-      preroll: { type: 'string' },
-      'board-token': { type: 'string' },
-    },
-    false,
-  );
+  const args = parseCommandArgs(CMD, argv, OPTIONS, false, OPTION_ENV);
   if (args.help) return printHelp(HELP);
-  const port = numberOption(args, 'port', CMD, { min: 0, max: 65535, fallback: 8080 });
+  const portChosen = args.values.port !== undefined;
+  const port = numberOption(args, 'port', CMD, { ...PORT_OR_ANY_RULE, fallback: DEFAULT_PORT });
   const host = stringOption(args, 'host', CMD) ?? '127.0.0.1';
   const speed = numberOption(args, 'speed', CMD, { min: 1, max: 3600, fallback: 60 });
-  const seed = Math.trunc(numberOption(args, 'seed', CMD, { min: 0, max: 2 ** 31 - 1, fallback: 7 }));
+  const seed = numberOption(args, 'seed', CMD, { whole: true, min: 0, max: 2 ** 31 - 1, fallback: 7 });
   const scenario = stringOption(args, 'scenario', CMD) ?? DEFAULT_SCENARIO;
   if (!(scenario in SCENARIOS))
     usageError(`unknown scenario "${scenario}"; choose one of ${Object.keys(SCENARIOS).join(', ')}`, CMD);
@@ -67,14 +87,12 @@ export async function main(argv: string[]): Promise<number> {
   const prerollMs = parseDuration(prerollRaw);
   if (prerollMs === null || prerollMs < 6 * 3_600_000 || prerollMs > 7 * 86_400_000) {
     usageError(
-      `--preroll must be a duration from 6h to 7d (the baseline window is 6h), got "${prerollRaw}"`,
+      `${optionLabel(args, 'preroll')} must be a duration from 6h to 7d (the baseline window is 6h), got "${prerollRaw}"`,
       CMD,
     );
   }
-  const token = boardTokenFor(
-    host,
-    stringOption(args, 'board-token', CMD) ?? process.env.STREAMFENCE_BOARD_TOKEN,
-  );
+  if (args.values['board-token'] !== undefined) refuseTokenFlag(CMD);
+  const token = boardTokenFor(host, readBoardToken(stringOption(args, 'board-token-file', CMD), process.env));
 
   printBanner(CMD);
   const wallStart = Date.now();
@@ -96,7 +114,19 @@ export async function main(argv: string[]): Promise<number> {
     `streamfence demo: ${feed.sensorCount} sensors, ${(prerollMs / 3_600_000).toFixed(1)} h of history pre-rolled (${pre} readings in ${Math.round(performance.now() - t0)} ms); plant time now runs ${speed}x\n`,
   );
 
-  const board = await startBoardServer({ hub, metrics, host, port, token });
+  let board: Awaited<ReturnType<typeof startBoardServer>>;
+  try {
+    board = await startBoardServer({ hub, metrics, host, port, token });
+  } catch (err) {
+    // The default port is often taken on a desktop; the demo then takes a free one and says so.
+    // A port the user chose is never swapped silently.
+    const cause = (err as { cause?: unknown } | null)?.cause;
+    if (portChosen || (errorCode(err) !== 'EADDRINUSE' && errorCode(cause) !== 'EADDRINUSE')) throw err;
+    board = await startBoardServer({ hub, metrics, host, port: 0, token });
+    process.stderr.write(
+      `streamfence demo: port ${DEFAULT_PORT} is in use; serving on free port ${new URL(board.url).port} instead (choose one with --port)\n`,
+    );
+  }
   process.stdout.write(`streamfence demo: board at ${board.url}/\n`);
 
   const pump = setInterval(() => feed.advanceTo(feed.plantTimeAt(Date.now())), 250);

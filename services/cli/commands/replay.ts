@@ -4,21 +4,24 @@
  * would in that order, and write the alert events, the rejected lines, a summary and optionally an
  * HTML report into DIR.
  */
-import { stat } from 'node:fs/promises';
 import { ALERT_BUDGET_PER_HOUR } from '../../../libs/schema/vocabulary.js';
 import {
   numberOption,
   parseCommandArgs,
   printBanner,
   printHelp,
+  optionLabel,
+  parseTimeValue,
   stringOption,
   usageError,
+  warnNoEffect,
   type ParsedArgs,
 } from '../../setup/args.js';
+import { ENV } from '../../config/env.js';
 import { loadEngineConfig } from '../../setup/config-file.js';
 import { Progress, formatCount, formatSeconds } from '../../progress.js';
-import { detectFormat, isGzipPath, newInputStats, readInput, unreadable } from '../../replay/input.js';
-import { REPLAY_FILES, runReplay, type ReplayObserver } from '../../replay/replay.js';
+import { checkInputFile, detectFormat, newInputStats, readInput } from '../../replay/input.js';
+import { REPLAY_FILES, prepareDir, runReplay, type ReplayObserver } from '../../replay/replay.js';
 import type { InputRecord } from '../../replay/input.js';
 import { createReportObserver, REPORT_DEFAULTS } from '../../../libs/report/replay-report.js';
 import { writeReport, REPORT_FILE } from '../../report/write.js';
@@ -26,12 +29,12 @@ import { isKafkaUrl, parseKafkaUrl, KAFKA_URL_EXAMPLE, type KafkaRange } from '.
 import { kafkaRangeSource, newKafkaRangeStats } from '../../replay-kafka/source.js';
 import {
   KAFKA_OPTIONS,
+  checkKafka,
   connectionHelp,
   parseArgsOptions,
   readKafkaSettings,
   type KafkaSettings,
 } from '../../connect/index.js';
-import { parseTimestamp } from '../../../libs/engine/reading.js';
 import { DEFAULT_MAX_SENSORS } from '../../../libs/engine/sensor-budget.js';
 
 const CMD = 'replay';
@@ -55,8 +58,9 @@ INPUT           readings file: NDJSON (one {"sensor","ts","value"} per line; .nd
                   rejected as sensor_limit (default ${DEFAULT_MAX_SENSORS})
   --audit         compare digest quartiles with exact ones for a sample of sensors (implies --report;
                   the numbers also go to ${REPLAY_FILES.summary} under "audit")
-  --from TIME     start of the Kafka range, inclusive (ISO-8601 with a zone, or epoch ms)
-  --to TIME       end of the Kafka range, exclusive
+  --from TIME     start of the Kafka range by Kafka message time, inclusive (ISO-8601 with a
+                  zone, or epoch ms)
+  --to TIME       end of the Kafka range by Kafka message time, exclusive
   -h, --help      this help
 
 ${connectionHelp({ kafka: true })}
@@ -71,20 +75,42 @@ ${REPLAY_FILES.rejected} with its line number and reason. Exit code 0 once the i
 with rejected lines), 2 for unusable arguments, config or input.
 `;
 
+/** replay's own options (the Kafka connection options are services/connect's). */
+export const OPTIONS = {
+  config: { type: 'string' },
+  out: { type: 'string' },
+  format: { type: 'string' },
+  report: { type: 'boolean' },
+  'report-top': { type: 'string' },
+  budget: { type: 'string' },
+  audit: { type: 'boolean' },
+  from: { type: 'string' },
+  to: { type: 'string' },
+  'max-sensors': { type: 'string' },
+} as const;
+
+/** The environment variable of each option (a flag wins over its variable). */
+export const OPTION_ENV: Record<keyof typeof OPTIONS, string> = {
+  config: ENV.configFile,
+  out: ENV.outDir,
+  format: ENV.inputFormat,
+  report: ENV.report,
+  'report-top': ENV.reportTop,
+  budget: ENV.alertBudget,
+  audit: ENV.audit,
+  from: ENV.replayFrom,
+  to: ENV.replayTo,
+  'max-sensors': ENV.maxSensors,
+};
+
 export async function main(argv: string[]): Promise<number> {
-  const args = parseCommandArgs(CMD, argv, {
-    config: { type: 'string' },
-    out: { type: 'string' },
-    format: { type: 'string' },
-    report: { type: 'boolean' },
-    'report-top': { type: 'string' },
-    budget: { type: 'string' },
-    audit: { type: 'boolean' },
-    ...parseArgsOptions(KAFKA_OPTIONS),
-    from: { type: 'string' },
-    to: { type: 'string' },
-    'max-sensors': { type: 'string' },
-  });
+  const args = parseCommandArgs(
+    CMD,
+    argv,
+    { ...OPTIONS, ...parseArgsOptions(KAFKA_OPTIONS) },
+    true,
+    OPTION_ENV,
+  );
   if (args.help) return printHelp(HELP);
   if (args.positionals.length === 0)
     usageError('give the readings file to replay, e.g. streamfence replay readings.ndjson', CMD);
@@ -107,13 +133,30 @@ export async function main(argv: string[]): Promise<number> {
     fallback: DEFAULT_MAX_SENSORS,
   });
 
+  if (!wantReport)
+    warnNoEffect(CMD, args, ['report-top', 'budget'], 'without --report: only the HTML report uses them');
+  if (!isKafkaUrl(input)) {
+    warnNoEffect(CMD, args, ['from', 'to'], 'with a file input: only a kafka:// time range uses them');
+    warnNoEffect(
+      CMD,
+      args,
+      Object.keys(KAFKA_OPTIONS),
+      'with a file input: only a kafka:// input connects to Kafka',
+    );
+  } else warnNoEffect(CMD, args, ['format'], 'with a kafka:// input: messages are JSON readings');
+
   let opened: OpenedInput;
   if (isKafkaUrl(input)) {
     const range = kafkaRange(input, args);
     const connection = readKafkaSettings(args.values, process.env, { cmd: CMD, brokers: range.brokers });
+    await checkKafka(connection, {
+      clientId: 'streamfence-replay',
+      required: [range.topic],
+      what: `read topic ${range.topic}`,
+    });
     opened = openKafka(range, connection);
   } else {
-    opened = await openFile(input, args);
+    opened = openFile(input, args);
   }
   const report = wantReport ? createReportObserver({ topN, audit: wantAudit, budgetPerHour: budget }) : null;
   // The report observer collects bounded chart data during the replay; its audit numbers go to summary.json.
@@ -130,6 +173,7 @@ export async function main(argv: string[]): Promise<number> {
           },
         ];
 
+  await prepareDir(outDir);
   printBanner(CMD);
   const summary = await runReplay({
     source: opened.source,
@@ -162,18 +206,11 @@ interface OpenedInput {
   unit: string;
 }
 
-async function openFile(input: string, args: ParsedArgs): Promise<OpenedInput> {
+function openFile(input: string, args: ParsedArgs): OpenedInput {
+  const file = checkInputFile(input);
   const format = detectFormat(input, stringOption(args, 'format', CMD));
-  let size: number;
-  try {
-    const st = await stat(input);
-    if (st.isDirectory()) throw Object.assign(new Error('is a directory'), { code: 'EISDIR' });
-    size = st.size;
-  } catch (err) {
-    throw unreadable(input, err);
-  }
   const stats = newInputStats();
-  const progress = new Progress({ unit: 'lines', total: isGzipPath(input) ? undefined : size });
+  const progress = new Progress({ unit: 'lines', total: file.gzip ? undefined : file.size });
   return {
     source: readInput(input, format, stats),
     info: () => ({ path: input, format, lines: stats.lines, blank: stats.blank }),
@@ -215,11 +252,7 @@ function kafkaRange(input: string, args: ParsedArgs): KafkaRange {
   const to = stringOption(args, 'to', CMD);
   if (from === undefined || to === undefined)
     usageError('a kafka:// input needs --from TIME and --to TIME', CMD);
-  const time = (name: string, v: string): number => {
-    const t = parseTimestamp(v);
-    if (!t.ok) usageError(`--${name} ${v}: ${t.detail}`, CMD);
-    return t.ts;
-  };
+  const time = (name: string, v: string): number => parseTimeValue(v, optionLabel(args, name), CMD);
   const q = new URLSearchParams({ from: String(time('from', from)), to: String(time('to', to)) });
   return parseKafkaUrl(`kafka://${brokers}/${rest}?${q.toString()}`);
 }

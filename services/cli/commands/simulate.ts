@@ -3,11 +3,16 @@
  * a Kafka topic. Deterministic: the same options and seed give byte-identical files.
  */
 import { parseDuration } from '../../../libs/config/duration.js';
-import { parseTimestamp } from '../../../libs/engine/reading.js';
 import { formatLabelsCsv } from '../../../libs/scoring/labels.js';
 import { DEFAULT_SCENARIO, PlantSimulator, SCENARIOS, suggestedConfig } from '../../../libs/sim/plant.js';
 import { ENV } from '../../config/env.js';
-import { KAFKA_OPTIONS, connectionHelp, parseArgsOptions, readKafkaSettings } from '../../connect/index.js';
+import {
+  KAFKA_OPTIONS,
+  checkKafka,
+  connectionHelp,
+  parseArgsOptions,
+  readKafkaSettings,
+} from '../../connect/index.js';
 import { Progress, formatCount, formatSeconds } from '../../progress.js';
 import {
   configText,
@@ -18,18 +23,21 @@ import {
 } from '../../simulate/write.js';
 import {
   numberOption,
+  optionLabel,
   parseCommandArgs,
   parseNumber,
+  parseTimeValue,
   printBanner,
   printHelp,
   stringOption,
   usageError,
+  warnNoEffect,
 } from '../../setup/args.js';
 
 const CMD = 'simulate';
 const DEFAULT_START = '2026-01-05T00:00:00Z';
 
-export const HELP = `Usage: streamfence simulate (--out FILE | --kafka TOPIC) [options]
+export const HELP = `Usage: streamfence simulate (--readings FILE | --kafka TOPIC) [options]
 
 Generate readings from an invented plant, with injected faults and their labels.
 
@@ -38,10 +46,11 @@ Generate readings from an invented plant, with injected faults and their labels.
   --interval D        reading interval of each sensor, e.g. 60s, 1m (default 1m)
   --sensors N         how many sensors (default: the scenario's set; more repeat its units)
   --seed N            random seed (default 1); same seed, same data
-  --start ISO         time of the first reading, with a zone (default ${DEFAULT_START}; with
-                      --kafka the default ends the span at the current time, so the topic's
-                      retention keeps the data)
-  --out FILE          readings file: .ndjson or .csv (or say --format)
+  --start TIME        reading time of the first reading, ISO-8601 with a zone or epoch ms
+                      (default ${DEFAULT_START}; with --kafka the default ends the span at the
+                      current time, so the topic's retention keeps the data)
+  --readings FILE     readings file: .ndjson or .csv (or say --format). (--out is an output
+                      folder in replay and tune; simulate writes named files)
   --format F          ndjson or csv
   --labels FILE       fault labels as CSV: sensor,start,end,kind (ISO-8601 UTC times)
   --no-faults         no injected faults
@@ -81,27 +90,50 @@ function listScenarios(): string {
   return `${lines.join('\n')}\n`;
 }
 
+/** simulate's own options (the Kafka connection options are services/connect's). */
+export const OPTIONS = {
+  scenario: { type: 'string' },
+  duration: { type: 'string' },
+  interval: { type: 'string' },
+  sensors: { type: 'string' },
+  seed: { type: 'string' },
+  start: { type: 'string' },
+  readings: { type: 'string' },
+  format: { type: 'string' },
+  labels: { type: 'string' },
+  'no-faults': { type: 'boolean' },
+  kafka: { type: 'string' },
+  'config-out': { type: 'string' },
+  list: { type: 'boolean' },
+  out: { type: 'string' },
+} as const;
+
+/**
+ * The environment variable of each option (a flag wins). `--list` is an action, not a setting, and
+ * `--out` is only there to be refused with a pointer to --readings.
+ */
+export const OPTION_ENV: Record<Exclude<keyof typeof OPTIONS, 'list' | 'out'>, string> = {
+  scenario: ENV.scenario,
+  duration: ENV.simDuration,
+  interval: ENV.simInterval,
+  sensors: ENV.simSensors,
+  seed: ENV.seed,
+  start: ENV.simStart,
+  readings: ENV.simReadings,
+  format: ENV.simFormat,
+  labels: ENV.simLabels,
+  'no-faults': ENV.simNoFaults,
+  kafka: ENV.simKafkaTopic,
+  'config-out': ENV.simConfigOut,
+};
+
 export async function main(argv: string[]): Promise<number> {
   const args = parseCommandArgs(
     CMD,
     argv,
-    {
-      scenario: { type: 'string' },
-      duration: { type: 'string' },
-      interval: { type: 'string' },
-      sensors: { type: 'string' },
-      seed: { type: 'string' },
-      start: { type: 'string' },
-      out: { type: 'string' },
-      format: { type: 'string' },
-      labels: { type: 'string' },
-      'no-faults': { type: 'boolean' },
-      kafka: { type: 'string' },
-      ...parseArgsOptions(KAFKA_OPTIONS),
-      'config-out': { type: 'string' },
-      list: { type: 'boolean' },
-    },
+    { ...OPTIONS, ...parseArgsOptions(KAFKA_OPTIONS) },
     false,
+    OPTION_ENV,
   );
   if (args.help) return printHelp(HELP);
   if (args.values.list === true) {
@@ -109,14 +141,24 @@ export async function main(argv: string[]): Promise<number> {
     return 0;
   }
   const s = (n: string) => stringOption(args, n, CMD);
-  const out = s('out');
+  if (args.values.out !== undefined)
+    usageError(
+      '--out is an output folder in replay and tune; simulate writes named files: give the readings file with --readings FILE',
+      CMD,
+    );
+  const out = s('readings');
   const topic = s('kafka');
   const configOut = s('config-out');
   const labelsOut = s('labels');
   if (out === undefined && topic === undefined && configOut === undefined && labelsOut === undefined) {
-    usageError('say where the data goes: --out FILE (.ndjson or .csv) or --kafka TOPIC', CMD);
+    usageError('say where the data goes: --readings FILE (.ndjson or .csv) or --kafka TOPIC', CMD);
   }
-  if (out !== undefined && topic !== undefined) usageError('give either --out or --kafka, not both', CMD);
+  if (out !== undefined && topic !== undefined)
+    usageError('give either --readings or --kafka, not both', CMD);
+  if (topic === undefined)
+    warnNoEffect(CMD, args, Object.keys(KAFKA_OPTIONS), 'without --kafka: only --kafka connects to Kafka');
+  if (out === undefined)
+    warnNoEffect(CMD, args, ['format'], 'without --readings: it is the readings file format');
   const connection =
     topic === undefined
       ? undefined
@@ -132,9 +174,7 @@ export async function main(argv: string[]): Promise<number> {
     // (on a whole interval) instead of at a fixed past date that a short retention would drop.
     startTs = Math.floor((Date.now() - durationMs) / intervalMs) * intervalMs;
   } else {
-    const start = parseTimestamp(startText ?? DEFAULT_START);
-    if (!start.ok) usageError(`--start: ${start.detail}`, CMD);
-    startTs = (start as { ts: number }).ts;
+    startTs = parseTimeValue(startText ?? DEFAULT_START, optionLabel(args, 'start'), CMD);
   }
   const scenario = s('scenario') ?? DEFAULT_SCENARIO;
 
@@ -146,12 +186,18 @@ export async function main(argv: string[]): Promise<number> {
     sensors:
       s('sensors') === undefined
         ? undefined
-        : parseNumber(s('sensors')!, 'sensors', { whole: true, above: 0 }, CMD),
+        : parseNumber(s('sensors')!, optionLabel(args, 'sensors'), { whole: true, above: 0 }, CMD),
     faults: args.values['no-faults'] !== true,
     scenario,
   };
   const sim = new PlantSimulator(opts);
 
+  // Kafka is checked before anything is written, so an unreachable broker is one line at once.
+  if (connection !== undefined)
+    await checkKafka(connection, {
+      clientId: 'streamfence-simulate',
+      what: `create or write topic ${topic}`,
+    });
   printBanner(CMD);
   if (configOut !== undefined) await writeText(configOut, configText(configOut, suggestedConfig(scenario)));
   if (labelsOut !== undefined) await writeText(labelsOut, formatLabelsCsv(sim.labels()));

@@ -8,7 +8,9 @@ import { ALERT_BUDGET_PER_HOUR } from '../../../libs/schema/vocabulary.js';
 import { DEFAULT_GRACE_MS } from '../../../libs/scoring/score.js';
 import { parseDuration } from '../../../libs/config/duration.js';
 import { runTune } from '../../tune/tune.js';
+import { ENV } from '../../config/env.js';
 import {
+  optionLabel,
   parseCommandArgs,
   parseNumber,
   printBanner,
@@ -43,17 +45,32 @@ plus the grace; a raised alert is true when it falls in such an interval. Dropou
 the headline recall (the engine has no missing-data rule) but reported per kind.
 `;
 
+/** tune's options. */
+export const OPTIONS = {
+  labels: { type: 'string' },
+  out: { type: 'string' },
+  config: { type: 'string' },
+  grid: { type: 'string' },
+  budget: { type: 'string' },
+  grace: { type: 'string' },
+  workers: { type: 'string' },
+  format: { type: 'string' },
+} as const;
+
+/** The environment variable of each option (a flag wins over its variable). */
+export const OPTION_ENV: Record<keyof typeof OPTIONS, string> = {
+  labels: ENV.tuneLabels,
+  out: ENV.outDir,
+  config: ENV.configFile,
+  grid: ENV.tuneGrid,
+  budget: ENV.alertBudget,
+  grace: ENV.tuneGrace,
+  workers: ENV.tuneWorkers,
+  format: ENV.inputFormat,
+};
+
 export async function main(argv: string[]): Promise<number> {
-  const args = parseCommandArgs(CMD, argv, {
-    labels: { type: 'string' },
-    out: { type: 'string' },
-    config: { type: 'string' },
-    grid: { type: 'string' },
-    budget: { type: 'string' },
-    grace: { type: 'string' },
-    workers: { type: 'string' },
-    format: { type: 'string' },
-  });
+  const args = parseCommandArgs(CMD, argv, OPTIONS, true, OPTION_ENV);
   if (args.help) return printHelp(HELP);
   if (args.positionals.length !== 1)
     usageError(
@@ -67,17 +84,22 @@ export async function main(argv: string[]): Promise<number> {
   const budget =
     budgetRaw === undefined
       ? undefined
-      : parseNumber(budgetRaw, 'budget', { above: 0, what: 'alerts per hour' }, CMD);
+      : parseNumber(budgetRaw, optionLabel(args, 'budget'), { above: 0, what: 'alerts per hour' }, CMD);
   const workersRaw = s('workers');
   const workers =
-    workersRaw === undefined ? undefined : parseNumber(workersRaw, 'workers', { whole: true, above: 0 }, CMD);
+    workersRaw === undefined
+      ? undefined
+      : parseNumber(workersRaw, optionLabel(args, 'workers'), { whole: true, min: 1, max: 256 }, CMD);
   let graceMs: number | undefined;
   if (s('grace') !== undefined) {
     const g = parseDuration(s('grace'));
-    if (g === null) usageError(`--grace must be a duration such as 120s or 5m, got "${s('grace')}"`, CMD);
+    if (g === null)
+      usageError(
+        `${optionLabel(args, 'grace')} must be a duration of 0 or more, such as 120s or 5m, got "${s('grace')}"`,
+        CMD,
+      );
     graceMs = g!;
   }
-  printBanner(CMD);
   await runTune({
     input: args.positionals[0],
     format: s('format'),
@@ -88,6 +110,7 @@ export async function main(argv: string[]): Promise<number> {
     out,
     workers,
     graceMs,
+    onStart: () => printBanner(CMD),
   });
   return 0;
 }

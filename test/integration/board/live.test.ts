@@ -178,7 +178,7 @@ describe('live board (Kafka + Redis)', () => {
       ),
     ).rejects.toMatchObject({
       code: 2,
-      stderr: expect.stringMatching(/without a token.*--board-token.*\[ARGS_INVALID\]/),
+      stderr: expect.stringMatching(/without a token.*--board-token-file.*\[ARGS_INVALID\]/),
     });
   });
 });

@@ -178,7 +178,7 @@ describe('secured stack refusals of alerts --once', () => {
   it('the group ACL denies the monitor user a viewer group', () => {
     const r = refused(['alerts', '--once', '--no-actions', '--alert-topic', alertTopic], stack.monitor);
     expect(r.last).toBe(
-      `streamfence: kafka: not authorised to read ${alertTopic} (group ACL) for user monitor; grant the ACL or use another user [NOT_AUTHORISED]`,
+      `streamfence: kafka: not authorised to read topic ${alertTopic} (group ACL) for user monitor; grant the ACL or use another user [NOT_AUTHORISED]`,
     );
     expect(r.status).toBe(2);
   });
@@ -186,7 +186,7 @@ describe('secured stack refusals of alerts --once', () => {
   it('the topic ACL denies the operator user the input topic', () => {
     const r = refused(['alerts', '--once', '--no-actions', '--alert-topic', inputTopic], stack.operator);
     expect(r.last).toBe(
-      `streamfence: kafka: not authorised to read ${inputTopic} (topic ACL) for user operator; grant the ACL or use another user [NOT_AUTHORISED]`,
+      `streamfence: kafka: not authorised to read topic ${inputTopic} (topic ACL) for user operator; grant the ACL or use another user [NOT_AUTHORISED]`,
     );
     expect(r.status).toBe(2);
   });

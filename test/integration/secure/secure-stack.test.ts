@@ -118,7 +118,7 @@ describe('the secured stack, every command', () => {
 
     const dir = mkdtempSync(path.join(tmpdir(), 'sf-secure-'));
     const file = path.join(dir, 'readings.ndjson');
-    expect(cli(['simulate', '--out', file, ...SIM], {}).status).toBe(0);
+    expect(cli(['simulate', '--readings', file, ...SIM], {}).status).toBe(0);
     expect(cli(['replay', file, '--out', path.join(dir, 'out')], {}).status).toBe(0);
     const replayIds = readFileSync(path.join(dir, 'out', 'alerts.ndjson'), 'utf8')
       .trim()

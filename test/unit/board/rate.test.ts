@@ -1,7 +1,10 @@
 import { describe, expect, it } from 'vitest';
 import { RateMeter } from '../../../libs/board/rate.js';
 import { RecentSeries } from '../../../libs/board/series.js';
-import { authorized, boardTokenFor, isLoopbackHost } from '../../../services/board/auth.js';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { authorized, boardTokenFor, isLoopbackHost, readBoardToken } from '../../../services/board/auth.js';
 
 const MIN = 60_000;
 const T0 = Date.parse('2026-03-02T08:00:00Z');
@@ -67,10 +70,27 @@ describe('board auth decision', () => {
       expect(isLoopbackHost(h)).toBe(false);
   });
   it('refuses to start off loopback without a token, and uses the token when given', () => {
-    expect(() => boardTokenFor('0.0.0.0', undefined)).toThrow(/--board-token/);
+    expect(() => boardTokenFor('0.0.0.0', undefined)).toThrow(/--board-token-file/);
     expect(() => boardTokenFor('10.0.0.5', '  ')).toThrow(/STREAMFENCE_BOARD_TOKEN/);
-    expect(boardTokenFor('0.0.0.0', 's3cret')).toBe('s3cret');
+    expect(boardTokenFor('0.0.0.0', 'kiln-room-secret-42')).toBe('kiln-room-secret-42');
     expect(boardTokenFor('127.0.0.1', undefined)).toBeNull();
+  });
+  it('refuses a token shorter than 16 characters, on any address', () => {
+    expect(() => boardTokenFor('0.0.0.0', 's3cret')).toThrow(/6 characters; use at least 16/);
+    expect(() => boardTokenFor('127.0.0.1', 'fifteen-chars-x')).toThrow(/at least 16/);
+    expect(boardTokenFor('127.0.0.1', 'sixteen-chars-xy')).toBe('sixteen-chars-xy');
+  });
+  it('reads the token from the environment or a file, never both', () => {
+    const dir = mkdtempSync(join(tmpdir(), 'sf-token-'));
+    const file = join(dir, 'token');
+    writeFileSync(file, 'from-a-file-0123456789\n');
+    expect(readBoardToken(file, {})).toBe('from-a-file-0123456789');
+    expect(readBoardToken(undefined, { STREAMFENCE_BOARD_TOKEN: ' from-env-0123456789 ' })).toBe(
+      'from-env-0123456789',
+    );
+    expect(readBoardToken(undefined, {})).toBeUndefined();
+    expect(() => readBoardToken(file, { STREAMFENCE_BOARD_TOKEN: 'x'.repeat(20) })).toThrow(/keep one/);
+    expect(() => readBoardToken(join(dir, 'missing'), {})).toThrow(/no such file/);
   });
   it('checks the bearer token exactly', () => {
     expect(authorized(null, undefined)).toBe(true);

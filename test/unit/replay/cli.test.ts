@@ -68,6 +68,7 @@ describe('streamfence replay (command)', () => {
     });
     expect((await codeOf([input, input])).message).toContain('give one input file');
     expect((await codeOf([input, '--format', 'xml'])).code).toBe('ARGS_INVALID');
+    writeFileSync(join(dir, 'readings.txt'), 'x\n');
     expect((await codeOf([join(dir, 'readings.txt')])).message).toContain('--format');
     expect((await codeOf([input, '--out'])).code).toBe('ARGS_INVALID');
   });
@@ -77,7 +78,7 @@ describe('streamfence replay (command)', () => {
       code: 'INPUT_UNREADABLE',
       message: expect.stringContaining('no such file'),
     });
-    expect((await codeOf([dir, '--format', 'csv'])).message).toContain('directory');
+    expect((await codeOf([dir, '--format', 'csv'])).message).toContain('it is a folder, not a file');
   });
 
   it('refuses an output directory that cannot be created with OUTPUT_UNWRITABLE', async () => {
@@ -114,7 +115,7 @@ describe('streamfence replay (command)', () => {
     );
     expect(r.code).toBe(2);
     expect(r.stderr.trim()).toBe(
-      `streamfence: cannot read input "${missing}": no such file [INPUT_UNREADABLE]`,
+      `streamfence: cannot read input "${missing}": no such file or folder [INPUT_UNREADABLE]`,
     );
   });
 });

@@ -5,7 +5,9 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
 import {
+  checkInputFile,
   detectFormat,
+  isGzipContent,
   newInputStats,
   readInput,
   type InputFormat,
@@ -97,6 +99,25 @@ describe('readInput', () => {
     expect(recs[2].raw).toBe(`x,abc,s3,${T0}`);
   });
 
+  it('tells gzip by content, not by name: compressed .ndjson read decompressed, plain .gz read as it is', async () => {
+    const zipped = file('zipped.ndjson', gzipSync(`{"sensor":"s","ts":"${T0}","value":3}\n`));
+    expect(isGzipContent(zipped)).toBe(true);
+    expect((await all(zipped, 'ndjson')).map((r) => r.result.ok)).toEqual([true]);
+    const plain = file('plain.ndjson.gz', `{"sensor":"s","ts":"${T0}","value":3}\n`);
+    expect(isGzipContent(plain)).toBe(false);
+    expect((await all(plain, 'ndjson')).map((r) => r.result.ok)).toEqual([true]);
+  });
+
+  it('refuses an empty file (0 bytes) and one with only blank lines or a header with INPUT_EMPTY', async () => {
+    expect(() => checkInputFile(file('empty.ndjson', ''))).toThrow(/is empty \(0 bytes\)/);
+    expect(await failure(all(file('blank.ndjson', '\n  \n'), 'ndjson'))).toMatchObject({
+      code: 'INPUT_EMPTY',
+      message: expect.stringContaining('holds nothing to read'),
+    });
+    expect((await failure(all(file('header.csv', 'sensor,ts,value\n'), 'csv'))).code).toBe('INPUT_EMPTY');
+    expect(checkInputFile(file('one.ndjson', 'x\n'))).toEqual({ size: 2, gzip: false });
+  });
+
   it('reads gzip-compressed files', async () => {
     const p = file('c.ndjson.gz', gzipSync(`{"sensor":"s","ts":"${T0}","value":3}\n`));
     const recs = await all(p, 'ndjson');
@@ -110,8 +131,8 @@ describe('readInput', () => {
       message: expect.stringContaining('no such file'),
     });
     expect((await failure(all(dir, 'ndjson'))).code).toBe('INPUT_UNREADABLE');
-    const gz = file('bad.ndjson.gz', 'plain text');
-    expect((await failure(all(gz, 'ndjson'))).message).toContain('not a valid gzip file');
+    const gz = file('bad.ndjson.gz', Buffer.concat([gzipSync('{"sensor":"s"}\n').subarray(0, 12)]));
+    expect((await failure(all(gz, 'ndjson'))).message).toContain('does not decompress');
     const csv = file('nohdr.csv', `s1,${T0},1\n`);
     expect(await failure(all(csv, 'csv'))).toMatchObject({
       code: 'INPUT_UNREADABLE',

@@ -3,7 +3,17 @@ import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
-import { numberOption, parseCommandArgs, parseNumber } from '../../../services/setup/args.js';
+import {
+  PORT_OR_ANY_RULE,
+  PORT_RULE,
+  numberOption,
+  parseCommandArgs,
+  parseNumber,
+  parseTimeOrAgo,
+  parseTimeValue,
+  warnNoEffect,
+} from '../../../services/setup/args.js';
+import { fileProblem } from '../../../services/fs-errors.js';
 import { loadEngineConfig } from '../../../services/setup/config-file.js';
 import { onStopSignal, untilStopSignal } from '../../../services/setup/signals.js';
 import { defaultConfig } from '../../../libs/config/config.js';
@@ -67,9 +77,105 @@ describe('config files', () => {
     const e = refusal(() => loadEngineConfig(missing, '--config (or STREAMFENCE_CONFIG)'));
     expect(e.code).toBe('CONFIG_INVALID');
     expect(e.message).toBe(
-      `cannot read the config file "${missing}": no such file; check --config (or STREAMFENCE_CONFIG)`,
+      `cannot read the config file "${missing}": no such file or folder; check --config (or STREAMFENCE_CONFIG)`,
     );
-    expect(refusal(() => loadEngineConfig(dir)).message).toContain('it is a directory');
+    expect(refusal(() => loadEngineConfig(dir)).message).toContain('it is a folder, not a file');
+  });
+
+  it('an empty config file is refused, not read as the defaults', () => {
+    const dir = mkdtempSync(path.join(tmpdir(), 'sf-setup-'));
+    for (const text of ['', '\n  \n', '# only a comment\n']) {
+      const file = path.join(dir, 'empty.yaml');
+      writeFileSync(file, text);
+      const e = refusal(() => loadEngineConfig(file));
+      expect(e.code).toBe('CONFIG_INVALID');
+      expect(e.message).toMatch(/is empty \(or only comments\).*leave --config out/);
+    }
+  });
+
+  it('a YAML error names its line and column and the problem, not a bare ":"', () => {
+    const dir = mkdtempSync(path.join(tmpdir(), 'sf-setup-'));
+    const file = path.join(dir, 'bad.yaml');
+    writeFileSync(file, 'defaults:\n  fenceK: [1\n');
+    const e = refusal(() => loadEngineConfig(file));
+    expect(e.message).toMatch(
+      /bad\.yaml: not valid YAML or JSON: line 3, column 1: Flow sequence .* end with a \]$/,
+    );
+    expect(e.message).not.toMatch(/:\s*$/);
+  });
+});
+
+describe('shared option rules', () => {
+  const spec = { budget: { type: 'string' }, report: { type: 'boolean' }, out: { type: 'string' } } as const;
+  const envOf = { budget: 'STREAMFENCE_ALERT_BUDGET', report: 'STREAMFENCE_REPLAY_REPORT' };
+
+  it('a negative value reaches the range check instead of parseArgs\' "ambiguous" text', () => {
+    const parsed = parseCommandArgs('replay', ['--budget', '-1'], spec);
+    expect(parsed.values.budget).toBe('-1');
+    const e = refusal(() => numberOption(parsed, 'budget', 'replay', { above: 0, fallback: 6 }));
+    expect(e.message).toBe('--budget must be a positive number, got "-1" (see "streamfence replay --help")');
+    expect(e.message.split('\n')).toHaveLength(1);
+    // `--` still ends the options; a negative positional after it stays a positional.
+    expect(parseCommandArgs('replay', ['--', '-1'], spec).positionals).toEqual(['-1']);
+  });
+
+  it('an option not given as a flag takes its environment variable; the flag wins', () => {
+    const env = { STREAMFENCE_ALERT_BUDGET: '4', STREAMFENCE_REPLAY_REPORT: 'yes' };
+    const fromEnv = parseCommandArgs('replay', [], spec, true, envOf, env);
+    expect(fromEnv.values).toMatchObject({ budget: '4', report: true });
+    expect(fromEnv.fromEnv).toEqual(envOf);
+    const flagWins = parseCommandArgs('replay', ['--budget', '9'], spec, true, envOf, env);
+    expect(flagWins.values.budget).toBe('9');
+    // A bad value from the environment is named by its variable.
+    const bad = parseCommandArgs('replay', [], spec, true, envOf, { STREAMFENCE_ALERT_BUDGET: '-2' });
+    expect(refusal(() => numberOption(bad, 'budget', 'replay', { above: 0, fallback: 6 })).message).toMatch(
+      /^STREAMFENCE_ALERT_BUDGET must be a positive number, got "-2"/,
+    );
+    expect(
+      refusal(() => parseCommandArgs('replay', [], spec, true, envOf, { STREAMFENCE_REPLAY_REPORT: 'maybe' }))
+        .message,
+    ).toMatch(/STREAMFENCE_REPLAY_REPORT must be true or false/);
+  });
+
+  it('ports are 1-65535 (0 only where any free port is meant), in one line', () => {
+    expect(parseNumber('8080', 'port', PORT_RULE)).toBe(8080);
+    expect(parseNumber('0', 'port', PORT_OR_ANY_RULE)).toBe(0);
+    expect(refusal(() => parseNumber('0', 'port', PORT_RULE)).message).toMatch(/from 1 to 65535, got "0"/);
+    expect(refusal(() => parseNumber('70000', 'metrics-port', PORT_OR_ANY_RULE)).message).toBe(
+      '--metrics-port must be a TCP port from 1 to 65535, or 0 for any free port, got "70000"',
+    );
+  });
+
+  it('times need a zone, as readings do; durations count back from now', () => {
+    expect(parseTimeValue('2026-12-02T05:00:00Z', '--from', 'replay')).toBe(Date.UTC(2026, 11, 2, 5));
+    expect(parseTimeValue('2026-12-02T06:00:00+01:00', '--from', 'replay')).toBe(Date.UTC(2026, 11, 2, 5));
+    expect(parseTimeValue('1764651600000', '--from', 'replay')).toBe(1764651600000);
+    expect(refusal(() => parseTimeValue('2026-12-02T05:00:00', '--from', 'replay')).message).toMatch(
+      /--from "2026-12-02T05:00:00" is not a time with a zone/,
+    );
+    const now = Date.UTC(2026, 11, 2, 12);
+    expect(parseTimeOrAgo('2h', '--since', now, 'alerts')).toBe(now - 7_200_000);
+    expect(refusal(() => parseTimeOrAgo('2026-12-02T05:00:00', '--since', now, 'alerts')).code).toBe(
+      'ARGS_INVALID',
+    );
+  });
+
+  it('options without effect are named in one warning line', () => {
+    const lines: string[] = [];
+    const sink = { write: (t: string) => lines.push(t) };
+    const parsed = parseCommandArgs('replay', ['--budget', '3'], spec);
+    warnNoEffect('replay', parsed, ['budget', 'out'], 'without --report', sink);
+    warnNoEffect('replay', parsed, ['out'], 'never shown', sink);
+    expect(lines).toEqual(['streamfence replay: warning: --budget has no effect without --report\n']);
+  });
+
+  it("file-system failures are words, never node's errno text", () => {
+    const eexist = Object.assign(new Error("EEXIST: file already exists, mkdir 'out'"), { code: 'EEXIST' });
+    expect(fileProblem(eexist)).toBe('a file of that name is in the way (a folder is needed)');
+    expect(fileProblem(Object.assign(new Error('x'), { code: 'EWEIRD' }))).toBe(
+      'the system refused it (EWEIRD)',
+    );
+    expect(fileProblem(new Error("ENOTDIR: not a directory, mkdir 'a/b'"))).toBe('not a directory');
   });
 });
 

@@ -14,10 +14,18 @@ const common = ['--sensors', '5', '--duration', '12h', '--interval', '2m', '--se
 describe('streamfence simulate', () => {
   it('same seed -> byte-identical readings and labels; readings parse; labels match the stream', async () => {
     expect(
-      await main([...common, '--out', p('a.ndjson'), '--labels', p('a.csv'), '--config-out', p('cfg.yaml')]),
+      await main([
+        ...common,
+        '--readings',
+        p('a.ndjson'),
+        '--labels',
+        p('a.csv'),
+        '--config-out',
+        p('cfg.yaml'),
+      ]),
     ).toBe(0);
-    expect(await main([...common, '--out', p('b.ndjson'), '--labels', p('b.csv')])).toBe(0);
-    expect(await main([...common.slice(0, -1), '43', '--out', p('c.ndjson')])).toBe(0);
+    expect(await main([...common, '--readings', p('b.ndjson'), '--labels', p('b.csv')])).toBe(0);
+    expect(await main([...common.slice(0, -1), '43', '--readings', p('c.ndjson')])).toBe(0);
     const a = readFileSync(p('a.ndjson'));
     expect(a.equals(readFileSync(p('b.ndjson')))).toBe(true);
     expect(readFileSync(p('a.csv')).equals(readFileSync(p('b.csv')))).toBe(true);
@@ -43,9 +51,9 @@ describe('streamfence simulate', () => {
   });
 
   it('CSV by extension, with a header; --no-faults gives no labels', async () => {
-    expect(await main([...common, '--out', p('d.csv'), '--labels', p('d-labels.csv'), '--no-faults'])).toBe(
-      0,
-    );
+    expect(
+      await main([...common, '--readings', p('d.csv'), '--labels', p('d-labels.csv'), '--no-faults']),
+    ).toBe(0);
     const rows = readFileSync(p('d.csv'), 'utf8').trimEnd().split('\n');
     expect(rows[0]).toBe('sensor,ts,value');
     expect(rows).toHaveLength(1 + 5 * 360);
@@ -60,19 +68,27 @@ describe('streamfence simulate', () => {
         message: expect.stringMatching(re),
       });
     };
-    await fails([], /--out FILE/);
-    await fails(['--out', p('x.txt')], /name it \.ndjson or \.csv/);
-    await fails(['--out', p('x.ndjson'), '--duration', 'long'], /--duration must be a duration/);
-    await fails(['--out', p('x.ndjson'), '--sensors', '0'], /--sensors must be a positive whole number/);
-    await fails(['--out', p('x.ndjson'), '--scenario', 'moon-base'], /unknown scenario "moon-base"/);
-    await fails(['--out', p('x.ndjson'), '--start', '2026-01-05'], /--start/);
-    await fails(['--out', p('x.ndjson'), '--kafka', 't'], /either --out or --kafka/);
+    await fails([], /--readings FILE/);
+    await fails(['--out', p('x.ndjson')], /--out is an output folder in replay and tune.*--readings FILE/);
+    await fails(['--readings', p('x.ndjson'), '--seed', '-1.5'], /--seed must be a whole number/);
+    await fails(
+      ['--readings', p('x.ndjson'), '--start', '2026-01-05T00:00:00'],
+      /--start .* not a time with a zone/,
+    );
+    await fails(['--readings', p('x.txt')], /name it \.ndjson or \.csv/);
+    await fails(['--readings', p('x.ndjson'), '--duration', 'long'], /--duration must be a duration/);
+    await fails(['--readings', p('x.ndjson'), '--sensors', '0'], /--sensors must be a positive whole number/);
+    await fails(['--readings', p('x.ndjson'), '--scenario', 'moon-base'], /unknown scenario "moon-base"/);
+    await fails(['--readings', p('x.ndjson'), '--start', '2026-01-05'], /--start/);
+    await fails(['--readings', p('x.ndjson'), '--kafka', 't'], /either --readings or --kafka/);
     await fails(['--bogus'], /bogus/);
   });
 
   it('an unwritable output fails with OUTPUT_UNWRITABLE', async () => {
-    await expect(main([...common, '--out', join(dir, 'missing-dir', 'x.ndjson')])).rejects.toMatchObject({
-      code: 'OUTPUT_UNWRITABLE',
-    });
+    await expect(main([...common, '--readings', join(dir, 'missing-dir', 'x.ndjson')])).rejects.toMatchObject(
+      {
+        code: 'OUTPUT_UNWRITABLE',
+      },
+    );
   });
 });

@@ -28,7 +28,11 @@ describe('streamfence tune: arguments and unusable input', () => {
     await fails([p('one-time.ndjson'), '--labels', p('labels.csv')], 'ARGS_INVALID', /--out DIR is required/);
     const ok = [p('one-time.ndjson'), '--labels', p('labels.csv'), '--out', p('o')];
     await fails([...ok, '--budget', '0'], 'ARGS_INVALID', /--budget must be a positive number/);
-    await fails([...ok, '--workers', 'many'], 'ARGS_INVALID', /--workers must be a positive whole number/);
+    await fails(
+      [...ok, '--workers', 'many'],
+      'ARGS_INVALID',
+      /--workers must be a whole number from 1 to 256/,
+    );
     await fails([...ok, '--grace', 'soon'], 'ARGS_INVALID', /--grace must be a duration/);
     await fails(
       [...ok, '--grid', 'fenceK=2;speed=3'],

@@ -32,7 +32,7 @@ beforeAll(async () => {
   const argv = ['--sensors', '12', '--duration', '2d', '--interval', '1m', '--seed', '1'];
   await simulate([
     ...argv,
-    '--out',
+    '--readings',
     p('data.ndjson'),
     '--labels',
     p('labels.csv'),
