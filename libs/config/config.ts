@@ -194,6 +194,7 @@ function parseOne(key: keyof SensorSettings, value: unknown, where: string): unk
     case 'minSamples':
       return count(2);
     case 'flatlineAfter':
+    case 'badQualityAfter':
       return count(0);
     case 'raiseAfter':
       return count(1, SETTING_BOUNDS.maxRaiseWindow);

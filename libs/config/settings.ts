@@ -40,6 +40,8 @@ export interface SensorSettings {
   buckets: number;
   /** Whether readings taken while an alert is raised feed the baseline. */
   learnWhileRaised: boolean;
+  /** Consecutive readings of quality other than good that raise a bad_quality alert (0 turns it off). */
+  badQualityAfter: number;
 }
 
 /** The default value of every setting (the README's configuration table lists them). */
@@ -60,6 +62,7 @@ export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
   window: 24 * 3600 * 1000,
   buckets: 12,
   learnWhileRaised: true,
+  badQualityAfter: 10,
 });
 
 /** The names of all settings, in the order of DEFAULT_SETTINGS. */

@@ -69,3 +69,21 @@ export function alertMessage(input: MessageInput): string {
   parts.push(`abnormal since ${input.since}`);
   return parts.join('; ') + '.';
 }
+
+type QualityMessageInput = Pick<
+  AlertEvent,
+  'sensor' | 'state' | 'value' | 'ts' | 'since' | 'flaggedReadings'
+> & {
+  /** The quality of the reading behind the event (`good` for the one that clears). */
+  quality: 'good' | 'uncertain' | 'bad';
+  /** Readings of doubtful quality in a row, up to this one. */
+  run: number;
+};
+
+/** The sentence of a bad_quality alert: how many doubtful readings, the newest, and what it means. */
+export function qualityMessage(e: QualityMessageInput): string {
+  if (e.state === 'cleared') {
+    return `${e.sensor} sends good readings again: ${fmt(e.value)} at ${e.ts}; its readings had been of doubtful quality since ${e.since} (${e.flaggedReadings} of them).`;
+  }
+  return `${e.sensor} is ${REASON_WORDS.bad_quality} (warning): ${e.run} in a row, the newest ${e.quality}, ${fmt(e.value)} at ${e.ts}; they are neither judged nor learned until good readings return; since ${e.since}.`;
+}

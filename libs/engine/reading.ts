@@ -5,12 +5,26 @@
 import { isEpochText, parseIsoTime } from './iso-time.js';
 import { scanReadingObject } from './reading-scan.js';
 
+/**
+ * How far a reading can be trusted, as the source tags it (the OPC UA status-code classes that
+ * plant historians also use). Only `good` readings are judged and learned.
+ */
+export const QUALITIES = ['good', 'uncertain', 'bad'] as const;
+
+/** The quality class of a reading. */
+export type Quality = (typeof QUALITIES)[number];
+
+/** The quality classes other than `good`: readings of these are counted but not judged or learned. */
+export type DoubtfulQuality = Exclude<Quality, 'good'>;
+
 /** One validated sensor reading. */
 export interface Reading {
   sensor: string;
   /** Event time, epoch milliseconds. */
   ts: number;
   value: number;
+  /** Absent means `good`; the parsers set it only for `uncertain` and `bad` readings. */
+  quality?: DoubtfulQuality;
 }
 
 /** Why an input line is not an accepted reading (kept with the line in rejected output). */
@@ -28,6 +42,7 @@ export type RejectReason =
   | 'ts_missing'
   | 'ts_invalid'
   | 'ts_out_of_range'
+  | 'quality_invalid'
   | 'late'
   | 'sensor_limit';
 
@@ -46,6 +61,7 @@ export const REJECT_REASONS: readonly RejectReason[] = [
   'ts_missing',
   'ts_invalid',
   'ts_out_of_range',
+  'quality_invalid',
   'late',
   'sensor_limit',
 ];
@@ -133,12 +149,13 @@ export function parseTimestamp(
   return { ok: true, ts };
 }
 
-/** Validate the three fields, whatever the container (JSON object or CSV row). */
+/** Validate the fields, whatever the container (JSON object or CSV row); `quality` undefined = good. */
 export function validateFields(
   sensor: unknown,
   ts: unknown,
   value: unknown,
   valueFromText = false,
+  quality: unknown = undefined,
 ): ParseResult {
   if (sensor === undefined || sensor === null) return reject('sensor_missing', 'field "sensor" is missing');
   if (typeof sensor !== 'string') return reject('sensor_missing', 'field "sensor" must be a string');
@@ -173,7 +190,14 @@ export function validateFields(
 
   const time = parseTimestamp(ts);
   if (!time.ok) return time;
-  return { ok: true, reading: { sensor, ts: time.ts, value: numeric } };
+  if (quality === undefined || quality === 'good')
+    return { ok: true, reading: { sensor, ts: time.ts, value: numeric } };
+  if (quality === 'uncertain' || quality === 'bad')
+    return { ok: true, reading: { sensor, ts: time.ts, value: numeric, quality } };
+  return reject(
+    'quality_invalid',
+    `field "quality" must be "good", "uncertain" or "bad" (or left out for good), got ${describe(quality)}`,
+  );
 }
 
 /** Parse one NDJSON line or one message payload. Never throws. */
@@ -185,7 +209,7 @@ export function parseJsonReading(line: string): ParseResult {
     );
   }
   const fields = scanReadingObject(line);
-  if (fields !== null) return validateFields(fields.sensor, fields.ts, fields.value);
+  if (fields !== null) return validateFields(fields.sensor, fields.ts, fields.value, false, fields.quality);
   let obj: unknown;
   try {
     obj = JSON.parse(line);
@@ -196,7 +220,7 @@ export function parseJsonReading(line: string): ParseResult {
     return reject('not_object', 'a reading must be a JSON object {"sensor","ts","value"}');
   }
   const record = obj as Record<string, unknown>;
-  return validateFields(record.sensor, record.ts, record.value);
+  return validateFields(record.sensor, record.ts, record.value, false, record.quality);
 }
 
 function clip(text: string): string {
@@ -206,6 +230,7 @@ function clip(text: string): string {
 function describe(value: unknown): string {
   if (typeof value === 'string') return `the string "${clip(value)}"`;
   if (typeof value === 'boolean') return 'a boolean';
+  if (value === null) return 'null';
   if (Array.isArray(value)) return 'an array';
   return typeof value;
 }
