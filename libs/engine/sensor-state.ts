@@ -129,12 +129,12 @@ function writeWindow(out: ByteWriter, window: SensorWindow): void {
     out.f64(bucket.moments.m2);
     out.f64(bucket.firstTs);
     out.f64(bucket.lastTs);
-    // Closed means were rounded by roundForStorage: the first as a double, then single-precision steps.
-    const { means, counts } = bucket.centroids;
-    out.uvar(means.length);
-    for (let i = 0; i < means.length; i++) {
-      if (i === 0) out.f64(means[0]);
-      else out.f32(means[i] - means[i - 1]);
+    // Packed in memory as they are stored: the first mean as a double, then single-precision steps.
+    const { first, steps, counts } = bucket.centroids;
+    out.uvar(steps.length);
+    for (let i = 0; i < steps.length; i++) {
+      if (i === 0) out.f64(first);
+      else out.f32(steps[i]);
       out.uvar(counts[i]);
     }
   }
@@ -249,13 +249,16 @@ function readClosedBucket(input: ByteReader): ClosedBucket {
   const firstTs = input.f64();
   const lastTs = input.f64();
   const length = input.uvar();
-  const means = new Float64Array(length);
-  const counts = new Float64Array(length);
+  const store = new ArrayBuffer(length * 8);
+  const steps = new Float32Array(store, 0, length);
+  const counts = new Uint32Array(store, length * 4, length);
+  let first = 0;
   for (let i = 0; i < length; i++) {
-    means[i] = i === 0 ? input.f64() : means[i - 1] + input.f32();
+    if (i === 0) first = input.f64();
+    else steps[i] = input.f32();
     counts[i] = input.uvar();
   }
-  return { index, moments, firstTs, lastTs, centroids: { means, counts } };
+  return { index, moments, firstTs, lastTs, centroids: { first, steps, counts } };
 }
 
 /** Read the lifecycle into `life` (fresh from the settings); a ring of another length is dropped. */

@@ -222,7 +222,7 @@ export function createReportObserver(opts: ReportOptions = {}): ReportObserver {
       }
       audit = {
         convention:
-          'exact quartiles: Hyndman-Fan type 7; rank error = exact mid-rank of the digest value minus p',
+          'exact quartiles: Hyndman-Fan type 7; rank error = distance from p to the exact rank range of the digest value (of the data values either side when it falls between two)',
         rows,
         skipped,
       };

@@ -58,6 +58,12 @@ export interface MonitorParts {
   settings: MonitorSettings;
   log: Logger;
   metrics: Metrics;
+  /**
+   * Judges a failure while starting: a refusal no retry can cure (wrong password, denied ACL,
+   * untrusted certificate) is returned and start() fails with it, so `run` exits 2 with that line
+   * instead of retrying for ever. Null (the default) means wait and retry.
+   */
+  startRefusal?: (dependency: 'kafka' | 'redis', err: unknown) => Error | null;
 }
 
 interface PartitionWorker {
@@ -116,6 +122,7 @@ export class Monitor {
   private readonly settings: MonitorSettings;
   private readonly log: Logger;
   private readonly metrics: Metrics;
+  private readonly startRefusal: NonNullable<MonitorParts['startRefusal']>;
 
   constructor(parts: MonitorParts) {
     const { kafka, redis, settings, metrics } = parts;
@@ -125,6 +132,7 @@ export class Monitor {
     this.settings = settings;
     this.log = parts.log;
     this.metrics = metrics;
+    this.startRefusal = parts.startRefusal ?? (() => null);
     this.store = new CheckpointStore(
       redis,
       settings.statePrefix,
@@ -154,19 +162,27 @@ export class Monitor {
 
   /** Connect (retrying while dependencies are down) and start consuming. */
   async start(): Promise<void> {
-    await this.retry('redis', () => this.redis.ping());
-    await this.retry('redis', () =>
-      this.redis.set(
-        configKey(this.settings.statePrefix, this.settings.group, this.settings.inputTopic),
-        JSON.stringify(configToJson(this.config)),
-      ),
+    const refuse = (dependency: 'kafka' | 'redis') => ({
+      fatal: (err: unknown) => this.startRefusal(dependency, err),
+    });
+    await this.retry('redis', () => this.redis.ping(), refuse('redis'));
+    await this.retry(
+      'redis',
+      () =>
+        this.redis.set(
+          configKey(this.settings.statePrefix, this.settings.group, this.settings.inputTopic),
+          JSON.stringify(configToJson(this.config)),
+        ),
+      refuse('redis'),
     );
-    await this.retry('kafka', () => this.admin.connect());
-    await this.retry('kafka', () => this.producer.connect());
-    await this.retry('kafka', () => this.consumer.connect());
+    await this.retry('kafka', () => this.admin.connect(), refuse('kafka'));
+    await this.retry('kafka', () => this.producer.connect(), refuse('kafka'));
+    await this.retry('kafka', () => this.consumer.connect(), refuse('kafka'));
     this.wireEvents();
-    await this.retry('kafka', () =>
-      this.consumer.subscribe({ topic: this.settings.inputTopic, fromBeginning: true }),
+    await this.retry(
+      'kafka',
+      () => this.consumer.subscribe({ topic: this.settings.inputTopic, fromBeginning: true }),
+      refuse('kafka'),
     );
     await this.consumer.run({
       autoCommit: false,

@@ -244,12 +244,31 @@ describe('older state encodings', () => {
     expect(state.life.active?.reasons).toEqual(['outer_fence_high', 'z_high']);
     expect(state.doubtfulRun).toBe(0);
     expect(state.qualityAlert).toBeNull();
+    // The old build compressed its buckets with the classic t-digest bound; this build keeps 40
+    // readings exactly, so sketch-derived figures (percentile ranks) may differ in the last digits,
+    // but the lifecycle, fences and moments continue exactly.
+    const lifecycleOf = (events: (readonly AlertEvent[])[]) =>
+      events.map((list) =>
+        list.map(({ id, state, severity, reasons, value, ts, baseline, z }) => ({
+          id,
+          state,
+          severity,
+          reasons,
+          value,
+          ts,
+          fences: [baseline?.lowerFence, baseline?.upperFence, baseline?.mean, baseline?.count],
+          z,
+        })),
+      );
     const a = next.map((r) => current.process(r).events);
     const b = next.map((r) => restored.process(r).events);
-    expect(JSON.stringify(b)).toBe(JSON.stringify(a));
+    expect(JSON.stringify(lifecycleOf(b))).toBe(JSON.stringify(lifecycleOf(a)));
     expect(a.flat().map((ev) => ev.state)).toContain('cleared');
-    expect(Buffer.from(restored.encode(S)!).toString('hex')).toBe(
-      Buffer.from(current.encode(S)!).toString('hex'),
+    // The upgraded state is written in this build's version and restores exactly from there on.
+    const reread = engine();
+    reread.restore(restored.encode(S)!);
+    expect(Buffer.from(reread.encode(S)!).toString('hex')).toBe(
+      Buffer.from(restored.encode(S)!).toString('hex'),
     );
     expect(restored.encode(S)![2]).toBe(STATE_VERSION);
   });
