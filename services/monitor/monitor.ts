@@ -108,6 +108,8 @@ export class Monitor {
   private readonly admin: Admin;
   private lockTail: Promise<unknown> = Promise.resolve();
   private assigned = new Set<number>();
+  /** Wall-clock time of the last message per assigned partition (its assignment time before one). */
+  private readonly heardAt = new Map<number, number>();
   private joined = false;
   private stopping = false;
   /** After a stop request, dependency retries give up at this time (inside the 10 s stop budget). */
@@ -242,6 +244,13 @@ export class Monitor {
       const mine = e.payload.memberAssignment[this.settings.inputTopic] ?? [];
       this.assigned = new Set(mine);
       this.joined = true;
+      const now = Date.now();
+      for (const partition of [...this.heardAt.keys()]) {
+        if (this.assigned.has(partition)) continue;
+        this.heardAt.delete(partition);
+        this.metrics.inputIdle.remove({ partition: String(partition) });
+      }
+      for (const partition of mine) if (!this.heardAt.has(partition)) this.heardAt.set(partition, now);
       this.metrics.assignedPartitions.set(mine.length);
       this.log.info(
         { partitions: [...mine].sort((a, b) => a - b), leader: e.payload.isLeader },
@@ -363,6 +372,7 @@ export class Monitor {
     }
 
     const now = Date.now();
+    this.heardAt.set(part, now);
     let accepted = 0;
     let rejected = 0;
     const doubtful = { uncertain: 0, bad: 0 };
@@ -571,6 +581,9 @@ export class Monitor {
     this.metrics.sensorsTracked.set(sensors);
     this.metrics.sensorLimitUsed.set(this.budget.used / this.budget.limit);
     this.metrics.activeAlerts.set(active);
+    const now = Date.now();
+    for (const [partition, heard] of this.heardAt)
+      this.metrics.inputIdle.set({ partition: String(partition) }, Math.max(0, now - heard) / 1000);
   }
 
   /** For tests and the bench: the partitions this monitor holds a worker (an engine) for. */
