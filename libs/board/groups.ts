@@ -15,6 +15,7 @@
  */
 import picomatch from 'picomatch';
 
+/** Which sensors form one asset, and how close together their alerts must be raised to group. */
 export interface GroupRule {
   /** Leading id segments that name the asset; null: no grouping by depth. */
   depth: number | null;
@@ -27,6 +28,7 @@ export interface GroupRule {
 /** Common-practice default chosen for this project: group by machine (`line-1/chiller`), 5 minutes. */
 export const DEFAULT_GROUP_RULE: GroupRule = Object.freeze({ depth: 2, globs: [], windowMs: 5 * 60_000 });
 
+/** Bounds of the grouping options (checked at start-up by groupRuleProblem). */
 export const GROUP_LIMITS = { maxDepth: 16, maxWindowMinutes: 1440 } as const;
 
 /** What grouping needs to know of an alert. */
@@ -38,6 +40,7 @@ export interface GroupCandidate {
   status: 'active' | 'shelved' | 'cleared';
 }
 
+/** Two or more open alerts of one asset: the first-out and those raised within the window after it. */
 export interface AlertGroup {
   /** The first-out alert's id (stable while it stays open). */
   id: string;

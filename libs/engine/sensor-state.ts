@@ -32,6 +32,10 @@ export class SensorState {
   doubtfulRun = 0;
   /** The raised bad_quality alert, if any. */
   qualityAlert: ConditionAlert | null = null;
+  /** Value of the newest reading by event time, of any quality (what a stale alert quotes). */
+  newestValue = NaN;
+  /** The raised stale alert, if any. */
+  staleAlert: ConditionAlert | null = null;
   /** Fences cached for the baseline object they were computed from. */
   fencesFor: Baseline | null = null;
   fences: Fences | null = null;
@@ -51,12 +55,13 @@ const MAGIC_0 = 0x53; // 'S'
 const MAGIC_1 = 0x46; // 'F'
 /**
  * Bump whenever the encoding changes: a state of another version is refused, never misread.
- * 4 added the doubtful-quality run and the bad_quality alert after the lifecycle; a state of
- * version 3 (written before) is still read, with no run and no such alert.
+ * 4 added the doubtful-quality run and the bad_quality alert after the lifecycle; 5 the newest
+ * reading's value and the stale alert. Versions 3 and 4 are still read (no run, no such alerts,
+ * the newest value taken as the last judged one).
  */
-export const STATE_VERSION = 4;
+export const STATE_VERSION = 5;
 /** Older encodings this build still reads. */
-const READABLE_VERSIONS = [3, STATE_VERSION];
+const READABLE_VERSIONS = [3, 4, STATE_VERSION];
 
 // Reused across calls: encoding is synchronous, and checkpoints encode thousands of sensors at once.
 const sharedWriter = new ByteWriter();
@@ -80,6 +85,8 @@ export function encodeSensorState(state: SensorState): Uint8Array {
   writeLifecycle(out, state.life);
   out.uvar(state.doubtfulRun);
   writeCondition(out, state.qualityAlert);
+  out.f64(state.newestValue);
+  writeCondition(out, state.staleAlert);
   return out.bytes();
 }
 
@@ -190,6 +197,10 @@ export function decodeSensorState(
       state.doubtfulRun = input.uvar();
       state.qualityAlert = readCondition(input);
     }
+    if (version >= 5) {
+      state.newestValue = input.f64();
+      state.staleAlert = readCondition(input);
+    } else state.newestValue = lastValue;
     if (!input.done)
       throw new StreamfenceError('STATE_CORRUPT', `sensor state for "${sensor}" has trailing bytes`);
     return state;

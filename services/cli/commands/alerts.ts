@@ -235,6 +235,7 @@ export async function main(argv: string[]): Promise<number> {
     if (caughtUp && !once) flush();
   }, REORDER_MS).unref();
 
+  const readWhat = `read ${topics.length > 1 ? 'topics' : 'topic'} ${topics.join(' and ')}`;
   let follower: Awaited<ReturnType<typeof follow>>;
   try {
     follower = await follow({
@@ -289,7 +290,7 @@ export async function main(argv: string[]): Promise<number> {
     });
   } catch (e) {
     clearInterval(reorder);
-    throw kafkaRefusal(e, kafkaSettings, `read ${topics.join(' and ')}`) ?? e;
+    throw kafkaRefusal(e, kafkaSettings, readWhat) ?? e;
   }
   // Stopping must feel immediate (Ctrl-C): print what is held, then give the consumer a moment to
   // leave its group. A viewer group never commits, so one left behind only lingers until its
@@ -307,10 +308,15 @@ export async function main(argv: string[]): Promise<number> {
   const poll = setInterval(() => {
     if (broken) stop();
   }, 200);
-  await Promise.race([follower.done, stoppedOrGrace]);
-  clearInterval(reorder);
-  clearInterval(poll);
+  try {
+    await Promise.race([follower.done, stoppedOrGrace]);
+  } catch (e) {
+    throw kafkaRefusal(e, kafkaSettings, readWhat) ?? e;
+  } finally {
+    clearInterval(reorder);
+    clearInterval(poll);
+    releaseSignals();
+  }
   flush();
-  releaseSignals();
   return 0;
 }
