@@ -37,8 +37,11 @@ export interface Metrics extends EngineMetrics {
   eventDelay: Histogram;
   /** messages between the last processed offset and the partition's high watermark */
   partitionLag: Gauge<'partition'>;
-  /** dependency = kafka | redis: retries after a failed call to that dependency */
-  backoff: Counter<'dependency'>;
+  /**
+   * dependency = kafka | redis, cause = one of OUTAGE_CAUSES (connection, timeout, auth, tls, acl,
+   * other): one per retry, as logged
+   */
+  backoff: Counter<'dependency' | 'cause'>;
   checkpoints: Counter<'result'>;
   assignedPartitions: Gauge;
   /** the sensor limit (--max-sensors) */
@@ -129,8 +132,8 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
     }),
     backoff: new Counter({
       name: 'streamfence_backoff_total',
-      help: 'Retries after a dependency failed or timed out, by dependency.',
-      labelNames: ['dependency'],
+      help: 'Retries after a Kafka or Redis call failed, by dependency and cause (one per logged retry line).',
+      labelNames: ['dependency', 'cause'],
       registers,
     }),
     checkpoints: new Counter({

@@ -50,9 +50,8 @@ export async function main(argv: string[]): Promise<number> {
   const kafka = buildKafka(o.kafka, {
     clientId: `streamfence-${hostname()}-${process.pid}`,
     log,
-    // Errors kafkajs retries on its own (a broker that stops answering, a lost group membership)
-    // count as Kafka backoff too, so an outage shows in the metric even when no call of ours fails.
-    onError: () => metrics.backoff.inc({ dependency: 'kafka' }),
+    // Few retries inside kafkajs: the monitor's own backoff logs and counts each attempt.
+    retries: 2,
   });
   log.info(
     {
@@ -85,6 +84,7 @@ export async function main(argv: string[]): Promise<number> {
     },
     log,
     metrics,
+    connection: { kafka: o.kafka, redis: o.redis },
   });
   const http = await startMetricsServer(metrics.registry, o.metricsPort, () => monitor.readiness());
   log.info({ port: http.port }, `metrics listening on port ${http.port}`);
@@ -103,7 +103,7 @@ export async function main(argv: string[]): Promise<number> {
     stopping = monitor
       .stop()
       .then(
-        () => 0,
+        (outcome) => (outcome.clean ? 0 : 1),
         (e: unknown) => {
           log.error(
             { err: (e as Error).message },
@@ -137,8 +137,17 @@ export async function main(argv: string[]): Promise<number> {
       },
     );
     monitor.start().catch((e: unknown) => {
-      log.error({ err: (e as Error).message }, 'monitor failed to start');
-      void stop('start-failure').then(() => resolve(e instanceof StreamfenceError ? 2 : 1));
+      // A stop request during start ends the waiting; that is a stop, not a failure.
+      if (monitor.stopRequested) return;
+      if (e instanceof StreamfenceError) {
+        // A refusal waiting cannot fix (auth, certificate, ACL, missing topic): one line, exit 2.
+        log.error({ code: e.code }, `${e.message} [${e.code}]`);
+      } else log.error({ err: (e as Error).message }, 'monitor failed to start');
+      const code = e instanceof StreamfenceError ? 2 : 1;
+      void stop('start-failure').then(() => {
+        resolve(code);
+        setTimeout(() => process.exit(code), 1_000).unref();
+      });
     });
   });
 }
