@@ -119,8 +119,12 @@ export function redisOutage(err: unknown, s: RedisSettings, socketError: unknown
   return { dependency: 'redis', cause: 'other', line: `redis ${at}: ${reason}`, refusal: null };
 }
 
-/** "…; retrying in 5 s" (tenths below 10 s: the first retries come after 0.1 s, 0.2 s, …). */
-export function retryLine(outage: Outage, delayMs: number): string {
+/**
+ * "…; retrying in 5 s" (tenths below 10 s: the first retries come after 0.1 s, 0.2 s, …); with a
+ * null delay (a retry the Kafka client times itself) just "…; retrying".
+ */
+export function retryLine(outage: Outage, delayMs: number | null): string {
+  if (delayMs === null) return `${outage.line}; retrying`;
   const seconds =
     delayMs >= 10_000 ? String(Math.round(delayMs / 1000)) : String(Math.round(delayMs / 100) / 10);
   return `${outage.line}; retrying in ${seconds} s`;

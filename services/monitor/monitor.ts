@@ -395,8 +395,20 @@ export class Monitor {
       : redisOutage(err, this.redisSettings, this.redisWatch.lastError);
   }
 
+  /**
+   * A failed request or connection the Kafka client retries on its own (a broker that stops
+   * answering mid-run): one line and one count per failure, with the broker it names. Pass the
+   * client's log entries here (buildKafka's onError).
+   */
+  noteKafkaClientError(entry: { namespace: string; log: { message?: unknown; broker?: unknown } }): void {
+    if (this.stopping || entry.namespace !== 'Connection') return;
+    const broker = typeof entry.log.broker === 'string' ? entry.log.broker : null;
+    const settings = broker === null ? this.kafkaSettings : { ...this.kafkaSettings, brokers: [broker] };
+    this.noteRetry(kafkaOutage(new Error(String(entry.log.message ?? '')), settings), null, 0);
+  }
+
   /** One warn line and one count per retry. */
-  private noteRetry(outage: Outage, delayMs: number, attempt: number): void {
+  private noteRetry(outage: Outage, delayMs: number | null, attempt: number): void {
     if (outage.dependency === 'kafka') this.kafkaDown = true;
     this.metrics.backoff.inc({ dependency: outage.dependency, cause: outage.cause });
     this.log.warn(

@@ -47,11 +47,14 @@ export async function main(argv: string[]): Promise<number> {
 
   const metrics = createMetrics();
   const redis = buildRedis(o.redis);
+  let monitorRef: Monitor | null = null;
   const kafka = buildKafka(o.kafka, {
     clientId: `streamfence-${hostname()}-${process.pid}`,
     log,
-    // Few retries inside kafkajs: the monitor's own backoff logs and counts each attempt.
+    // Few retries inside kafkajs: the monitor's own backoff logs and counts each attempt; the
+    // requests kafkajs retries itself (fetches, heartbeats) are worded by the monitor too.
     retries: 2,
+    onError: (entry) => monitorRef?.noteKafkaClientError(entry),
   });
   log.info(
     {
@@ -67,7 +70,7 @@ export async function main(argv: string[]): Promise<number> {
     'starting',
   );
 
-  const monitor = new Monitor({
+  const monitor: Monitor = new Monitor({
     kafka,
     redis,
     config,
@@ -86,6 +89,7 @@ export async function main(argv: string[]): Promise<number> {
     metrics,
     connection: { kafka: o.kafka, redis: o.redis },
   });
+  monitorRef = monitor;
   const http = await startMetricsServer(metrics.registry, o.metricsPort, () => monitor.readiness());
   log.info({ port: http.port }, `metrics listening on port ${http.port}`);
 
