@@ -40,6 +40,13 @@ export interface SensorSettings {
   buckets: number;
   /** Whether readings taken while an alert is raised feed the baseline. */
   learnWhileRaised: boolean;
+  /** Consecutive readings of quality other than good that raise a bad_quality alert (0 turns it off). */
+  badQualityAfter: number;
+  /**
+   * Event time (ms) past a sensor's newest reading after which it is silent and raises a `stale`
+   * alert; null turns the rule off. Config accepts a duration ("15m") or "off".
+   */
+  staleAfter: number | null;
 }
 
 /** The default value of every setting (the README's configuration table lists them). */
@@ -60,6 +67,8 @@ export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
   window: 24 * 3600 * 1000,
   buckets: 12,
   learnWhileRaised: true,
+  badQualityAfter: 10,
+  staleAfter: null,
 });
 
 /** The names of all settings, in the order of DEFAULT_SETTINGS. */

@@ -9,19 +9,25 @@ import type { SensorSettings } from '../config/settings.js';
 import type { AlertEvent } from '../schema/alert-event.js';
 import type { AlertState } from '../schema/vocabulary.js';
 import { NOTICE } from '../schema/notice.js';
-import { fencesOf, judge, robustZ, zScore, type Verdict } from './judge.js';
+import { fencesOf, judge, NORMAL_COLD, robustZ, zScore, type Verdict } from './judge.js';
 import { step, type ActiveAlert } from './lifecycle.js';
-import { alertMessage } from './alert-wording.js';
-import type { Reading } from './reading.js';
+import { alertId } from './alert-id.js';
+import { alertMessage, qualityMessage, staleMessage } from './alert-wording.js';
+import { DeadlineHeap } from './deadline-heap.js';
+import type { DoubtfulQuality, Quality, Reading } from './reading.js';
 import type { SensorBudget } from './sensor-budget.js';
-import { decodeSensorState, encodeSensorState, SensorState } from './sensor-state.js';
+import { decodeSensorState, encodeSensorState, SensorState, type ConditionAlert } from './sensor-state.js';
+import type { Baseline } from './window.js';
 
 /** Version of the judging semantics, written into replay and tune summaries. */
 export const ENGINE_VERSION = '1.0.0';
 
 /** Lifetime counts of one Engine: readings, late refusals, evaluated and flagged readings, alert events. */
 export interface EngineCounters {
+  /** Readings accepted, of every quality. */
   readings: number;
+  /** Accepted readings by quality: only `good` ones are judged and learned. */
+  quality: Record<Quality, number>;
   late: number;
   evaluated: number;
   flagged: { fence: number; outerFence: number; z: number; any: number };
@@ -32,13 +38,23 @@ const NO_EVENTS: readonly AlertEvent[] = Object.freeze([]);
 
 /** What one reading did: accepted with its verdict and alert events, or refused (`late`, `sensor_limit`). */
 export type ProcessOutcome =
-  | { accepted: true; verdict: Verdict; events: readonly AlertEvent[] }
+  | {
+      accepted: true;
+      /** The reading's quality (`good` when it carried none). */
+      quality: Quality;
+      /** NORMAL_COLD (not evaluated) for a reading that was not judged (quality other than good). */
+      verdict: Verdict;
+      /** Whether the reading's value went into its sensor's baseline window. */
+      learned: boolean;
+      events: readonly AlertEvent[];
+    }
   | { accepted: false; reason: 'late' | 'sensor_limit'; detail: string; events: readonly AlertEvent[] };
 
 /** Counters at zero. */
 export function newCounters(): EngineCounters {
   return {
     readings: 0,
+    quality: { good: 0, uncertain: 0, bad: 0 },
     late: 0,
     evaluated: 0,
     flagged: { fence: 0, outerFence: 0, z: 0, any: 0 },
@@ -47,6 +63,15 @@ export function newCounters(): EngineCounters {
 }
 
 const iso = (ts: number): string => new Date(ts).toISOString();
+
+/**
+ * Event time of one input partition for the silent-sensor rule: the newest reading time seen in
+ * it, and the sensors of it queued by the time they fall silent (newest reading + staleAfter).
+ */
+interface PartitionClock {
+  watermark: number;
+  silentAt: DeadlineHeap<SensorState>;
+}
 
 /**
  * Judges a stream of readings, keeping each sensor's state in memory (one per replay, per
@@ -64,6 +89,10 @@ export class Engine {
   private evicted: string[] = [];
   /** Lifetime count of evicted sensors. */
   evictedTotal = 0;
+  /** Whether any sensor can have a staleAfter (saves the silence check otherwise). */
+  private readonly silenceOn: boolean;
+  /** Per input partition: its event time and its sensors' silence deadlines. */
+  private readonly clocks = new Map<number, PartitionClock>();
 
   constructor(
     readonly config: EngineConfig,
@@ -71,6 +100,11 @@ export class Engine {
     readonly budget: SensorBudget | null = null,
   ) {
     this.resolver = new SettingsResolver(config);
+    this.silenceOn =
+      config.defaults.staleAfter !== null ||
+      config.sensors.some(
+        (rule) => rule.overrides.staleAfter !== undefined && rule.overrides.staleAfter !== null,
+      );
   }
 
   settingsFor(sensor: string): SensorSettings {
@@ -86,9 +120,13 @@ export class Engine {
    * const outcome = engine.process({ sensor: 'line-1/pump/temp', ts: Date.parse('2026-03-01T08:00:00Z'), value: 71.4 });
    * if (outcome.accepted) for (const event of outcome.events) publish(event); // raised/updated/cleared
    * else keepRejected(outcome.reason, outcome.detail); // 'late' or 'sensor_limit'
+   *
+   * `partition` is the input partition the reading came from (a sensor always comes from the
+   * same one): the silent-sensor rule measures event time per partition, as a live monitor sees it.
    */
-  process(reading: Reading): ProcessOutcome {
+  process(reading: Reading, partition = 0): ProcessOutcome {
     let state = this.states.get(reading.sensor);
+    const isNew = state === undefined;
     if (state === undefined) {
       if (!this.admit()) {
         return {
@@ -112,6 +150,7 @@ export class Engine {
         events: NO_EVENTS,
       };
     }
+    if (reading.ts >= window.newestTs) state.newestValue = reading.value;
     window.advance(reading.ts);
     if (reading.ts > this.watermark) this.watermark = reading.ts;
     const baseline = window.baseline();
@@ -119,6 +158,29 @@ export class Engine {
       state.fencesFor = baseline;
       state.fences = baseline === null ? null : fencesOf(baseline, settings);
     }
+    // Time moves on with every reading; only good ones are judged and learned.
+    const outcome =
+      reading.quality !== undefined
+        ? this.doubtful(state, reading, reading.quality)
+        : this.judged(state, reading, baseline);
+    return this.silenceOn ? this.silence(state, reading, partition, isNew, outcome) : outcome;
+  }
+
+  /** A good reading: judged against the baseline, stepped through the lifecycle, maybe learned. */
+  private judged(state: SensorState, reading: Reading, baseline: Baseline | null): ProcessOutcome {
+    const settings = state.settings;
+    const window = state.window;
+    let events: AlertEvent[] | null = null;
+    if (state.doubtfulRun > 0) {
+      state.doubtfulRun = 0;
+      const alert = state.qualityAlert;
+      if (alert !== null) {
+        state.qualityAlert = null;
+        this.counters.alerts.cleared++;
+        events = [this.conditionEvent(state, reading, 'cleared', alert, 'bad_quality')];
+      }
+    }
+    this.counters.quality.good++;
     if (reading.value === state.lastValue) state.stuckRun++;
     else {
       state.stuckRun = 1;
@@ -147,13 +209,146 @@ export class Engine {
     });
 
     // Readings that raise, continue or clear an alert feed the baseline only when configured to.
-    if (settings.learnWhileRaised || (before === null && life.active === null))
-      window.add(reading.ts, reading.value);
+    const learned = settings.learnWhileRaised || (before === null && life.active === null);
+    if (learned) window.add(reading.ts, reading.value);
 
-    if (transition === null) return { accepted: true, verdict, events: NO_EVENTS };
-    counters.alerts[transition]++;
-    const alert = transition === 'cleared' ? before! : life.active!;
-    return { accepted: true, verdict, events: [this.makeEvent(state, reading, transition, alert)] };
+    if (transition !== null) {
+      counters.alerts[transition]++;
+      const alert = transition === 'cleared' ? before! : life.active!;
+      (events ??= []).push(this.makeEvent(state, reading, transition, alert));
+    }
+    return { accepted: true, quality: 'good', verdict, learned, events: events ?? NO_EVENTS };
+  }
+
+  /**
+   * A reading of quality other than good: counted, neither judged nor learned. `badQualityAfter`
+   * of them in a row raise the sensor's bad_quality alert (the next good reading clears it).
+   */
+  private doubtful(state: SensorState, reading: Reading, quality: DoubtfulQuality): ProcessOutcome {
+    state.seen++;
+    const counters = this.counters;
+    counters.readings++;
+    counters.quality[quality]++;
+    state.doubtfulRun++;
+    let events: readonly AlertEvent[] = NO_EVENTS;
+    const alert = state.qualityAlert;
+    const after = state.settings.badQualityAfter;
+    if (alert !== null) alert.readings++;
+    else if (after > 0 && state.doubtfulRun >= after) {
+      const raised: ConditionAlert = {
+        id: alertId(reading.sensor, reading.ts, state.seen, 'bad_quality'),
+        raisedTs: reading.ts,
+        readings: state.doubtfulRun,
+      };
+      state.qualityAlert = raised;
+      counters.alerts.raised++;
+      events = [this.conditionEvent(state, reading, 'raised', raised, 'bad_quality', quality)];
+    }
+    return { accepted: true, quality, verdict: NORMAL_COLD, learned: false, events };
+  }
+
+  private clockOf(partition: number): PartitionClock {
+    let clock = this.clocks.get(partition);
+    if (clock === undefined) {
+      clock = { watermark: -Infinity, silentAt: new DeadlineHeap<SensorState>() };
+      this.clocks.set(partition, clock);
+    }
+    return clock;
+  }
+
+  /**
+   * The silent-sensor rule, after a reading was taken: the reading's own sensor clears its stale
+   * alert (it reports again), and when the reading moves its partition's event time on, every
+   * sensor of the partition now silent for more than its staleAfter raises one. The order of
+   * several raised at once is fixed (by the time they fell silent, then sensor id), so a restore
+   * gives the same events as never stopping.
+   */
+  private silence(
+    state: SensorState,
+    reading: Reading,
+    partition: number,
+    isNew: boolean,
+    outcome: ProcessOutcome,
+  ): ProcessOutcome {
+    const clock = this.clockOf(partition);
+    const advanced = reading.ts > clock.watermark;
+    if (advanced) clock.watermark = reading.ts;
+    const after = state.settings.staleAfter;
+    let cleared: AlertEvent | null = null;
+    const stale = state.staleAlert;
+    if (stale !== null && (after === null || clock.watermark - state.window.newestTs <= after)) {
+      state.staleAlert = null;
+      this.counters.alerts.cleared++;
+      cleared = this.staleEvent(state, 'cleared', stale, reading.ts, reading.value);
+      if (after !== null) clock.silentAt.push(state.window.newestTs + after, state);
+    } else if (isNew && after !== null) clock.silentAt.push(state.window.newestTs + after, state);
+    const raised = advanced ? this.raiseSilent(clock) : NO_EVENTS;
+    if (cleared === null && raised.length === 0) return outcome;
+    const events = cleared === null ? [] : [cleared];
+    events.push(...outcome.events, ...raised);
+    return { ...outcome, events };
+  }
+
+  /**
+   * Raise a stale alert for each sensor of the partition silent for more than its staleAfter.
+   * Queued deadlines can be older than the sensor's real one (it has read since): those are
+   * queued again at the real one, so each sensor is in the queue once.
+   */
+  private raiseSilent(clock: PartitionClock): readonly AlertEvent[] {
+    const due: { at: number; state: SensorState }[] = [];
+    const queue = clock.silentAt;
+    for (let next = queue.peek(); next !== undefined && next.at < clock.watermark; next = queue.peek()) {
+      queue.pop();
+      const state = next.item;
+      const after = state.settings.staleAfter;
+      // Gone (evicted, forgotten, replaced by a restore) or already stale: not queued any more.
+      if (this.states.get(state.sensor) !== state || state.staleAlert !== null || after === null) continue;
+      const at = state.window.newestTs + after;
+      if (at < clock.watermark) due.push({ at, state });
+      else queue.push(at, state);
+    }
+    if (due.length === 0) return NO_EVENTS;
+    due.sort(
+      (a, b) =>
+        a.at - b.at || (a.state.sensor < b.state.sensor ? -1 : a.state.sensor > b.state.sensor ? 1 : 0),
+    );
+    return due.map(({ state }) => {
+      const alert: ConditionAlert = {
+        id: alertId(state.sensor, clock.watermark, state.seen, 'stale'),
+        raisedTs: clock.watermark,
+        readings: 0,
+      };
+      state.staleAlert = alert;
+      this.counters.alerts.raised++;
+      return this.staleEvent(state, 'raised', alert, clock.watermark, state.newestValue);
+    });
+  }
+
+  /** An event of a stale alert: raised with the newest value it had, cleared with the reading that ends it. */
+  private staleEvent(
+    state: SensorState,
+    transition: 'raised' | 'cleared',
+    alert: ConditionAlert,
+    ts: number,
+    value: number,
+  ): AlertEvent {
+    const lastTs = state.window.newestTs;
+    const body = {
+      sensor: state.sensor,
+      state: transition,
+      severity: 'warning' as const,
+      reasons: transition === 'cleared' ? [] : ['stale' as const],
+      value,
+      ts: iso(ts),
+      since: iso(alert.raisedTs),
+      flaggedReadings: 0,
+      baseline: this.baselineOf(state),
+      z: null,
+      robustZ: null,
+      percentileRank: null,
+    };
+    const message = staleMessage({ ...body, silentMs: ts - lastTs, lastTs: iso(lastTs) });
+    return { id: alert.id, ...body, message, notice: NOTICE };
   }
 
   private makeEvent(
@@ -163,7 +358,6 @@ export class Engine {
     alert: ActiveAlert,
   ): AlertEvent {
     const baseline = state.window.baseline();
-    const fences = state.fences;
     const warm = baseline !== null;
     const body = {
       sensor: state.sensor,
@@ -174,21 +368,7 @@ export class Engine {
       ts: iso(reading.ts),
       since: iso(alert.raisedTs),
       flaggedReadings: alert.flaggedReadings,
-      baseline: {
-        q1: warm ? baseline.q1 : null,
-        median: warm ? baseline.median : null,
-        q3: warm ? baseline.q3 : null,
-        iqr: warm ? baseline.iqr : null,
-        lowerFence: fences ? fences.lower : null,
-        upperFence: fences ? fences.upper : null,
-        lowerOuterFence: fences ? fences.lowerOuter : null,
-        upperOuterFence: fences ? fences.upperOuter : null,
-        mean: warm ? baseline.mean : null,
-        stdDev: warm ? baseline.stdDev : null,
-        count: warm ? baseline.count : 0,
-        from: warm ? iso(baseline.from) : null,
-        to: warm ? iso(baseline.to) : null,
-      },
+      baseline: this.baselineOf(state),
       z: warm ? zScore(reading.value, baseline) : null,
       robustZ: warm ? robustZ(reading.value, baseline) : null,
       percentileRank: warm ? baseline.digest.rank(reading.value) * 100 : null,
@@ -199,6 +379,64 @@ export class Engine {
       max: state.settings.max,
       stuckRun: state.stuckRun,
     });
+    return { id: alert.id, ...body, message, notice: NOTICE };
+  }
+
+  /** The baseline part of an event: the sensor's baseline and fences now (nulls before warm-up). */
+  private baselineOf(state: SensorState): AlertEvent['baseline'] {
+    const baseline = state.window.baseline();
+    // The cached fences are for the baseline of the sensor's last reading (none after a restore).
+    const fences =
+      baseline === null
+        ? null
+        : state.fencesFor === baseline
+          ? state.fences
+          : fencesOf(baseline, state.settings);
+    const warm = baseline !== null;
+    return {
+      q1: warm ? baseline.q1 : null,
+      median: warm ? baseline.median : null,
+      q3: warm ? baseline.q3 : null,
+      iqr: warm ? baseline.iqr : null,
+      lowerFence: fences ? fences.lower : null,
+      upperFence: fences ? fences.upper : null,
+      lowerOuterFence: fences ? fences.lowerOuter : null,
+      upperOuterFence: fences ? fences.upperOuter : null,
+      mean: warm ? baseline.mean : null,
+      stdDev: warm ? baseline.stdDev : null,
+      count: warm ? baseline.count : 0,
+      from: warm ? iso(baseline.from) : null,
+      to: warm ? iso(baseline.to) : null,
+    };
+  }
+
+  /**
+   * An event of a sensor condition's alert (bad_quality). The value is the reading's; z and the
+   * percentile rank are null, because the reading was not judged.
+   */
+  private conditionEvent(
+    state: SensorState,
+    reading: Reading,
+    transition: 'raised' | 'cleared',
+    alert: ConditionAlert,
+    reason: 'bad_quality',
+    quality?: DoubtfulQuality,
+  ): AlertEvent {
+    const body = {
+      sensor: state.sensor,
+      state: transition,
+      severity: 'warning' as const,
+      reasons: transition === 'cleared' ? [] : [reason],
+      value: reading.value,
+      ts: iso(reading.ts),
+      since: iso(alert.raisedTs),
+      flaggedReadings: alert.readings,
+      baseline: this.baselineOf(state),
+      z: null,
+      robustZ: null,
+      percentileRank: null,
+    };
+    const message = qualityMessage({ ...body, quality: quality ?? 'good', run: state.doubtfulRun });
     return { id: alert.id, ...body, message, notice: NOTICE };
   }
 
@@ -215,9 +453,14 @@ export class Engine {
     return this.states.get(sensor);
   }
 
+  /** Raised alerts in this engine: reading alerts and sensor-condition alerts alike. */
   activeAlertCount(): number {
     let active = 0;
-    for (const state of this.states.values()) if (state.life.active !== null) active++;
+    for (const state of this.states.values()) {
+      if (state.life.active !== null) active++;
+      if (state.qualityAlert !== null) active++;
+      if (state.staleAlert !== null) active++;
+    }
     return active;
   }
 
@@ -226,13 +469,23 @@ export class Engine {
     return state === undefined ? null : encodeSensorState(state);
   }
 
-  /** Install a sensor's state decoded from `encode` output (replacing what was there). */
-  restore(bytes: Uint8Array): SensorState {
+  /**
+   * Install a sensor's state decoded from `encode` output (replacing what was there), from input
+   * `partition` (as process() was told). Its partition's event time is the newest of its sensors'.
+   */
+  restore(bytes: Uint8Array, partition = 0): SensorState {
     const state = decodeSensorState(bytes, (sensor) => this.resolver.resolve(sensor));
     // Restored state is never refused (that would lose it); it counts against the budget all the same.
     if (!this.states.has(state.sensor)) this.budget?.add(1);
     this.states.set(state.sensor, state);
-    if (state.window.newestTs > this.watermark) this.watermark = state.window.newestTs;
+    const newest = state.window.newestTs;
+    if (newest > this.watermark) this.watermark = newest;
+    if (this.silenceOn) {
+      const clock = this.clockOf(partition);
+      if (newest > clock.watermark) clock.watermark = newest;
+      const after = state.settings.staleAfter;
+      if (after !== null && state.staleAlert === null) clock.silentAt.push(newest + after, state);
+    }
     return state;
   }
 
@@ -245,6 +498,7 @@ export class Engine {
   releaseAll(): void {
     this.budget?.release(this.states.size);
     this.states.clear();
+    this.clocks.clear();
   }
 
   /** Room for one more sensor: from the budget, or after evicting this engine's idle sensors. */
@@ -256,7 +510,7 @@ export class Engine {
 
   /**
    * Evict sensors with no reading for longer than their window before this engine's newest event
-   * time: their window holds nothing, so their baseline would be empty anyway. A sensor with a
+   * time: their window holds nothing, so their baseline would be empty anyway. A sensor with any
    * raised alert is kept (its clear must still be published). Returns how many were evicted; their
    * ids wait in takeEvicted().
    */
@@ -264,7 +518,7 @@ export class Engine {
     this.sweptAt = this.watermark;
     let evicted = 0;
     for (const [sensor, state] of this.states) {
-      if (state.life.active !== null) continue;
+      if (state.life.active !== null || state.qualityAlert !== null || state.staleAlert !== null) continue;
       if (this.watermark - state.window.newestTs <= state.settings.window) continue;
       this.states.delete(sensor);
       this.evicted.push(sensor);

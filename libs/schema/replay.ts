@@ -11,6 +11,8 @@ export interface InputRecord {
   line: number;
   raw: string;
   result: ParseResult;
+  /** The Kafka partition it was read from (a kafka:// replay); absent for a file. */
+  partition?: number;
 }
 
 /** Hooks a feature plugs into a replay with (the report, the audit); all optional. */
@@ -32,8 +34,10 @@ export interface ReplayObserver {
 export interface ReplaySummary {
   engineVersion: string;
   input: Record<string, unknown>;
-  /** Readings accepted by the engine. */
+  /** Readings accepted by the engine, of every quality. */
   readings: number;
+  /** Accepted readings by quality; only `good` ones were judged and learned. */
+  quality: { good: number; uncertain: number; bad: number };
   rejected: { total: number; byReason: Record<string, number> };
   sensors: number;
   evaluated: number;

@@ -23,6 +23,8 @@ export interface EngineMetrics {
   readings: Counter<'outcome'>;
   /** reason = one of the reading reject reasons (REJECT_REASONS) */
   rejected: Counter<'reason'>;
+  /** quality = good | uncertain | bad: accepted readings by quality (only good ones are judged) */
+  readingQuality: Counter<'quality'>;
   /** state = raised | updated | cleared, severity = warning | critical */
   alerts: Counter<'state' | 'severity'>;
   activeAlerts: Gauge;
@@ -37,6 +39,8 @@ export interface Metrics extends EngineMetrics {
   eventDelay: Histogram;
   /** messages between the last processed offset and the partition's high watermark */
   partitionLag: Gauge<'partition'>;
+  /** wall-clock seconds since the last message of each assigned input partition (since assignment if none) */
+  inputIdle: Gauge<'partition'>;
   /**
    * dependency = kafka | redis, cause = one of OUTAGE_CAUSES (connection, timeout, auth, tls, acl,
    * other): one per retry, as logged
@@ -70,6 +74,12 @@ export function createEngineMetrics(registry: Registry): EngineMetrics {
       labelNames: ['reason'],
       registers,
     }),
+    readingQuality: new Counter({
+      name: 'streamfence_reading_quality_total',
+      help: 'Accepted readings by quality (good, uncertain, bad); only good readings are judged and learned.',
+      labelNames: ['quality'],
+      registers,
+    }),
     alerts: new Counter({
       name: 'streamfence_alerts_total',
       help: 'Alert events emitted, by lifecycle state and severity.',
@@ -101,6 +111,7 @@ export function countOutcome(metrics: EngineMetrics, outcome: ProcessOutcome): v
     return;
   }
   metrics.readings.inc({ outcome: 'accepted' });
+  metrics.readingQuality.inc({ quality: outcome.quality });
   for (const event of outcome.events) metrics.alerts.inc({ state: event.state, severity: event.severity });
 }
 
@@ -122,6 +133,12 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
       name: 'streamfence_event_delay_seconds',
       help: 'Processing time minus reading event time (how far behind real time the readings are judged).',
       buckets: [0.01, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10, 30, 60, 300, 900, 3600, 86400],
+      registers,
+    }),
+    inputIdle: new Gauge({
+      name: 'streamfence_input_idle_seconds',
+      help: 'Wall-clock seconds since the last message of each assigned input partition (since it was assigned, if none): a whole partition gone silent.',
+      labelNames: ['partition'],
       registers,
     }),
     partitionLag: new Gauge({

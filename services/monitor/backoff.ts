@@ -9,6 +9,11 @@ export interface BackoffHooks {
   giveUp?: () => boolean;
   /** Return true for an error waiting cannot fix: it is thrown at once, without a retry. */
   final?: (err: unknown) => boolean;
+  /**
+   * An error no wait can cure (a wrong password, a denied ACL): return it to end the retries with
+   * it at once; null retries as usual.
+   */
+  fatal?: (err: unknown) => Error | null;
   /** Runs while waiting between attempts (e.g. a consumer heartbeat); its errors propagate. */
   whileWaiting?: () => Promise<void>;
   initialMs?: number;
@@ -40,6 +45,8 @@ export async function withBackoff<T>(fn: () => Promise<T>, hooks: BackoffHooks):
       return await fn();
     } catch (err) {
       if (hooks.final?.(err)) throw err;
+      const fatal = hooks.fatal?.(err);
+      if (fatal) throw fatal;
       if (hooks.giveUp?.()) throw new GaveUpError(err);
       const delay = backoffDelay(attempt, initial, max);
       hooks.onRetry(attempt, delay, err);

@@ -66,6 +66,12 @@ export interface MonitorParts {
    * (`redis 127.0.0.1:6399: connection refused; retrying in 5 s`). Optional for benches.
    */
   connection?: { kafka: KafkaSettings; redis: RedisSettings };
+  /**
+   * Judges a failure while starting: a refusal no retry can cure (wrong password, denied ACL,
+   * untrusted certificate) is returned and start() fails with it, so `run` exits 2 with that line
+   * instead of retrying for ever. Null (the default) means wait and retry.
+   */
+  startRefusal?: (dependency: 'kafka' | 'redis', err: unknown) => Error | null;
 }
 
 /** How a stop ended: every held partition checkpointed (or none held), or not. */
@@ -117,6 +123,8 @@ export class Monitor {
   private readonly admin: Admin;
   private lockTail: Promise<unknown> = Promise.resolve();
   private assigned = new Set<number>();
+  /** Wall-clock time of the last message per assigned partition (its assignment time before one). */
+  private readonly heardAt = new Map<number, number>();
   private joined = false;
   /** True once the consumer has joined its group for the first time: refusals are retried after. */
   private started = false;
@@ -142,6 +150,7 @@ export class Monitor {
   private readonly settings: MonitorSettings;
   private readonly log: Logger;
   private readonly metrics: Metrics;
+  private readonly startRefusal: NonNullable<MonitorParts['startRefusal']>;
 
   constructor(parts: MonitorParts) {
     const { kafka, redis, settings, metrics } = parts;
@@ -156,6 +165,7 @@ export class Monitor {
     this.redisSettings = parts.connection?.redis ?? {
       url: `redis://${redis.options.host ?? '127.0.0.1'}:${redis.options.port ?? 6379}`,
     };
+    this.startRefusal = parts.startRefusal ?? (() => null);
     this.store = new CheckpointStore(
       redis,
       settings.statePrefix,
@@ -200,12 +210,18 @@ export class Monitor {
    * StreamfenceError; a stop request ends the waiting at once (it resolves, not consuming).
    */
   async start(): Promise<void> {
-    await this.retry('redis', () => this.redis.ping());
-    await this.retry('redis', () =>
-      this.redis.set(
-        configKey(this.settings.statePrefix, this.settings.group, this.settings.inputTopic),
-        JSON.stringify(configToJson(this.config)),
-      ),
+    const refuse = (dependency: 'kafka' | 'redis') => ({
+      fatal: (err: unknown) => this.startRefusal(dependency, err),
+    });
+    await this.retry('redis', () => this.redis.ping(), refuse('redis'));
+    await this.retry(
+      'redis',
+      () =>
+        this.redis.set(
+          configKey(this.settings.statePrefix, this.settings.group, this.settings.inputTopic),
+          JSON.stringify(configToJson(this.config)),
+        ),
+      refuse('redis'),
     );
     await this.retry('kafka', () => this.admin.connect());
     await this.requireTopics();
@@ -426,6 +442,13 @@ export class Monitor {
       this.started = true;
       this.kafkaDown = false;
       this.consumerRestarts = 0;
+      const now = Date.now();
+      for (const partition of [...this.heardAt.keys()]) {
+        if (this.assigned.has(partition)) continue;
+        this.heardAt.delete(partition);
+        this.metrics.inputIdle.remove({ partition: String(partition) });
+      }
+      for (const partition of mine) if (!this.heardAt.has(partition)) this.heardAt.set(partition, now);
       this.metrics.assignedPartitions.set(mine.length);
       this.log.info(
         { partitions: [...mine].sort((a, b) => a - b), leader: e.payload.isLeader },
@@ -500,7 +523,9 @@ export class Monitor {
         if (dependency === 'kafka') this.kafkaDown = false;
         return result;
       } catch (err) {
-        const refusal = this.started ? null : this.describe(dependency, err, what).refusal;
+        const refusal = this.started
+          ? null
+          : (this.startRefusal(dependency, err) ?? this.describe(dependency, err, what).refusal);
         throw refusal ?? err;
       }
     };
@@ -573,8 +598,10 @@ export class Monitor {
     }
 
     const now = Date.now();
+    this.heardAt.set(part, now);
     let accepted = 0;
     let rejected = 0;
+    const doubtful = { uncertain: 0, bad: 0 };
     let since = 0;
     // Resolved once per slice, not per message: it only tells kafkajs where to fetch next.
     let lastOffset: string | null = null;
@@ -594,11 +621,14 @@ export class Monitor {
           rejected++;
         } else {
           accepted++;
+          if (out.quality !== 'good') doubtful[out.quality]++;
           w.dirty.add(res.reading.sensor);
           // Sampled 1 in 16: the distribution, not every reading, is what the histogram is for.
           if ((accepted & 15) === 1)
             this.metrics.eventDelay.observe(Math.max(0, now - res.reading.ts) / 1000);
           for (const e of out.events) {
+            // A reading can raise another sensor's alert (one gone silent): that state changed too.
+            w.dirty.add(e.sensor);
             this.outbox.alerts.push({ key: e.sensor, value: JSON.stringify(e) });
             this.metrics.alerts.inc({ state: e.state, severity: e.severity });
           }
@@ -616,7 +646,13 @@ export class Monitor {
       }
     }
     if (lastOffset !== null) resolveOffset(lastOffset);
-    if (accepted) this.metrics.readings.inc({ outcome: 'accepted' }, accepted);
+    if (accepted) {
+      this.metrics.readings.inc({ outcome: 'accepted' }, accepted);
+      const good = accepted - doubtful.uncertain - doubtful.bad;
+      if (good) this.metrics.readingQuality.inc({ quality: 'good' }, good);
+      if (doubtful.uncertain) this.metrics.readingQuality.inc({ quality: 'uncertain' }, doubtful.uncertain);
+      if (doubtful.bad) this.metrics.readingQuality.inc({ quality: 'bad' }, doubtful.bad);
+    }
     if (rejected) this.metrics.readings.inc({ outcome: 'rejected' }, rejected);
     this.flush();
     if (this.unsent > MAX_UNSENT) await this.flushed();
@@ -771,6 +807,9 @@ export class Monitor {
     this.metrics.sensorsTracked.set(sensors);
     this.metrics.sensorLimitUsed.set(this.budget.used / this.budget.limit);
     this.metrics.activeAlerts.set(active);
+    const now = Date.now();
+    for (const [partition, heard] of this.heardAt)
+      this.metrics.inputIdle.set({ partition: String(partition) }, Math.max(0, now - heard) / 1000);
   }
 
   /** For tests and the bench: the partitions this monitor holds a worker (an engine) for. */
