@@ -7,6 +7,7 @@ import picomatch from 'picomatch';
 import YAML from 'yaml';
 import { StreamfenceError } from '../errors/index.js';
 import { parseDuration, formatDuration } from './duration.js';
+import { isTimeZone } from './time-zone.js';
 import { DEFAULT_SETTINGS, SETTING_BOUNDS, SETTING_KEYS, type SensorSettings } from './settings.js';
 
 /** One `sensors` entry: a glob over sensor ids and the settings it overrides. */
@@ -201,6 +202,15 @@ function parseOne(key: keyof SensorSettings, v: unknown, where: string): unknown
       return count(1);
     case 'buckets':
       return count(1, SETTING_BOUNDS.maxBuckets);
+    case 'profile':
+      if (v !== 'none' && v !== 'daily') bad(where, key, 'one of none, daily', v);
+      return v;
+    case 'timeZone':
+      if (typeof v !== 'string' || !isTimeZone(v))
+        bad(where, key, 'an IANA time zone name such as "UTC" or "Europe/Berlin"', v);
+      return v;
+    case 'profileDays':
+      return count(1, SETTING_BOUNDS.maxProfileDays);
     case 'learnWhileRaised':
       if (typeof v !== 'boolean') bad(where, key, 'true or false', v);
       return v;

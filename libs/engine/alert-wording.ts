@@ -25,6 +25,8 @@ type MessageInput = Omit<AlertEvent, 'message' | 'notice' | 'id'> & {
   min: number | null;
   max: number | null;
   stuckRun: number;
+  /** Set when a time-of-day profile judged: "for 03:00-04:00 on the last 7 days". */
+  profileSpan?: string | null;
 };
 
 /** The plain sentence of an alert event: the value against the fences, z, percentile and since when. */
@@ -36,7 +38,8 @@ export function alertMessage(e: MessageInput): string {
       `${e.sensor} is back to normal at ${fmt(e.value)} (${e.ts}); it had been abnormal since ${e.since}`,
     );
     if (b.lowerFence !== null && b.upperFence !== null) {
-      parts.push(`normal range ${fmt(b.lowerFence)} to ${fmt(b.upperFence)}`);
+      const span = e.profileSpan ? ` ${e.profileSpan}` : '';
+      parts.push(`normal range ${fmt(b.lowerFence)} to ${fmt(b.upperFence)}${span}`);
     }
     return parts.join('; ') + '.';
   }
@@ -55,7 +58,8 @@ export function alertMessage(e: MessageInput): string {
   if (has('flatline')) parts.push(`the same value ${e.stuckRun} readings in a row`);
   if (e.z !== null) parts.push(`z = ${fmt(e.z, 3)}`);
   if (e.percentileRank !== null) {
-    parts.push(`${fmt(e.percentileRank, 3)}% of the window (${b.count} readings) was lower`);
+    const of = e.profileSpan ? `the readings ${e.profileSpan}` : 'the window';
+    parts.push(`${fmt(e.percentileRank, 3)}% of ${of} (${b.count} readings) was lower`);
   }
   if (b.median !== null) parts.push(`median ${fmt(b.median)}`);
   parts.push(`abnormal since ${e.since}`);

@@ -15,6 +15,9 @@ import { alertMessage } from './alert-wording.js';
 import type { Reading } from './reading.js';
 import type { SensorBudget } from './sensor-budget.js';
 import { decodeSensorState, encodeSensorState, SensorState } from './sensor-state.js';
+import type { ProfileBaseline } from './profile.js';
+import { hourSpan } from './local-time.js';
+import type { Baseline } from './window.js';
 
 /** Version of the judging semantics, written into replay and tune summaries. */
 export const ENGINE_VERSION = '1.0.0';
@@ -47,6 +50,12 @@ export function newCounters(): EngineCounters {
 }
 
 const iso = (ts: number): string => new Date(ts).toISOString();
+
+/** "for 03:00-04:00 on the last 7 days" (the zone named when it is not UTC). */
+function profileSpan(profiled: ProfileBaseline, zone: string): string {
+  const where = zone === 'UTC' ? '' : ` ${zone} time`;
+  return `for ${hourSpan(profiled.hour)}${where} on the last ${profiled.days} days`;
+}
 
 /**
  * Judges a stream of readings, keeping each sensor's state in memory (one per replay, per
@@ -114,7 +123,11 @@ export class Engine {
     }
     window.advance(reading.ts);
     if (reading.ts > this.watermark) this.watermark = reading.ts;
-    const baseline = window.baseline();
+    // A profiled sensor is judged by its local hour on previous days once that slot is warm.
+    const profile = state.profile;
+    const profileSlot = profile === null ? null : profile.advance(reading.ts);
+    const profiled = profileSlot === null ? null : profile!.baseline(settings.minSamples);
+    const baseline: Baseline | null = profiled ?? window.baseline();
     if (baseline !== state.fencesFor) {
       state.fencesFor = baseline;
       state.fences = baseline === null ? null : fencesOf(baseline, settings);
@@ -147,13 +160,20 @@ export class Engine {
     });
 
     // Readings that raise, continue or clear an alert feed the baseline only when configured to.
-    if (settings.learnWhileRaised || (before === null && life.active === null))
+    if (settings.learnWhileRaised || (before === null && life.active === null)) {
       window.add(reading.ts, reading.value);
+      if (profileSlot !== null) profile!.add(reading.ts, reading.value);
+    }
 
     if (transition === null) return { accepted: true, verdict, events: NO_EVENTS };
     counters.alerts[transition]++;
     const alert = transition === 'cleared' ? before! : life.active!;
-    return { accepted: true, verdict, events: [this.makeEvent(state, reading, transition, alert)] };
+    const judgedBy = { baseline, profiled, zone: settings.timeZone };
+    return {
+      accepted: true,
+      verdict,
+      events: [this.makeEvent(state, reading, transition, alert, judgedBy)],
+    };
   }
 
   private makeEvent(
@@ -161,8 +181,9 @@ export class Engine {
     reading: Reading,
     transition: AlertState,
     alert: ActiveAlert,
+    judgedBy: { baseline: Baseline | null; profiled: ProfileBaseline | null; zone: string },
   ): AlertEvent {
-    const baseline = state.window.baseline();
+    const baseline = judgedBy.baseline;
     const fences = state.fences;
     const warm = baseline !== null;
     const body = {
@@ -198,6 +219,7 @@ export class Engine {
       min: state.settings.min,
       max: state.settings.max,
       stuckRun: state.stuckRun,
+      profileSpan: judgedBy.profiled === null ? null : profileSpan(judgedBy.profiled, judgedBy.zone),
     });
     return { id: alert.id, ...body, message, notice: NOTICE };
   }
@@ -265,7 +287,12 @@ export class Engine {
     let evicted = 0;
     for (const [sensor, state] of this.states) {
       if (state.life.active !== null) continue;
-      if (this.watermark - state.window.newestTs <= state.settings.window) continue;
+      // A profiled sensor keeps its days of history (a silent day must not wipe its profile).
+      const keep =
+        state.profile === null
+          ? state.settings.window
+          : Math.max(state.settings.window, state.settings.profileDays * 86_400_000);
+      if (this.watermark - state.window.newestTs <= keep) continue;
       this.states.delete(sensor);
       this.evicted.push(sensor);
       evicted++;
