@@ -32,9 +32,9 @@ export function defaultConfig(): EngineConfig {
  * A YAML parse failure as "line L, column C: problem": the parser's own first line ends in a bare
  * "at line L, column C:" that introduces a code excerpt, which a one-line message cannot show.
  */
-export function describeYamlError(e: unknown): string {
-  const first = (e instanceof Error ? e.message : String(e)).split('\n')[0].trim();
-  const pos = (e as { linePos?: { line: number; col: number }[] }).linePos?.[0];
+export function describeYamlError(err: unknown): string {
+  const first = (err instanceof Error ? err.message : String(err)).split('\n')[0].trim();
+  const pos = (err as { linePos?: { line: number; col: number }[] }).linePos?.[0];
   const problem = first.replace(/\s*at line \d+, column \d+:?\s*$/, '').replace(/:\s*$/, '');
   const where = pos ? `line ${pos.line}, column ${pos.col}: ` : '';
   return `not valid YAML or JSON: ${where}${problem}`;
@@ -45,8 +45,8 @@ export function parseConfigText(text: string, source = 'config'): EngineConfig {
   let raw: unknown;
   try {
     raw = YAML.parse(text);
-  } catch (e) {
-    throw new StreamfenceError('CONFIG_INVALID', `${source}: ${describeYamlError(e)}`);
+  } catch (err) {
+    throw new StreamfenceError('CONFIG_INVALID', `${source}: ${describeYamlError(err)}`);
   }
   return validateConfig(raw ?? {}, source);
 }
@@ -161,16 +161,16 @@ function bad(where: string, key: string, want: string, got: unknown): never {
   );
 }
 
-function parseOne(key: keyof SensorSettings, v: unknown, where: string): unknown {
+function parseOne(key: keyof SensorSettings, value: unknown, where: string): unknown {
   const positive = (want = 'a positive number') => {
-    if (typeof v !== 'number' || !Number.isFinite(v) || v <= 0) bad(where, key, want, v);
-    return v;
+    if (typeof value !== 'number' || !Number.isFinite(value) || value <= 0) bad(where, key, want, value);
+    return value;
   };
   const count = (min: number, max = Number.MAX_SAFE_INTEGER) => {
-    if (typeof v !== 'number' || !Number.isInteger(v) || v < min || v > max) {
-      bad(where, key, `a whole number from ${min} to ${max}`, v);
+    if (typeof value !== 'number' || !Number.isInteger(value) || value < min || value > max) {
+      bad(where, key, `a whole number from ${min} to ${max}`, value);
     }
-    return v;
+    return value;
   };
   switch (key) {
     case 'fenceK':
@@ -179,20 +179,23 @@ function parseOne(key: keyof SensorSettings, v: unknown, where: string): unknown
     case 'zCritical':
       return positive();
     case 'trigger':
-      if (v !== 'fence' && v !== 'z' && v !== 'either' && v !== 'both')
-        bad(where, key, 'one of fence, z, either, both', v);
-      return v;
+      if (value !== 'fence' && value !== 'z' && value !== 'either' && value !== 'both')
+        bad(where, key, 'one of fence, z, either, both', value);
+      return value;
     case 'direction':
-      if (v !== 'both' && v !== 'high' && v !== 'low') bad(where, key, 'one of both, high, low', v);
-      return v;
+      if (value !== 'both' && value !== 'high' && value !== 'low')
+        bad(where, key, 'one of both, high, low', value);
+      return value;
     case 'min':
     case 'max':
-      if (v === null) return null;
-      if (typeof v !== 'number' || !Number.isFinite(v)) bad(where, key, 'a finite number or null', v);
-      return v;
+      if (value === null) return null;
+      if (typeof value !== 'number' || !Number.isFinite(value))
+        bad(where, key, 'a finite number or null', value);
+      return value;
     case 'minSamples':
       return count(2);
     case 'flatlineAfter':
+    case 'badQualityAfter':
       return count(0);
     case 'raiseAfter':
       return count(1, SETTING_BOUNDS.maxRaiseWindow);
@@ -203,21 +206,21 @@ function parseOne(key: keyof SensorSettings, v: unknown, where: string): unknown
     case 'buckets':
       return count(1, SETTING_BOUNDS.maxBuckets);
     case 'profile':
-      if (v !== 'none' && v !== 'daily') bad(where, key, 'one of none, daily', v);
-      return v;
+      if (value !== 'none' && value !== 'daily') bad(where, key, 'one of none, daily', value);
+      return value;
     case 'timeZone':
-      if (typeof v !== 'string' || !isTimeZone(v))
-        bad(where, key, 'an IANA time zone name such as "UTC" or "Europe/Berlin"', v);
-      return v;
+      if (typeof value !== 'string' || !isTimeZone(value))
+        bad(where, key, 'an IANA time zone name such as "UTC" or "Europe/Berlin"', value);
+      return value;
     case 'profileDays':
       return count(1, SETTING_BOUNDS.maxProfileDays);
     case 'learnWhileRaised':
-      if (typeof v !== 'boolean') bad(where, key, 'true or false', v);
-      return v;
+      if (typeof value !== 'boolean') bad(where, key, 'true or false', value);
+      return value;
     case 'window': {
-      const ms = parseDuration(v);
+      const ms = parseDuration(value);
       if (ms === null || ms < SETTING_BOUNDS.minWindowMs || ms > SETTING_BOUNDS.maxWindowMs) {
-        bad(where, key, `a duration from 1s to 31d such as "24h" or "90m"`, v);
+        bad(where, key, `a duration from 1s to 31d such as "24h" or "90m"`, value);
       }
       return ms;
     }
@@ -228,18 +231,27 @@ function contradiction(where: string, msg: string): never {
   throw new StreamfenceError('CONFIG_CONTRADICTION', `${where}: ${msg}`);
 }
 
-function checkContradictions(s: SensorSettings, where: string): void {
-  if (s.outerK <= s.fenceK)
-    contradiction(where, `outerK (${s.outerK}) must be greater than fenceK (${s.fenceK})`);
-  if (s.zCritical <= s.zLimit)
-    contradiction(where, `zCritical (${s.zCritical}) must be greater than zLimit (${s.zLimit})`);
-  if (s.raiseAfter > s.raiseWindow) {
-    contradiction(where, `raiseAfter (${s.raiseAfter}) cannot exceed raiseWindow (${s.raiseWindow})`);
+function checkContradictions(settings: SensorSettings, where: string): void {
+  if (settings.outerK <= settings.fenceK)
+    contradiction(where, `outerK (${settings.outerK}) must be greater than fenceK (${settings.fenceK})`);
+  if (settings.zCritical <= settings.zLimit)
+    contradiction(
+      where,
+      `zCritical (${settings.zCritical}) must be greater than zLimit (${settings.zLimit})`,
+    );
+  if (settings.raiseAfter > settings.raiseWindow) {
+    contradiction(
+      where,
+      `raiseAfter (${settings.raiseAfter}) cannot exceed raiseWindow (${settings.raiseWindow})`,
+    );
   }
-  if (s.min !== null && s.max !== null && s.min >= s.max)
-    contradiction(where, `min (${s.min}) must be below max (${s.max})`);
-  if (s.window % s.buckets !== 0) {
-    contradiction(where, `window (${formatDuration(s.window)}) must split evenly into ${s.buckets} buckets`);
+  if (settings.min !== null && settings.max !== null && settings.min >= settings.max)
+    contradiction(where, `min (${settings.min}) must be below max (${settings.max})`);
+  if (settings.window % settings.buckets !== 0) {
+    contradiction(
+      where,
+      `window (${formatDuration(settings.window)}) must split evenly into ${settings.buckets} buckets`,
+    );
   }
 }
 
@@ -255,20 +267,20 @@ export class SettingsResolver {
   }
 
   resolve(sensor: string): SensorSettings {
-    for (const m of this.matchers) if (m.test(sensor)) return m.settings;
+    for (const matcher of this.matchers) if (matcher.test(sensor)) return matcher.settings;
     return this.config.defaults;
   }
 }
 
 /** The config as plain JSON (window as a duration string), suitable for summaries and as a --config file. */
-export function configToJson(c: EngineConfig): Record<string, unknown> {
-  const conv = (s: Partial<SensorSettings>) => {
-    const o: Record<string, unknown> = { ...s };
-    if (s.window !== undefined) o.window = formatDuration(s.window);
-    return o;
+export function configToJson(config: EngineConfig): Record<string, unknown> {
+  const conv = (settings: Partial<SensorSettings>) => {
+    const out: Record<string, unknown> = { ...settings };
+    if (settings.window !== undefined) out.window = formatDuration(settings.window);
+    return out;
   };
   return {
-    defaults: conv(c.defaults),
-    sensors: c.sensors.map((r) => ({ match: r.match, ...conv(r.overrides) })),
+    defaults: conv(config.defaults),
+    sensors: config.sensors.map((r) => ({ match: r.match, ...conv(r.overrides) })),
   };
 }

@@ -8,9 +8,9 @@ const UNIT_MS: Record<string, number> = { ms: 1, s: 1000, m: 60_000, h: 3_600_00
 export function parseDuration(raw: unknown): number | null {
   if (typeof raw === 'number') return Number.isFinite(raw) && raw >= 0 ? raw : null;
   if (typeof raw !== 'string') return null;
-  const m = /^\s*(\d+(?:\.\d+)?)\s*(ms|s|m|h|d)?\s*$/.exec(raw);
-  if (!m) return null;
-  return Math.round(Number(m[1]) * UNIT_MS[m[2] ?? 'ms']);
+  const match = /^\s*(\d+(?:\.\d+)?)\s*(ms|s|m|h|d)?\s*$/.exec(raw);
+  if (!match) return null;
+  return Math.round(Number(match[1]) * UNIT_MS[match[2] ?? 'ms']);
 }
 
 /** The shortest exact way to write `ms` in the largest unit that divides it (`86400000` → `1d`). */

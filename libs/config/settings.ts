@@ -42,6 +42,8 @@ export interface SensorSettings {
   buckets: number;
   /** Whether readings taken while an alert is raised feed the baseline. */
   learnWhileRaised: boolean;
+  /** Consecutive readings of quality other than good that raise a bad_quality alert (0 turns it off). */
+  badQualityAfter: number;
   /** `daily`: judge against the same local hour on the previous profileDays days (see profile.ts). */
   profile: Profile;
   /** IANA time zone whose local hours the daily profile uses (shifts, daylight saving). */
@@ -68,6 +70,7 @@ export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
   window: 24 * 3600 * 1000,
   buckets: 12,
   learnWhileRaised: true,
+  badQualityAfter: 10,
   profile: 'none',
   timeZone: 'UTC',
   profileDays: 7,

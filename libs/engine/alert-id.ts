@@ -6,8 +6,13 @@ import { createHash } from 'node:crypto';
 
 /**
  * The id of an alert raised by the `seen`-th reading of `sensor`, at event time `ts`: 24 hex
- * characters of SHA-256.
+ * characters of SHA-256. `kind` tells a sensor condition's alert (e.g. "bad_quality") from a
+ * judged reading's (none), so the two can never share an id.
  */
-export function alertId(sensor: string, ts: number, seen: number): string {
-  return createHash('sha256').update(`${sensor}\u0000${ts}\u0000${seen}`).digest('hex').slice(0, 24);
+export function alertId(sensor: string, ts: number, seen: number, kind?: string): string {
+  const key =
+    kind === undefined
+      ? `${sensor}\u0000${ts}\u0000${seen}`
+      : `${sensor}\u0000${ts}\u0000${seen}\u0000${kind}`;
+  return createHash('sha256').update(key).digest('hex').slice(0, 24);
 }

@@ -26,40 +26,40 @@ export class ByteWriter {
     this.pos = 0;
   }
 
-  u8(v: number): void {
+  u8(value: number): void {
     this.ensure(1);
-    this.buf[this.pos++] = v;
+    this.buf[this.pos++] = value;
   }
 
   /** Unsigned integer up to 2^53, 7 bits per byte. */
-  uvar(v: number): void {
-    if (!Number.isSafeInteger(v) || v < 0) throw new RangeError(`uvar out of range: ${v}`);
+  uvar(value: number): void {
+    if (!Number.isSafeInteger(value) || value < 0) throw new RangeError(`uvar out of range: ${value}`);
     this.ensure(8);
-    while (v >= 0x80) {
-      this.buf[this.pos++] = (v % 0x80) | 0x80;
-      v = Math.floor(v / 0x80);
+    while (value >= 0x80) {
+      this.buf[this.pos++] = (value % 0x80) | 0x80;
+      value = Math.floor(value / 0x80);
     }
-    this.buf[this.pos++] = v;
+    this.buf[this.pos++] = value;
   }
 
-  f64(v: number): void {
+  f64(value: number): void {
     this.ensure(8);
-    this.view.setFloat64(this.pos, v, true);
+    this.view.setFloat64(this.pos, value, true);
     this.pos += 8;
   }
 
-  f32(v: number): void {
+  f32(value: number): void {
     this.ensure(4);
-    this.view.setFloat32(this.pos, v, true);
+    this.view.setFloat32(this.pos, value, true);
     this.pos += 4;
   }
 
-  str(s: string): void {
-    const b = enc.encode(s);
-    this.uvar(b.length);
-    this.ensure(b.length);
-    this.buf.set(b, this.pos);
-    this.pos += b.length;
+  str(text: string): void {
+    const encoded = enc.encode(text);
+    this.uvar(encoded.length);
+    this.ensure(encoded.length);
+    this.buf.set(encoded, this.pos);
+    this.pos += encoded.length;
   }
 
   bytes(): Uint8Array {
@@ -85,12 +85,12 @@ export class ByteReader {
   }
 
   uvar(): number {
-    let v = 0;
+    let value = 0;
     let mul = 1;
     for (;;) {
-      const b = this.u8();
-      v += (b & 0x7f) * mul;
-      if (b < 0x80) return v;
+      const byte = this.u8();
+      value += (byte & 0x7f) * mul;
+      if (byte < 0x80) return value;
       mul *= 0x80;
       if (mul > 2 ** 56) throw new RangeError('varint too long');
     }
@@ -98,24 +98,24 @@ export class ByteReader {
 
   f64(): number {
     this.need(8);
-    const v = this.view.getFloat64(this.pos, true);
+    const value = this.view.getFloat64(this.pos, true);
     this.pos += 8;
-    return v;
+    return value;
   }
 
   f32(): number {
     this.need(4);
-    const v = this.view.getFloat32(this.pos, true);
+    const value = this.view.getFloat32(this.pos, true);
     this.pos += 4;
-    return v;
+    return value;
   }
 
   str(): string {
     const n = this.uvar();
     this.need(n);
-    const s = dec.decode(this.buf.subarray(this.pos, this.pos + n));
+    const text = dec.decode(this.buf.subarray(this.pos, this.pos + n));
     this.pos += n;
-    return s;
+    return text;
   }
 
   get done(): boolean {

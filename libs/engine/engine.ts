@@ -9,12 +9,13 @@ import type { SensorSettings } from '../config/settings.js';
 import type { AlertEvent } from '../schema/alert-event.js';
 import type { AlertState } from '../schema/vocabulary.js';
 import { NOTICE } from '../schema/notice.js';
-import { fencesOf, judge, robustZ, zScore, type Verdict } from './judge.js';
+import { fencesOf, judge, NORMAL_COLD, robustZ, zScore, type Verdict } from './judge.js';
 import { step, type ActiveAlert } from './lifecycle.js';
-import { alertMessage } from './alert-wording.js';
-import type { Reading } from './reading.js';
+import { alertId } from './alert-id.js';
+import { alertMessage, qualityMessage } from './alert-wording.js';
+import type { DoubtfulQuality, Quality, Reading } from './reading.js';
 import type { SensorBudget } from './sensor-budget.js';
-import { decodeSensorState, encodeSensorState, SensorState } from './sensor-state.js';
+import { decodeSensorState, encodeSensorState, SensorState, type ConditionAlert } from './sensor-state.js';
 import type { ProfileBaseline } from './profile.js';
 import { hourSpan } from './local-time.js';
 import type { Baseline } from './window.js';
@@ -24,7 +25,10 @@ export const ENGINE_VERSION = '1.0.0';
 
 /** Lifetime counts of one Engine: readings, late refusals, evaluated and flagged readings, alert events. */
 export interface EngineCounters {
+  /** Readings accepted, of every quality. */
   readings: number;
+  /** Accepted readings by quality: only `good` ones are judged and learned. */
+  quality: Record<Quality, number>;
   late: number;
   evaluated: number;
   flagged: { fence: number; outerFence: number; z: number; any: number };
@@ -35,13 +39,23 @@ const NO_EVENTS: readonly AlertEvent[] = Object.freeze([]);
 
 /** What one reading did: accepted with its verdict and alert events, or refused (`late`, `sensor_limit`). */
 export type ProcessOutcome =
-  | { accepted: true; verdict: Verdict; events: readonly AlertEvent[] }
+  | {
+      accepted: true;
+      /** The reading's quality (`good` when it carried none). */
+      quality: Quality;
+      /** NORMAL_COLD (not evaluated) for a reading that was not judged (quality other than good). */
+      verdict: Verdict;
+      /** Whether the reading's value went into its sensor's baseline window. */
+      learned: boolean;
+      events: readonly AlertEvent[];
+    }
   | { accepted: false; reason: 'late' | 'sensor_limit'; detail: string; events: readonly AlertEvent[] };
 
 /** Counters at zero. */
 export function newCounters(): EngineCounters {
   return {
     readings: 0,
+    quality: { good: 0, uncertain: 0, bad: 0 },
     late: 0,
     evaluated: 0,
     flagged: { fence: 0, outerFence: 0, z: 0, any: 0 },
@@ -132,6 +146,19 @@ export class Engine {
       state.fencesFor = baseline;
       state.fences = baseline === null ? null : fencesOf(baseline, settings);
     }
+    // Time moves on with every reading; only good ones are judged and learned.
+    if (reading.quality !== undefined) return this.doubtful(state, reading, reading.quality);
+    let events: AlertEvent[] | null = null;
+    if (state.doubtfulRun > 0) {
+      state.doubtfulRun = 0;
+      const alert = state.qualityAlert;
+      if (alert !== null) {
+        state.qualityAlert = null;
+        this.counters.alerts.cleared++;
+        events = [this.conditionEvent(state, reading, 'cleared', alert, 'bad_quality')];
+      }
+    }
+    this.counters.quality.good++;
     if (reading.value === state.lastValue) state.stuckRun++;
     else {
       state.stuckRun = 1;
@@ -160,20 +187,46 @@ export class Engine {
     });
 
     // Readings that raise, continue or clear an alert feed the baseline only when configured to.
-    if (settings.learnWhileRaised || (before === null && life.active === null)) {
+    const learned = settings.learnWhileRaised || (before === null && life.active === null);
+    if (learned) {
       window.add(reading.ts, reading.value);
       if (profileSlot !== null) profile!.add(reading.ts, reading.value);
     }
 
-    if (transition === null) return { accepted: true, verdict, events: NO_EVENTS };
-    counters.alerts[transition]++;
-    const alert = transition === 'cleared' ? before! : life.active!;
-    const judgedBy = { baseline, profiled, zone: settings.timeZone };
-    return {
-      accepted: true,
-      verdict,
-      events: [this.makeEvent(state, reading, transition, alert, judgedBy)],
-    };
+    if (transition !== null) {
+      counters.alerts[transition]++;
+      const alert = transition === 'cleared' ? before! : life.active!;
+      const judgedBy = { baseline, profiled, zone: settings.timeZone };
+      (events ??= []).push(this.makeEvent(state, reading, transition, alert, judgedBy));
+    }
+    return { accepted: true, quality: 'good', verdict, learned, events: events ?? NO_EVENTS };
+  }
+
+  /**
+   * A reading of quality other than good: counted, neither judged nor learned. `badQualityAfter`
+   * of them in a row raise the sensor's bad_quality alert (the next good reading clears it).
+   */
+  private doubtful(state: SensorState, reading: Reading, quality: DoubtfulQuality): ProcessOutcome {
+    state.seen++;
+    const counters = this.counters;
+    counters.readings++;
+    counters.quality[quality]++;
+    state.doubtfulRun++;
+    let events: readonly AlertEvent[] = NO_EVENTS;
+    const alert = state.qualityAlert;
+    const after = state.settings.badQualityAfter;
+    if (alert !== null) alert.readings++;
+    else if (after > 0 && state.doubtfulRun >= after) {
+      const raised: ConditionAlert = {
+        id: alertId(reading.sensor, reading.ts, state.seen, 'bad_quality'),
+        raisedTs: reading.ts,
+        readings: state.doubtfulRun,
+      };
+      state.qualityAlert = raised;
+      counters.alerts.raised++;
+      events = [this.conditionEvent(state, reading, 'raised', raised, 'bad_quality', quality)];
+    }
+    return { accepted: true, quality, verdict: NORMAL_COLD, learned: false, events };
   }
 
   private makeEvent(
@@ -184,7 +237,6 @@ export class Engine {
     judgedBy: { baseline: Baseline | null; profiled: ProfileBaseline | null; zone: string },
   ): AlertEvent {
     const baseline = judgedBy.baseline;
-    const fences = state.fences;
     const warm = baseline !== null;
     const body = {
       sensor: state.sensor,
@@ -195,21 +247,7 @@ export class Engine {
       ts: iso(reading.ts),
       since: iso(alert.raisedTs),
       flaggedReadings: alert.flaggedReadings,
-      baseline: {
-        q1: warm ? baseline.q1 : null,
-        median: warm ? baseline.median : null,
-        q3: warm ? baseline.q3 : null,
-        iqr: warm ? baseline.iqr : null,
-        lowerFence: fences ? fences.lower : null,
-        upperFence: fences ? fences.upper : null,
-        lowerOuterFence: fences ? fences.lowerOuter : null,
-        upperOuterFence: fences ? fences.upperOuter : null,
-        mean: warm ? baseline.mean : null,
-        stdDev: warm ? baseline.stdDev : null,
-        count: warm ? baseline.count : 0,
-        from: warm ? iso(baseline.from) : null,
-        to: warm ? iso(baseline.to) : null,
-      },
+      baseline: this.baselineOf(state, baseline),
       z: warm ? zScore(reading.value, baseline) : null,
       robustZ: warm ? robustZ(reading.value, baseline) : null,
       percentileRank: warm ? baseline.digest.rank(reading.value) * 100 : null,
@@ -221,6 +259,60 @@ export class Engine {
       stuckRun: state.stuckRun,
       profileSpan: judgedBy.profiled === null ? null : profileSpan(judgedBy.profiled, judgedBy.zone),
     });
+    return { id: alert.id, ...body, message, notice: NOTICE };
+  }
+
+  /** The baseline part of an event: the sensor's baseline and fences now (nulls before warm-up). */
+  private baselineOf(
+    state: SensorState,
+    baseline: Baseline | null = state.window.baseline(),
+  ): AlertEvent['baseline'] {
+    const fences = state.fences;
+    const warm = baseline !== null;
+    return {
+      q1: warm ? baseline.q1 : null,
+      median: warm ? baseline.median : null,
+      q3: warm ? baseline.q3 : null,
+      iqr: warm ? baseline.iqr : null,
+      lowerFence: fences ? fences.lower : null,
+      upperFence: fences ? fences.upper : null,
+      lowerOuterFence: fences ? fences.lowerOuter : null,
+      upperOuterFence: fences ? fences.upperOuter : null,
+      mean: warm ? baseline.mean : null,
+      stdDev: warm ? baseline.stdDev : null,
+      count: warm ? baseline.count : 0,
+      from: warm ? iso(baseline.from) : null,
+      to: warm ? iso(baseline.to) : null,
+    };
+  }
+
+  /**
+   * An event of a sensor condition's alert (bad_quality). The value is the reading's; z and the
+   * percentile rank are null, because the reading was not judged.
+   */
+  private conditionEvent(
+    state: SensorState,
+    reading: Reading,
+    transition: 'raised' | 'cleared',
+    alert: ConditionAlert,
+    reason: 'bad_quality',
+    quality?: DoubtfulQuality,
+  ): AlertEvent {
+    const body = {
+      sensor: state.sensor,
+      state: transition,
+      severity: 'warning' as const,
+      reasons: transition === 'cleared' ? [] : [reason],
+      value: reading.value,
+      ts: iso(reading.ts),
+      since: iso(alert.raisedTs),
+      flaggedReadings: alert.readings,
+      baseline: this.baselineOf(state),
+      z: null,
+      robustZ: null,
+      percentileRank: null,
+    };
+    const message = qualityMessage({ ...body, quality: quality ?? 'good', run: state.doubtfulRun });
     return { id: alert.id, ...body, message, notice: NOTICE };
   }
 
@@ -237,9 +329,13 @@ export class Engine {
     return this.states.get(sensor);
   }
 
+  /** Raised alerts in this engine: reading alerts and sensor-condition alerts alike. */
   activeAlertCount(): number {
     let active = 0;
-    for (const state of this.states.values()) if (state.life.active !== null) active++;
+    for (const state of this.states.values()) {
+      if (state.life.active !== null) active++;
+      if (state.qualityAlert !== null) active++;
+    }
     return active;
   }
 
@@ -278,7 +374,7 @@ export class Engine {
 
   /**
    * Evict sensors with no reading for longer than their window before this engine's newest event
-   * time: their window holds nothing, so their baseline would be empty anyway. A sensor with a
+   * time: their window holds nothing, so their baseline would be empty anyway. A sensor with any
    * raised alert is kept (its clear must still be published). Returns how many were evicted; their
    * ids wait in takeEvicted().
    */
@@ -286,7 +382,7 @@ export class Engine {
     this.sweptAt = this.watermark;
     let evicted = 0;
     for (const [sensor, state] of this.states) {
-      if (state.life.active !== null) continue;
+      if (state.life.active !== null || state.qualityAlert !== null) continue;
       // A profiled sensor keeps its days of history (a silent day must not wipe its profile).
       const keep =
         state.profile === null

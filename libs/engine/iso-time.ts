@@ -18,15 +18,15 @@ const MS_PER_MINUTE = 60_000;
 const MS_PER_DAY = 86_400_000;
 
 /** Value 0..9 of the digit at `i`, or -1 when it is not an ASCII digit. */
-function digitAt(s: string, i: number): number {
-  const d = s.charCodeAt(i) - DIGIT_0;
-  return d >= 0 && d <= 9 ? d : -1;
+function digitAt(text: string, i: number): number {
+  const digit = text.charCodeAt(i) - DIGIT_0;
+  return digit >= 0 && digit <= 9 ? digit : -1;
 }
 
 /** Two digits at `i` as a number, or -1. */
-function twoDigits(s: string, i: number): number {
-  const hi = digitAt(s, i);
-  const lo = digitAt(s, i + 1);
+function twoDigits(text: string, i: number): number {
+  const hi = digitAt(text, i);
+  const lo = digitAt(text, i + 1);
   return hi < 0 || lo < 0 ? -1 : hi * 10 + lo;
 }
 
@@ -52,28 +52,28 @@ export function daysInMonth(year: number, month: number): number {
  * Epoch milliseconds of an ISO-8601 date-time with zone, or the kind of failure. The string is
  * expected trimmed.
  */
-export function parseIsoTime(s: string): number | IsoFailure {
-  const n = s.length;
+export function parseIsoTime(text: string): number | IsoFailure {
+  const n = text.length;
   // Shortest form: YYYY-MM-DDThh:mmZ (17 characters).
   if (n < 17) return 'structure';
-  const y0 = digitAt(s, 0);
-  const y1 = digitAt(s, 1);
-  const y2 = digitAt(s, 2);
-  const y3 = digitAt(s, 3);
+  const y0 = digitAt(text, 0);
+  const y1 = digitAt(text, 1);
+  const y2 = digitAt(text, 2);
+  const y3 = digitAt(text, 3);
   if (y0 < 0 || y1 < 0 || y2 < 0 || y3 < 0) return 'structure';
-  const month = twoDigits(s, 5);
-  const day = twoDigits(s, 8);
-  const sep = s.charCodeAt(10);
-  const hour = twoDigits(s, 11);
-  const minute = twoDigits(s, 14);
+  const month = twoDigits(text, 5);
+  const day = twoDigits(text, 8);
+  const sep = text.charCodeAt(10);
+  const hour = twoDigits(text, 11);
+  const minute = twoDigits(text, 14);
   if (
-    s.charCodeAt(4) !== 45 || // -
-    s.charCodeAt(7) !== 45 ||
+    text.charCodeAt(4) !== 45 || // -
+    text.charCodeAt(7) !== 45 ||
     month < 0 ||
     day < 0 ||
     (sep !== 84 && sep !== 116 && sep !== 32) || // T t space
     hour < 0 ||
-    s.charCodeAt(13) !== 58 || // :
+    text.charCodeAt(13) !== 58 || // :
     minute < 0
   ) {
     return 'structure';
@@ -82,21 +82,21 @@ export function parseIsoTime(s: string): number | IsoFailure {
   let second = 0;
   let millis = 0;
   let fractionNonZero = false;
-  if (s.charCodeAt(i) === 58) {
-    second = twoDigits(s, i + 1);
+  if (text.charCodeAt(i) === 58) {
+    second = twoDigits(text, i + 1);
     if (second < 0) return 'structure';
     i += 3;
-    if (s.charCodeAt(i) === 46) {
+    if (text.charCodeAt(i) === 46) {
       // Fraction: 1 to 9 digits; the first three are milliseconds, the rest are truncated.
       i++;
       const start = i;
       let scale = 100;
       while (i < n) {
-        const d = digitAt(s, i);
-        if (d < 0) break;
-        if (d !== 0) fractionNonZero = true;
+        const digit = digitAt(text, i);
+        if (digit < 0) break;
+        if (digit !== 0) fractionNonZero = true;
         if (scale >= 1) {
-          millis += d * scale;
+          millis += digit * scale;
           scale /= 10;
         }
         i++;
@@ -107,17 +107,17 @@ export function parseIsoTime(s: string): number | IsoFailure {
   }
   // Zone.
   let offsetMinutes = 0;
-  const zone = s.charCodeAt(i);
+  const zone = text.charCodeAt(i);
   if (zone === 90 || zone === 122) {
     // Z z
     if (i + 1 !== n) return 'structure';
   } else if (zone === 43 || zone === 45) {
     // + -
-    const offHour = twoDigits(s, i + 1);
+    const offHour = twoDigits(text, i + 1);
     if (offHour < 0) return 'structure';
     let j = i + 3;
-    if (s.charCodeAt(j) === 58) j++;
-    const offMinute = twoDigits(s, j);
+    if (text.charCodeAt(j) === 58) j++;
+    const offMinute = twoDigits(text, j);
     if (offMinute < 0 || j + 2 !== n) return 'structure';
     if (offHour > 23 || offMinute > 59) return 'value';
     offsetMinutes = (zone === 43 ? 1 : -1) * (offHour * 60 + offMinute);
@@ -138,16 +138,16 @@ export function parseIsoTime(s: string): number | IsoFailure {
 }
 
 /** True when `s` is a decimal number of milliseconds: optional '-', digits, optional '.digits'. */
-export function isEpochText(s: string): boolean {
-  const n = s.length;
-  let i = s.charCodeAt(0) === 45 ? 1 : 0;
+export function isEpochText(text: string): boolean {
+  const n = text.length;
+  let i = text.charCodeAt(0) === 45 ? 1 : 0;
   const intStart = i;
-  while (i < n && digitAt(s, i) >= 0) i++;
+  while (i < n && digitAt(text, i) >= 0) i++;
   if (i === intStart) return false;
   if (i === n) return true;
-  if (s.charCodeAt(i) !== 46) return false;
+  if (text.charCodeAt(i) !== 46) return false;
   i++;
   const fracStart = i;
-  while (i < n && digitAt(s, i) >= 0) i++;
+  while (i < n && digitAt(text, i) >= 0) i++;
   return i > fracStart && i === n;
 }

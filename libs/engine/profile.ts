@@ -15,7 +15,7 @@
  */
 import { addValue, emptyMoments, mergeMoments, sampleStdDev, type Moments } from '../stats/moments.js';
 import {
-  compressCentroids,
+  compressToBins,
   FrozenDigest,
   OpenDigest,
   roundForStorage,
@@ -83,7 +83,7 @@ export class DailyProfile {
   /** Local day and hour of the open entry; -1 before the first reading. */
   openDay = -1;
   openHour = -1;
-  open = new OpenDigest(SKETCH.openDelta, SKETCH.openCap);
+  open = new OpenDigest(SKETCH.profileBins, SKETCH.openCap);
   openMoments: Moments = emptyMoments();
   openFirstTs = 0;
   openLastTs = 0;
@@ -106,7 +106,7 @@ export class DailyProfile {
     profile.openMoments = saved.openMoments;
     profile.openFirstTs = saved.openFirstTs;
     profile.openLastTs = saved.openLastTs;
-    profile.open = OpenDigest.restore(saved.open, SKETCH.openDelta, SKETCH.openCap);
+    profile.open = OpenDigest.restore(saved.open, SKETCH.profileBins, SKETCH.openCap);
     profile.slots = saved.slots;
     return profile;
   }
@@ -171,9 +171,9 @@ export class DailyProfile {
     }
     if (moments.n < minSamples) return null;
     const digest = new FrozenDigest(
-      compressCentroids(
+      compressToBins(
         entries.map((e) => e.centroids),
-        SKETCH.baselineDelta,
+        SKETCH.baselineBins,
       ),
     );
     const q1 = digest.quantile(0.25);
@@ -201,7 +201,7 @@ export class DailyProfile {
       moments: this.openMoments,
       firstTs: this.openFirstTs,
       lastTs: this.openLastTs,
-      centroids: roundForStorage(compressCentroids([this.open.centroids()], SKETCH.profileDelta)),
+      centroids: roundForStorage(compressToBins([this.open.centroids()], SKETCH.profileBins)),
     });
     this.open.reset();
     this.openMoments = emptyMoments();

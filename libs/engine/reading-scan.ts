@@ -1,18 +1,19 @@
 /**
  * A fast path for the reading objects producers actually send: a flat JSON object whose only keys
- * are "sensor", "ts" and "value" (each at most once), with plain strings (no escapes) and numbers
+ * are "sensor", "ts", "value" and the optional "quality" (each at most once), with plain strings (no escapes) and numbers
  * as values, and optional spaces between tokens, e.g. {"sensor":"p-1","ts":"2026-05-01T08:00:00Z","value":4.2}.
- * It reads the three fields by character codes instead of building an object with JSON.parse.
+ * It reads the fields by character codes instead of building an object with JSON.parse.
  * Anything else (escapes, other keys, duplicates, nested values, true/false/null, odd white
  * space) returns null and the caller falls back to JSON.parse, so the result is always the one
  * JSON.parse would give.
  */
 
-/** The three fields as JSON.parse would return them (undefined when a key is absent). */
+/** The fields as JSON.parse would return them (undefined when a key is absent). */
 export interface ScannedFields {
   sensor: string | number | undefined;
   ts: string | number | undefined;
   value: string | number | undefined;
+  quality: string | number | undefined;
 }
 
 const QUOTE = 34;
@@ -105,7 +106,7 @@ function numberValue(s: string, start: number, end: number): number {
   return negative ? -magnitude : magnitude;
 }
 
-/** Which of the three keys the key text s[start, end) is: 0 sensor, 1 ts, 2 value, -1 another. */
+/** Which key the key text s[start, end) is: 0 sensor, 1 ts, 2 value, 3 quality, -1 another. */
 function keyIndex(s: string, start: number, end: number): number {
   const len = end - start;
   if (len === 2) return s.charCodeAt(start) === 116 && s.charCodeAt(start + 1) === 115 ? 1 : -1;
@@ -128,6 +129,17 @@ function keyIndex(s: string, start: number, end: number): number {
       ? 0
       : -1;
   }
+  if (len === 7) {
+    return s.charCodeAt(start) === 113 && // q
+      s.charCodeAt(start + 1) === 117 && // u
+      s.charCodeAt(start + 2) === 97 && // a
+      s.charCodeAt(start + 3) === 108 && // l
+      s.charCodeAt(start + 4) === 105 && // i
+      s.charCodeAt(start + 5) === 116 && // t
+      s.charCodeAt(start + 6) === 121 // y
+      ? 3
+      : -1;
+  }
   return -1;
 }
 
@@ -138,9 +150,10 @@ export function scanReadingObject(s: string): ScannedFields | null {
   let sensor: string | number | undefined;
   let ts: string | number | undefined;
   let value: string | number | undefined;
+  let quality: string | number | undefined;
   let seen = 0;
   let i = skipSpaces(s, 1);
-  if (s.charCodeAt(i) === CLOSE) return i === n - 1 ? { sensor, ts, value } : null;
+  if (s.charCodeAt(i) === CLOSE) return i === n - 1 ? { sensor, ts, value, quality } : null;
   for (;;) {
     if (s.charCodeAt(i) !== QUOTE) return null;
     const keyEnd = stringEnd(s, i + 1);
@@ -166,10 +179,11 @@ export function scanReadingObject(s: string): ScannedFields | null {
     }
     if (key === 0) sensor = field;
     else if (key === 1) ts = field;
-    else value = field;
+    else if (key === 2) value = field;
+    else quality = field;
     i = skipSpaces(s, i);
     const c = s.charCodeAt(i);
-    if (c === CLOSE) return i === n - 1 ? { sensor, ts, value } : null;
+    if (c === CLOSE) return i === n - 1 ? { sensor, ts, value, quality } : null;
     if (c !== COMMA) return null;
     i = skipSpaces(s, i + 1);
   }

@@ -5,12 +5,26 @@
 import { isEpochText, parseIsoTime } from './iso-time.js';
 import { scanReadingObject } from './reading-scan.js';
 
+/**
+ * How far a reading can be trusted, as the source tags it (the OPC UA status-code classes that
+ * plant historians also use). Only `good` readings are judged and learned.
+ */
+export const QUALITIES = ['good', 'uncertain', 'bad'] as const;
+
+/** The quality class of a reading. */
+export type Quality = (typeof QUALITIES)[number];
+
+/** The quality classes other than `good`: readings of these are counted but not judged or learned. */
+export type DoubtfulQuality = Exclude<Quality, 'good'>;
+
 /** One validated sensor reading. */
 export interface Reading {
   sensor: string;
   /** Event time, epoch milliseconds. */
   ts: number;
   value: number;
+  /** Absent means `good`; the parsers set it only for `uncertain` and `bad` readings. */
+  quality?: DoubtfulQuality;
 }
 
 /** Why an input line is not an accepted reading (kept with the line in rejected output). */
@@ -28,6 +42,7 @@ export type RejectReason =
   | 'ts_missing'
   | 'ts_invalid'
   | 'ts_out_of_range'
+  | 'quality_invalid'
   | 'late'
   | 'sensor_limit';
 
@@ -46,6 +61,7 @@ export const REJECT_REASONS: readonly RejectReason[] = [
   'ts_missing',
   'ts_invalid',
   'ts_out_of_range',
+  'quality_invalid',
   'late',
   'sensor_limit',
 ];
@@ -71,18 +87,18 @@ const reject = (reason: RejectReason, detail: string): ParseResult => ({ ok: fal
  * Whether trim() could change `s`: its first or last character is at most U+0020 or beyond
  * U+007E (where the other white space of String.prototype.trim lives). Saves a trim per reading.
  */
-function hasEdgeSpace(s: string): boolean {
-  if (s.length === 0) return false;
-  const first = s.charCodeAt(0);
-  const last = s.charCodeAt(s.length - 1);
+function hasEdgeSpace(text: string): boolean {
+  if (text.length === 0) return false;
+  const first = text.charCodeAt(0);
+  const last = text.charCodeAt(text.length - 1);
   return first <= 32 || first > 126 || last <= 32 || last > 126;
 }
 
 /** C0 and C1 control characters (and DEL) are refused in sensor ids: they break logs, terminals and keys. */
-function hasControlChars(s: string): boolean {
-  for (let i = 0; i < s.length; i++) {
-    const c = s.charCodeAt(i);
-    if (c <= 0x1f || (c >= 0x7f && c <= 0x9f)) return true;
+function hasControlChars(text: string): boolean {
+  for (let i = 0; i < text.length; i++) {
+    const code = text.charCodeAt(i);
+    if (code <= 0x1f || (code >= 0x7f && code <= 0x9f)) return true;
   }
   return false;
 }
@@ -101,20 +117,20 @@ export function parseTimestamp(
       return { ok: false, reason: 'ts_invalid', detail: 'timestamp is not a finite number' };
     ts = Math.round(raw);
   } else if (typeof raw === 'string') {
-    const s = hasEdgeSpace(raw) ? raw.trim() : raw;
-    if (isEpochText(s)) {
-      ts = Math.round(Number(s));
+    const trimmed = hasEdgeSpace(raw) ? raw.trim() : raw;
+    if (isEpochText(trimmed)) {
+      ts = Math.round(Number(trimmed));
     } else {
-      const parsed = parseIsoTime(s);
+      const parsed = parseIsoTime(trimmed);
       if (parsed === 'structure') {
         return {
           ok: false,
           reason: 'ts_invalid',
-          detail: `timestamp "${clip(s)}" is not ISO-8601 with a zone (e.g. 2026-05-01T08:00:00Z) nor epoch milliseconds`,
+          detail: `timestamp "${clip(trimmed)}" is not ISO-8601 with a zone (e.g. 2026-05-01T08:00:00Z) nor epoch milliseconds`,
         };
       }
       if (parsed === 'value') {
-        return { ok: false, reason: 'ts_invalid', detail: `timestamp "${clip(s)}" is not a real date` };
+        return { ok: false, reason: 'ts_invalid', detail: `timestamp "${clip(trimmed)}" is not a real date` };
       }
       ts = parsed;
     }
@@ -133,12 +149,13 @@ export function parseTimestamp(
   return { ok: true, ts };
 }
 
-/** Validate the three fields, whatever the container (JSON object or CSV row). */
+/** Validate the fields, whatever the container (JSON object or CSV row); `quality` undefined = good. */
 export function validateFields(
   sensor: unknown,
   ts: unknown,
   value: unknown,
   valueFromText = false,
+  quality: unknown = undefined,
 ): ParseResult {
   if (sensor === undefined || sensor === null) return reject('sensor_missing', 'field "sensor" is missing');
   if (typeof sensor !== 'string') return reject('sensor_missing', 'field "sensor" must be a string');
@@ -152,28 +169,35 @@ export function validateFields(
   }
   if (hasControlChars(sensor)) return reject('sensor_bad_chars', 'sensor id contains control characters');
 
-  let v: number;
+  let numeric: number;
   if (value === undefined || value === null || (valueFromText && value === '')) {
     return reject('value_missing', 'field "value" is missing');
   }
   if (typeof value === 'number') {
-    v = value;
+    numeric = value;
   } else if (
     valueFromText &&
     typeof value === 'string' &&
     /^\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*$/.test(value)
   ) {
-    v = Number(value);
+    numeric = Number(value);
   } else if (valueFromText && typeof value === 'string' && /^\s*[-+]?(inf|infinity|nan)\s*$/i.test(value)) {
     return reject('value_not_finite', `value "${clip(value)}" is not a finite number`);
   } else {
     return reject('value_not_number', `field "value" must be a number, got ${describe(value)}`);
   }
-  if (!Number.isFinite(v)) return reject('value_not_finite', 'value is not a finite number');
+  if (!Number.isFinite(numeric)) return reject('value_not_finite', 'value is not a finite number');
 
-  const t = parseTimestamp(ts);
-  if (!t.ok) return t;
-  return { ok: true, reading: { sensor, ts: t.ts, value: v } };
+  const time = parseTimestamp(ts);
+  if (!time.ok) return time;
+  if (quality === undefined || quality === 'good')
+    return { ok: true, reading: { sensor, ts: time.ts, value: numeric } };
+  if (quality === 'uncertain' || quality === 'bad')
+    return { ok: true, reading: { sensor, ts: time.ts, value: numeric, quality } };
+  return reject(
+    'quality_invalid',
+    `field "quality" must be "good", "uncertain" or "bad" (or left out for good), got ${describe(quality)}`,
+  );
 }
 
 /** Parse one NDJSON line or one message payload. Never throws. */
@@ -185,7 +209,7 @@ export function parseJsonReading(line: string): ParseResult {
     );
   }
   const fields = scanReadingObject(line);
-  if (fields !== null) return validateFields(fields.sensor, fields.ts, fields.value);
+  if (fields !== null) return validateFields(fields.sensor, fields.ts, fields.value, false, fields.quality);
   let obj: unknown;
   try {
     obj = JSON.parse(line);
@@ -195,17 +219,18 @@ export function parseJsonReading(line: string): ParseResult {
   if (typeof obj !== 'object' || obj === null || Array.isArray(obj)) {
     return reject('not_object', 'a reading must be a JSON object {"sensor","ts","value"}');
   }
-  const o = obj as Record<string, unknown>;
-  return validateFields(o.sensor, o.ts, o.value);
+  const record = obj as Record<string, unknown>;
+  return validateFields(record.sensor, record.ts, record.value, false, record.quality);
 }
 
-function clip(s: string): string {
-  return s.length > 40 ? `${s.slice(0, 40)}...` : s;
+function clip(text: string): string {
+  return text.length > 40 ? `${text.slice(0, 40)}...` : text;
 }
 
-function describe(v: unknown): string {
-  if (typeof v === 'string') return `the string "${clip(v)}"`;
-  if (typeof v === 'boolean') return 'a boolean';
-  if (Array.isArray(v)) return 'an array';
-  return typeof v;
+function describe(value: unknown): string {
+  if (typeof value === 'string') return `the string "${clip(value)}"`;
+  if (typeof value === 'boolean') return 'a boolean';
+  if (value === null) return 'null';
+  if (Array.isArray(value)) return 'an array';
+  return typeof value;
 }

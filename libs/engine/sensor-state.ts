@@ -8,6 +8,18 @@ import { newLifecycle, type LifecycleState } from './lifecycle.js';
 import { SensorWindow, type Baseline, type ClosedBucket, type WindowSnapshot } from './window.js';
 import { DailyProfile, type ProfileEntry, type ProfileSnapshot } from './profile.js';
 
+/**
+ * An alert about the sensor itself rather than a judged reading (its readings of doubtful
+ * quality): raised and cleared by its own rule, beside the sensor's reading alert.
+ */
+export interface ConditionAlert {
+  id: string;
+  /** Event time it was raised at. */
+  raisedTs: number;
+  /** Readings that kept the condition up since it was raised (the raising one included). */
+  readings: number;
+}
+
 /** Everything the engine knows about one sensor: counters, its rolling window, its alert lifecycle. */
 export class SensorState {
   /** Lifetime accepted readings. */
@@ -17,6 +29,10 @@ export class SensorState {
   stuckRun = 0;
   readonly window: SensorWindow;
   life: LifecycleState;
+  /** Consecutive readings of quality other than good, up to the newest. */
+  doubtfulRun = 0;
+  /** The raised bad_quality alert, if any. */
+  qualityAlert: ConditionAlert | null = null;
   /** Fences cached for the baseline object they were computed from. */
   fencesFor: Baseline | null = null;
   fences: Fences | null = null;
@@ -38,12 +54,19 @@ export class SensorState {
 
 const MAGIC_0 = 0x53; // 'S'
 const MAGIC_1 = 0x46; // 'F'
-/** Bump whenever the encoding changes: a state of another version is refused, never misread. */
-export const STATE_VERSION = 4;
+/**
+ * Bump whenever the encoding changes: a state of another version is refused, never misread.
+ * 4 added the doubtful-quality run and the bad_quality alert after the lifecycle; a state of
+ * version 3 (written before) is still read, with no run and no such alert. 5 added the
+ * time-of-day profile section at the end; older states are read with the profile empty.
+ */
+export const STATE_VERSION = 5;
+/** The first version with the doubtful-quality section. */
+const QUALITY_VERSION = 4;
 /** The first version with the time-of-day profile section at the end. */
-const PROFILE_VERSION = 4;
-/** Older encodings this build still reads (without a profile section: the profile starts empty). */
-const READABLE_VERSIONS = [3, STATE_VERSION];
+const PROFILE_VERSION = 5;
+/** Older encodings this build still reads. */
+const READABLE_VERSIONS = [3, QUALITY_VERSION, STATE_VERSION];
 
 // Reused across calls: encoding is synchronous, and checkpoints encode thousands of sensors at once.
 const sharedWriter = new ByteWriter();
@@ -65,8 +88,23 @@ export function encodeSensorState(state: SensorState): Uint8Array {
   out.uvar(state.stuckRun);
   writeWindow(out, state.window);
   writeLifecycle(out, state.life);
+  out.uvar(state.doubtfulRun);
+  writeCondition(out, state.qualityAlert);
   writeProfile(out, state.profile);
   return out.bytes();
+}
+
+function writeCondition(out: ByteWriter, alert: ConditionAlert | null): void {
+  out.u8(alert ? 1 : 0);
+  if (alert === null) return;
+  out.str(alert.id);
+  out.f64(alert.raisedTs);
+  out.uvar(alert.readings);
+}
+
+function readCondition(input: ByteReader): ConditionAlert | null {
+  if (input.u8() !== 1) return null;
+  return { id: input.str(), raisedTs: input.f64(), readings: input.uvar() };
 }
 
 function writeWindow(out: ByteWriter, window: SensorWindow): void {
@@ -95,12 +133,12 @@ function writeWindow(out: ByteWriter, window: SensorWindow): void {
     out.f64(bucket.moments.m2);
     out.f64(bucket.firstTs);
     out.f64(bucket.lastTs);
-    // Closed means were rounded by roundForStorage: the first as a double, then single-precision steps.
-    const { means, counts } = bucket.centroids;
-    out.uvar(means.length);
-    for (let i = 0; i < means.length; i++) {
-      if (i === 0) out.f64(means[0]);
-      else out.f32(means[i] - means[i - 1]);
+    // Packed in memory as they are stored: the first mean as a double, then single-precision steps.
+    const { first, steps, counts } = bucket.centroids;
+    out.uvar(steps.length);
+    for (let i = 0; i < steps.length; i++) {
+      if (i === 0) out.f64(first);
+      else out.f32(steps[i]);
       out.uvar(counts[i]);
     }
   }
@@ -262,6 +300,10 @@ export function decodeSensorState(
     state.lastValue = lastValue;
     state.stuckRun = stuckRun;
     readLifecycle(input, state.life, settings, sensor);
+    if (version >= QUALITY_VERSION) {
+      state.doubtfulRun = input.uvar();
+      state.qualityAlert = readCondition(input);
+    }
     if (version >= PROFILE_VERSION) {
       const saved = readProfile(input);
       // A profile written under another zone or depth restarts (DailyProfile.restore); one
@@ -317,13 +359,16 @@ function readClosedBucket(input: ByteReader): ClosedBucket {
   const firstTs = input.f64();
   const lastTs = input.f64();
   const length = input.uvar();
-  const means = new Float64Array(length);
-  const counts = new Float64Array(length);
+  const store = new ArrayBuffer(length * 8);
+  const steps = new Float32Array(store, 0, length);
+  const counts = new Uint32Array(store, length * 4, length);
+  let first = 0;
   for (let i = 0; i < length; i++) {
-    means[i] = i === 0 ? input.f64() : means[i - 1] + input.f32();
+    if (i === 0) first = input.f64();
+    else steps[i] = input.f32();
     counts[i] = input.uvar();
   }
-  return { index, moments, firstTs, lastTs, centroids: { means, counts } };
+  return { index, moments, firstTs, lastTs, centroids: { first, steps, counts } };
 }
 
 /** Read the lifecycle into `life` (fresh from the settings); a ring of another length is dropped. */

@@ -12,14 +12,15 @@
  */
 import { addValue, emptyMoments, mergeMoments, sampleStdDev, type Moments } from '../stats/moments.js';
 import {
-  compressCentroids,
+  compressToBins,
   FrozenDigest,
   OpenDigest,
-  roundForStorage,
-  type Centroids,
+  packCentroids,
+  unpackCentroids,
+  type PackedCentroids,
   type OpenDigestSnapshot,
 } from '../stats/digest.js';
-import { SKETCH } from './sketch-params.js';
+import { closedBins, openBins, SKETCH } from './sketch-params.js';
 
 /** A closed bucket of the window: its moments, time span and frozen centroids. */
 export interface ClosedBucket {
@@ -27,7 +28,7 @@ export interface ClosedBucket {
   moments: Moments;
   firstTs: number;
   lastTs: number;
-  centroids: Centroids;
+  centroids: PackedCentroids;
 }
 
 /** Summary of the closed buckets; rebuilt at each roll. */
@@ -85,7 +86,7 @@ export class SensorWindow {
     readonly buckets: number,
   ) {
     this.bucketMs = windowMs / buckets;
-    this.open = new OpenDigest(SKETCH.openDelta, SKETCH.openCap);
+    this.open = new OpenDigest(openBins(buckets), SKETCH.openCap);
   }
 
   /**
@@ -101,7 +102,7 @@ export class SensorWindow {
     window.openMoments = saved.openMoments;
     window.openFirstTs = saved.openFirstTs;
     window.openLastTs = saved.openLastTs;
-    window.open = OpenDigest.restore(saved.open, SKETCH.openDelta, SKETCH.openCap);
+    window.open = OpenDigest.restore(saved.open, openBins(buckets), SKETCH.openCap);
     window.closed = saved.closed;
     window.rebuildBaseline();
     return window;
@@ -148,7 +149,7 @@ export class SensorWindow {
         moments: this.openMoments,
         firstTs: this.openFirstTs,
         lastTs: this.openLastTs,
-        centroids: roundForStorage(compressCentroids([this.open.centroids()], SKETCH.closedDelta)),
+        centroids: packCentroids(compressToBins([this.open.centroids()], closedBins(this.buckets))),
       });
       this.open.reset();
       this.openMoments = emptyMoments();
@@ -176,9 +177,9 @@ export class SensorWindow {
       if (bucket.lastTs > to) to = bucket.lastTs;
     }
     const digest = new FrozenDigest(
-      compressCentroids(
-        this.closed.map((bucket) => bucket.centroids),
-        SKETCH.baselineDelta,
+      compressToBins(
+        this.closed.map((bucket) => unpackCentroids(bucket.centroids)),
+        SKETCH.baselineBins,
       ),
     );
     const q1 = digest.quantile(0.25);

@@ -1,6 +1,6 @@
 /**
- * CSV rows of readings: a header naming `sensor`, `ts` and `value` (any order, other columns
- * ignored, names matched case-insensitively after trimming), then one reading per physical line.
+ * CSV rows of readings: a header naming `sensor`, `ts` and `value` and optionally `quality` (any
+ * order, other columns ignored, names matched case-insensitively after trimming), then one reading per physical line.
  * Fields follow RFC 4180 quoting (commas and doubled quotes inside double quotes). A quoted field
  * cannot span lines here: one line is one record, so line numbers stay exact and a bad line never
  * swallows the ones after it. Parsing is lenient (an unterminated quote runs to the end of the
@@ -13,7 +13,9 @@ export interface CsvColumns {
   sensor: number;
   ts: number;
   value: number;
-  /** Fields needed to reach the right-most of the three. */
+  /** The optional quality column, or -1 when the header has none (every row is then good). */
+  quality: number;
+  /** Fields needed to reach the right-most of the columns read. */
   needed: number;
 }
 
@@ -27,13 +29,13 @@ export function splitCsvLine(line: string, limit = Number.MAX_SAFE_INTEGER): str
     // Fast path for the common unquoted row.
     let start = 0;
     while (out.length < limit) {
-      const c = line.indexOf(',', start);
-      if (c < 0) {
+      const comma = line.indexOf(',', start);
+      if (comma < 0) {
         out.push(line.slice(start));
         break;
       }
-      out.push(line.slice(start, c));
-      start = c + 1;
+      out.push(line.slice(start, comma));
+      start = comma + 1;
     }
     return out;
   }
@@ -45,36 +47,36 @@ export function splitCsvLine(line: string, limit = Number.MAX_SAFE_INTEGER): str
       let field = '';
       let j = i + 1;
       for (;;) {
-        const q = line.indexOf('"', j);
-        if (q < 0) {
+        const quote = line.indexOf('"', j);
+        if (quote < 0) {
           field += line.slice(j);
           j = n;
           break;
         }
-        field += line.slice(j, q);
-        if (line.charCodeAt(q + 1) === 34) {
+        field += line.slice(j, quote);
+        if (line.charCodeAt(quote + 1) === 34) {
           field += '"';
-          j = q + 2;
+          j = quote + 2;
         } else {
-          j = q + 1;
+          j = quote + 1;
           break;
         }
       }
-      const c = line.indexOf(',', j);
-      if (c < 0) {
+      const comma = line.indexOf(',', j);
+      if (comma < 0) {
         out.push(field + line.slice(j));
         break;
       }
-      out.push(field + line.slice(j, c));
-      i = c + 1;
+      out.push(field + line.slice(j, comma));
+      i = comma + 1;
     } else {
-      const c = line.indexOf(',', i);
-      if (c < 0) {
+      const comma = line.indexOf(',', i);
+      if (comma < 0) {
         out.push(line.slice(i));
         break;
       }
-      out.push(line.slice(i, c));
-      i = c + 1;
+      out.push(line.slice(i, comma));
+      i = comma + 1;
     }
   }
   return out;
@@ -97,12 +99,18 @@ export function parseCsvHeader(
   const sensor = idx('sensor');
   const ts = idx('ts');
   const value = idx('value');
-  return { ok: true, columns: { sensor, ts, value, needed: Math.max(sensor, ts, value) + 1 } };
+  const quality = idx('quality');
+  return {
+    ok: true,
+    columns: { sensor, ts, value, quality, needed: Math.max(sensor, ts, value, quality) + 1 },
+  };
 }
 
 /**
  * One CSV row to a reading. A field absent from a short row counts as missing, and so does an
- * empty `ts` cell; the sensor id is taken as written (not trimmed), like the NDJSON form.
+ * empty `ts` cell; the sensor id is taken as written (not trimmed), like the NDJSON form. An
+ * empty, blank or absent `quality` cell is a good reading (as a left-out NDJSON field is); the cell is
+ * otherwise matched after trimming, so `bad ` is `bad`.
  */
 export function parseCsvReading(line: string, cols: CsvColumns): ParseResult {
   if (line.length > LIMITS.maxLineLength) {
@@ -112,7 +120,12 @@ export function parseCsvReading(line: string, cols: CsvColumns): ParseResult {
       detail: `line has ${line.length} characters; the limit is ${LIMITS.maxLineLength}`,
     };
   }
-  const f = splitCsvLine(line, cols.needed);
-  const ts = f[cols.ts];
-  return validateFields(f[cols.sensor], ts === '' ? undefined : ts, f[cols.value], true);
+  const fields = splitCsvLine(line, cols.needed);
+  const ts = fields[cols.ts];
+  let quality: string | undefined;
+  if (cols.quality >= 0) {
+    const cell = fields[cols.quality]?.trim();
+    quality = cell === undefined || cell === '' ? undefined : cell;
+  }
+  return validateFields(fields[cols.sensor], ts === '' ? undefined : ts, fields[cols.value], true, quality);
 }

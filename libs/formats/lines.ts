@@ -33,30 +33,30 @@ export class LineSplitter {
     }
     let start = 0;
     if (this.skipping) {
-      const nl = text.indexOf('\n');
-      if (nl < 0) {
+      const newline = text.indexOf('\n');
+      if (newline < 0) {
         this.skippedLength += text.length;
         return;
       }
-      this.skippedLength += nl;
+      this.skippedLength += newline;
       this.emit(this.clipped, this.skippedLength, sink);
       this.skipping = false;
       this.clipped = '';
-      start = nl + 1;
+      start = newline + 1;
     }
-    let nl = text.indexOf('\n', start);
-    if (nl >= 0 && this.carry.length > 0) {
-      const line = this.carry + text.slice(start, nl);
+    let newline = text.indexOf('\n', start);
+    if (newline >= 0 && this.carry.length > 0) {
+      const line = this.carry + text.slice(start, newline);
       this.carry = '';
       this.emit(line, line.length, sink);
-      start = nl + 1;
-      nl = text.indexOf('\n', start);
+      start = newline + 1;
+      newline = text.indexOf('\n', start);
     }
-    while (nl >= 0) {
-      const line = text.slice(start, nl);
+    while (newline >= 0) {
+      const line = text.slice(start, newline);
       this.emit(line, line.length, sink);
-      start = nl + 1;
-      nl = text.indexOf('\n', start);
+      start = newline + 1;
+      newline = text.indexOf('\n', start);
     }
     if (start < text.length) {
       this.carry = this.carry.length > 0 ? this.carry + text.slice(start) : text.slice(start);
@@ -103,6 +103,6 @@ export function isBlank(line: string): boolean {
 }
 
 /** Clip text to a maximum length (for raw copies of rejected lines). */
-export function clipText(s: string, max: number): string {
-  return s.length > max ? s.slice(0, max) : s;
+export function clipText(text: string, max: number): string {
+  return text.length > max ? text.slice(0, max) : text;
 }

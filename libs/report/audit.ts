@@ -8,7 +8,7 @@
  * the digest's input even for out-of-order data; the baseline is then the union of the buckets
  * listed in `window.closed`.
  */
-import { exactRank, quantileType7 } from '../stats/quantiles.js';
+import { quantileType7, rankRangeError } from '../stats/quantiles.js';
 
 /** Sample choice: 32-bit FNV-1a of the sensor id (stable across runs and machines). */
 export function sensorHash(id: string): number {
@@ -37,8 +37,8 @@ export class AuditSample<T> {
 
   /** The sensor's mirror when it is in the sample, else undefined. Call on every reading. */
   get(sensor: string): T | undefined {
-    const m = this.members.get(sensor);
-    if (m !== undefined) return m.data;
+    const member = this.members.get(sensor);
+    if (member !== undefined) return member.data;
     if (this.size <= 0 || this.seen.has(sensor)) return undefined;
     this.seen.add(sensor);
     const hash = sensorHash(sensor);
@@ -79,12 +79,12 @@ export class BucketMirror {
       this.overflowed = true;
       return;
     }
-    let b = this.buckets.get(bucketIndex);
-    if (b === undefined) {
-      b = [];
-      this.buckets.set(bucketIndex, b);
+    let bucket = this.buckets.get(bucketIndex);
+    if (bucket === undefined) {
+      bucket = [];
+      this.buckets.set(bucketIndex, bucket);
     }
-    b.push(value);
+    bucket.push(value);
     this.held++;
   }
 
@@ -105,7 +105,7 @@ export class BucketMirror {
     for (const i of indexes) n += this.buckets.get(i)?.length ?? 0;
     const out = new Float64Array(n);
     let k = 0;
-    for (const i of indexes) for (const v of this.buckets.get(i) ?? []) out[k++] = v;
+    for (const i of indexes) for (const value of this.buckets.get(i) ?? []) out[k++] = value;
     return out.sort();
   }
 }
@@ -119,7 +119,11 @@ export interface QuantileCheck {
   exact: number;
   /** digest - exact, in the sensor's units. */
   diff: number;
-  /** Exact mid-rank of the digest's answer minus p: how far off it is in rank (0.01 = 1 percentile point). */
+  /**
+   * How far p lies outside the exact rank range of the digest's answer (0.01 = 1 percentile point;
+   * positive when the answer ranks above p); an answer between two data values gets the range of
+   * the values either side, so repeated values (rounded readings) are not counted as misses.
+   */
   rankError: number;
 }
 
@@ -136,7 +140,7 @@ export interface AuditRow {
 /** Compare the digest's `p`-quantile with the exact one of the same sorted readings. */
 export function checkQuantile(sorted: Float64Array, p: number, digest: number): QuantileCheck {
   const exact = quantileType7(sorted, p);
-  return { p, digest, exact, diff: digest - exact, rankError: exactRank(sorted, digest) - p };
+  return { p, digest, exact, diff: digest - exact, rankError: rankRangeError(sorted, digest, p, true) };
 }
 
 /** The audit row of one sensor from its sorted baseline readings and the digest's quartiles. */

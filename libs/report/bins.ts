@@ -92,10 +92,10 @@ export class AdaptiveBins {
   sample(ts: number, channel: number, value: number): void {
     if (Number.isNaN(value)) return;
     const p = this.slotFor(ts);
-    const t = this.lastTs[channel];
-    if (Number.isNaN(this.lastVal[channel][p]) || ts >= t[p]) {
+    const channelTimes = this.lastTs[channel];
+    if (Number.isNaN(this.lastVal[channel][p]) || ts >= channelTimes[p]) {
       this.lastVal[channel][p] = value;
-      t[p] = ts;
+      channelTimes[p] = ts;
     }
   }
 
@@ -106,11 +106,11 @@ export class AdaptiveBins {
   addSampled(ts: number, value: number, samples: ArrayLike<number>): void {
     const p = this.slotFor(ts);
     this.addAt(p, value);
-    for (let c = 0; c < this.lastVal.length; c++) {
-      const v = samples[c];
-      if (Number.isNaN(v) || ts < this.lastTs[c][p]) continue;
-      this.lastVal[c][p] = v;
-      this.lastTs[c][p] = ts;
+    for (let channel = 0; channel < this.lastVal.length; channel++) {
+      const sampled = samples[channel];
+      if (Number.isNaN(sampled) || ts < this.lastTs[channel][p]) continue;
+      this.lastVal[channel][p] = sampled;
+      this.lastTs[channel][p] = ts;
     }
   }
 
@@ -143,23 +143,23 @@ export class AdaptiveBins {
   bins(): Bin[] {
     const out: Bin[] = [];
     if (this.empty) return out;
-    for (let a = this.lo; a <= this.hi; a++) {
-      const p = a - this.base;
+    for (let slot = this.lo; slot <= this.hi; slot++) {
+      const p = slot - this.base;
       const last: Record<string, number> = {};
       let any = this.count[p] > 0;
-      this.lastNames.forEach((n, c) => {
-        last[n] = this.lastVal[c][p];
+      this.lastNames.forEach((n, channel) => {
+        last[n] = this.lastVal[channel][p];
         if (!Number.isNaN(last[n])) any = true;
       });
       const sum: Record<string, number> = {};
-      this.sumNames.forEach((n, c) => {
-        sum[n] = this.sums[c][p];
+      this.sumNames.forEach((n, channel) => {
+        sum[n] = this.sums[channel][p];
         if (sum[n] !== 0) any = true;
       });
       if (!any) continue;
       const has = this.count[p] > 0;
       out.push({
-        start: a * this.widthMs,
+        start: slot * this.widthMs,
         count: this.count[p],
         min: has ? this.min[p] : NaN,
         max: has ? this.max[p] : NaN,
@@ -172,40 +172,40 @@ export class AdaptiveBins {
 
   /** Array position for ts, coarsening and re-basing when ts is outside the slots. */
   private slotFor(ts: number): number {
-    let a = Math.floor(ts / this.widthMs);
+    let slot = Math.floor(ts / this.widthMs);
     if (this.empty) {
-      this.base = a;
-      this.lo = a;
-      this.hi = a;
+      this.base = slot;
+      this.lo = slot;
+      this.hi = slot;
       this.clear(0, this.slots);
       return 0;
     }
-    if (a >= this.base && a < this.base + this.slots) {
-      if (a < this.lo) this.lo = a;
-      if (a > this.hi) this.hi = a;
-      return a - this.base;
+    if (slot >= this.base && slot < this.base + this.slots) {
+      if (slot < this.lo) this.lo = slot;
+      if (slot > this.hi) this.hi = slot;
+      return slot - this.base;
     }
-    let lo = Math.min(this.lo, a);
-    let hi = Math.max(this.hi, a);
+    let lo = Math.min(this.lo, slot);
+    let hi = Math.max(this.hi, slot);
     while (hi - lo >= this.slots) {
       this.coarsen();
-      a = Math.floor(ts / this.widthMs);
-      lo = Math.min(this.lo, a);
-      hi = Math.max(this.hi, a);
+      slot = Math.floor(ts / this.widthMs);
+      lo = Math.min(this.lo, slot);
+      hi = Math.max(this.hi, slot);
     }
     // Growing backwards puts the data at the end so the next earlier readings fit without moving.
-    const newBase = a < this.lo ? hi - this.slots + 1 : lo;
+    const newBase = slot < this.lo ? hi - this.slots + 1 : lo;
     this.rebase(newBase);
-    if (a < this.lo) this.lo = a;
-    if (a > this.hi) this.hi = a;
-    return a - this.base;
+    if (slot < this.lo) this.lo = slot;
+    if (slot > this.hi) this.hi = slot;
+    return slot - this.base;
   }
 
   private clear(from: number, to: number): void {
     this.count.fill(0, from, to);
-    for (const v of this.lastVal) v.fill(NaN, from, to);
-    for (const t of this.lastTs) t.fill(-Infinity, from, to);
-    for (const s of this.sums) s.fill(0, from, to);
+    for (const column of this.lastVal) column.fill(NaN, from, to);
+    for (const column of this.lastTs) column.fill(-Infinity, from, to);
+    for (const column of this.sums) column.fill(0, from, to);
   }
 
   /**
@@ -224,43 +224,43 @@ export class AdaptiveBins {
     this.base = this.lo;
     const nLast = this.lastVal.length;
     const nSum = this.sums.length;
-    for (let a = oldLo; a <= oldHi; a++) {
-      const from = a - oldBase;
-      const to = Math.floor(a / 2) - this.base;
+    for (let slot = oldLo; slot <= oldHi; slot++) {
+      const from = slot - oldBase;
+      const to = Math.floor(slot / 2) - this.base;
       const n = this.count[from];
-      const mn = this.min[from];
-      const mx = this.max[from];
+      const binMin = this.min[from];
+      const binMax = this.max[from];
       this.count[from] = 0;
-      this.mergeInto(to, n, mn, mx);
-      for (let c = 0; c < nLast; c++) {
-        const vals = this.lastVal[c];
-        const tss = this.lastTs[c];
-        const v = vals[from];
-        const t = tss[from];
+      this.mergeInto(to, n, binMin, binMax);
+      for (let channel = 0; channel < nLast; channel++) {
+        const vals = this.lastVal[channel];
+        const tss = this.lastTs[channel];
+        const lastValue = vals[from];
+        const lastTime = tss[from];
         vals[from] = NaN;
         tss[from] = -Infinity;
-        if (!Number.isNaN(v) && (Number.isNaN(vals[to]) || t >= tss[to])) {
-          vals[to] = v;
-          tss[to] = t;
+        if (!Number.isNaN(lastValue) && (Number.isNaN(vals[to]) || lastTime >= tss[to])) {
+          vals[to] = lastValue;
+          tss[to] = lastTime;
         }
       }
-      for (let c = 0; c < nSum; c++) {
-        const sums = this.sums[c];
-        const v = sums[from];
+      for (let channel = 0; channel < nSum; channel++) {
+        const sums = this.sums[channel];
+        const sum = sums[from];
         sums[from] = 0;
-        sums[to] += v;
+        sums[to] += sum;
       }
     }
   }
 
-  private mergeInto(p: number, n: number, mn: number, mx: number): void {
+  private mergeInto(p: number, n: number, binMin: number, binMax: number): void {
     if (n === 0) return;
     if (this.count[p] === 0) {
-      this.min[p] = mn;
-      this.max[p] = mx;
+      this.min[p] = binMin;
+      this.max[p] = binMax;
     } else {
-      if (mn < this.min[p]) this.min[p] = mn;
-      if (mx > this.max[p]) this.max[p] = mx;
+      if (binMin < this.min[p]) this.min[p] = binMin;
+      if (binMax > this.max[p]) this.max[p] = binMax;
     }
     this.count[p] += n;
   }
@@ -270,16 +270,16 @@ export class AdaptiveBins {
     if (newBase === this.base) return;
     const move = (arr: Float64Array): void => {
       const copy = arr.slice();
-      for (let a = this.lo; a <= this.hi; a++) arr[a - newBase] = copy[a - this.base];
+      for (let slot = this.lo; slot <= this.hi; slot++) arr[slot - newBase] = copy[slot - this.base];
     };
     const keepLo = this.lo - newBase;
     const keepHi = this.hi - newBase;
     move(this.count);
     move(this.min);
     move(this.max);
-    for (const v of this.lastVal) move(v);
-    for (const t of this.lastTs) move(t);
-    for (const s of this.sums) move(s);
+    for (const column of this.lastVal) move(column);
+    for (const column of this.lastTs) move(column);
+    for (const column of this.sums) move(column);
     this.base = newBase;
     // Clear everything outside the moved range.
     this.clear(0, Math.max(0, keepLo));

@@ -43,17 +43,17 @@ export interface SensorChartInput {
 /** Channels a sensor series samples per bin. */
 export const FENCE_CHANNELS = ['median', 'lower', 'upper', 'lowerOuter', 'upperOuter'] as const;
 
-function svgOpen(f: Frame, cls: string, label: string): string {
-  return `<svg class="${cls}" xmlns="http://www.w3.org/2000/svg" width="${f.width}" height="${f.height}" viewBox="0 0 ${f.width} ${f.height}" role="img" aria-label="${esc(label)}">`;
+function svgOpen(frame: Frame, cls: string, label: string): string {
+  return `<svg class="${cls}" xmlns="http://www.w3.org/2000/svg" width="${frame.width}" height="${frame.height}" viewBox="0 0 ${frame.width} ${frame.height}" role="img" aria-label="${esc(label)}">`;
 }
 
 const safeId = (key: string): string => key.replace(/[^A-Za-z0-9_-]/g, '_');
 
 /** The marker of an alert event: shape tells the state and severity apart without colour. */
-export function markerShape(m: AlertMarker): 'triangle' | 'diamond' | 'circle' | 'dot' {
-  if (m.state === 'cleared') return 'circle';
-  if (m.state === 'updated') return 'dot';
-  return m.severity === 'critical' ? 'diamond' : 'triangle';
+export function markerShape(marker: AlertMarker): 'triangle' | 'diamond' | 'circle' | 'dot' {
+  if (marker.state === 'cleared') return 'circle';
+  if (marker.state === 'updated') return 'dot';
+  return marker.severity === 'critical' ? 'diamond' : 'triangle';
 }
 
 /**
@@ -62,19 +62,19 @@ export function markerShape(m: AlertMarker): 'triangle' | 'diamond' | 'circle' |
  * inner fences; outer fences far outside are clipped to the plot.
  */
 export function sensorChart(input: SensorChartInput): string {
-  const f = input.frame ?? DEFAULT_FRAME;
+  const frame = input.frame ?? DEFAULT_FRAME;
   const bins = input.bins;
   const label = `${input.title}: readings, baseline median, fences and alerts`;
   if (bins.length === 0)
-    return `${svgOpen(f, 'chart sensor-chart', label)}<text x="20" y="40">no readings</text></svg>`;
+    return `${svgOpen(frame, 'chart sensor-chart', label)}<text x="20" y="40">no readings</text></svg>`;
   const from = bins[0].start;
   const to = bins[bins.length - 1].start + input.widthMs;
   const values: number[] = [];
-  for (const b of bins) values.push(b.min, b.max, b.last.lower, b.last.upper);
-  for (const m of input.markers) values.push(m.value);
+  for (const bin of bins) values.push(bin.min, bin.max, bin.last.lower, bin.last.upper);
+  for (const marker of input.markers) values.push(marker.value);
   const [vLo, vHi] = valueDomain(values);
-  const x = linearScale(from, to, f.left, f.width - f.right);
-  const y = linearScale(vLo, vHi, f.height - f.bottom, f.top);
+  const x = linearScale(from, to, frame.left, frame.width - frame.right);
+  const y = linearScale(vLo, vHi, frame.height - frame.bottom, frame.top);
   const { ticks, label: tLabel } = timeTicks(from, to);
   const clip = `clip-${safeId(input.key)}`;
   const mid = (b: Bin): number => x(b.start + input.widthMs / 2);
@@ -82,27 +82,27 @@ export function sensorChart(input: SensorChartInput): string {
     bandPath(bins.map((b) => [mid(b), y(b.last[lo]), y(b.last[hi])] as const));
   // A bin whose readings are all equal still gets a visible 1.5 px band.
   const readings = bandPath(
-    bins.map((b) => {
-      if (b.count === 0) return [mid(b), NaN, NaN] as const;
-      const lo = y(b.min);
-      const hi = y(b.max);
-      return lo - hi < 1.5 ? ([mid(b), lo + 0.75, hi - 0.75] as const) : ([mid(b), lo, hi] as const);
+    bins.map((bin) => {
+      if (bin.count === 0) return [mid(bin), NaN, NaN] as const;
+      const lo = y(bin.min);
+      const hi = y(bin.max);
+      return lo - hi < 1.5 ? ([mid(bin), lo + 0.75, hi - 0.75] as const) : ([mid(bin), lo, hi] as const);
     }),
   );
   const median = linePath(bins.map((b) => [mid(b), y(b.last.median)] as const));
   const marks = input.markers
-    .map((m) => {
-      const shape = markerShape(m);
-      const cls = `mark ${m.state} ${m.severity}`;
-      const title = `${m.state} ${m.severity} ${new Date(m.ts).toISOString()} value ${fmtNum(m.value)}`;
-      return `<path class="${cls}" d="${markerPath(shape, x(m.ts), y(m.value))}"><title>${esc(title)}</title></path>`;
+    .map((marker) => {
+      const shape = markerShape(marker);
+      const cls = `mark ${marker.state} ${marker.severity}`;
+      const title = `${marker.state} ${marker.severity} ${new Date(marker.ts).toISOString()} value ${fmtNum(marker.value)}`;
+      return `<path class="${cls}" d="${markerPath(shape, x(marker.ts), y(marker.value))}"><title>${esc(title)}</title></path>`;
     })
     .join('');
   return [
-    svgOpen(f, 'chart sensor-chart', label),
-    `<defs><clipPath id="${clip}"><rect x="${f.left}" y="${f.top}" width="${f.width - f.left - f.right}" height="${f.height - f.top - f.bottom}"/></clipPath></defs>`,
+    svgOpen(frame, 'chart sensor-chart', label),
+    `<defs><clipPath id="${clip}"><rect x="${frame.left}" y="${frame.top}" width="${frame.width - frame.left - frame.right}" height="${frame.height - frame.top - frame.bottom}"/></clipPath></defs>`,
     axes(
-      f,
+      frame,
       { ticks, scale: x, label: tLabel, title: 'event time (UTC)' },
       { ticks: niceTicks(vLo, vHi), scale: y, label: fmtNum, title: 'value' },
     ),
@@ -130,39 +130,39 @@ export interface RateChartInput {
  * against the budget and flood lines, over the whole data span.
  */
 export function rateChart(input: RateChartInput): string {
-  const f = input.frame ?? { ...DEFAULT_FRAME, height: 220 };
+  const frame = input.frame ?? { ...DEFAULT_FRAME, height: 220 };
   const label = 'alerts raised per clock hour over event time, with budget and flood lines';
   if (input.bars.length === 0)
-    return `${svgOpen(f, 'chart rate-chart', label)}<text x="20" y="40">no readings</text></svg>`;
+    return `${svgOpen(frame, 'chart rate-chart', label)}<text x="20" y="40">no readings</text></svg>`;
   const from = input.bars[0].start;
   const to = input.bars[input.bars.length - 1].end;
   const top = Math.max(...input.bars.map((b) => b.maxPerHour), input.budgetPerHour) * 1.15 || 1;
-  const x = linearScale(from, to, f.left, f.width - f.right);
-  const y = linearScale(0, top, f.height - f.bottom, f.top);
+  const x = linearScale(from, to, frame.left, frame.width - frame.right);
+  const y = linearScale(0, top, frame.height - frame.bottom, frame.top);
   const { ticks, label: tLabel } = timeTicks(from, to);
   const bars = input.bars
-    .map((b) => {
-      if (b.maxPerHour === 0) return '';
-      const over = b.maxPerHour > input.budgetPerHour ? ' over' : '';
-      const py = y(b.maxPerHour);
-      const bw = Math.max(1, x(b.end) - x(b.start) - 0.5);
-      const hours = (b.end - b.start) / HOUR_MS;
+    .map((bar) => {
+      if (bar.maxPerHour === 0) return '';
+      const over = bar.maxPerHour > input.budgetPerHour ? ' over' : '';
+      const py = y(bar.maxPerHour);
+      const barWidth = Math.max(1, x(bar.end) - x(bar.start) - 0.5);
+      const hours = (bar.end - bar.start) / HOUR_MS;
       const text =
         hours === 1
-          ? `${new Date(b.start).toISOString()}: ${b.total} raised in this hour`
-          : `${new Date(b.start).toISOString()} (${fmtNum(hours)} h): ${b.total} raised, busiest hour ${b.maxPerHour}`;
-      return `<rect class="bar${over}" x="${coord(x(b.start))}" y="${coord(py)}" width="${coord(bw)}" height="${coord(y(0) - py)}"><title>${esc(text)}</title></rect>`;
+          ? `${new Date(bar.start).toISOString()}: ${bar.total} raised in this hour`
+          : `${new Date(bar.start).toISOString()} (${fmtNum(hours)} h): ${bar.total} raised, busiest hour ${bar.maxPerHour}`;
+      return `<rect class="bar${over}" x="${coord(x(bar.start))}" y="${coord(py)}" width="${coord(barWidth)}" height="${coord(y(0) - py)}"><title>${esc(text)}</title></rect>`;
     })
     .join('');
-  const line = (v: number, cls: string, text: string): string => {
-    if (v > top) return '';
-    const py = coord(y(v));
-    return `<line class="${cls}" x1="${f.left}" x2="${f.width - f.right}" y1="${py}" y2="${py}"/><text class="line-label" x="${f.width - f.right - 4}" y="${coord(y(v) - 4)}" text-anchor="end">${esc(text)}</text>`;
+  const line = (level: number, cls: string, text: string): string => {
+    if (level > top) return '';
+    const py = coord(y(level));
+    return `<line class="${cls}" x1="${frame.left}" x2="${frame.width - frame.right}" y1="${py}" y2="${py}"/><text class="line-label" x="${frame.width - frame.right - 4}" y="${coord(y(level) - 4)}" text-anchor="end">${esc(text)}</text>`;
   };
   return [
-    svgOpen(f, 'chart rate-chart', label),
+    svgOpen(frame, 'chart rate-chart', label),
     axes(
-      f,
+      frame,
       { ticks, scale: x, label: tLabel, title: 'event time (UTC)' },
       { ticks: niceTicks(0, top), scale: y, label: fmtNum, title: 'raised per clock hour' },
     ),
@@ -187,42 +187,43 @@ export interface ScatterPoint {
  * shade; the budget is a vertical line; the recommended point is ringed and labelled.
  */
 export function tuneScatter(points: readonly ScatterPoint[], budgetPerHour: number, frame?: Frame): string {
-  const f = frame ?? { ...DEFAULT_FRAME, height: 340, bottom: 40 };
+  const chartFrame = frame ?? { ...DEFAULT_FRAME, height: 340, bottom: 40 };
   const label = 'tuning grid: alert rate against recall, precision as marker size';
   const rated = points.filter((p) => p.recall !== null && Number.isFinite(p.alertsPerHour));
   if (rated.length === 0)
-    return `${svgOpen(f, 'chart tune-chart', label)}<text x="20" y="40">no grid points with a recall</text></svg>`;
+    return `${svgOpen(chartFrame, 'chart tune-chart', label)}<text x="20" y="40">no grid points with a recall</text></svg>`;
   const positive = rated.map((p) => p.alertsPerHour).filter((v) => v > 0);
   const lo = Math.min(...positive, budgetPerHour) / 2 || 0.01;
   const hi = Math.max(...positive, budgetPerHour) * 2 || 10;
-  const x = logScale(lo, hi, f.left, f.width - f.right);
-  const y = linearScale(0, 1, f.height - f.bottom, f.top);
+  const x = logScale(lo, hi, chartFrame.left, chartFrame.width - chartFrame.right);
+  const y = linearScale(0, 1, chartFrame.height - chartFrame.bottom, chartFrame.top);
   const decades: number[] = [];
-  for (let e = Math.floor(Math.log10(lo)); e <= Math.ceil(Math.log10(hi)); e++) decades.push(10 ** e);
+  for (let exponent = Math.floor(Math.log10(lo)); exponent <= Math.ceil(Math.log10(hi)); exponent++)
+    decades.push(10 ** exponent);
   const dots = rated
     .map((p) => {
       const prec = p.precision ?? 0;
-      const r = 3 + 7 * prec;
+      const radius = 3 + 7 * prec;
       const cls = p.recommended ? 'pt recommended' : 'pt';
       const px = x(Math.max(p.alertsPerHour, lo));
       const py = y(p.recall as number);
       const title = `${p.label}: ${fmtNum(p.alertsPerHour)} alerts/h, recall ${fmtNum(p.recall as number)}, precision ${p.precision === null ? 'n/a' : fmtNum(prec)}`;
       const ring = p.recommended
-        ? `<circle class="ring" cx="${coord(px)}" cy="${coord(py)}" r="${coord(r + 5)}"/><text class="line-label" x="${coord(px + r + 8)}" y="${coord(py - r - 4)}">recommended</text>`
+        ? `<circle class="ring" cx="${coord(px)}" cy="${coord(py)}" r="${coord(radius + 5)}"/><text class="line-label" x="${coord(px + radius + 8)}" y="${coord(py - radius - 4)}">recommended</text>`
         : '';
-      return `<circle class="${cls}" cx="${coord(px)}" cy="${coord(py)}" r="${coord(r)}" fill-opacity="${coord(0.25 + 0.65 * prec)}"><title>${esc(title)}</title></circle>${ring}`;
+      return `<circle class="${cls}" cx="${coord(px)}" cy="${coord(py)}" r="${coord(radius)}" fill-opacity="${coord(0.25 + 0.65 * prec)}"><title>${esc(title)}</title></circle>${ring}`;
     })
     .join('');
-  const bx = coord(x(budgetPerHour));
+  const budgetX = coord(x(budgetPerHour));
   return [
-    svgOpen(f, 'chart tune-chart', label),
+    svgOpen(chartFrame, 'chart tune-chart', label),
     axes(
-      f,
+      chartFrame,
       { ticks: decades, scale: x, label: fmtNum, title: 'alerts per hour (log)' },
       { ticks: [0, 0.25, 0.5, 0.75, 1], scale: y, label: fmtNum, title: 'recall' },
     ),
-    `<line class="budget" x1="${bx}" x2="${bx}" y1="${f.top}" y2="${f.height - f.bottom}"/>`,
-    `<text class="line-label" x="${coord(x(budgetPerHour) + 4)}" y="${f.top + 12}">budget ${fmtNum(budgetPerHour)}/h</text>`,
+    `<line class="budget" x1="${budgetX}" x2="${budgetX}" y1="${chartFrame.top}" y2="${chartFrame.height - chartFrame.bottom}"/>`,
+    `<text class="line-label" x="${coord(x(budgetPerHour) + 4)}" y="${chartFrame.top + 12}">budget ${fmtNum(budgetPerHour)}/h</text>`,
     dots,
     '</svg>',
   ].join('');

@@ -9,11 +9,11 @@ import type { Baseline } from '../engine/window.js';
 
 /** [median, lower, upper, lowerOuter, upperOuter], the order of FENCE_CHANNELS. */
 export function fenceBand(
-  b: Pick<Baseline, 'q1' | 'median' | 'q3' | 'iqr'>,
-  s: Pick<SensorSettings, 'fenceK' | 'outerK'>,
+  baseline: Pick<Baseline, 'q1' | 'median' | 'q3' | 'iqr'>,
+  settings: Pick<SensorSettings, 'fenceK' | 'outerK'>,
 ): Float64Array {
-  const f = fencesOf(b, s);
-  return Float64Array.of(b.median, f.lower, f.upper, f.lowerOuter, f.upperOuter);
+  const fences = fencesOf(baseline, settings);
+  return Float64Array.of(baseline.median, fences.lower, fences.upper, fences.lowerOuter, fences.upperOuter);
 }
 
 /** Five NaNs: no baseline yet (the chart leaves a gap). */

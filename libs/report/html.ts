@@ -75,27 +75,27 @@ export function table(
   opts: { pick?: (i: number) => boolean; numeric?: readonly number[] } = {},
 ): string {
   const numeric = new Set(opts.numeric ?? []);
-  const cell = (c: Cell, i: number, tag: 'td' | 'th'): string => {
+  const cell = (content: Cell, i: number, tag: 'td' | 'th'): string => {
     const cls = numeric.has(i) ? ' class="n"' : '';
-    return `<${tag}${cls}>${renderCell(c)}</${tag}>`;
+    return `<${tag}${cls}>${renderCell(content)}</${tag}>`;
   };
-  const th = `<tr>${head.map((h, i) => cell(h, i, 'th')).join('')}</tr>`;
+  const headRow = `<tr>${head.map((h, i) => cell(h, i, 'th')).join('')}</tr>`;
   const body = rows
     .map(
       (r, ri) =>
         `<tr${opts.pick?.(ri) ? ' class="pick"' : ''}>${r.map((c, i) => cell(c, i, 'td')).join('')}</tr>`,
     )
     .join('');
-  return `<table><thead>${th}</thead><tbody>${body}</tbody></table>`;
+  return `<table><thead>${headRow}</thead><tbody>${body}</tbody></table>`;
 }
 
-function renderCell(c: Cell): string {
-  if (c === null) return '–';
-  if (typeof c === 'number') return esc(fmtCount(c));
-  if (typeof c === 'string') return esc(c);
-  if ('html' in c) return c.html;
-  if (c.num === null || !Number.isFinite(c.num)) return '–';
-  return esc(c.digits === undefined ? String(c.num) : c.num.toFixed(c.digits));
+function renderCell(content: Cell): string {
+  if (content === null) return '–';
+  if (typeof content === 'number') return esc(fmtCount(content));
+  if (typeof content === 'string') return esc(content);
+  if ('html' in content) return content.html;
+  if (content.num === null || !Number.isFinite(content.num)) return '–';
+  return esc(content.digits === undefined ? String(content.num) : content.num.toFixed(content.digits));
 }
 
 /** Integers with thin grouping; other numbers as given. */

@@ -159,28 +159,32 @@ export function createReportObserver(opts: ReportOptions = {}): ReportObserver {
       const ev = outcome.events;
       for (let i = 0; i < ev.length; i++) {
         const e = ev[i];
-        let c = counts.get(r.sensor);
+        // Usually the reading's own sensor; a reading that moves event time on can also raise a
+        // silent sensor's alert, which belongs to that sensor at the event's own time.
+        const own = e.sensor === r.sensor;
+        const ts = own ? r.ts : Date.parse(e.ts);
+        let c = counts.get(e.sensor);
         if (c === undefined) {
           c = { raised: 0, updated: 0, cleared: 0, critical: 0 };
-          counts.set(r.sensor, c);
+          counts.set(e.sensor, c);
         }
         c[e.state]++;
         if (e.state === 'raised') {
           if (e.severity === 'critical') c.critical++;
-          onRaised(r.ts);
+          onRaised(ts);
         }
-        if (s !== undefined) {
-          if (s.markers.length < o.maxMarkersPerSensor)
-            s.markers.push({ ts: r.ts, value: r.value, state: e.state, severity: e.severity });
-          else s.markersDropped++;
+        const es = own ? s : series.get(e.sensor);
+        if (es !== undefined) {
+          if (es.markers.length < o.maxMarkersPerSensor)
+            es.markers.push({ ts, value: e.value, state: e.state, severity: e.severity });
+          else es.markersDropped++;
         }
       }
       if (sample !== null) {
         const mir = sample.get(r.sensor);
         if (mir !== undefined) {
-          // The engine adds a reading to the open bucket unless an alert was raised before or after it
-          // and the sensor does not learn while raised; mirror exactly that.
-          const added = st.settings.learnWhileRaised || (ev.length === 0 && st.life.active === null);
+          // Mirror exactly the readings the engine added to the open bucket.
+          const added = outcome.learned;
           const w = st.window;
           if (w.openIndex !== mir.openIndex) {
             mir.openIndex = w.openIndex;
@@ -218,7 +222,7 @@ export function createReportObserver(opts: ReportOptions = {}): ReportObserver {
       }
       audit = {
         convention:
-          'exact quartiles: Hyndman-Fan type 7; rank error = exact mid-rank of the digest value minus p',
+          'exact quartiles: Hyndman-Fan type 7; rank error = distance from p to the exact rank range of the digest value (of the data values either side when it falls between two)',
         rows,
         skipped,
       };

@@ -101,24 +101,24 @@ export function timeTicks(
 }
 
 /** Short numeric label (keeps 4 significant digits, no exponent for ordinary plant values). */
-export function fmtNum(v: number): string {
-  if (!Number.isFinite(v)) return '–';
-  const a = Math.abs(v);
-  if (a !== 0 && (a >= 1e7 || a < 1e-3)) return v.toExponential(2);
-  return Number(v.toPrecision(4)).toString();
+export function fmtNum(value: number): string {
+  if (!Number.isFinite(value)) return '–';
+  const magnitude = Math.abs(value);
+  if (magnitude !== 0 && (magnitude >= 1e7 || magnitude < 1e-3)) return value.toExponential(2);
+  return Number(value.toPrecision(4)).toString();
 }
 
 /** Axes, grid lines and labels for a plot area; the caller draws the data inside. */
 export function axes(
-  f: Frame,
+  frame: Frame,
   x: { ticks: number[]; scale: Scale; label: (v: number) => string; title?: string },
   y: { ticks: number[]; scale: Scale; label: (v: number) => string; title?: string },
 ): string {
   const parts: string[] = [];
-  const x0 = f.left;
-  const x1 = f.width - f.right;
-  const y0 = f.height - f.bottom;
-  const y1 = f.top;
+  const x0 = frame.left;
+  const x1 = frame.width - frame.right;
+  const y0 = frame.height - frame.bottom;
+  const y1 = frame.top;
   for (const t of y.ticks) {
     const py = y.scale(t);
     if (py < y1 - 0.5 || py > y0 + 0.5) continue;
@@ -132,7 +132,7 @@ export function axes(
     if (px < x0 - 0.5 || px > x1 + 0.5) continue;
     parts.push(`<line class="grid" x1="${coord(px)}" x2="${coord(px)}" y1="${y1}" y2="${y0}"/>`);
     // A label centred on the right edge would be cut off by the frame.
-    if (px > f.width - 36) continue;
+    if (px > frame.width - 36) continue;
     parts.push(
       `<text class="tick" x="${coord(px)}" y="${y0 + 16}" text-anchor="middle">${esc(x.label(t))}</text>`,
     );
@@ -140,7 +140,7 @@ export function axes(
   parts.push(`<rect class="frame" x="${x0}" y="${y1}" width="${x1 - x0}" height="${y0 - y1}"/>`);
   if (x.title)
     parts.push(
-      `<text class="axis-title" x="${x1}" y="${f.height - 2}" text-anchor="end">${esc(x.title)}</text>`,
+      `<text class="axis-title" x="${x1}" y="${frame.height - 2}" text-anchor="end">${esc(x.title)}</text>`,
     );
   if (y.title) {
     parts.push(
@@ -152,17 +152,17 @@ export function axes(
 
 /** Path data for a polyline; NaN points break the line into separate runs. */
 export function linePath(points: readonly (readonly [number, number])[]): string {
-  let d = '';
+  let path = '';
   let pen = false;
   for (const [px, py] of points) {
     if (!Number.isFinite(px) || !Number.isFinite(py)) {
       pen = false;
       continue;
     }
-    d += `${pen ? 'L' : 'M'}${coord(px)} ${coord(py)}`;
+    path += `${pen ? 'L' : 'M'}${coord(px)} ${coord(py)}`;
     pen = true;
   }
-  return d;
+  return path;
 }
 
 /**
@@ -170,13 +170,13 @@ export function linePath(points: readonly (readonly [number, number])[]): string
  * band, so gaps in the data stay visible as gaps.
  */
 export function bandPath(points: readonly (readonly [number, number, number])[]): string {
-  let d = '';
+  let path = '';
   let run: (readonly [number, number, number])[] = [];
   const flush = (): void => {
     if (run.length === 0) return;
     const up = run.map(([px, , hi]) => `${coord(px)} ${coord(hi)}`);
     const down = run.map(([px, lo]) => `${coord(px)} ${coord(lo)}`).reverse();
-    d += `M${up.join('L')}L${down.join('L')}Z`;
+    path += `M${up.join('L')}L${down.join('L')}Z`;
     run = [];
   };
   for (const p of points) {
@@ -184,7 +184,7 @@ export function bandPath(points: readonly (readonly [number, number, number])[])
     else flush();
   }
   flush();
-  return d;
+  return path;
 }
 
 /** Marker shapes: severity is told by shape as well as colour. */
@@ -192,16 +192,16 @@ export function markerPath(
   shape: 'triangle' | 'diamond' | 'circle' | 'dot',
   px: number,
   py: number,
-  r = 5,
+  radius = 5,
 ): string {
   const x = coord(px);
   switch (shape) {
     case 'triangle':
-      return `M${x} ${coord(py - r)}L${coord(px + r)} ${coord(py + r * 0.8)}L${coord(px - r)} ${coord(py + r * 0.8)}Z`;
+      return `M${x} ${coord(py - radius)}L${coord(px + radius)} ${coord(py + radius * 0.8)}L${coord(px - radius)} ${coord(py + radius * 0.8)}Z`;
     case 'diamond':
-      return `M${x} ${coord(py - r * 1.2)}L${coord(px + r)} ${coord(py)}L${x} ${coord(py + r * 1.2)}L${coord(px - r)} ${coord(py)}Z`;
+      return `M${x} ${coord(py - radius * 1.2)}L${coord(px + radius)} ${coord(py)}L${x} ${coord(py + radius * 1.2)}L${coord(px - radius)} ${coord(py)}Z`;
     case 'circle':
-      return `M${coord(px - r)} ${coord(py)}a${r} ${r} 0 1 0 ${2 * r} 0a${r} ${r} 0 1 0 ${-2 * r} 0Z`;
+      return `M${coord(px - radius)} ${coord(py)}a${radius} ${radius} 0 1 0 ${2 * radius} 0a${radius} ${radius} 0 1 0 ${-2 * radius} 0Z`;
     case 'dot':
       return `M${coord(px - 2)} ${coord(py)}a2 2 0 1 0 4 0a2 2 0 1 0 -4 0Z`;
   }

@@ -32,8 +32,10 @@ export interface ReplayObserver {
 export interface ReplaySummary {
   engineVersion: string;
   input: Record<string, unknown>;
-  /** Readings accepted by the engine. */
+  /** Readings accepted by the engine, of every quality. */
   readings: number;
+  /** Accepted readings by quality; only `good` ones were judged and learned. */
+  quality: { good: number; uncertain: number; bad: number };
   rejected: { total: number; byReason: Record<string, number> };
   sensors: number;
   evaluated: number;

@@ -26,7 +26,10 @@ export function isSeverity(value: unknown): value is Severity {
   return typeof value === 'string' && Object.hasOwn(SEVERITY_RANK, value);
 }
 
-/** Why a reading was flagged, in the order the rules are checked. */
+/**
+ * Why a reading was flagged, in the order the rules are checked, then the conditions of the
+ * sensor itself (its readings of doubtful quality), which have alerts of their own.
+ */
 export const REASONS = [
   'fence_high',
   'fence_low',
@@ -38,6 +41,7 @@ export const REASONS = [
   'limit_low',
   'flatline',
   'departs_constant',
+  'bad_quality',
 ] as const;
 
 /** One reason a reading was flagged (carried in `AlertEvent.reasons`). */
@@ -55,6 +59,7 @@ export const REASON_WORDS: Readonly<Record<Reason, string>> = {
   limit_low: 'below its physical minimum',
   flatline: 'stuck on one value',
   departs_constant: 'off the constant value it held for the whole window',
+  bad_quality: 'sending readings of doubtful quality',
 };
 
 /** True when `value` is one of {@link REASONS}. */

@@ -98,6 +98,21 @@ function lastAtOrBefore(sorted: readonly number[], x: number): number {
   return ans;
 }
 
+/** Index of the last element < x in a sorted array, or -1. */
+function lastBefore(sorted: readonly number[], x: number): number {
+  let lo = 0;
+  let hi = sorted.length - 1;
+  let ans = -1;
+  while (lo <= hi) {
+    const mid = (lo + hi) >> 1;
+    if (sorted[mid] < x) {
+      ans = mid;
+      lo = mid + 1;
+    } else hi = mid - 1;
+  }
+  return ans;
+}
+
 /** The most timestamps in any window [t, t + width). */
 export function worstWindow(times: readonly number[], width: number): number {
   const ts = [...times].sort((a, b) => a - b);
@@ -108,6 +123,32 @@ export function worstWindow(times: readonly number[], width: number): number {
     best = Math.max(best, hi - lo + 1);
   }
   return best;
+}
+
+/** Raise times per sensor, sorted. */
+function raisesBySensor(raised: readonly RaisedAlert[]): Map<string, number[]> {
+  const alertsBy = new Map<string, number[]>();
+  for (const a of raised) {
+    let list = alertsBy.get(a.sensor);
+    if (list === undefined) alertsBy.set(a.sensor, (list = []));
+    list.push(a.ts);
+  }
+  for (const list of alertsBy.values()) list.sort((a, b) => a - b);
+  return alertsBy;
+}
+
+/** Raises on each incident's sensor within [start, end + grace], per incident (0 = missed). */
+export function incidentRaises(
+  incidents: readonly Incident[],
+  raised: readonly RaisedAlert[],
+  graceMs: number,
+): number[] {
+  const alertsBy = raisesBySensor(raised);
+  return incidents.map((inc) => {
+    const list = alertsBy.get(inc.sensor);
+    if (list === undefined) return 0;
+    return Math.max(0, lastAtOrBefore(list, inc.end + graceMs) - lastBefore(list, inc.start));
+  });
 }
 
 /**

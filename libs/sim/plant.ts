@@ -95,25 +95,29 @@ interface SensorRun {
   last: number;
 }
 
-function checkOptions(o: SimOptions): ScenarioDef {
+function checkOptions(opts: SimOptions): ScenarioDef {
   const fail = (msg: string): never => {
     throw new StreamfenceError('ARGS_INVALID', msg);
   };
-  const name = o.scenario ?? DEFAULT_SCENARIO;
+  const name = opts.scenario ?? DEFAULT_SCENARIO;
   const def = SCENARIO_DEFS[name];
   if (def === undefined)
     fail(`unknown scenario "${name}"; choose one of ${Object.keys(SCENARIO_DEFS).join(', ')}`);
-  if (!Number.isInteger(o.seed)) fail(`seed must be a whole number, got ${o.seed}`);
-  if (!Number.isFinite(o.start) || o.start < 0) fail('start must be an epoch-ms time after 1970');
-  if (!Number.isFinite(o.durationMs) || o.durationMs <= 0 || o.durationMs > SIM_LIMITS.maxDurationMs) {
+  if (!Number.isInteger(opts.seed)) fail(`seed must be a whole number, got ${opts.seed}`);
+  if (!Number.isFinite(opts.start) || opts.start < 0) fail('start must be an epoch-ms time after 1970');
+  if (
+    !Number.isFinite(opts.durationMs) ||
+    opts.durationMs <= 0 ||
+    opts.durationMs > SIM_LIMITS.maxDurationMs
+  ) {
     fail('duration must be more than 0 and at most 400 days');
   }
-  if (!Number.isFinite(o.intervalMs) || o.intervalMs < SIM_LIMITS.minIntervalMs) {
+  if (!Number.isFinite(opts.intervalMs) || opts.intervalMs < SIM_LIMITS.minIntervalMs) {
     fail(`interval must be at least ${SIM_LIMITS.minIntervalMs} ms`);
   }
   if (
-    o.sensors !== undefined &&
-    (!Number.isInteger(o.sensors) || o.sensors < 1 || o.sensors > SIM_LIMITS.maxSensors)
+    opts.sensors !== undefined &&
+    (!Number.isInteger(opts.sensors) || opts.sensors < 1 || opts.sensors > SIM_LIMITS.maxSensors)
   ) {
     fail(`sensors must be a whole number from 1 to ${SIM_LIMITS.maxSensors}`);
   }
@@ -140,14 +144,22 @@ export class PlantSimulator {
     this.runs = [];
     this.machines = [];
     const faultsOn = opts.faults ?? true;
-    for (let u = 1; this.runs.length < count; u++) {
-      for (const m of this.def.machines) {
+    for (let unit = 1; this.runs.length < count; unit++) {
+      for (const machineTemplate of this.def.machines) {
         if (this.runs.length >= count) break;
-        const machine = this.newMachine(`${this.def.unitName}-${u}/${m.name}`, m);
-        for (const t of m.sensors) {
+        const machine = this.newMachine(
+          `${this.def.unitName}-${unit}/${machineTemplate.name}`,
+          machineTemplate,
+        );
+        for (const template of machineTemplate.sensors) {
           if (this.runs.length >= count) break;
           this.runs.push(
-            this.newSensor(`${this.def.unitName}-${u}/${m.name}/${t.name}`, t, machine, faultsOn),
+            this.newSensor(
+              `${this.def.unitName}-${unit}/${machineTemplate.name}/${template.name}`,
+              template,
+              machine,
+              faultsOn,
+            ),
           );
         }
       }
@@ -166,42 +178,52 @@ export class PlantSimulator {
       .sort((a, b) => a.start - b.start || (a.sensor < b.sensor ? -1 : a.sensor > b.sensor ? 1 : 0));
   }
 
-  private newMachine(id: string, m: MachineTemplate): MachineRun {
+  private newMachine(id: string, template: MachineTemplate): MachineRun {
     const rng = new Prng(subSeed(this.opts.seed, `load:${id}`));
-    const run = { rng, load: rng.normal(), keep: Math.exp(-this.opts.intervalMs / (m.loadTauMin * 60_000)) };
+    const run = {
+      rng,
+      load: rng.normal(),
+      keep: Math.exp(-this.opts.intervalMs / (template.loadTauMin * 60_000)),
+    };
     this.machines.push(run);
     return run;
   }
 
-  private newSensor(id: string, t: SensorTemplate, machine: MachineRun, faultsOn: boolean): SensorRun {
+  private newSensor(id: string, template: SensorTemplate, machine: MachineRun, faultsOn: boolean): SensorRun {
     const rng = new Prng(subSeed(this.opts.seed, `noise:${id}`));
-    const spread = typicalSpread(t);
+    const spread = typicalSpread(template);
     const faults = faultsOn
       ? planFaults(new Prng(subSeed(this.opts.seed, `faults:${id}`)), {
           slots: this.slots,
           intervalMs: this.opts.intervalMs,
           warmupMs: this.def.warmupMs,
-          oneSided: t.direction === 'both' ? null : t.direction,
+          oneSided: template.direction === 'both' ? null : template.direction,
         })
       : [];
     return {
-      info: { id, unit: t.unit, description: t.description, machine: id.slice(0, id.lastIndexOf('/')) },
-      t,
+      info: {
+        id,
+        unit: template.unit,
+        description: template.description,
+        machine: id.slice(0, id.lastIndexOf('/')),
+      },
+      t: template,
       machine,
       rng,
       offsetMs: 0,
       lagged: machine.load,
-      lagGain: t.loadLagMin > 0 ? 1 - Math.exp(-this.opts.intervalMs / (t.loadLagMin * 60_000)) : 1,
+      lagGain:
+        template.loadLagMin > 0 ? 1 - Math.exp(-this.opts.intervalMs / (template.loadLagMin * 60_000)) : 1,
       spread,
-      scale: 10 ** t.decimals,
+      scale: 10 ** template.decimals,
       faults,
       faultPos: 0,
-      last: t.base,
+      last: template.base,
     };
   }
 
-  private tsOf(slot: number, r: SensorRun): number {
-    return this.opts.start + slot * this.opts.intervalMs + r.offsetMs;
+  private tsOf(slot: number, run: SensorRun): number {
+    return this.opts.start + slot * this.opts.intervalMs + run.offsetMs;
   }
 
   sensors(): SensorInfo[] {
@@ -219,73 +241,75 @@ export class PlantSimulator {
     for (;;) {
       if (this.slot >= this.slots) return null;
       if (this.idx === 0) this.advanceLoads();
-      const r = this.runs[this.idx];
+      const run = this.runs[this.idx];
       const slot = this.slot;
       if (++this.idx === this.runs.length) {
         this.idx = 0;
         this.slot++;
       }
-      const ts = this.tsOf(slot, r);
-      const value = this.valueOf(r, slot, ts);
+      const ts = this.tsOf(slot, run);
+      const value = this.valueOf(run, slot, ts);
       if (value === null || ts >= end) continue;
-      return { sensor: r.info.id, ts, value };
+      return { sensor: run.info.id, ts, value };
     }
   }
 
   [Symbol.iterator](): Iterator<SimReading> {
     return {
       next: (): IteratorResult<SimReading> => {
-        const r = this.next();
-        return r === null ? { done: true, value: undefined } : { done: false, value: r };
+        const reading = this.next();
+        return reading === null ? { done: true, value: undefined } : { done: false, value: reading };
       },
     };
   }
 
   private advanceLoads(): void {
-    for (const m of this.machines) m.load = m.load * m.keep + Math.sqrt(1 - m.keep * m.keep) * m.rng.normal();
+    for (const machine of this.machines)
+      machine.load =
+        machine.load * machine.keep + Math.sqrt(1 - machine.keep * machine.keep) * machine.rng.normal();
   }
 
   /** The sensor's reading for this slot, or null during a dropout. */
-  private valueOf(r: SensorRun, slot: number, ts: number): number | null {
-    const t = r.t;
-    r.lagged += (r.machine.load - r.lagged) * r.lagGain;
+  private valueOf(run: SensorRun, slot: number, ts: number): number | null {
+    const template = run.t;
+    run.lagged += (run.machine.load - run.lagged) * run.lagGain;
     // Draw both normals every slot so a fault never shifts the random stream of later readings.
-    const noise = r.rng.normal();
-    const extra = r.rng.normal();
+    const noise = run.rng.normal();
+    const extra = run.rng.normal();
     const phase = (2 * Math.PI * (ts - this.def.dailyPeakHour * 3_600_000)) / DAY;
-    const structure = t.daily * Math.cos(phase) + t.loadGain * r.lagged;
+    const structure = template.daily * Math.cos(phase) + template.loadGain * run.lagged;
     let value =
-      t.shape === 'lognormal'
-        ? t.base * Math.exp(t.noise * noise + structure / t.base)
-        : t.base + structure + t.noise * noise;
+      template.shape === 'lognormal'
+        ? template.base * Math.exp(template.noise * noise + structure / template.base)
+        : template.base + structure + template.noise * noise;
 
-    while (r.faultPos < r.faults.length && r.faults[r.faultPos].endSlot < slot) r.faultPos++;
-    const f = r.faults[r.faultPos];
-    if (f !== undefined && f.startSlot <= slot) {
-      const push = f.sign * f.size * r.spread;
-      switch (f.kind) {
+    while (run.faultPos < run.faults.length && run.faults[run.faultPos].endSlot < slot) run.faultPos++;
+    const fault = run.faults[run.faultPos];
+    if (fault !== undefined && fault.startSlot <= slot) {
+      const push = fault.sign * fault.size * run.spread;
+      switch (fault.kind) {
         case 'spike':
         case 'step':
           value += push;
           break;
         case 'drift':
-          value += (push * (slot - f.startSlot + 1)) / (f.endSlot - f.startSlot + 1);
+          value += (push * (slot - fault.startSlot + 1)) / (fault.endSlot - fault.startSlot + 1);
           break;
         case 'noise':
           value +=
-            f.sign > 0 && t.direction === 'high'
-              ? Math.abs(extra) * f.size * r.spread
-              : extra * f.size * r.spread;
+            fault.sign > 0 && template.direction === 'high'
+              ? Math.abs(extra) * fault.size * run.spread
+              : extra * fault.size * run.spread;
           break;
         case 'stuck':
-          return r.last;
+          return run.last;
         case 'dropout':
           return null;
       }
     }
-    if (t.shape === 'lognormal' && value < 0) value = 0;
-    const rounded = Math.round(value * r.scale) / r.scale;
-    r.last = rounded;
+    if (template.shape === 'lognormal' && value < 0) value = 0;
+    const rounded = Math.round(value * run.scale) / run.scale;
+    run.last = rounded;
     return rounded;
   }
 }
@@ -304,12 +328,12 @@ export function suggestedConfig(scenario: string): unknown {
     );
   }
   const sensors: Record<string, unknown>[] = [];
-  for (const m of def.machines) {
-    for (const t of m.sensors) {
-      const entry: Record<string, unknown> = { match: `${def.unitName}-*/${m.name}/${t.name}` };
-      if (t.direction !== 'both') entry.direction = t.direction;
-      if (t.min !== null) entry.min = t.min;
-      if (t.max !== null) entry.max = t.max;
+  for (const machine of def.machines) {
+    for (const template of machine.sensors) {
+      const entry: Record<string, unknown> = { match: `${def.unitName}-*/${machine.name}/${template.name}` };
+      if (template.direction !== 'both') entry.direction = template.direction;
+      if (template.min !== null) entry.min = template.min;
+      if (template.max !== null) entry.max = template.max;
       if (Object.keys(entry).length > 1) sensors.push(entry);
     }
   }

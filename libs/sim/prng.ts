@@ -30,9 +30,9 @@ export class Prng {
   /** Standard normal (Box-Muller; the second value of each pair is kept for the next call). */
   normal(): number {
     if (this.spare !== null) {
-      const s = this.spare;
+      const spare = this.spare;
       this.spare = null;
-      return s;
+      return spare;
     }
     let u = 0;
     while (u === 0) u = this.next();
@@ -44,7 +44,7 @@ export class Prng {
 
   pick<T>(items: readonly T[], weights: readonly number[]): T {
     let total = 0;
-    for (const w of weights) total += w;
+    for (const weight of weights) total += weight;
     let x = this.next() * total;
     for (let i = 0; i < items.length; i++) {
       x -= weights[i];

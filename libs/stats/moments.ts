@@ -15,28 +15,32 @@ export function emptyMoments(): Moments {
 }
 
 /** Welford's update, in place. */
-export function addValue(m: Moments, x: number): void {
-  m.n += 1;
-  const d = x - m.mean;
-  m.mean += d / m.n;
-  m.m2 += d * (x - m.mean);
+export function addValue(moments: Moments, x: number): void {
+  moments.n += 1;
+  const delta = x - moments.mean;
+  moments.mean += delta / moments.n;
+  moments.m2 += delta * (x - moments.mean);
 }
 
 /** Chan et al. pairwise merge; returns a new summary and leaves the inputs untouched. */
-export function mergeMoments(a: Moments, b: Moments): Moments {
-  if (a.n === 0) return { ...b };
-  if (b.n === 0) return { ...a };
-  const n = a.n + b.n;
-  const d = b.mean - a.mean;
-  return { n, mean: a.mean + (d * b.n) / n, m2: a.m2 + b.m2 + (d * d * a.n * b.n) / n };
+export function mergeMoments(left: Moments, right: Moments): Moments {
+  if (left.n === 0) return { ...right };
+  if (right.n === 0) return { ...left };
+  const n = left.n + right.n;
+  const delta = right.mean - left.mean;
+  return {
+    n,
+    mean: left.mean + (delta * right.n) / n,
+    m2: left.m2 + right.m2 + (delta * delta * left.n * right.n) / n,
+  };
 }
 
 /** Sample variance (n - 1 in the denominator); 0 when fewer than two values. */
-export function sampleVariance(m: Moments): number {
-  return m.n < 2 ? 0 : Math.max(0, m.m2 / (m.n - 1));
+export function sampleVariance(moments: Moments): number {
+  return moments.n < 2 ? 0 : Math.max(0, moments.m2 / (moments.n - 1));
 }
 
 /** Sample standard deviation (n − 1 denominator); 0 for fewer than two values. */
-export function sampleStdDev(m: Moments): number {
-  return Math.sqrt(sampleVariance(m));
+export function sampleStdDev(moments: Moments): number {
+  return Math.sqrt(sampleVariance(moments));
 }

@@ -46,3 +46,39 @@ export function exactRank(sorted: ArrayLike<number>, x: number): number {
   }
   return (below + (lo - below) / 2) / n;
 }
+
+/**
+ * Quantile accuracy measure used by the audit, the tests and the bench: how far p lies outside the
+ * rank range of the estimate x in sorted data, [share below x, share at or below x]; positive when x
+ * ranks above p, negative when below, 0 inside. With `ties` (data with many equal values), an x
+ * between two data values gets the rank range of the values either side, since any point between
+ * them is an equally good quantile of the data (and a stored mean a rounding step off a repeated
+ * value must not count as a whole tie group off).
+ */
+export function rankRangeError(sorted: ArrayLike<number>, x: number, p: number, ties = false): number {
+  const n = sorted.length;
+  let lo = 0;
+  let hi = n;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (sorted[mid] < x) lo = mid + 1;
+    else hi = mid;
+  }
+  let below = lo;
+  hi = n;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (sorted[mid] <= x) lo = mid + 1;
+    else hi = mid;
+  }
+  let atOrBelow = lo;
+  if (ties && below === atOrBelow) {
+    const left = below > 0 ? sorted[below - 1] : x;
+    const right = atOrBelow < n ? sorted[atOrBelow] : x;
+    while (below > 0 && sorted[below - 1] === left) below--;
+    while (atOrBelow < n && sorted[atOrBelow] === right) atOrBelow++;
+  }
+  const from = below / n;
+  const to = atOrBelow / n;
+  return p < from ? from - p : p > to ? -(p - to) : 0;
+}

@@ -11,10 +11,10 @@ import type { GridPoint } from './grid.js';
 export function applyPoint(base: EngineConfig, p: GridPoint): EngineConfig {
   const tuned = p as unknown as Partial<SensorSettings>;
   const keys = Object.keys(p) as (keyof SensorSettings)[];
-  const sensors = base.sensors.map((r) => {
-    const overrides: Partial<SensorSettings> = { ...r.overrides };
+  const sensors = base.sensors.map((rule) => {
+    const overrides: Partial<SensorSettings> = { ...rule.overrides };
     for (const k of keys) if (k in overrides) (overrides as Record<string, unknown>)[k] = tuned[k];
-    return { match: r.match, overrides };
+    return { match: rule.match, overrides };
   });
   const cfg: EngineConfig = { defaults: { ...base.defaults, ...tuned }, sensors };
   // Round-trip through validation so a result that replay/run would refuse never leaves here.

@@ -1,14 +1,32 @@
 /**
- * Readings held as columns (sensor index, ts, value) instead of objects: compact, and the typed
- * arrays can sit on SharedArrayBuffers so tuning workers read one copy of the data.
+ * Readings held as columns (sensor index, ts, value, quality) instead of objects: compact, and
+ * the typed arrays can sit on SharedArrayBuffers so tuning workers read one copy of the data.
  */
+import type { DoubtfulQuality, Reading } from '../engine/reading.js';
+
+/** Readings as columns: reading i is (names[sensor[i]], ts[i], value[i], quality[i]). */
 export interface ReadingColumns {
   /** Sensor ids; `sensor[i]` indexes this table. */
   names: string[];
   sensor: Uint32Array;
   ts: Float64Array;
   value: Float64Array;
+  /** QUALITY_CODES: 0 good, 1 uncertain, 2 bad. */
+  quality: Uint8Array;
   count: number;
+}
+
+/** A reading's quality as a column code; index 0 (good) is a reading without a quality. */
+const QUALITY_CODE: Readonly<Record<DoubtfulQuality, number>> = { uncertain: 1, bad: 2 };
+const QUALITY_OF_CODE: readonly (DoubtfulQuality | undefined)[] = [undefined, 'uncertain', 'bad'];
+
+/** Reading i of the columns, as the engine takes it. */
+export function readingAt(c: ReadingColumns, i: number): Reading {
+  const quality = QUALITY_OF_CODE[c.quality[i]];
+  const sensor = c.names[c.sensor[i]];
+  return quality === undefined
+    ? { sensor, ts: c.ts[i], value: c.value[i] }
+    : { sensor, ts: c.ts[i], value: c.value[i], quality };
 }
 
 /** Grows typed arrays by doubling while readings are appended; `finish` copies them to shared memory. */
@@ -18,9 +36,10 @@ export class ColumnBuilder {
   private sensor = new Uint32Array(1024);
   private ts = new Float64Array(1024);
   private value = new Float64Array(1024);
+  private quality = new Uint8Array(1024);
   count = 0;
 
-  add(sensor: string, ts: number, value: number): void {
+  add(sensor: string, ts: number, value: number, quality?: DoubtfulQuality): void {
     let id = this.index.get(sensor);
     if (id === undefined) {
       id = this.names.length;
@@ -31,6 +50,7 @@ export class ColumnBuilder {
     this.sensor[this.count] = id;
     this.ts[this.count] = ts;
     this.value[this.count] = value;
+    this.quality[this.count] = quality === undefined ? 0 : QUALITY_CODE[quality];
     this.count++;
   }
 
@@ -42,9 +62,12 @@ export class ColumnBuilder {
     t.set(this.ts);
     const v = new Float64Array(n);
     v.set(this.value);
+    const q = new Uint8Array(n);
+    q.set(this.quality);
     this.sensor = s;
     this.ts = t;
     this.value = v;
+    this.quality = q;
   }
 
   /** The columns, each on a SharedArrayBuffer of exactly `count` entries. */
@@ -56,7 +79,9 @@ export class ColumnBuilder {
     ts.set(this.ts.subarray(0, n));
     const value = new Float64Array(new SharedArrayBuffer(Math.max(1, n) * 8), 0, n);
     value.set(this.value.subarray(0, n));
-    return { names: [...this.names], sensor, ts, value, count: n };
+    const quality = new Uint8Array(new SharedArrayBuffer(Math.max(1, n)), 0, n);
+    quality.set(this.quality.subarray(0, n));
+    return { names: [...this.names], sensor, ts, value, quality, count: n };
   }
 }
 

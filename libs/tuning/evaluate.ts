@@ -7,16 +7,21 @@ import type { EngineConfig } from '../config/config.js';
 import { Engine } from '../engine/engine.js';
 import { score, type RaisedAlert, type Score, type ScoreOptions } from '../scoring/score.js';
 import type { Incident } from '../scoring/labels.js';
-import type { ReadingColumns } from './columns.js';
+import { readingAt, type ReadingColumns } from './columns.js';
 
-/** Raised alerts (sensor, reading ts) of a replay of the columns in their order. */
+/**
+ * Raised alerts (sensor, event time) of a replay of the columns in their order. The event's own
+ * sensor and time count: a reading can raise an alert for another sensor (one gone silent).
+ */
 export function replayRaised(cfg: EngineConfig, c: ReadingColumns): RaisedAlert[] {
   const engine = new Engine(cfg);
   const out: RaisedAlert[] = [];
   for (let i = 0; i < c.count; i++) {
-    const r = { sensor: c.names[c.sensor[i]], ts: c.ts[i], value: c.value[i] };
-    const o = engine.process(r);
-    for (const e of o.events) if (e.state === 'raised') out.push({ sensor: r.sensor, ts: r.ts });
+    const o = engine.process(readingAt(c, i));
+    for (const e of o.events) {
+      if (e.state !== 'raised') continue;
+      out.push({ sensor: e.sensor, ts: Date.parse(e.ts) });
+    }
   }
   return out;
 }

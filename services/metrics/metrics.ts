@@ -23,6 +23,8 @@ export interface EngineMetrics {
   readings: Counter<'outcome'>;
   /** reason = one of the reading reject reasons (REJECT_REASONS) */
   rejected: Counter<'reason'>;
+  /** quality = good | uncertain | bad: accepted readings by quality (only good ones are judged) */
+  readingQuality: Counter<'quality'>;
   /** state = raised | updated | cleared, severity = warning | critical */
   alerts: Counter<'state' | 'severity'>;
   activeAlerts: Gauge;
@@ -67,6 +69,12 @@ export function createEngineMetrics(registry: Registry): EngineMetrics {
       labelNames: ['reason'],
       registers,
     }),
+    readingQuality: new Counter({
+      name: 'streamfence_reading_quality_total',
+      help: 'Accepted readings by quality (good, uncertain, bad); only good readings are judged and learned.',
+      labelNames: ['quality'],
+      registers,
+    }),
     alerts: new Counter({
       name: 'streamfence_alerts_total',
       help: 'Alert events emitted, by lifecycle state and severity.',
@@ -98,6 +106,7 @@ export function countOutcome(metrics: EngineMetrics, outcome: ProcessOutcome): v
     return;
   }
   metrics.readings.inc({ outcome: 'accepted' });
+  metrics.readingQuality.inc({ quality: outcome.quality });
   for (const event of outcome.events) metrics.alerts.inc({ state: event.state, severity: event.severity });
 }
 

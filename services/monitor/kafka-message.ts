@@ -46,7 +46,7 @@ export function parseMessage(key: Buffer | null, value: Buffer | null): ParseRes
     };
   }
   const fields = scanReadingObject(text);
-  if (fields !== null) return validateFields(keyText, fields.ts, fields.value);
+  if (fields !== null) return validateFields(keyText, fields.ts, fields.value, false, fields.quality);
   let obj: unknown;
   try {
     obj = JSON.parse(text);
@@ -61,7 +61,7 @@ export function parseMessage(key: Buffer | null, value: Buffer | null): ParseRes
     };
   }
   const o = obj as Record<string, unknown>;
-  return validateFields(keyText, o.ts, o.value);
+  return validateFields(keyText, o.ts, o.value, false, o.quality);
 }
 
 export function rejectionRecord(

@@ -349,6 +349,7 @@ export class Monitor {
     const now = Date.now();
     let accepted = 0;
     let rejected = 0;
+    const doubtful = { uncertain: 0, bad: 0 };
     let since = 0;
     // Resolved once per slice, not per message: it only tells kafkajs where to fetch next.
     let lastOffset: string | null = null;
@@ -368,11 +369,14 @@ export class Monitor {
           rejected++;
         } else {
           accepted++;
+          if (out.quality !== 'good') doubtful[out.quality]++;
           w.dirty.add(res.reading.sensor);
           // Sampled 1 in 16: the distribution, not every reading, is what the histogram is for.
           if ((accepted & 15) === 1)
             this.metrics.eventDelay.observe(Math.max(0, now - res.reading.ts) / 1000);
           for (const e of out.events) {
+            // A reading can raise another sensor's alert (one gone silent): that state changed too.
+            w.dirty.add(e.sensor);
             this.outbox.alerts.push({ key: e.sensor, value: JSON.stringify(e) });
             this.metrics.alerts.inc({ state: e.state, severity: e.severity });
           }
@@ -390,7 +394,13 @@ export class Monitor {
       }
     }
     if (lastOffset !== null) resolveOffset(lastOffset);
-    if (accepted) this.metrics.readings.inc({ outcome: 'accepted' }, accepted);
+    if (accepted) {
+      this.metrics.readings.inc({ outcome: 'accepted' }, accepted);
+      const good = accepted - doubtful.uncertain - doubtful.bad;
+      if (good) this.metrics.readingQuality.inc({ quality: 'good' }, good);
+      if (doubtful.uncertain) this.metrics.readingQuality.inc({ quality: 'uncertain' }, doubtful.uncertain);
+      if (doubtful.bad) this.metrics.readingQuality.inc({ quality: 'bad' }, doubtful.bad);
+    }
     if (rejected) this.metrics.readings.inc({ outcome: 'rejected' }, rejected);
     this.flush();
     if (this.unsent > MAX_UNSENT) await this.flushed();

@@ -124,6 +124,7 @@ export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
     engineVersion: ENGINE_VERSION,
     input: typeof opts.inputInfo === 'function' ? opts.inputInfo() : opts.inputInfo,
     readings: c.readings,
+    quality: { good: c.quality.good, uncertain: c.quality.uncertain, bad: c.quality.bad },
     rejected: { total, byReason: sortedCounts(byReason) },
     sensors: engine.sensorCount,
     evaluated: c.evaluated,

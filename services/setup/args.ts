@@ -243,3 +243,19 @@ export function warnNoEffect(
     `streamfence ${cmd}: warning: ${list} ${given.length === 1 ? 'has' : 'have'} no effect ${why}\n`,
   );
 }
+
+/** The help lines naming each option's environment variable (a flag wins over its variable). */
+export function envHelp(envOf: Record<string, string>): string {
+  const items = Object.entries(envOf).map(([name, variable]) => `--${name} ${variable}`);
+  const lines: string[] = [];
+  let line = '';
+  for (const item of items) {
+    const next = line === '' ? item : `${line}, ${item}`;
+    if (next.length > 96 && line !== '') {
+      lines.push(`${line},`);
+      line = item;
+    } else line = next;
+  }
+  if (line !== '') lines.push(line);
+  return `\nEnvironment (a flag wins over its variable):\n${lines.map((l) => `  ${l}`).join('\n')}\n`;
+}

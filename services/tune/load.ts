@@ -33,7 +33,7 @@ export async function loadColumns(
   for await (const batch of readInput(path, fmt, stats)) {
     for (const rec of batch) {
       const r = rec.result;
-      if (r.ok) b.add(r.reading.sensor, r.reading.ts, r.reading.value);
+      if (r.ok) b.add(r.reading.sensor, r.reading.ts, r.reading.value, r.reading.quality);
       else {
         rejected[r.reason] = (rejected[r.reason] ?? 0) + 1;
         firstReject ??= { line: rec.line, reason: r.reason, detail: r.detail };

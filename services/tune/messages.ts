@@ -8,6 +8,7 @@ export interface WorkerInit {
   sensor: Uint32Array;
   ts: Float64Array;
   value: Float64Array;
+  quality: Uint8Array;
   count: number;
   /** Base config as configToJson output (plain JSON crosses the thread boundary cleanly). */
   baseConfig: Record<string, unknown>;

@@ -63,6 +63,7 @@ export async function runGrid(
     sensor: cols.sensor,
     ts: cols.ts,
     value: cols.value,
+    quality: cols.quality,
     count: cols.count,
     baseConfig: configToJson(base),
     incidents: [...incidents],

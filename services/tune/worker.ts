@@ -11,7 +11,14 @@ import type { FromWorker, ToWorker, WorkerInit } from './messages.js';
 
 const init = workerData as WorkerInit;
 const base = validateConfig(init.baseConfig, 'base config');
-const columns = { names: init.names, sensor: init.sensor, ts: init.ts, value: init.value, count: init.count };
+const columns = {
+  names: init.names,
+  sensor: init.sensor,
+  ts: init.ts,
+  value: init.value,
+  quality: init.quality,
+  count: init.count,
+};
 
 parentPort!.on('message', (msg: ToWorker) => {
   if (msg.type === 'stop') {

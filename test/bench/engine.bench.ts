@@ -1,5 +1,5 @@
 /**
- * Engine benchmark and sketch-size sweep. All figures come from one run, against raw baselines
+ * Engine benchmark (the sketch design sweep is quartile-accuracy.bench.ts). All figures come from one run, against raw baselines
  * measured in the same run on the same pre-generated values:
  * - bare `tdigest` push rate (new TDigest(0.05), the package default K = 25, and K = 0, the
  *   engine's setting with automatic compression off) vs the engine's `process` rate on one
@@ -7,21 +7,17 @@
  * - 10,000 sensors with default settings after a full window (1,000 readings each over 26 h):
  *   serialised state bytes per sensor, heap bytes per sensor (needs node --expose-gc), and the
  *   quartile rank error of their baselines (sampled sensors, against the exact closed-bucket data);
- * - a sweep of closedDelta / baselineDelta and bucket counts on a 1 reading/s sensor (and the
- *   leading settings at 5 and about 21 readings/s): serialised bytes and the worst quartile rank
- *   error over every baseline formed.
  */
 import tdigest from 'tdigest';
 import { validateConfig } from '../../libs/config/config.js';
 import { Engine } from '../../libs/engine/engine.js';
 import { SKETCH } from '../../libs/engine/sketch-params.js';
-import { SensorWindow } from '../../libs/engine/window.js';
+import type { SensorWindow } from '../../libs/engine/window.js';
 import { exactRank } from '../../libs/stats/quantiles.js';
 import { Rng } from '../unit/stats/random.js';
 
 const HOUR = 3_600_000;
 const T0 = Date.UTC(2026, 0, 5);
-const mutableSketch = SKETCH as unknown as Record<keyof typeof SKETCH, number>;
 
 export function normals(n: number, seed: number): Float64Array {
   const r = new Rng(seed);
@@ -149,95 +145,9 @@ export function fleet(sensors: number, perSensor: number): Record<string, unknow
   };
 }
 
-/** One sensor at `perHour` readings for 26 h; worst quartile rank error over every baseline formed. */
-export function sweepOne(perHour: number, buckets: number, seed = 5): Record<string, number> {
-  const w = new SensorWindow(24 * HOUR, buckets);
-  const r = new Rng(seed);
-  const n = Math.round(26 * perHour);
-  const step = HOUR / perHour;
-  const byBucket = new Map<number, number[]>();
-  let last: unknown = null;
-  let worst = 0;
-  let sum = 0;
-  let count = 0;
-  for (let i = 0; i < n; i++) {
-    const ts = Math.round(T0 + i * step);
-    const v = r.normal();
-    w.advance(ts);
-    const b = w.baseline();
-    if (b !== null && b !== last) {
-      last = b;
-      for (const e of quartileErrors(w, byBucket)) {
-        worst = Math.max(worst, e);
-        sum += e;
-        count++;
-      }
-    }
-    w.add(ts, v);
-    const idx = Math.floor(ts / w.bucketMs);
-    let a = byBucket.get(idx);
-    if (!a) byBucket.set(idx, (a = []));
-    a.push(v);
-  }
-  // Serialised size of the same state, through the engine's encoder.
-  const e = new Engine(validateConfig({ defaults: { buckets } }));
-  const r2 = new Rng(seed);
-  for (let i = 0; i < n; i++) e.process({ sensor: 's', ts: Math.round(T0 + i * step), value: r2.normal() });
-  return {
-    bytes: e.encode('s')!.length,
-    baselineCentroids: e.get('s')!.window.baseline()!.digest.size,
-    rankErrWorst: +worst.toFixed(5),
-    rankErrMean: +(sum / count).toFixed(5),
-  };
-}
-
-export function sweep(
-  grid: { closedDelta: number; baselineDelta: number }[],
-  bucketsList: number[],
-  rates: number[],
-): Record<string, unknown>[] {
-  const saved = { ...SKETCH };
-  const rows: Record<string, unknown>[] = [];
-  try {
-    for (const g of grid) {
-      for (const buckets of bucketsList) {
-        mutableSketch.closedDelta = g.closedDelta;
-        mutableSketch.baselineDelta = g.baselineDelta;
-        const row: Record<string, unknown> = { ...g, buckets };
-        for (const perHour of rates) row[`${perHour}/h`] = sweepOne(perHour, buckets);
-        rows.push(row);
-      }
-    }
-  } finally {
-    Object.assign(mutableSketch, saved);
-  }
-  return rows;
-}
-
 export async function run(): Promise<Record<string, unknown>> {
   const out: Record<string, unknown> = { sketch: { ...SKETCH } };
   out.throughput = throughput(normals(1_000_000, 42));
   out.fleet10k = fleet(10_000, 1_000);
-  out.sweep = sweep(
-    [
-      { closedDelta: 0.05, baselineDelta: 0.05 },
-      { closedDelta: 0.05, baselineDelta: 0.02 },
-      { closedDelta: 0.02, baselineDelta: 0.02 },
-      { closedDelta: 0.07, baselineDelta: 0.07 },
-      { closedDelta: 0.1, baselineDelta: 0.1 },
-      { closedDelta: 0.1, baselineDelta: 0.05 },
-    ],
-    [6, 8, 12, 24],
-    [3600],
-  );
-  out.sweepHighRate = sweep(
-    [
-      { closedDelta: 0.05, baselineDelta: 0.05 },
-      { closedDelta: 0.07, baselineDelta: 0.07 },
-      { closedDelta: 0.1, baselineDelta: 0.1 },
-    ],
-    [12],
-    [18000, 77000],
-  );
   return out;
 }

@@ -9,6 +9,7 @@ import {
   numberOption,
   parseCommandArgs,
   printBanner,
+  envHelp,
   printHelp,
   optionLabel,
   parseTimeValue,
@@ -111,7 +112,7 @@ export async function main(argv: string[]): Promise<number> {
     true,
     OPTION_ENV,
   );
-  if (args.help) return printHelp(HELP);
+  if (args.help) return printHelp(HELP + envHelp(OPTION_ENV));
   if (args.positionals.length === 0)
     usageError('give the readings file to replay, e.g. streamfence replay readings.ndjson', CMD);
   if (args.positionals.length > 1)

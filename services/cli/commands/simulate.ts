@@ -28,6 +28,7 @@ import {
   parseNumber,
   parseTimeValue,
   printBanner,
+  envHelp,
   printHelp,
   stringOption,
   usageError,
@@ -135,7 +136,7 @@ export async function main(argv: string[]): Promise<number> {
     false,
     OPTION_ENV,
   );
-  if (args.help) return printHelp(HELP);
+  if (args.help) return printHelp(HELP + envHelp(OPTION_ENV));
   if (args.values.list === true) {
     process.stdout.write(listScenarios());
     return 0;

@@ -14,6 +14,7 @@ import {
   parseCommandArgs,
   parseNumber,
   printBanner,
+  envHelp,
   printHelp,
   stringOption,
   usageError,
@@ -27,7 +28,8 @@ Replay labelled history with every combination of a grid of settings, score each
 the one that catches the most labelled incidents within an alert-rate budget.
 
 INPUT             readings file (NDJSON or CSV, optionally .gz), read once
-  --labels FILE     incidents as CSV with header sensor,start,end[,kind]; ISO-8601 times
+  --labels FILE     incidents as CSV with header sensor,start,end[,kind]; reading times, ISO-8601
+                    with a zone
   --out DIR         writes tuning.json, tuning.csv, recommended.json (and report.html when available)
   --config FILE     base config (YAML or JSON); default: built-in defaults
   --grid SPEC       settings to try (default: ${DEFAULT_GRID_SPEC})
@@ -71,7 +73,7 @@ export const OPTION_ENV: Record<keyof typeof OPTIONS, string> = {
 
 export async function main(argv: string[]): Promise<number> {
   const args = parseCommandArgs(CMD, argv, OPTIONS, true, OPTION_ENV);
-  if (args.help) return printHelp(HELP);
+  if (args.help) return printHelp(HELP + envHelp(OPTION_ENV));
   if (args.positionals.length !== 1)
     usageError(
       'give one readings file, e.g. streamfence tune data.ndjson --labels labels.csv --out tuning',

@@ -1,7 +1,7 @@
 /**
  * The reading-object fast path (libs/engine/reading-scan.ts) against JSON.parse (ECMA-262
  * JSON.parse, RFC 8259 grammar) as the reference: whenever the scan answers, its three fields are
- * exactly (Object.is) what JSON.parse gives, and parseJsonReading gives the same result and detail
+ * exactly (Object.is) what JSON.parse gives (the optional "quality" included), and parseJsonReading gives the same result and detail
  * as JSON.parse followed by the field validation, over random reading-like lines, their edits and
  * arbitrary JSON.
  */
@@ -26,7 +26,7 @@ function referenceParse(line: string): ParseResult {
     };
   }
   const o = obj as Record<string, unknown>;
-  return validateFields(o.sensor, o.ts, o.value);
+  return validateFields(o.sensor, o.ts, o.value, false, o.quality);
 }
 
 const fieldValue = fc.oneof(
@@ -36,6 +36,10 @@ const fieldValue = fc.oneof(
     '2026-05-01T08:00:00Z',
     '2026-05-01 08:00:00.5+02:00',
     'mill-1/speed',
+    'good',
+    'uncertain',
+    'bad',
+    'Bad',
     'a\\"b',
     '\u0085x',
     '',
@@ -48,7 +52,7 @@ const fieldValue = fc.oneof(
   fc.array(fc.integer(), { maxLength: 2 }),
 );
 
-/** A reading-like object: any subset of the three keys, sometimes another key, in random order. */
+/** A reading-like object: any subset of the four keys, sometimes another key, in random order. */
 const readingLike = fc
   .tuple(
     fc.record(
@@ -56,6 +60,7 @@ const readingLike = fc
         sensor: fieldValue,
         ts: fieldValue,
         value: fieldValue,
+        quality: fieldValue,
         other: fieldValue,
       },
       { requiredKeys: [] },
@@ -98,8 +103,10 @@ describe('reading-object fast path', () => {
         const scanned = scanReadingObject(line);
         if (scanned === null) return;
         const parsed = JSON.parse(line) as Record<string, unknown>;
-        expect(Object.keys(parsed).every((k) => k === 'sensor' || k === 'ts' || k === 'value')).toBe(true);
-        for (const k of ['sensor', 'ts', 'value'] as const)
+        expect(
+          Object.keys(parsed).every((k) => k === 'sensor' || k === 'ts' || k === 'value' || k === 'quality'),
+        ).toBe(true);
+        for (const k of ['sensor', 'ts', 'value', 'quality'] as const)
           expect(Object.is(scanned[k], parsed[k])).toBe(true);
       }),
       { numRuns: 30_000 },
@@ -124,6 +131,7 @@ describe('reading-object fast path', () => {
       '{"sensor":"pump-1/flow","ts":"2026-05-01T08:00:00.000Z","value":12.5}',
       '{"ts": 1767225600000, "value": -0.25, "sensor": "pump-1/flow"}',
       '{"sensor":"pump-1/flow","ts":"2026-05-01T08:00:00Z","value":1e-3}',
+      '{"sensor":"pump-1/flow","ts":"2026-05-01T08:00:00Z","value":4.5,"quality":"uncertain"}',
     ]) {
       expect(scanReadingObject(line)).not.toBeNull();
       expect(parseJsonReading(line)).toEqual(referenceParse(line));
@@ -134,6 +142,7 @@ describe('reading-object fast path', () => {
       '{"sensor":"a","ts":1,"value":01}',
       ' {"sensor":"a","ts":1,"value":1}',
       '{"sensor":"a","ts":1,"value":true}',
+      '{"sensor":"a","ts":1,"value":1,"quality":"bad","quality":"good"}',
     ]) {
       expect(scanReadingObject(line)).toBeNull();
     }

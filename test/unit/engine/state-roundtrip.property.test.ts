@@ -21,7 +21,14 @@ const configArb = fc.record({
   minSamples: fc.integer({ min: 2, max: 20 }),
   trigger: fc.constantFrom('fence', 'z', 'either', 'both'),
   direction: fc.constantFrom('both', 'high', 'low'),
+  badQualityAfter: fc.constantFrom(0, 1, 3),
 });
+
+/** Mostly good readings (no field), runs of doubtful ones now and then. */
+const qualityArb = fc.oneof(
+  { weight: 12, arbitrary: fc.constant(undefined) },
+  { weight: 1, arbitrary: fc.constantFrom('uncertain' as const, 'bad' as const) },
+);
 
 const valueArb = fc.oneof(
   { weight: 6, arbitrary: fc.integer({ min: 40, max: 60 }) },
@@ -37,16 +44,18 @@ const stepArb = fc.oneof(
 );
 
 const streamArb = fc
-  .array(fc.tuple(fc.integer({ min: 0, max: SENSORS.length - 1 }), stepArb, valueArb), {
+  .array(fc.tuple(fc.integer({ min: 0, max: SENSORS.length - 1 }), stepArb, valueArb, qualityArb), {
     minLength: 150,
     maxLength: 600,
     size: 'max',
   })
   .map((rows) => {
     let ts = T0;
-    return rows.map(([s, d, value]): Reading => {
+    return rows.map(([s, d, value, quality]): Reading => {
       ts = Math.max(0, ts + d);
-      return { sensor: SENSORS[s], ts, value };
+      return quality === undefined
+        ? { sensor: SENSORS[s], ts, value }
+        : { sensor: SENSORS[s], ts, value, quality };
     });
   });
 

@@ -2,7 +2,7 @@ import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { LineSplitter, isBlank } from '../../../libs/formats/lines.js';
 import { parseCsvHeader, parseCsvReading, splitCsvLine } from '../../../libs/formats/csv.js';
-import { LIMITS } from '../../../libs/engine/reading.js';
+import { LIMITS, parseJsonReading } from '../../../libs/engine/reading.js';
 
 function splitAll(chunks: string[], max = 1000): { line: string; no: number; len: number }[] {
   const out: { line: string; no: number; len: number }[] = [];
@@ -89,7 +89,7 @@ describe('CSV fields', () => {
 
   it('finds the required columns in any order, ignoring case, spaces and extra columns', () => {
     const h = parseCsvHeader(' Value ,unit,TS,sensor,note');
-    expect(h).toEqual({ ok: true, columns: { sensor: 3, ts: 2, value: 0, needed: 4 } });
+    expect(h).toEqual({ ok: true, columns: { sensor: 3, ts: 2, value: 0, quality: -1, needed: 4 } });
     const bad = parseCsvHeader('sensor,time,value');
     expect(bad.ok).toBe(false);
     if (!bad.ok) expect(bad.message).toContain('missing: ts');
@@ -121,5 +121,64 @@ describe('CSV fields', () => {
       ok: false,
       reason: 'line_too_long',
     });
+  });
+  it('reads an optional quality column: blank or absent is good, good/uncertain/bad, anything else a reject', () => {
+    const h = parseCsvHeader('sensor,ts,value,Quality');
+    if (!h.ok) throw new Error('header');
+    const c = h.columns;
+    expect(c.quality).toBe(3);
+    const ts = Date.parse('2026-01-01T00:00:00Z');
+    expect(parseCsvReading('a,2026-01-01T00:00:00Z,1,good', c)).toEqual({
+      ok: true,
+      reading: { sensor: 'a', ts, value: 1 },
+    });
+    expect(parseCsvReading('a,2026-01-01T00:00:00Z,1,', c)).toEqual({
+      ok: true,
+      reading: { sensor: 'a', ts, value: 1 },
+    });
+    expect(parseCsvReading('a,2026-01-01T00:00:00Z,1', c)).toEqual({
+      ok: true,
+      reading: { sensor: 'a', ts, value: 1 },
+    });
+    expect(parseCsvReading('a,2026-01-01T00:00:00Z,1, bad ', c)).toEqual({
+      ok: true,
+      reading: { sensor: 'a', ts, value: 1, quality: 'bad' },
+    });
+    expect(parseCsvReading('a,2026-01-01T00:00:00Z,1,uncertain', c)).toEqual({
+      ok: true,
+      reading: { sensor: 'a', ts, value: 1, quality: 'uncertain' },
+    });
+    expect(parseCsvReading('a,2026-01-01T00:00:00Z,1,BAD', c)).toMatchObject({
+      ok: false,
+      reason: 'quality_invalid',
+    });
+    expect(parseCsvReading('a,2026-01-01T00:00:00Z,1,192', c)).toMatchObject({
+      ok: false,
+      reason: 'quality_invalid',
+    });
+  });
+
+  it('NDJSON quality: absent or "good" is good, "uncertain"/"bad" kept, anything else a reject', () => {
+    const ts = Date.parse('2026-01-01T00:00:00Z');
+    const line = (q: string) => `{"sensor":"a","ts":"2026-01-01T00:00:00Z","value":1${q}}`;
+    expect(parseJsonReading(line(''))).toEqual({ ok: true, reading: { sensor: 'a', ts, value: 1 } });
+    expect(parseJsonReading(line(',"quality":"good"'))).toEqual({
+      ok: true,
+      reading: { sensor: 'a', ts, value: 1 },
+    });
+    expect(parseJsonReading(line(',"quality":"bad"'))).toEqual({
+      ok: true,
+      reading: { sensor: 'a', ts, value: 1, quality: 'bad' },
+    });
+    // The JSON.parse path (an escape defeats the fast scan) gives the same.
+    expect(parseJsonReading(line(',"quality":"\u0062ad"'))).toEqual({
+      ok: true,
+      reading: { sensor: 'a', ts, value: 1, quality: 'bad' },
+    });
+    for (const q of [',"quality":"Good"', ',"quality":null', ',"quality":0', ',"quality":" bad"']) {
+      const r = parseJsonReading(line(q));
+      expect(r).toMatchObject({ ok: false, reason: 'quality_invalid' });
+      if (!r.ok) expect(r.detail).toContain('"good", "uncertain" or "bad"');
+    }
   });
 });

@@ -58,6 +58,7 @@ describe('runReplay', () => {
       `{"sensor":"x","ts":-5,"value":1}`, // 15 ts_out_of_range
       `{"sensor":"ok/a","ts":"2026-04-01T00:00:00Z","value":1}`, // 16 late (36 h before ok/a's newest)
       `{"sensor":"ok/b","ts":"2026-04-02T12:00:00Z","value":1}`, // 17 sensor_limit (limit 1: ok/a holds it)
+      `{"sensor":"x","ts":${t(1)},"value":1,"quality":"questionable"}`, // 18 quality_invalid
     ];
     const p = join(dir, 'rejects.ndjson');
     writeFileSync(p, lines.join('\n') + '\n');
@@ -79,6 +80,7 @@ describe('runReplay', () => {
       ts_invalid: 14,
       late: 16,
       sensor_limit: 17,
+      quality_invalid: 18,
     });
     for (const r of rej) {
       expect(Object.keys(r)).toEqual(['line', 'raw', 'reason', 'detail']);
@@ -91,6 +93,68 @@ describe('runReplay', () => {
     expect(s.rejected.total).toBe(REJECT_REASONS.length);
     expect(Object.keys(s.rejected.byReason)).toEqual([...REJECT_REASONS].sort());
     expect(JSON.parse(read(out, REPLAY_FILES.summary))).toEqual(JSON.parse(JSON.stringify(s)));
+  });
+
+  it('counts readings by quality, judges only good ones, and reads the quality from NDJSON and CSV alike', async () => {
+    const rows: { ts: string; value: number; quality?: string }[] = [];
+    const start = Date.parse('2026-04-01T00:00:00Z');
+    // Two hours of good readings a minute apart (the first closes a bucket), then twelve bad
+    // readings far out (not judged: a bad_quality alert instead), then good ones again.
+    for (let i = 0; i < 200; i++) {
+      const ts = new Date(start + i * 60_000).toISOString();
+      const doubtful = i >= 150 && i < 162;
+      rows.push(
+        doubtful ? { ts, value: 999, quality: i === 150 ? 'uncertain' : 'bad' } : { ts, value: 20 + (i % 5) },
+      );
+    }
+    const ndjson = join(dir, 'quality.ndjson');
+    writeFileSync(
+      ndjson,
+      rows
+        .map((r) =>
+          JSON.stringify({
+            sensor: 'kiln-2/temp',
+            ts: r.ts,
+            value: r.value,
+            ...(r.quality ? { quality: r.quality } : {}),
+          }),
+        )
+        .join('\n') + '\n',
+    );
+    const csv = join(dir, 'quality.csv');
+    writeFileSync(
+      csv,
+      'quality,sensor,ts,value\n' +
+        rows.map((r) => `${r.quality ?? ''},kiln-2/temp,${r.ts},${r.value}`).join('\n') +
+        '\n',
+    );
+    const config = parseConfigText('defaults: { window: 2h, buckets: 2, minSamples: 30, flatlineAfter: 0 }');
+    const sj = await runReplay({
+      source: readInput(ndjson, 'ndjson'),
+      config,
+      outDir: join(dir, 'q-json'),
+      inputInfo: {},
+    });
+    const sc = await runReplay({
+      source: readInput(csv, 'csv'),
+      config,
+      outDir: join(dir, 'q-csv'),
+      inputInfo: {},
+    });
+    expect(sj.readings).toBe(200);
+    expect(sj.quality).toEqual({ good: 188, uncertain: 1, bad: 11 });
+    expect(sj.evaluated).toBe(200 - 60 - 12); // the first bucket warms up; doubtful ones are not judged
+    expect(sj.flagged.any).toBe(0);
+    const alerts = ndjsonLines(read(join(dir, 'q-json'), REPLAY_FILES.alerts));
+    expect(alerts.map((a) => `${a.state}:${(a.reasons as string[]).join('+')}:${a.ts}`)).toEqual([
+      `raised:bad_quality:${rows[159].ts}`,
+      `cleared::${rows[162].ts}`,
+    ]);
+    expect(read(join(dir, 'q-csv'), REPLAY_FILES.alerts)).toBe(
+      read(join(dir, 'q-json'), REPLAY_FILES.alerts),
+    );
+    expect(sc.quality).toEqual(sj.quality);
+    expect(Object.keys(sj).slice(0, 4)).toEqual(['engineVersion', 'input', 'readings', 'quality']);
   });
 
   it('gives byte-identical files on two runs of the same input and config', async () => {

@@ -13,9 +13,9 @@
  */
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
-import { compressCentroids, FrozenDigest, OpenDigest, totalCount } from '../../../libs/stats/digest.js';
+import { compressToBins, FrozenDigest, OpenDigest, totalCount } from '../../../libs/stats/digest.js';
 import { addValue, emptyMoments, mergeMoments } from '../../../libs/stats/moments.js';
-import { SKETCH } from '../../../libs/engine/sketch-params.js';
+import { closedBins, openBins, SKETCH } from '../../../libs/engine/sketch-params.js';
 
 const valueArb = fc.oneof(
   fc.double({ min: -1e6, max: 1e6, noNaN: true, noDefaultInfinity: true }),
@@ -54,15 +54,15 @@ describe('bucket compression and merge (property)', () => {
     fc.assert(
       fc.property(partsArb, (parts) => {
         const closed = parts.map((values) => {
-          const d = new OpenDigest(SKETCH.openDelta, SKETCH.openCap);
+          const d = new OpenDigest(openBins(12), SKETCH.openCap);
           for (const v of values) d.push(v);
           const c = d.centroids();
           expect(totalCount(c)).toBe(values.length);
-          const frozen = compressCentroids([c], SKETCH.closedDelta);
+          const frozen = compressToBins([c], closedBins(12));
           expect(totalCount(frozen)).toBe(values.length);
           return frozen;
         });
-        const merged = compressCentroids(closed, SKETCH.baselineDelta);
+        const merged = compressToBins(closed, SKETCH.baselineBins);
         const all = Float64Array.from(parts.flat()).sort();
         expect(totalCount(merged)).toBe(all.length);
         // Centroid means are sorted and inside the data range.
@@ -89,12 +89,12 @@ describe('bucket compression and merge (property)', () => {
     fc.assert(
       fc.property(partsArb, (parts) => {
         const closed = parts.map((values) => {
-          const d = new OpenDigest(SKETCH.openDelta, SKETCH.openCap);
+          const d = new OpenDigest(openBins(12), SKETCH.openCap);
           for (const v of values) d.push(v);
-          return compressCentroids([d.centroids()], SKETCH.closedDelta);
+          return compressToBins([d.centroids()], closedBins(12));
         });
-        const a = compressCentroids(closed, SKETCH.baselineDelta);
-        const b = compressCentroids(closed, SKETCH.baselineDelta);
+        const a = compressToBins(closed, SKETCH.baselineBins);
+        const b = compressToBins(closed, SKETCH.baselineBins);
         expect(Array.from(a.means)).toEqual(Array.from(b.means));
         expect(Array.from(a.counts)).toEqual(Array.from(b.counts));
       }),
