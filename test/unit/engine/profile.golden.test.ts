@@ -9,7 +9,7 @@ import fc from 'fast-check';
 import { quantileSorted } from 'simple-statistics';
 import { validateConfig } from '../../../libs/config/config.js';
 import { Engine } from '../../../libs/engine/engine.js';
-import { LocalClock, hourSpan } from '../../../libs/engine/local-time.js';
+import { LocalClock } from '../../../libs/engine/local-time.js';
 import { DailyProfile } from '../../../libs/engine/profile.js';
 import type { Reading } from '../../../libs/engine/reading.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
