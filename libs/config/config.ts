@@ -217,6 +217,14 @@ function parseOne(key: keyof SensorSettings, value: unknown, where: string): unk
     case 'learnWhileRaised':
       if (typeof value !== 'boolean') bad(where, key, 'true or false', value);
       return value;
+    case 'staleAfter': {
+      if (value === null || value === 'off') return null;
+      const ms = parseDuration(value);
+      if (ms === null || ms < SETTING_BOUNDS.minWindowMs || ms > SETTING_BOUNDS.maxWindowMs) {
+        bad(where, key, `"off" or a duration from 1s to 31d such as "15m"`, value);
+      }
+      return ms;
+    }
     case 'window': {
       const ms = parseDuration(value);
       if (ms === null || ms < SETTING_BOUNDS.minWindowMs || ms > SETTING_BOUNDS.maxWindowMs) {
@@ -277,6 +285,8 @@ export function configToJson(config: EngineConfig): Record<string, unknown> {
   const conv = (settings: Partial<SensorSettings>) => {
     const out: Record<string, unknown> = { ...settings };
     if (settings.window !== undefined) out.window = formatDuration(settings.window);
+    if (settings.staleAfter !== undefined)
+      out.staleAfter = settings.staleAfter === null ? 'off' : formatDuration(settings.staleAfter);
     return out;
   };
   return {

@@ -44,6 +44,11 @@ export interface SensorSettings {
   learnWhileRaised: boolean;
   /** Consecutive readings of quality other than good that raise a bad_quality alert (0 turns it off). */
   badQualityAfter: number;
+  /**
+   * Event time (ms) past a sensor's newest reading after which it is silent and raises a `stale`
+   * alert; null turns the rule off. Config accepts a duration ("15m") or "off".
+   */
+  staleAfter: number | null;
   /** `daily`: judge against the same local hour on the previous profileDays days (see profile.ts). */
   profile: Profile;
   /** IANA time zone whose local hours the daily profile uses (shifts, daylight saving). */
@@ -71,6 +76,7 @@ export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
   buckets: 12,
   learnWhileRaised: true,
   badQualityAfter: 10,
+  staleAfter: null,
   profile: 'none',
   timeZone: 'UTC',
   profileDays: 7,

@@ -91,3 +91,30 @@ export function qualityMessage(e: QualityMessageInput): string {
   }
   return `${e.sensor} is ${REASON_WORDS.bad_quality} (warning): ${e.run} in a row, the newest ${e.quality}, ${fmt(e.value)} at ${e.ts}; they are neither judged nor learned until good readings return; since ${e.since}.`;
 }
+
+/** A span of event time in plain words: "45 s", "25 min", "3 h 5 min", "2 d 4 h". */
+export function silenceWords(ms: number): string {
+  const seconds = Math.floor(ms / 1000);
+  if (seconds < 60) return `${seconds} s`;
+  const minutes = Math.floor(seconds / 60);
+  if (minutes < 60) return `${minutes} min`;
+  const hours = Math.floor(minutes / 60);
+  if (hours < 24) return minutes % 60 === 0 ? `${hours} h` : `${hours} h ${minutes % 60} min`;
+  const days = Math.floor(hours / 24);
+  return hours % 24 === 0 ? `${days} d` : `${days} d ${hours % 24} h`;
+}
+
+type StaleMessageInput = Pick<AlertEvent, 'sensor' | 'state' | 'value' | 'ts' | 'since'> & {
+  /** Event time from the sensor's newest reading to the event. */
+  silentMs: number;
+  /** ISO time of the sensor's newest reading before the event. */
+  lastTs: string;
+};
+
+/** The sentence of a stale alert: how long the sensor has been silent and what it last said. */
+export function staleMessage(e: StaleMessageInput): string {
+  if (e.state === 'cleared') {
+    return `${e.sensor} reports again: ${fmt(e.value)} at ${e.ts}; it had been silent since ${e.since}.`;
+  }
+  return `${e.sensor} is ${REASON_WORDS.stale} (warning): no reading for ${silenceWords(e.silentMs)}; last ${fmt(e.value)} at ${e.lastTs}.`;
+}

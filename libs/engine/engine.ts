@@ -12,7 +12,8 @@ import { NOTICE } from '../schema/notice.js';
 import { fencesOf, judge, NORMAL_COLD, robustZ, zScore, type Verdict } from './judge.js';
 import { step, type ActiveAlert } from './lifecycle.js';
 import { alertId } from './alert-id.js';
-import { alertMessage, qualityMessage } from './alert-wording.js';
+import { alertMessage, qualityMessage, staleMessage } from './alert-wording.js';
+import { DeadlineHeap } from './deadline-heap.js';
 import type { DoubtfulQuality, Quality, Reading } from './reading.js';
 import type { SensorBudget } from './sensor-budget.js';
 import { decodeSensorState, encodeSensorState, SensorState, type ConditionAlert } from './sensor-state.js';
@@ -72,6 +73,15 @@ function profileSpan(profiled: ProfileBaseline, zone: string): string {
 }
 
 /**
+ * Event time of one input partition for the silent-sensor rule: the newest reading time seen in
+ * it, and the sensors of it queued by the time they fall silent (newest reading + staleAfter).
+ */
+interface PartitionClock {
+  watermark: number;
+  silentAt: DeadlineHeap<SensorState>;
+}
+
+/**
  * Judges a stream of readings, keeping each sensor's state in memory (one per replay, per
  * partition, per worker).
  */
@@ -87,6 +97,10 @@ export class Engine {
   private evicted: string[] = [];
   /** Lifetime count of evicted sensors. */
   evictedTotal = 0;
+  /** Whether any sensor can have a staleAfter (saves the silence check otherwise). */
+  private readonly silenceOn: boolean;
+  /** Per input partition: its event time and its sensors' silence deadlines. */
+  private readonly clocks = new Map<number, PartitionClock>();
 
   constructor(
     readonly config: EngineConfig,
@@ -94,6 +108,11 @@ export class Engine {
     readonly budget: SensorBudget | null = null,
   ) {
     this.resolver = new SettingsResolver(config);
+    this.silenceOn =
+      config.defaults.staleAfter !== null ||
+      config.sensors.some(
+        (rule) => rule.overrides.staleAfter !== undefined && rule.overrides.staleAfter !== null,
+      );
   }
 
   settingsFor(sensor: string): SensorSettings {
@@ -109,9 +128,13 @@ export class Engine {
    * const outcome = engine.process({ sensor: 'line-1/pump/temp', ts: Date.parse('2026-03-01T08:00:00Z'), value: 71.4 });
    * if (outcome.accepted) for (const event of outcome.events) publish(event); // raised/updated/cleared
    * else keepRejected(outcome.reason, outcome.detail); // 'late' or 'sensor_limit'
+   *
+   * `partition` is the input partition the reading came from (a sensor always comes from the
+   * same one): the silent-sensor rule measures event time per partition, as a live monitor sees it.
    */
-  process(reading: Reading): ProcessOutcome {
+  process(reading: Reading, partition = 0): ProcessOutcome {
     let state = this.states.get(reading.sensor);
+    const isNew = state === undefined;
     if (state === undefined) {
       if (!this.admit()) {
         return {
@@ -135,6 +158,7 @@ export class Engine {
         events: NO_EVENTS,
       };
     }
+    if (reading.ts >= window.newestTs) state.newestValue = reading.value;
     window.advance(reading.ts);
     if (reading.ts > this.watermark) this.watermark = reading.ts;
     // A profiled sensor is judged by its local hour on previous days once that slot is warm.
@@ -147,7 +171,23 @@ export class Engine {
       state.fences = baseline === null ? null : fencesOf(baseline, settings);
     }
     // Time moves on with every reading; only good ones are judged and learned.
-    if (reading.quality !== undefined) return this.doubtful(state, reading, reading.quality);
+    const outcome =
+      reading.quality !== undefined
+        ? this.doubtful(state, reading, reading.quality)
+        : this.judged(state, reading, baseline, profiled, profileSlot !== null);
+    return this.silenceOn ? this.silence(state, reading, partition, isNew, outcome) : outcome;
+  }
+
+  /** A good reading: judged against the baseline, stepped through the lifecycle, maybe learned. */
+  private judged(
+    state: SensorState,
+    reading: Reading,
+    baseline: Baseline | null,
+    profiled: ProfileBaseline | null,
+    learnsProfile: boolean,
+  ): ProcessOutcome {
+    const settings = state.settings;
+    const window = state.window;
     let events: AlertEvent[] | null = null;
     if (state.doubtfulRun > 0) {
       state.doubtfulRun = 0;
@@ -190,7 +230,7 @@ export class Engine {
     const learned = settings.learnWhileRaised || (before === null && life.active === null);
     if (learned) {
       window.add(reading.ts, reading.value);
-      if (profileSlot !== null) profile!.add(reading.ts, reading.value);
+      if (learnsProfile) state.profile!.add(reading.ts, reading.value);
     }
 
     if (transition !== null) {
@@ -227,6 +267,110 @@ export class Engine {
       events = [this.conditionEvent(state, reading, 'raised', raised, 'bad_quality', quality)];
     }
     return { accepted: true, quality, verdict: NORMAL_COLD, learned: false, events };
+  }
+
+  private clockOf(partition: number): PartitionClock {
+    let clock = this.clocks.get(partition);
+    if (clock === undefined) {
+      clock = { watermark: -Infinity, silentAt: new DeadlineHeap<SensorState>() };
+      this.clocks.set(partition, clock);
+    }
+    return clock;
+  }
+
+  /**
+   * The silent-sensor rule, after a reading was taken: the reading's own sensor clears its stale
+   * alert (it reports again), and when the reading moves its partition's event time on, every
+   * sensor of the partition now silent for more than its staleAfter raises one. The order of
+   * several raised at once is fixed (by the time they fell silent, then sensor id), so a restore
+   * gives the same events as never stopping.
+   */
+  private silence(
+    state: SensorState,
+    reading: Reading,
+    partition: number,
+    isNew: boolean,
+    outcome: ProcessOutcome,
+  ): ProcessOutcome {
+    const clock = this.clockOf(partition);
+    const advanced = reading.ts > clock.watermark;
+    if (advanced) clock.watermark = reading.ts;
+    const after = state.settings.staleAfter;
+    let cleared: AlertEvent | null = null;
+    const stale = state.staleAlert;
+    if (stale !== null && (after === null || clock.watermark - state.window.newestTs <= after)) {
+      state.staleAlert = null;
+      this.counters.alerts.cleared++;
+      cleared = this.staleEvent(state, 'cleared', stale, reading.ts, reading.value);
+      if (after !== null) clock.silentAt.push(state.window.newestTs + after, state);
+    } else if (isNew && after !== null) clock.silentAt.push(state.window.newestTs + after, state);
+    const raised = advanced ? this.raiseSilent(clock) : NO_EVENTS;
+    if (cleared === null && raised.length === 0) return outcome;
+    const events = cleared === null ? [] : [cleared];
+    events.push(...outcome.events, ...raised);
+    return { ...outcome, events };
+  }
+
+  /**
+   * Raise a stale alert for each sensor of the partition silent for more than its staleAfter.
+   * Queued deadlines can be older than the sensor's real one (it has read since): those are
+   * queued again at the real one, so each sensor is in the queue once.
+   */
+  private raiseSilent(clock: PartitionClock): readonly AlertEvent[] {
+    const due: { at: number; state: SensorState }[] = [];
+    const queue = clock.silentAt;
+    for (let next = queue.peek(); next !== undefined && next.at < clock.watermark; next = queue.peek()) {
+      queue.pop();
+      const state = next.item;
+      const after = state.settings.staleAfter;
+      // Gone (evicted, forgotten, replaced by a restore) or already stale: not queued any more.
+      if (this.states.get(state.sensor) !== state || state.staleAlert !== null || after === null) continue;
+      const at = state.window.newestTs + after;
+      if (at < clock.watermark) due.push({ at, state });
+      else queue.push(at, state);
+    }
+    if (due.length === 0) return NO_EVENTS;
+    due.sort(
+      (a, b) =>
+        a.at - b.at || (a.state.sensor < b.state.sensor ? -1 : a.state.sensor > b.state.sensor ? 1 : 0),
+    );
+    return due.map(({ state }) => {
+      const alert: ConditionAlert = {
+        id: alertId(state.sensor, clock.watermark, state.seen, 'stale'),
+        raisedTs: clock.watermark,
+        readings: 0,
+      };
+      state.staleAlert = alert;
+      this.counters.alerts.raised++;
+      return this.staleEvent(state, 'raised', alert, clock.watermark, state.newestValue);
+    });
+  }
+
+  /** An event of a stale alert: raised with the newest value it had, cleared with the reading that ends it. */
+  private staleEvent(
+    state: SensorState,
+    transition: 'raised' | 'cleared',
+    alert: ConditionAlert,
+    ts: number,
+    value: number,
+  ): AlertEvent {
+    const lastTs = state.window.newestTs;
+    const body = {
+      sensor: state.sensor,
+      state: transition,
+      severity: 'warning' as const,
+      reasons: transition === 'cleared' ? [] : ['stale' as const],
+      value,
+      ts: iso(ts),
+      since: iso(alert.raisedTs),
+      flaggedReadings: 0,
+      baseline: this.baselineOf(state),
+      z: null,
+      robustZ: null,
+      percentileRank: null,
+    };
+    const message = staleMessage({ ...body, silentMs: ts - lastTs, lastTs: iso(lastTs) });
+    return { id: alert.id, ...body, message, notice: NOTICE };
   }
 
   private makeEvent(
@@ -267,7 +411,13 @@ export class Engine {
     state: SensorState,
     baseline: Baseline | null = state.window.baseline(),
   ): AlertEvent['baseline'] {
-    const fences = state.fences;
+    // The cached fences are for the baseline of the sensor's last reading (none after a restore).
+    const fences =
+      baseline === null
+        ? null
+        : state.fencesFor === baseline
+          ? state.fences
+          : fencesOf(baseline, state.settings);
     const warm = baseline !== null;
     return {
       q1: warm ? baseline.q1 : null,
@@ -335,6 +485,7 @@ export class Engine {
     for (const state of this.states.values()) {
       if (state.life.active !== null) active++;
       if (state.qualityAlert !== null) active++;
+      if (state.staleAlert !== null) active++;
     }
     return active;
   }
@@ -344,13 +495,23 @@ export class Engine {
     return state === undefined ? null : encodeSensorState(state);
   }
 
-  /** Install a sensor's state decoded from `encode` output (replacing what was there). */
-  restore(bytes: Uint8Array): SensorState {
+  /**
+   * Install a sensor's state decoded from `encode` output (replacing what was there), from input
+   * `partition` (as process() was told). Its partition's event time is the newest of its sensors'.
+   */
+  restore(bytes: Uint8Array, partition = 0): SensorState {
     const state = decodeSensorState(bytes, (sensor) => this.resolver.resolve(sensor));
     // Restored state is never refused (that would lose it); it counts against the budget all the same.
     if (!this.states.has(state.sensor)) this.budget?.add(1);
     this.states.set(state.sensor, state);
-    if (state.window.newestTs > this.watermark) this.watermark = state.window.newestTs;
+    const newest = state.window.newestTs;
+    if (newest > this.watermark) this.watermark = newest;
+    if (this.silenceOn) {
+      const clock = this.clockOf(partition);
+      if (newest > clock.watermark) clock.watermark = newest;
+      const after = state.settings.staleAfter;
+      if (after !== null && state.staleAlert === null) clock.silentAt.push(newest + after, state);
+    }
     return state;
   }
 
@@ -363,6 +524,7 @@ export class Engine {
   releaseAll(): void {
     this.budget?.release(this.states.size);
     this.states.clear();
+    this.clocks.clear();
   }
 
   /** Room for one more sensor: from the budget, or after evicting this engine's idle sensors. */
@@ -382,7 +544,7 @@ export class Engine {
     this.sweptAt = this.watermark;
     let evicted = 0;
     for (const [sensor, state] of this.states) {
-      if (state.life.active !== null || state.qualityAlert !== null) continue;
+      if (state.life.active !== null || state.qualityAlert !== null || state.staleAlert !== null) continue;
       // A profiled sensor keeps its days of history (a silent day must not wipe its profile).
       const keep =
         state.profile === null

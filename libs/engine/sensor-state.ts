@@ -33,6 +33,10 @@ export class SensorState {
   doubtfulRun = 0;
   /** The raised bad_quality alert, if any. */
   qualityAlert: ConditionAlert | null = null;
+  /** Value of the newest reading by event time, of any quality (what a stale alert quotes). */
+  newestValue = NaN;
+  /** The raised stale alert, if any. */
+  staleAlert: ConditionAlert | null = null;
   /** Fences cached for the baseline object they were computed from. */
   fencesFor: Baseline | null = null;
   fences: Fences | null = null;
@@ -56,17 +60,16 @@ const MAGIC_0 = 0x53; // 'S'
 const MAGIC_1 = 0x46; // 'F'
 /**
  * Bump whenever the encoding changes: a state of another version is refused, never misread.
- * 4 added the doubtful-quality run and the bad_quality alert after the lifecycle; a state of
- * version 3 (written before) is still read, with no run and no such alert. 5 added the
- * time-of-day profile section at the end; older states are read with the profile empty.
+ * 4 added the doubtful-quality run and the bad_quality alert after the lifecycle; 5 the newest
+ * reading's value and the stale alert; 6 the time-of-day profile section at the end. Versions 3
+ * to 5 are still read (no run, no such alerts, the newest value taken as the last judged one, the
+ * profile empty).
  */
-export const STATE_VERSION = 5;
-/** The first version with the doubtful-quality section. */
-const QUALITY_VERSION = 4;
+export const STATE_VERSION = 6;
 /** The first version with the time-of-day profile section at the end. */
-const PROFILE_VERSION = 5;
+const PROFILE_VERSION = 6;
 /** Older encodings this build still reads. */
-const READABLE_VERSIONS = [3, QUALITY_VERSION, STATE_VERSION];
+const READABLE_VERSIONS = [3, 4, 5, STATE_VERSION];
 
 // Reused across calls: encoding is synchronous, and checkpoints encode thousands of sensors at once.
 const sharedWriter = new ByteWriter();
@@ -90,6 +93,8 @@ export function encodeSensorState(state: SensorState): Uint8Array {
   writeLifecycle(out, state.life);
   out.uvar(state.doubtfulRun);
   writeCondition(out, state.qualityAlert);
+  out.f64(state.newestValue);
+  writeCondition(out, state.staleAlert);
   writeProfile(out, state.profile);
   return out.bytes();
 }
@@ -300,10 +305,14 @@ export function decodeSensorState(
     state.lastValue = lastValue;
     state.stuckRun = stuckRun;
     readLifecycle(input, state.life, settings, sensor);
-    if (version >= QUALITY_VERSION) {
+    if (version >= 4) {
       state.doubtfulRun = input.uvar();
       state.qualityAlert = readCondition(input);
     }
+    if (version >= 5) {
+      state.newestValue = input.f64();
+      state.staleAlert = readCondition(input);
+    } else state.newestValue = lastValue;
     if (version >= PROFILE_VERSION) {
       const saved = readProfile(input);
       // A profile written under another zone or depth restarts (DailyProfile.restore); one

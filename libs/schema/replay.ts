@@ -11,6 +11,8 @@ export interface InputRecord {
   line: number;
   raw: string;
   result: ParseResult;
+  /** The Kafka partition it was read from (a kafka:// replay); absent for a file. */
+  partition?: number;
 }
 
 /** Hooks a feature plugs into a replay with (the report, the audit); all optional. */

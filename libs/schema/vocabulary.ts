@@ -28,7 +28,7 @@ export function isSeverity(value: unknown): value is Severity {
 
 /**
  * Why a reading was flagged, in the order the rules are checked, then the conditions of the
- * sensor itself (its readings of doubtful quality), which have alerts of their own.
+ * sensor itself (readings of doubtful quality, no readings at all), which have alerts of their own.
  */
 export const REASONS = [
   'fence_high',
@@ -42,6 +42,7 @@ export const REASONS = [
   'flatline',
   'departs_constant',
   'bad_quality',
+  'stale',
 ] as const;
 
 /** One reason a reading was flagged (carried in `AlertEvent.reasons`). */
@@ -60,6 +61,7 @@ export const REASON_WORDS: Readonly<Record<Reason, string>> = {
   flatline: 'stuck on one value',
   departs_constant: 'off the constant value it held for the whole window',
   bad_quality: 'sending readings of doubtful quality',
+  stale: 'silent',
 };
 
 /** True when `value` is one of {@link REASONS}. */

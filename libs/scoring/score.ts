@@ -5,8 +5,8 @@
  * - A raised alert is TRUE when it falls in such an interval [start, end + grace] of any incident
  *   of its sensor (of any kind, dropouts included).
  * - recall = caught / incidents, over the kinds counted in the headline (dropouts are left out by
- *   default: the engine has no missing-data rule, so a dropout is caught only when readings around
- *   it trip a rule); null when there are no such incidents. Per-kind recall covers every kind.
+ *   default: only the silent-sensor rule, staleAfter, can catch one, and `tune` counts them when
+ *   the config sets it); null when there are no such incidents. Per-kind recall covers every kind.
  * - precision = true raised / raised; null when nothing was raised.
  * - alertsPerHour = raised / hours of data (last reading ts - first reading ts); null for a zero span.
  * - worst10min = the most alerts raised in any 10-minute window [t, t + 10 min); flood = worst10min

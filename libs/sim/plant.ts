@@ -4,6 +4,7 @@
  * sensors interleaved), so memory does not grow with the duration; only the fault labels are
  * planned up front.
  */
+import { formatDuration } from '../config/duration.js';
 import { StreamfenceError } from '../errors/index.js';
 import { planFaults, type FaultKind, type PlannedFault } from './faults.js';
 import { Prng, subSeed } from './prng.js';
@@ -317,9 +318,11 @@ export class PlantSimulator {
 /**
  * A config object (for libs/config validateConfig) that suits the scenario at 1-minute readings:
  * a 6 h window so a short data set warms up, a flatline rule for stuck values, and per-sensor
- * entries for one-sided sensors and physical limits.
+ * entries for one-sided sensors and physical limits. `staleAfter` follows the reading interval:
+ * 2.5 intervals (two missed readings and a half), at least 5 minutes, so a simulated dropout
+ * (at least 30 minutes and 3 readings long) is silent long enough to be caught inside it.
  */
-export function suggestedConfig(scenario: string): unknown {
+export function suggestedConfig(scenario: string, intervalMs = 60_000): unknown {
   const def = SCENARIO_DEFS[scenario];
   if (def === undefined) {
     throw new StreamfenceError(
@@ -337,5 +340,6 @@ export function suggestedConfig(scenario: string): unknown {
       if (Object.keys(entry).length > 1) sensors.push(entry);
     }
   }
-  return { defaults: { ...def.defaults }, sensors };
+  const staleAfter = formatDuration(Math.max(Math.ceil((2.5 * intervalMs) / 1000) * 1000, 5 * 60_000));
+  return { defaults: { ...def.defaults, staleAfter }, sensors };
 }

@@ -31,7 +31,10 @@ export interface FollowOptions {
 }
 
 export interface Follower {
-  /** Resolves when the follower stops (untilEnd reached, or stop() called). */
+  /**
+   * Resolves when the follower stops (untilEnd reached, or stop() called); rejects when the
+   * consumer gave up on an error it cannot retry (e.g. the ACL denies reading a topic).
+   */
   done: Promise<void>;
   stop(): Promise<void>;
 }
@@ -54,6 +57,11 @@ export async function follow(o: FollowOptions): Promise<Follower> {
     const existing = new Set(await admin.listTopics());
     for (const t of o.topics) {
       if (!existing.has(t)) {
+        // A topic the ACL hides is missing from the list too; asking for it by name tells the two
+        // apart (TOPIC_AUTHORIZATION_FAILED is thrown for the caller's refusal line).
+        await admin.fetchTopicMetadata({ topics: [t] }).catch((e: unknown) => {
+          if ((e as { type?: string }).type === 'TOPIC_AUTHORIZATION_FAILED') throw e;
+        });
         throw new StreamfenceError(
           'NOT_FOUND',
           `Kafka topic "${t}" does not exist; check the topic name or create it first`,
@@ -80,7 +88,13 @@ export async function follow(o: FollowOptions): Promise<Follower> {
   if (o.untilEnd) for (const [k, e] of end) if (e > start.get(k)!) remaining.add(k);
 
   let finish!: () => void;
-  const done = new Promise<void>((r) => (finish = r));
+  let fail!: (err: unknown) => void;
+  const done = new Promise<void>((resolve, reject) => {
+    finish = resolve;
+    fail = reject;
+  });
+  // Marks the rejection handled: a caller that never awaits `done` must not crash the process.
+  done.catch(() => {});
   if (o.untilEnd && remaining.size === 0) {
     finish();
     return { done, stop: async () => {} };
@@ -99,6 +113,23 @@ export async function follow(o: FollowOptions): Promise<Follower> {
     await consumer.disconnect().catch(() => {});
     finish();
   };
+  // kafkajs gives up on errors no retry can cure (a denied group or topic ACL) with a CRASH event
+  // that does not restart; without watching for it a follower would wait for ever.
+  let joinedOk!: () => void;
+  let joinFailed!: (err: unknown) => void;
+  const joined = new Promise<void>((resolve, reject) => {
+    joinedOk = resolve;
+    joinFailed = reject;
+  });
+  joined.catch(() => {});
+  consumer.on(consumer.events.GROUP_JOIN, () => joinedOk());
+  consumer.on(consumer.events.CRASH, (e) => {
+    if (e.payload.restart) return;
+    joinFailed(e.payload.error);
+    stopped = true;
+    void consumer.disconnect().catch(() => {});
+    fail(e.payload.error);
+  });
   await consumer.connect();
   for (const t of o.topics) await consumer.subscribe({ topic: t, fromBeginning: true });
   await consumer.run({
@@ -127,5 +158,7 @@ export async function follow(o: FollowOptions): Promise<Follower> {
     const [topic, p] = k.split('\u0000');
     if (off > 0n) consumer.seek({ topic, partition: Number(p), offset: off.toString() });
   }
+  // Started means joined: a group the ACL denies fails here, before the caller reports success.
+  await joined;
   return { done, stop };
 }

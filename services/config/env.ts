@@ -71,6 +71,8 @@ export const ENV = {
   audit: 'STREAMFENCE_REPLAY_AUDIT',
   replayFrom: 'STREAMFENCE_REPLAY_FROM',
   replayTo: 'STREAMFENCE_REPLAY_TO',
+  /** Partitions a file replay judges in (as a live topic of that many partitions would). */
+  replayPartitions: 'STREAMFENCE_REPLAY_PARTITIONS',
 
   // tune
   tuneLabels: 'STREAMFENCE_TUNE_LABELS',

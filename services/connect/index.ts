@@ -23,7 +23,7 @@ export {
   type SaslMechanism,
 } from './options.js';
 export { buildKafka, kafkaConfig, type KafkaClientOptions } from './kafka.js';
-export { buildRedis, redisOptions, type RedisClientOptions } from './redis.js';
+export { buildRedis, connectRedis, redisOptions, type RedisClientOptions } from './redis.js';
 export {
   kafkaFailure,
   kafkaRefusal,

@@ -27,17 +27,24 @@ export async function checkKafka(
   try {
     await admin.connect();
     topics = new Set(await admin.listTopics());
-  } catch (err) {
-    throw kafkaFailure(err, s, o.what);
-  } finally {
-    await admin.disconnect().catch(() => {});
-  }
-  for (const t of o.required ?? []) {
-    if (!topics.has(t))
+    for (const t of o.required ?? []) {
+      if (topics.has(t)) continue;
+      // A topic the ACL hides is missing from the list too; asking for it by name tells the two
+      // apart (the broker answers TOPIC_AUTHORIZATION_FAILED, a NOT_AUTHORISED line below).
+      const hidden = await admin.fetchTopicMetadata({ topics: [t] }).then(
+        () => null,
+        (e: unknown) => ((e as { type?: string }).type === 'TOPIC_AUTHORIZATION_FAILED' ? e : null),
+      );
+      if (hidden !== null) throw hidden;
       throw new StreamfenceError(
         'NOT_FOUND',
         `kafka ${s.brokers.join(',')}: topic "${t}" does not exist; check the topic name or create it first`,
       );
+    }
+  } catch (err) {
+    throw kafkaFailure(err, s, o.what);
+  } finally {
+    await admin.disconnect().catch(() => {});
   }
   return topics;
 }

@@ -3,10 +3,12 @@
  * files. `rediss://` turns TLS on. Commands fail fast (no long offline queue): callers own the
  * retry policy, so an outage shows up as backoff in logs and metrics rather than silent queueing.
  */
+import { isIP } from 'node:net';
 import { Redis, type RedisOptions } from 'ioredis';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import { readPem } from './files.js';
 import type { RedisSettings } from './options.js';
+import { redisFailure, redisRefusal } from './refusals.js';
 
 export interface RedisClientOptions {
   /** Per-command timeout; a paused server makes calls fail after this and the caller retries. */
@@ -51,7 +53,8 @@ export function redisOptions(s: RedisSettings, o: RedisClientOptions = {}): Redi
   };
   if (u.protocol === 'rediss:') {
     opts.tls = {
-      servername: u.hostname,
+      // SNI takes host names only (node warns about an IP); the certificate is checked either way.
+      servername: isIP(u.hostname) ? undefined : u.hostname,
       ca: s.caFile ? readPem('Redis', s.caFile, 'CA') : undefined,
       cert: s.certFile ? readPem('Redis', s.certFile, 'certificate') : undefined,
       key: s.keyFile ? readPem('Redis', s.keyFile, 'key') : undefined,
@@ -66,4 +69,30 @@ export function buildRedis(s: RedisSettings, o: RedisClientOptions = {}): Redis 
   // Errors are reported by the calls that fail; without a listener ioredis prints them itself.
   r.on('error', () => {});
   return r;
+}
+
+/**
+ * Connects a client from buildRedis. A refusal (wrong password, unknown ACL user, untrusted
+ * certificate, plain text to a TLS port) is thrown as its one-line typed error. ioredis reports
+ * the server's answer (WRONGPASS, NOPERM) only as an 'error' event and rejects connect() with a
+ * bare "Connection is closed", so the last event is kept and judged instead. Any other failure is
+ * the one-line SERVICE_UNAVAILABLE of redisFailure; the client is disconnected on every failure,
+ * so nothing keeps reconnecting in the background. For long-running commands (the client keeps
+ * reconnecting once started); one-shot commands use connectRedisOnce.
+ */
+export async function connectRedis(redis: Redis, s: RedisSettings): Promise<void> {
+  let last: unknown;
+  const keep = (e: unknown) => {
+    last = e;
+  };
+  redis.on('error', keep);
+  try {
+    await redis.connect();
+  } catch (e) {
+    redis.disconnect();
+    const cause = last ?? e;
+    throw redisRefusal(cause, s) ?? redisRefusal(e, s) ?? redisFailure(cause, s);
+  } finally {
+    redis.off('error', keep);
+  }
 }

@@ -36,8 +36,11 @@ export function kafkaRefusal(err: unknown, s: KafkaSettings, what = 'connect'): 
     );
   }
   const denied = all.find((e) => /_AUTHORIZATION_FAILED$/.test(e.type ?? ''));
-  if (denied) {
-    const kind = denied.type!.replace('_AUTHORIZATION_FAILED', '').toLowerCase();
+  // kafkajs drops the broker's GROUP_AUTHORIZATION_FAILED answer to FindCoordinator and reports
+  // only that no coordinator was found; for an authenticated user that is the group ACL.
+  const noCoordinator = s.sasl !== undefined && all.some((e) => e.name === 'KafkaJSGroupCoordinatorNotFound');
+  if (denied || noCoordinator) {
+    const kind = denied ? denied.type!.replace('_AUTHORIZATION_FAILED', '').toLowerCase() : 'group';
     return new StreamfenceError(
       'NOT_AUTHORISED',
       `kafka: not authorised to ${what} (${kind} ACL) for user ${s.sasl?.username ?? '(none)'}; grant the ACL or use another user`,
@@ -74,7 +77,7 @@ export function redisRefusal(err: unknown, s: RedisSettings): StreamfenceError |
   if (noperm)
     return new StreamfenceError(
       'NOT_AUTHORISED',
-      `redis: not authorised for user ${user}: ${noperm.message.replace(/^NOPERM\s*/, '')}`,
+      `redis: not authorised for user ${user} at ${at}: ${noperm.message.replace(/^NOPERM\s*/, '')}; grant the ACL or use another user (or a key prefix the user may use)`,
     );
   const tls = all.find((e) => TLS_WORDS.test(e.message) || TLS_WORDS.test(e.code ?? ''));
   if (tls)

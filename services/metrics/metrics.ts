@@ -39,6 +39,8 @@ export interface Metrics extends EngineMetrics {
   eventDelay: Histogram;
   /** messages between the last processed offset and the partition's high watermark */
   partitionLag: Gauge<'partition'>;
+  /** wall-clock seconds since the last message of each assigned input partition (since assignment if none) */
+  inputIdle: Gauge<'partition'>;
   /** dependency = kafka | redis: retries after a failed call to that dependency */
   backoff: Counter<'dependency'>;
   checkpoints: Counter<'result'>;
@@ -128,6 +130,12 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
       name: 'streamfence_event_delay_seconds',
       help: 'Processing time minus reading event time (how far behind real time the readings are judged).',
       buckets: [0.01, 0.05, 0.1, 0.25, 0.5, 1, 2.5, 5, 10, 30, 60, 300, 900, 3600, 86400],
+      registers,
+    }),
+    inputIdle: new Gauge({
+      name: 'streamfence_input_idle_seconds',
+      help: 'Wall-clock seconds since the last message of each assigned input partition (since it was assigned, if none): a whole partition gone silent.',
+      labelNames: ['partition'],
       registers,
     }),
     partitionLag: new Gauge({

@@ -7,6 +7,11 @@ export interface BackoffHooks {
   onRetry: (attempt: number, delayMs: number, err: unknown) => void;
   /** Return true to give up (e.g. the monitor is past its stop deadline). */
   giveUp?: () => boolean;
+  /**
+   * An error no wait can cure (a wrong password, a denied ACL): return it to end the retries with
+   * it at once; null retries as usual.
+   */
+  fatal?: (err: unknown) => Error | null;
   /** Runs while waiting between attempts (e.g. a consumer heartbeat); its errors propagate. */
   whileWaiting?: () => Promise<void>;
   initialMs?: number;
@@ -28,6 +33,8 @@ export async function withBackoff<T>(fn: () => Promise<T>, hooks: BackoffHooks):
     try {
       return await fn();
     } catch (err) {
+      const fatal = hooks.fatal?.(err);
+      if (fatal) throw fatal;
       if (hooks.giveUp?.()) throw new GaveUpError(err);
       const delay = Math.min(max, initial * 2 ** Math.min(attempt - 1, 10));
       hooks.onRetry(attempt, delay, err);

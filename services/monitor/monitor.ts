@@ -58,6 +58,12 @@ export interface MonitorParts {
   settings: MonitorSettings;
   log: Logger;
   metrics: Metrics;
+  /**
+   * Judges a failure while starting: a refusal no retry can cure (wrong password, denied ACL,
+   * untrusted certificate) is returned and start() fails with it, so `run` exits 2 with that line
+   * instead of retrying for ever. Null (the default) means wait and retry.
+   */
+  startRefusal?: (dependency: 'kafka' | 'redis', err: unknown) => Error | null;
 }
 
 interface PartitionWorker {
@@ -102,6 +108,8 @@ export class Monitor {
   private readonly admin: Admin;
   private lockTail: Promise<unknown> = Promise.resolve();
   private assigned = new Set<number>();
+  /** Wall-clock time of the last message per assigned partition (its assignment time before one). */
+  private readonly heardAt = new Map<number, number>();
   private joined = false;
   private stopping = false;
   /** After a stop request, dependency retries give up at this time (inside the 10 s stop budget). */
@@ -114,6 +122,7 @@ export class Monitor {
   private readonly settings: MonitorSettings;
   private readonly log: Logger;
   private readonly metrics: Metrics;
+  private readonly startRefusal: NonNullable<MonitorParts['startRefusal']>;
 
   constructor(parts: MonitorParts) {
     const { kafka, redis, settings, metrics } = parts;
@@ -123,6 +132,7 @@ export class Monitor {
     this.settings = settings;
     this.log = parts.log;
     this.metrics = metrics;
+    this.startRefusal = parts.startRefusal ?? (() => null);
     this.store = new CheckpointStore(
       redis,
       settings.statePrefix,
@@ -152,19 +162,27 @@ export class Monitor {
 
   /** Connect (retrying while dependencies are down) and start consuming. */
   async start(): Promise<void> {
-    await this.retry('redis', () => this.redis.ping());
-    await this.retry('redis', () =>
-      this.redis.set(
-        configKey(this.settings.statePrefix, this.settings.group, this.settings.inputTopic),
-        JSON.stringify(configToJson(this.config)),
-      ),
+    const refuse = (dependency: 'kafka' | 'redis') => ({
+      fatal: (err: unknown) => this.startRefusal(dependency, err),
+    });
+    await this.retry('redis', () => this.redis.ping(), refuse('redis'));
+    await this.retry(
+      'redis',
+      () =>
+        this.redis.set(
+          configKey(this.settings.statePrefix, this.settings.group, this.settings.inputTopic),
+          JSON.stringify(configToJson(this.config)),
+        ),
+      refuse('redis'),
     );
-    await this.retry('kafka', () => this.admin.connect());
-    await this.retry('kafka', () => this.producer.connect());
-    await this.retry('kafka', () => this.consumer.connect());
+    await this.retry('kafka', () => this.admin.connect(), refuse('kafka'));
+    await this.retry('kafka', () => this.producer.connect(), refuse('kafka'));
+    await this.retry('kafka', () => this.consumer.connect(), refuse('kafka'));
     this.wireEvents();
-    await this.retry('kafka', () =>
-      this.consumer.subscribe({ topic: this.settings.inputTopic, fromBeginning: true }),
+    await this.retry(
+      'kafka',
+      () => this.consumer.subscribe({ topic: this.settings.inputTopic, fromBeginning: true }),
+      refuse('kafka'),
     );
     await this.consumer.run({
       autoCommit: false,
@@ -226,6 +244,13 @@ export class Monitor {
       const mine = e.payload.memberAssignment[this.settings.inputTopic] ?? [];
       this.assigned = new Set(mine);
       this.joined = true;
+      const now = Date.now();
+      for (const partition of [...this.heardAt.keys()]) {
+        if (this.assigned.has(partition)) continue;
+        this.heardAt.delete(partition);
+        this.metrics.inputIdle.remove({ partition: String(partition) });
+      }
+      for (const partition of mine) if (!this.heardAt.has(partition)) this.heardAt.set(partition, now);
       this.metrics.assignedPartitions.set(mine.length);
       this.log.info(
         { partitions: [...mine].sort((a, b) => a - b), leader: e.payload.isLeader },
@@ -347,6 +372,7 @@ export class Monitor {
     }
 
     const now = Date.now();
+    this.heardAt.set(part, now);
     let accepted = 0;
     let rejected = 0;
     const doubtful = { uncertain: 0, bad: 0 };
@@ -555,6 +581,9 @@ export class Monitor {
     this.metrics.sensorsTracked.set(sensors);
     this.metrics.sensorLimitUsed.set(this.budget.used / this.budget.limit);
     this.metrics.activeAlerts.set(active);
+    const now = Date.now();
+    for (const [partition, heard] of this.heardAt)
+      this.metrics.inputIdle.set({ partition: String(partition) }, Math.max(0, now - heard) / 1000);
   }
 
   /** For tests and the bench: the partitions this monitor holds a worker (an engine) for. */

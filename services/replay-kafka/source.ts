@@ -324,7 +324,7 @@ async function* mergePartitions(
     }
     line++;
     stats.messages++;
-    out.push({ line, raw: message.raw, result: message.result });
+    out.push({ line, raw: message.raw, result: message.result, partition: best.partition });
     if (out.length >= limits.batchSize) {
       yield out;
       out = [];

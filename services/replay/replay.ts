@@ -14,6 +14,7 @@ import { LIMITS } from '../../libs/engine/reading.js';
 import { DEFAULT_MAX_SENSORS, SensorBudget } from '../../libs/engine/sensor-budget.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { InputRecord, ReplayObserver, ReplaySummary } from '../../libs/schema/replay.js';
+import { keyPartitioner } from './partitioner.js';
 import { LineWriter } from './writer.js';
 import { fileProblem } from '../fs-errors.js';
 
@@ -37,6 +38,13 @@ export interface ReplayOptions {
   progress?: (records: number) => void;
   /** Most sensors with state at once; readings of new sensors beyond it are rejected (sensor_limit). */
   maxSensors?: number;
+  /**
+   * Input partitions to judge a file's readings in, as a live monitor of a topic with this many
+   * partitions would: each sensor id goes to the partition the default Kafka partitioner gives
+   * its key, and the silent-sensor rule keeps event time per partition. A record that carries
+   * its own partition (a kafka:// replay) keeps it. Default 1: one event time for the whole file.
+   */
+  partitions?: number;
 }
 
 function sortedCounts(m: Map<string, number>): Record<string, number> {
@@ -70,6 +78,7 @@ export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
   const rejectObs = observers.filter((o) => o.onReject !== undefined);
   await prepareDir(outDir);
   const maxSensors = opts.maxSensors ?? DEFAULT_MAX_SENSORS;
+  const partitionOf = keyPartitioner(opts.partitions ?? 1);
   const engine = new Engine(config, new SensorBudget(maxSensors));
   const alerts = new LineWriter(join(outDir, REPLAY_FILES.alerts));
   const rejected = new LineWriter(join(outDir, REPLAY_FILES.rejected));
@@ -92,7 +101,7 @@ export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
           reject(rec, res.reason, res.detail);
           continue;
         }
-        const out = engine.process(res.reading);
+        const out = engine.process(res.reading, rec.partition ?? partitionOf(res.reading.sensor));
         for (const o of readingObs) o.onReading!(res.reading, out, engine);
         if (!out.accepted) {
           reject(rec, out.reason, out.detail);

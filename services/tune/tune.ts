@@ -61,7 +61,18 @@ async function readText(path: string, what: string): Promise<string> {
   }
 }
 
-export const EXCLUDED_FROM_RECALL = ['dropout'];
+/**
+ * Kinds left out of the headline recall: dropouts, unless the base config watches for silent
+ * sensors (a `staleAfter` anywhere), since no other rule can catch a sensor that sends nothing.
+ */
+export function excludedFromRecall(base: EngineConfig): string[] {
+  const watchesSilence =
+    base.defaults.staleAfter !== null ||
+    base.sensors.some(
+      (rule) => rule.overrides.staleAfter !== undefined && rule.overrides.staleAfter !== null,
+    );
+  return watchesSilence ? [] : ['dropout'];
+}
 
 export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   const stream = o.stream ?? process.stderr;
@@ -97,7 +108,7 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
     graceMs: o.graceMs ?? DEFAULT_GRACE_MS,
     dataStart: first,
     dataEnd: last,
-    excludeFromRecall: EXCLUDED_FROM_RECALL,
+    excludeFromRecall: excludedFromRecall(base),
   };
 
   // Live line: readings replayed over all points so far, their rate, and the ETA from points done.
@@ -148,7 +159,7 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
       graceMs: scoreOptions.graceMs!,
       floodWindowMs: FLOOD_WINDOW_MS,
       floodLimit: FLOOD_LIMIT,
-      excludedFromRecall: EXCLUDED_FROM_RECALL,
+      excludedFromRecall: [...scoreOptions.excludeFromRecall!],
     },
     budgetPerHour: budget,
     gridSpec: formatGridSpec(spec),

@@ -194,6 +194,7 @@ export async function main(argv: string[]): Promise<number> {
     if (held.length >= HOLD_CAP) flush();
   };
 
+  const readWhat = `read ${topics.length > 1 ? 'topics' : 'topic'} ${topics.join(' and ')}`;
   let follower: Awaited<ReturnType<typeof follow>>;
   try {
     follower = await follow({
@@ -230,16 +231,21 @@ export async function main(argv: string[]): Promise<number> {
       },
     });
   } catch (e) {
-    throw kafkaRefusal(e, kafkaSettings, `read ${topics.join(' and ')}`) ?? e;
+    throw kafkaRefusal(e, kafkaSettings, readWhat) ?? e;
   }
   const stop = () => void follower.stop();
   const releaseSignals = onStopSignal(stop);
   const poll = setInterval(() => {
     if (broken) stop();
   }, 200);
-  await follower.done;
+  try {
+    await follower.done;
+  } catch (e) {
+    throw kafkaRefusal(e, kafkaSettings, readWhat) ?? e;
+  } finally {
+    clearInterval(poll);
+    releaseSignals();
+  }
   flush();
-  clearInterval(poll);
-  releaseSignals();
   return 0;
 }

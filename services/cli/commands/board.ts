@@ -4,13 +4,13 @@
  * the action topic so every board and terminal view agree.
  */
 import { NOTICE } from '../../../libs/schema/notice.js';
-import { StreamfenceError } from '../../../libs/errors/index.js';
 import { ENV } from '../../config/env.js';
 import {
   KAFKA_OPTIONS,
   REDIS_OPTIONS,
   buildKafka,
   buildRedis,
+  connectRedis,
   connectionHelp,
   kafkaRefusal,
   parseArgsOptions,
@@ -115,17 +115,7 @@ export async function main(argv: string[]): Promise<number> {
 
   printBanner(CMD);
   const redis = buildRedis(redisSettings);
-  try {
-    await redis.connect();
-  } catch (e) {
-    redis.disconnect();
-    const refused = redisRefusal(e, redisSettings);
-    if (refused) throw refused;
-    throw new StreamfenceError(
-      'SERVICE_UNAVAILABLE',
-      `cannot reach Redis at --redis: ${(e as Error).message}`,
-    );
-  }
+  await connectRedis(redis, redisSettings);
   const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-board', retries: 5 });
   let feed: LiveFeed | null = null;
   const hub = new BoardHub({

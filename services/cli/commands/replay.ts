@@ -57,6 +57,10 @@ INPUT           readings file: NDJSON (one {"sensor","ts","value"} per line; .nd
   --budget N      alert budget in raised alerts per hour for the report (default ${ALERT_BUDGET_PER_HOUR})
   --max-sensors N most sensors with state at once; readings of new sensors beyond it are
                   rejected as sensor_limit (default ${DEFAULT_MAX_SENSORS})
+  --partitions N  judge a file as a live monitor of an N-partition topic would: each sensor on the
+                  partition the default Kafka partitioner gives its id, event time for the silent-
+                  sensor rule (staleAfter) kept per partition (default 1; a kafka:// input uses the
+                  topic's own partitions)
   --audit         compare digest quartiles with exact ones for a sample of sensors (implies --report;
                   the numbers also go to ${REPLAY_FILES.summary} under "audit")
   --from TIME     start of the Kafka range by Kafka message time, inclusive (ISO-8601 with a
@@ -88,6 +92,7 @@ export const OPTIONS = {
   from: { type: 'string' },
   to: { type: 'string' },
   'max-sensors': { type: 'string' },
+  partitions: { type: 'string' },
 } as const;
 
 /** The environment variable of each option (a flag wins over its variable). */
@@ -102,6 +107,7 @@ export const OPTION_ENV: Record<keyof typeof OPTIONS, string> = {
   from: ENV.replayFrom,
   to: ENV.replayTo,
   'max-sensors': ENV.maxSensors,
+  partitions: ENV.replayPartitions,
 };
 
 export async function main(argv: string[]): Promise<number> {
@@ -134,6 +140,7 @@ export async function main(argv: string[]): Promise<number> {
     fallback: DEFAULT_MAX_SENSORS,
   });
 
+  const partitions = numberOption(args, 'partitions', CMD, { whole: true, above: 0, fallback: 1 });
   if (!wantReport)
     warnNoEffect(CMD, args, ['report-top', 'budget'], 'without --report: only the HTML report uses them');
   if (!isKafkaUrl(input)) {
@@ -144,7 +151,10 @@ export async function main(argv: string[]): Promise<number> {
       Object.keys(KAFKA_OPTIONS),
       'with a file input: only a kafka:// input connects to Kafka',
     );
-  } else warnNoEffect(CMD, args, ['format'], 'with a kafka:// input: messages are JSON readings');
+  } else {
+    warnNoEffect(CMD, args, ['format'], 'with a kafka:// input: messages are JSON readings');
+    warnNoEffect(CMD, args, ['partitions'], 'with a kafka:// input: each message keeps its topic partition');
+  }
 
   let opened: OpenedInput;
   if (isKafkaUrl(input)) {
@@ -184,6 +194,7 @@ export async function main(argv: string[]): Promise<number> {
     observers,
     progress: opened.update,
     maxSensors,
+    partitions,
   });
   if (report !== null) await writeReport(outDir, report.render(summary));
   const progress = opened.progress;

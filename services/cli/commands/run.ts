@@ -7,7 +7,16 @@ import { ENGINE_VERSION } from '../../../libs/engine/engine.js';
 import { StreamfenceError } from '../../../libs/errors/index.js';
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { ENV } from '../../config/env.js';
-import { buildKafka, buildRedis, describeKafka, describeRedis } from '../../connect/index.js';
+import {
+  buildKafka,
+  buildRedis,
+  describeKafka,
+  describeRedis,
+  kafkaRefusal,
+  redisRefusal,
+  type KafkaSettings,
+  type RedisSettings,
+} from '../../connect/index.js';
 import { createLogger } from '../../log.js';
 import { startMetricsServer } from '../../metrics/http.js';
 import { createMetrics } from '../../metrics/metrics.js';
@@ -15,6 +24,25 @@ import { Monitor } from '../../monitor/monitor.js';
 import { optionsHelp, parseRunOptions, RUN_OPTIONS } from '../run-options.js';
 import { loadEngineConfig } from '../../setup/config-file.js';
 import { onStopSignal } from '../../setup/signals.js';
+
+/**
+ * The refusals that end `run` while it starts: wrong credentials, a denied ACL, a certificate the
+ * client does not trust. The guesses about plain text sent to a TLS port are left out: a broker or
+ * Redis that is down or slow can look the same, and run waits those out.
+ */
+export function startRefusal(
+  kafka: KafkaSettings,
+  redis: RedisSettings,
+  what: string,
+): (dependency: 'kafka' | 'redis', err: unknown) => StreamfenceError | null {
+  return (dependency, err) => {
+    const refused = dependency === 'redis' ? redisRefusal(err, redis) : kafkaRefusal(err, kafka, what);
+    if (refused === null) return null;
+    if (refused.code !== 'TLS_FAILED') return refused;
+    const tls = dependency === 'redis' ? redis.url.startsWith('rediss:') : kafka.tls === true;
+    return tls ? refused : null;
+  };
+}
 
 /** A stop request ends the process within this time (the documented 10 s stop budget). */
 export const STOP_DEADLINE_MS = 9_500;
@@ -85,6 +113,7 @@ export async function main(argv: string[]): Promise<number> {
     },
     log,
     metrics,
+    startRefusal: startRefusal(o.kafka, o.redis, `read ${o.inputTopic} in group ${o.group}`),
   });
   const http = await startMetricsServer(metrics.registry, o.metricsPort, () => monitor.readiness());
   log.info({ port: http.port }, `metrics listening on port ${http.port}`);
@@ -137,8 +166,16 @@ export async function main(argv: string[]): Promise<number> {
       },
     );
     monitor.start().catch((e: unknown) => {
-      log.error({ err: (e as Error).message }, 'monitor failed to start');
-      void stop('start-failure').then(() => resolve(e instanceof StreamfenceError ? 2 : 1));
+      // A typed refusal is the whole story in one line, written last so it is what a user sees.
+      if (e instanceof StreamfenceError)
+        void stop('start-failure').then(() => {
+          log.error({ code: e.code }, `${e.message} [${e.code}]`);
+          resolve(2);
+        });
+      else {
+        log.error({ err: (e as Error).message }, 'monitor failed to start');
+        void stop('start-failure').then(() => resolve(1));
+      }
     });
   });
 }

@@ -200,7 +200,8 @@ export async function main(argv: string[]): Promise<number> {
       what: `create or write topic ${topic}`,
     });
   printBanner(CMD);
-  if (configOut !== undefined) await writeText(configOut, configText(configOut, suggestedConfig(scenario)));
+  if (configOut !== undefined)
+    await writeText(configOut, configText(configOut, suggestedConfig(scenario, intervalMs)));
   if (labelsOut !== undefined) await writeText(labelsOut, formatLabelsCsv(sim.labels()));
 
   const expected = sim.sensors().length * Math.ceil(opts.durationMs / opts.intervalMs);

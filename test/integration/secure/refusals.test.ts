@@ -1,13 +1,17 @@
 /**
  * Each refusal ends in one line naming the dependency and the cause, exit code 2, and no secret:
  * a wrong SASL password, an untrusted certificate (no CA given), plain text sent to the SASL_SSL
- * port, an operation the ACL denies, and plain text sent to the TLS-only Redis.
+ * port, an operation the ACL denies (creating a topic, a viewer's group, reading a topic), plain
+ * text sent to the TLS-only Redis, a wrong Redis password or unknown Redis user, and the same at
+ * the start of `run` (which otherwise waits out outages) together with a key prefix its Redis
+ * user may not write.
  */
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
-import { describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { buildKafka, readKafkaSettings } from '../../../services/connect/index.js';
 import { secureStack } from '../../harness/secure.js';
 import { uniqueName } from '../../harness/services.js';
 
@@ -31,9 +35,11 @@ describe('secured stack refusals', () => {
   const wrong = path.join(mkdtempSync(path.join(tmpdir(), 'sf-pw-')), 'wrong.pw');
   writeFileSync(wrong, 'not-the-password\n');
   const broker = stack.monitor.STREAMFENCE_BROKERS;
-  const redisAt = new URL(stack.monitor.STREAMFENCE_REDIS_URL).host;
   const alerts = ['alerts', '--once', '--no-actions', '--alert-topic', `sf-alerts-${uniqueName('r')}`];
   const denied = `sf-in-${uniqueName('denied')}`;
+  const redisUrl = new URL(stack.monitor.STREAMFENCE_REDIS_URL);
+  const redisAt = `${redisUrl.hostname}:${redisUrl.port}`;
+  const inspect = ['inspect', '--state-prefix', `sf:${uniqueName('r')}`];
 
   it.each([
     [
@@ -73,11 +79,115 @@ describe('secured stack refusals', () => {
       { ...stack.reader, STREAMFENCE_REDIS_URL: `redis://${redisAt}`, STREAMFENCE_REDIS_CA_FILE: '' },
       `streamfence: redis: ${redisAt} closed the connection; if it expects TLS, use a rediss:// URL [TLS_FAILED]`,
     ],
+    [
+      'wrong Redis password',
+      inspect,
+      { ...stack.reader, STREAMFENCE_REDIS_PASSWORD_FILE: wrong },
+      `streamfence: redis: authentication failed for user reader at ${redisAt}; check the user and password [AUTH_FAILED]`,
+    ],
+    [
+      'unknown Redis ACL user',
+      inspect,
+      { ...stack.reader, STREAMFENCE_REDIS_USERNAME: 'nobody' },
+      `streamfence: redis: authentication failed for user nobody at ${redisAt}; check the user and password [AUTH_FAILED]`,
+    ],
   ] as const)('%s', (_name, args, env, line) => {
     const r = refused([...args], { ...env });
     expect(r.last).toBe(line);
     expect(r.status).toBe(2);
     expect(r.all).not.toContain('    at ');
     for (const s of secrets) expect(r.all).not.toContain(s);
+  });
+});
+
+/** `run` logs JSON lines; a refusal at start is the last one, then it exits 2 instead of retrying. */
+describe('secured stack refusals at the start of run', () => {
+  const stack = secureStack();
+  const wrong = path.join(mkdtempSync(path.join(tmpdir(), 'sf-pw-')), 'wrong.pw');
+  writeFileSync(wrong, 'not-the-password\n');
+  const redisUrl = new URL(stack.monitor.STREAMFENCE_REDIS_URL);
+  const redisAt = `${redisUrl.hostname}:${redisUrl.port}`;
+  const id = uniqueName('run');
+  const runArgs = (prefix: string) => [
+    'run',
+    ...['--input-topic', `sf-in-${id}`, '--alert-topic', `sf-alerts-${id}`],
+    ...['--rejected-topic', `sf-rejected-${id}`, '--group', `sf-g-${id}`],
+    ...['--state-prefix', prefix, '--metrics-port', '0'],
+  ];
+
+  it.each([
+    [
+      'wrong Redis password',
+      runArgs(`sf:${id}`),
+      { ...stack.monitor, STREAMFENCE_REDIS_PASSWORD_FILE: wrong },
+      `redis: authentication failed for user monitor at ${redisAt}; check the user and password [AUTH_FAILED]`,
+    ],
+    [
+      'a key prefix the Redis ACL does not allow (the monitor may use sf* only)',
+      runArgs(`other:${id}`),
+      stack.monitor,
+      `redis: not authorised for user monitor at ${redisAt}: this user has no permissions to access one of the keys used as arguments; grant the ACL or use another user (or a key prefix the user may use) [NOT_AUTHORISED]`,
+    ],
+    [
+      'wrong SASL password',
+      runArgs(`sf:${id}`),
+      { ...stack.monitor, STREAMFENCE_KAFKA_SASL_PASSWORD_FILE: wrong },
+      `kafka: authentication failed for user monitor (SCRAM-SHA-512) at ${stack.monitor.STREAMFENCE_BROKERS}; check the user and password [AUTH_FAILED]`,
+    ],
+  ] as const)('%s', (_name, args, env, msg) => {
+    const r = refused([...args], { ...env });
+    const last = JSON.parse(r.last) as { level: number; msg: string };
+    expect(last.msg).toBe(msg);
+    expect(r.status).toBe(2);
+    expect(r.all).not.toContain('    at ');
+  });
+});
+
+/**
+ * A viewer the ACL stops: `alerts --once` as the monitor user (its viewer group is not granted to
+ * the monitor) and as the operator on an input topic (not granted to the operator) ends in one line
+ * and exit 2, instead of waiting or printing nothing.
+ */
+describe('secured stack refusals of alerts --once', () => {
+  const stack = secureStack();
+  const alertTopic = `sf-alerts-${uniqueName('acl')}`;
+  const inputTopic = `sf-in-${uniqueName('acl')}`;
+  const admin = () =>
+    buildKafka(readKafkaSettings({}, stack.admin, { cmd: 'test' }), { clientId: 'sf-test' });
+
+  beforeAll(async () => {
+    const kafka = admin();
+    const a = kafka.admin();
+    await a.connect();
+    await a.createTopics({ topics: [{ topic: alertTopic }, { topic: inputTopic }], waitForLeaders: true });
+    await a.disconnect();
+    const p = kafka.producer();
+    await p.connect();
+    await p.send({ topic: alertTopic, messages: [{ value: '{}' }] });
+    await p.send({ topic: inputTopic, messages: [{ value: '{}' }] });
+    await p.disconnect();
+  }, 60_000);
+
+  afterAll(async () => {
+    const a = admin().admin();
+    await a.connect();
+    await a.deleteTopics({ topics: [alertTopic, inputTopic] }).catch(() => {});
+    await a.disconnect();
+  });
+
+  it('the group ACL denies the monitor user a viewer group', () => {
+    const r = refused(['alerts', '--once', '--no-actions', '--alert-topic', alertTopic], stack.monitor);
+    expect(r.last).toBe(
+      `streamfence: kafka: not authorised to read topic ${alertTopic} (group ACL) for user monitor; grant the ACL or use another user [NOT_AUTHORISED]`,
+    );
+    expect(r.status).toBe(2);
+  });
+
+  it('the topic ACL denies the operator user the input topic', () => {
+    const r = refused(['alerts', '--once', '--no-actions', '--alert-topic', inputTopic], stack.operator);
+    expect(r.last).toBe(
+      `streamfence: kafka: not authorised to read topic ${inputTopic} (topic ACL) for user operator; grant the ACL or use another user [NOT_AUTHORISED]`,
+    );
+    expect(r.status).toBe(2);
   });
 });

@@ -126,21 +126,21 @@ describe('daily profile: golden stream', () => {
     }
   });
 
-  it('a state of version 4 (no profile section) is still read, the profile starting empty', () => {
+  it('a state of version 5 (no profile section) is still read, the profile starting empty', () => {
     const plainConfig = settings('none');
     const engine = new Engine(plainConfig);
     run(engine, dailyStream(1));
-    const v5 = engine.encode('site-a/pump-3/flow')!;
-    expect(v5[v5.length - 1]).toBe(0); // no profile
-    const v4 = Uint8Array.from(v5.subarray(0, v5.length - 1));
-    v4[2] = 4;
+    const v6 = engine.encode('site-a/pump-3/flow')!;
+    expect(v6[v6.length - 1]).toBe(0); // no profile
+    const v5 = Uint8Array.from(v6.subarray(0, v6.length - 1));
+    v5[2] = 5;
     const profiled = new Engine(settings('daily'));
-    const state = profiled.restore(v4);
+    const state = profiled.restore(v5);
     expect(state.profile?.heldReadings).toBe(0);
     expect(state.seen).toBe(24 * 60);
     const back = new Engine(plainConfig);
-    back.restore(v4);
-    expect(back.encode('site-a/pump-3/flow')).toEqual(v5);
+    back.restore(v5);
+    expect(back.encode('site-a/pump-3/flow')).toEqual(v6);
   });
 
   it('a changed time zone or depth restarts the profile, keeping the window', () => {

@@ -22,6 +22,7 @@ const configArb = fc.record({
   trigger: fc.constantFrom('fence', 'z', 'either', 'both'),
   direction: fc.constantFrom('both', 'high', 'low'),
   badQualityAfter: fc.constantFrom(0, 1, 3),
+  staleAfter: fc.constantFrom('off', '1s', '4s'),
 });
 
 /** Mostly good readings (no field), runs of doubtful ones now and then. */
