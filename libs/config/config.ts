@@ -7,6 +7,7 @@ import picomatch from 'picomatch';
 import YAML from 'yaml';
 import { StreamfenceError } from '../errors/index.js';
 import { parseDuration, formatDuration } from './duration.js';
+import { isTimeZone } from './time-zone.js';
 import { DEFAULT_SETTINGS, SETTING_BOUNDS, SETTING_KEYS, type SensorSettings } from './settings.js';
 
 /** One `sensors` entry: a glob over sensor ids and the settings it overrides. */
@@ -204,6 +205,15 @@ function parseOne(key: keyof SensorSettings, value: unknown, where: string): unk
       return count(1);
     case 'buckets':
       return count(1, SETTING_BOUNDS.maxBuckets);
+    case 'profile':
+      if (value !== 'none' && value !== 'daily') bad(where, key, 'one of none, daily', value);
+      return value;
+    case 'timeZone':
+      if (typeof value !== 'string' || !isTimeZone(value))
+        bad(where, key, 'an IANA time zone name such as "UTC" or "Europe/Berlin"', value);
+      return value;
+    case 'profileDays':
+      return count(1, SETTING_BOUNDS.maxProfileDays);
     case 'learnWhileRaised':
       if (typeof value !== 'boolean') bad(where, key, 'true or false', value);
       return value;

@@ -6,6 +6,8 @@
 export type Trigger = 'fence' | 'z' | 'either' | 'both';
 /** Which side of normal is flagged. */
 export type Direction = 'both' | 'high' | 'low';
+/** What a reading is judged against: the rolling window alone, or the same local hour on previous days. */
+export type Profile = 'none' | 'daily';
 
 /** Everything that decides how one sensor is judged (the config keys; meanings in the README). */
 export interface SensorSettings {
@@ -47,6 +49,12 @@ export interface SensorSettings {
    * alert; null turns the rule off. Config accepts a duration ("15m") or "off".
    */
   staleAfter: number | null;
+  /** `daily`: judge against the same local hour on the previous profileDays days (see profile.ts). */
+  profile: Profile;
+  /** IANA time zone whose local hours the daily profile uses (shifts, daylight saving). */
+  timeZone: string;
+  /** Days of history a daily profile keeps and judges against. */
+  profileDays: number;
 }
 
 /** The default value of every setting (the README's configuration table lists them). */
@@ -69,6 +77,9 @@ export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
   learnWhileRaised: true,
   badQualityAfter: 10,
   staleAfter: null,
+  profile: 'none',
+  timeZone: 'UTC',
+  profileDays: 7,
 });
 
 /** The names of all settings, in the order of DEFAULT_SETTINGS. */
@@ -80,4 +91,5 @@ export const SETTING_BOUNDS = {
   maxRaiseWindow: 64,
   minWindowMs: 1000,
   maxWindowMs: 31 * 24 * 3600 * 1000,
+  maxProfileDays: 31,
 } as const;

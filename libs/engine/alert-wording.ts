@@ -25,6 +25,8 @@ type MessageInput = Omit<AlertEvent, 'message' | 'notice' | 'id'> & {
   min: number | null;
   max: number | null;
   stuckRun: number;
+  /** Set when a time-of-day profile judged: "for 03:00-04:00 on the last 7 days". */
+  profileSpan?: string | null;
 };
 
 /** The plain sentence of an alert event: the value against the fences, z, percentile and since when. */
@@ -36,7 +38,8 @@ export function alertMessage(input: MessageInput): string {
       `${input.sensor} is back to normal at ${fmt(input.value)} (${input.ts}); it had been abnormal since ${input.since}`,
     );
     if (baseline.lowerFence !== null && baseline.upperFence !== null) {
-      parts.push(`normal range ${fmt(baseline.lowerFence)} to ${fmt(baseline.upperFence)}`);
+      const span = input.profileSpan ? ` ${input.profileSpan}` : '';
+      parts.push(`normal range ${fmt(baseline.lowerFence)} to ${fmt(baseline.upperFence)}${span}`);
     }
     return parts.join('; ') + '.';
   }
@@ -63,7 +66,8 @@ export function alertMessage(input: MessageInput): string {
   if (has('flatline')) parts.push(`the same value ${input.stuckRun} readings in a row`);
   if (input.z !== null) parts.push(`z = ${fmt(input.z, 3)}`);
   if (input.percentileRank !== null) {
-    parts.push(`${fmt(input.percentileRank, 3)}% of the window (${baseline.count} readings) was lower`);
+    const of = input.profileSpan ? `the readings ${input.profileSpan}` : 'the window';
+    parts.push(`${fmt(input.percentileRank, 3)}% of ${of} (${baseline.count} readings) was lower`);
   }
   if (baseline.median !== null) parts.push(`median ${fmt(baseline.median)}`);
   parts.push(`abnormal since ${input.since}`);

@@ -17,6 +17,8 @@ import { DeadlineHeap } from './deadline-heap.js';
 import type { DoubtfulQuality, Quality, Reading } from './reading.js';
 import type { SensorBudget } from './sensor-budget.js';
 import { decodeSensorState, encodeSensorState, SensorState, type ConditionAlert } from './sensor-state.js';
+import type { ProfileBaseline } from './profile.js';
+import { hourSpan } from './local-time.js';
 import type { Baseline } from './window.js';
 
 /** Version of the judging semantics, written into replay and tune summaries. */
@@ -63,6 +65,12 @@ export function newCounters(): EngineCounters {
 }
 
 const iso = (ts: number): string => new Date(ts).toISOString();
+
+/** "for 03:00-04:00 on the last 7 days" (the zone named when it is not UTC). */
+function profileSpan(profiled: ProfileBaseline, zone: string): string {
+  const where = zone === 'UTC' ? '' : ` ${zone} time`;
+  return `for ${hourSpan(profiled.hour)}${where} on the last ${profiled.days} days`;
+}
 
 /**
  * Event time of one input partition for the silent-sensor rule: the newest reading time seen in
@@ -153,7 +161,11 @@ export class Engine {
     if (reading.ts >= window.newestTs) state.newestValue = reading.value;
     window.advance(reading.ts);
     if (reading.ts > this.watermark) this.watermark = reading.ts;
-    const baseline = window.baseline();
+    // A profiled sensor is judged by its local hour on previous days once that slot is warm.
+    const profile = state.profile;
+    const profileSlot = profile === null ? null : profile.advance(reading.ts);
+    const profiled = profileSlot === null ? null : profile!.baseline(settings.minSamples);
+    const baseline: Baseline | null = profiled ?? window.baseline();
     if (baseline !== state.fencesFor) {
       state.fencesFor = baseline;
       state.fences = baseline === null ? null : fencesOf(baseline, settings);
@@ -162,12 +174,18 @@ export class Engine {
     const outcome =
       reading.quality !== undefined
         ? this.doubtful(state, reading, reading.quality)
-        : this.judged(state, reading, baseline);
+        : this.judged(state, reading, baseline, profiled, profileSlot !== null);
     return this.silenceOn ? this.silence(state, reading, partition, isNew, outcome) : outcome;
   }
 
   /** A good reading: judged against the baseline, stepped through the lifecycle, maybe learned. */
-  private judged(state: SensorState, reading: Reading, baseline: Baseline | null): ProcessOutcome {
+  private judged(
+    state: SensorState,
+    reading: Reading,
+    baseline: Baseline | null,
+    profiled: ProfileBaseline | null,
+    learnsProfile: boolean,
+  ): ProcessOutcome {
     const settings = state.settings;
     const window = state.window;
     let events: AlertEvent[] | null = null;
@@ -210,12 +228,16 @@ export class Engine {
 
     // Readings that raise, continue or clear an alert feed the baseline only when configured to.
     const learned = settings.learnWhileRaised || (before === null && life.active === null);
-    if (learned) window.add(reading.ts, reading.value);
+    if (learned) {
+      window.add(reading.ts, reading.value);
+      if (learnsProfile) state.profile!.add(reading.ts, reading.value);
+    }
 
     if (transition !== null) {
       counters.alerts[transition]++;
       const alert = transition === 'cleared' ? before! : life.active!;
-      (events ??= []).push(this.makeEvent(state, reading, transition, alert));
+      const judgedBy = { baseline, profiled, zone: settings.timeZone };
+      (events ??= []).push(this.makeEvent(state, reading, transition, alert, judgedBy));
     }
     return { accepted: true, quality: 'good', verdict, learned, events: events ?? NO_EVENTS };
   }
@@ -356,8 +378,9 @@ export class Engine {
     reading: Reading,
     transition: AlertState,
     alert: ActiveAlert,
+    judgedBy: { baseline: Baseline | null; profiled: ProfileBaseline | null; zone: string },
   ): AlertEvent {
-    const baseline = state.window.baseline();
+    const baseline = judgedBy.baseline;
     const warm = baseline !== null;
     const body = {
       sensor: state.sensor,
@@ -368,7 +391,7 @@ export class Engine {
       ts: iso(reading.ts),
       since: iso(alert.raisedTs),
       flaggedReadings: alert.flaggedReadings,
-      baseline: this.baselineOf(state),
+      baseline: this.baselineOf(state, baseline),
       z: warm ? zScore(reading.value, baseline) : null,
       robustZ: warm ? robustZ(reading.value, baseline) : null,
       percentileRank: warm ? baseline.digest.rank(reading.value) * 100 : null,
@@ -378,13 +401,16 @@ export class Engine {
       min: state.settings.min,
       max: state.settings.max,
       stuckRun: state.stuckRun,
+      profileSpan: judgedBy.profiled === null ? null : profileSpan(judgedBy.profiled, judgedBy.zone),
     });
     return { id: alert.id, ...body, message, notice: NOTICE };
   }
 
   /** The baseline part of an event: the sensor's baseline and fences now (nulls before warm-up). */
-  private baselineOf(state: SensorState): AlertEvent['baseline'] {
-    const baseline = state.window.baseline();
+  private baselineOf(
+    state: SensorState,
+    baseline: Baseline | null = state.window.baseline(),
+  ): AlertEvent['baseline'] {
     // The cached fences are for the baseline of the sensor's last reading (none after a restore).
     const fences =
       baseline === null
@@ -519,7 +545,12 @@ export class Engine {
     let evicted = 0;
     for (const [sensor, state] of this.states) {
       if (state.life.active !== null || state.qualityAlert !== null || state.staleAlert !== null) continue;
-      if (this.watermark - state.window.newestTs <= state.settings.window) continue;
+      // A profiled sensor keeps its days of history (a silent day must not wipe its profile).
+      const keep =
+        state.profile === null
+          ? state.settings.window
+          : Math.max(state.settings.window, state.settings.profileDays * 86_400_000);
+      if (this.watermark - state.window.newestTs <= keep) continue;
       this.states.delete(sensor);
       this.evicted.push(sensor);
       evicted++;

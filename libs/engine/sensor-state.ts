@@ -6,6 +6,7 @@ import type { Fences } from './judge.js';
 import { isReason, SEVERITIES, type Reason } from '../schema/vocabulary.js';
 import { newLifecycle, type LifecycleState } from './lifecycle.js';
 import { SensorWindow, type Baseline, type ClosedBucket, type WindowSnapshot } from './window.js';
+import { DailyProfile, type ProfileEntry, type ProfileSnapshot } from './profile.js';
 
 /**
  * An alert about the sensor itself rather than a judged reading (its readings of doubtful
@@ -39,6 +40,8 @@ export class SensorState {
   /** Fences cached for the baseline object they were computed from. */
   fencesFor: Baseline | null = null;
   fences: Fences | null = null;
+  /** The time-of-day profile (`profile: daily`), or null. */
+  profile: DailyProfile | null;
 
   /** A new sensor, or (decodeSensorState) one whose window was restored from its encoding. */
   constructor(
@@ -48,6 +51,8 @@ export class SensorState {
   ) {
     this.window = window;
     this.life = newLifecycle(settings);
+    this.profile =
+      settings.profile === 'daily' ? new DailyProfile(settings.timeZone, settings.profileDays) : null;
   }
 }
 
@@ -56,12 +61,15 @@ const MAGIC_1 = 0x46; // 'F'
 /**
  * Bump whenever the encoding changes: a state of another version is refused, never misread.
  * 4 added the doubtful-quality run and the bad_quality alert after the lifecycle; 5 the newest
- * reading's value and the stale alert. Versions 3 and 4 are still read (no run, no such alerts,
- * the newest value taken as the last judged one).
+ * reading's value and the stale alert; 6 the time-of-day profile section at the end. Versions 3
+ * to 5 are still read (no run, no such alerts, the newest value taken as the last judged one, the
+ * profile empty).
  */
-export const STATE_VERSION = 5;
+export const STATE_VERSION = 6;
+/** The first version with the time-of-day profile section at the end. */
+const PROFILE_VERSION = 6;
 /** Older encodings this build still reads. */
-const READABLE_VERSIONS = [3, 4, STATE_VERSION];
+const READABLE_VERSIONS = [3, 4, 5, STATE_VERSION];
 
 // Reused across calls: encoding is synchronous, and checkpoints encode thousands of sensors at once.
 const sharedWriter = new ByteWriter();
@@ -87,6 +95,7 @@ export function encodeSensorState(state: SensorState): Uint8Array {
   writeCondition(out, state.qualityAlert);
   out.f64(state.newestValue);
   writeCondition(out, state.staleAlert);
+  writeProfile(out, state.profile);
   return out.bytes();
 }
 
@@ -138,6 +147,109 @@ function writeWindow(out: ByteWriter, window: SensorWindow): void {
       out.uvar(counts[i]);
     }
   }
+}
+
+function writeCentroidList(out: ByteWriter, means: Float64Array, counts: Float64Array): void {
+  // Stored means were rounded by roundForStorage: the first as a double, then single-precision steps.
+  out.uvar(means.length);
+  for (let i = 0; i < means.length; i++) {
+    if (i === 0) out.f64(means[0]);
+    else out.f32(means[i] - means[i - 1]);
+    out.uvar(counts[i]);
+  }
+}
+
+function readCentroidList(input: ByteReader): { means: Float64Array; counts: Float64Array } {
+  const length = input.uvar();
+  const means = new Float64Array(length);
+  const counts = new Float64Array(length);
+  for (let i = 0; i < length; i++) {
+    means[i] = i === 0 ? input.f64() : means[i - 1] + input.f32();
+    counts[i] = input.uvar();
+  }
+  return { means, counts };
+}
+
+/**
+ * The profile section: 0 for none, else 1, zone, depth, the open entry (as the window's open
+ * bucket) and per slot its entries (day as a step from the previous, timestamps, moments, centroids).
+ */
+function writeProfile(out: ByteWriter, profile: DailyProfile | null): void {
+  out.u8(profile ? 1 : 0);
+  if (profile === null) return;
+  out.str(profile.zone);
+  out.uvar(profile.profileDays);
+  out.f64(profile.openDay);
+  out.f64(profile.openHour);
+  out.f64(profile.openMoments.n);
+  out.f64(profile.openMoments.mean);
+  out.f64(profile.openMoments.m2);
+  out.f64(profile.openFirstTs);
+  out.f64(profile.openLastTs);
+  const open = profile.open.snapshot();
+  out.uvar(open.means.length);
+  for (let i = 0; i < open.means.length; i++) {
+    out.f64(open.means[i]);
+    out.uvar(open.counts[i]);
+  }
+  out.uvar(open.buffer.length);
+  for (let i = 0; i < open.buffer.length; i++) out.f64(open.buffer[i]);
+  for (const slot of profile.slots) {
+    out.uvar(slot.length);
+    for (const entry of slot) {
+      out.f64(entry.day);
+      out.f64(entry.moments.n);
+      out.f64(entry.moments.mean);
+      out.f64(entry.moments.m2);
+      out.f64(entry.firstTs);
+      out.f64(entry.lastTs);
+      writeCentroidList(out, entry.centroids.means, entry.centroids.counts);
+    }
+  }
+}
+
+function readProfile(input: ByteReader): ProfileSnapshot | null {
+  if (input.u8() !== 1) return null;
+  const zone = input.str();
+  const profileDays = input.uvar();
+  const openDay = input.f64();
+  const openHour = input.f64();
+  const openMoments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
+  const openFirstTs = input.f64();
+  const openLastTs = input.f64();
+  const centroidCount = input.uvar();
+  const means = new Float64Array(centroidCount);
+  const counts = new Float64Array(centroidCount);
+  for (let i = 0; i < centroidCount; i++) {
+    means[i] = input.f64();
+    counts[i] = input.uvar();
+  }
+  const buffer = new Float64Array(input.uvar());
+  for (let i = 0; i < buffer.length; i++) buffer[i] = input.f64();
+  const slots: ProfileEntry[][] = [];
+  for (let hour = 0; hour < 24; hour++) {
+    const length = input.uvar();
+    const slot: ProfileEntry[] = [];
+    for (let k = 0; k < length; k++) {
+      const day = input.f64();
+      const moments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
+      const firstTs = input.f64();
+      const lastTs = input.f64();
+      slot.push({ day, moments, firstTs, lastTs, centroids: readCentroidList(input) });
+    }
+    slots.push(slot);
+  }
+  return {
+    zone,
+    profileDays,
+    openDay,
+    openHour,
+    openMoments,
+    openFirstTs,
+    openLastTs,
+    open: { means, counts, buffer },
+    slots,
+  };
 }
 
 function writeLifecycle(out: ByteWriter, life: LifecycleState): void {
@@ -201,6 +313,13 @@ export function decodeSensorState(
       state.newestValue = input.f64();
       state.staleAlert = readCondition(input);
     } else state.newestValue = lastValue;
+    if (version >= PROFILE_VERSION) {
+      const saved = readProfile(input);
+      // A profile written under another zone or depth restarts (DailyProfile.restore); one
+      // written while the sensor was unprofiled, or for a sensor no longer profiled, is dropped.
+      if (saved !== null && state.profile !== null)
+        state.profile = DailyProfile.restore(settings.timeZone, settings.profileDays, saved);
+    }
     if (!input.done)
       throw new StreamfenceError('STATE_CORRUPT', `sensor state for "${sensor}" has trailing bytes`);
     return state;

@@ -17,6 +17,11 @@ export const SKETCH = {
   windowCentroids: 1800,
   /** Centroids of the merged baseline built at each roll (held in memory only, never stored). */
   baselineBins: 300,
+  /**
+   * Centroids one closed profile entry (one local hour of one day) keeps: 24 slots x 7 days of
+   * them must stay within the 64 KB aim per profiled sensor (README "Time-of-day baselines").
+   */
+  profileBins: 48,
 } as const;
 
 /** Centroids one closed bucket keeps in a window of `buckets` buckets. */

@@ -21,6 +21,7 @@ export const ERROR_CODES = [
   'NOT_AUTHORISED',
   'NOT_FOUND',
   'INPUT_EMPTY',
+  'PORT_IN_USE',
 ] as const;
 
 /** A stable error code: what programs and tests match on (the message is for people). */

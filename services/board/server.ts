@@ -6,6 +6,7 @@ import { createServer, type IncomingMessage, type Server, type ServerResponse } 
 import type { AddressInfo } from 'node:net';
 import type { ActionKind } from '../../libs/board/store.js';
 import { NOTICE } from '../../libs/schema/notice.js';
+import { listenFailure } from '../setup/listen-errors.js';
 import { authorized } from './auth.js';
 import type { BoardHub, HubMessage } from './hub.js';
 import type { BoardMetrics } from '../metrics/board-metrics.js';
@@ -211,7 +212,8 @@ export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard
     const failed = (e: unknown) => {
       clearInterval(ticker);
       clearInterval(heartbeat);
-      reject(e);
+      // One line naming the port and --port; the node error stays as `cause` (demo reads its code).
+      reject(listenFailure(e, { port: opts.port, host: opts.host, option: '--port' }));
     };
     server.once('error', failed);
     server.listen(opts.port, opts.host, () => {

@@ -86,6 +86,9 @@ main(process.argv.slice(2)).then(
     if (isStreamfenceError(err)) {
       process.stderr.write(`streamfence: ${err.message} [${err.code}]\n`);
       process.exitCode = 2;
+      // A command that cannot start ends now, even if a client library still holds a socket or a
+      // timer (unref'd: a process that is already done exits at once).
+      setTimeout(() => process.exit(2), 1_000).unref();
     } else {
       process.stderr.write(
         `streamfence: unexpected failure: ${err instanceof Error ? err.stack : String(err)}\n`,

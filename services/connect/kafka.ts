@@ -1,8 +1,9 @@
 /**
  * The kafkajs client of every command, from KafkaSettings: brokers, optional TLS (CA, client
  * certificate) and SASL (PLAIN, SCRAM-SHA-256, SCRAM-SHA-512). kafkajs log lines go to our pino
- * logger (one JSON object per line, secrets redacted) or nowhere: a command without a logger
- * reports failures through the errors it throws, never through kafkajs' own console output.
+ * logger at debug level only (one JSON object per line, secrets redacted) or nowhere: a command
+ * reports failures through its own one-line messages (services/connect/outage.ts), never through
+ * kafkajs' text, which repeats every retry in several JSON lines.
  */
 import { Kafka, logLevel, type KafkaConfig, type SASLOptions, type LogEntry } from 'kafkajs';
 import { readPem } from './files.js';
@@ -15,19 +16,12 @@ export interface KafkaClientOptions {
   log?: Logger;
   /**
    * Told about every error kafkajs reports (it retries them itself: failed requests, lost group
-   * membership), so a long-running caller can count Kafka trouble it never sees as an exception.
+   * membership), so a long-running caller can word Kafka trouble it never sees as an exception.
    */
-  onError?: () => void;
+  onError?: (entry: LogEntry) => void;
   /** kafkajs retries of one request before it fails (default 8). */
   retries?: number;
 }
-
-const LEVELS: Record<number, 'error' | 'warn' | 'info' | 'debug'> = {
-  [logLevel.ERROR]: 'error',
-  [logLevel.WARN]: 'warn',
-  [logLevel.INFO]: 'info',
-  [logLevel.DEBUG]: 'debug',
-};
 
 /** The kafkajs configuration for the settings (exported for tests). */
 export function kafkaConfig(s: KafkaSettings, o: KafkaClientOptions): KafkaConfig {
@@ -41,11 +35,11 @@ export function kafkaConfig(s: KafkaSettings, o: KafkaClientOptions): KafkaConfi
     // kafkajs logs at info about routine group events; keep only warnings and errors.
     logLevel: log || onError ? logLevel.WARN : logLevel.NOTHING,
     logCreator: () => (entry: LogEntry) => {
-      if (entry.level === logLevel.ERROR) onError?.();
+      if (entry.level === logLevel.ERROR) onError?.(entry);
       if (!log) return;
-      const level = LEVELS[entry.level] ?? 'info';
+      // The library's own words stay at debug: the command logs one line per retry of its own.
       const { message, ...rest } = entry.log;
-      log[level]({ kafkajs: entry.namespace, ...pickSafe(rest) }, String(message));
+      log.debug({ kafkajs: entry.namespace, ...pickSafe(rest) }, String(message));
     },
   };
   if (s.tls || s.caFile || s.certFile) {

@@ -5,6 +5,7 @@
 import { createServer, type Server } from 'node:http';
 import type { AddressInfo } from 'node:net';
 import type { Registry } from 'prom-client';
+import { listenFailure } from '../setup/listen-errors.js';
 
 export interface HttpSurface {
   server: Server;
@@ -48,7 +49,8 @@ export async function startMetricsServer(
     }
   });
   await new Promise<void>((resolve, reject) => {
-    server.once('error', reject);
+    // A taken port is one line naming it and the option, never node's listen text.
+    server.once('error', (e) => reject(listenFailure(e, { port, host, option: '--metrics-port' })));
     server.listen(port, host, () => resolve());
   });
   const bound = (server.address() as AddressInfo).port;

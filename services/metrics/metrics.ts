@@ -41,8 +41,11 @@ export interface Metrics extends EngineMetrics {
   partitionLag: Gauge<'partition'>;
   /** wall-clock seconds since the last message of each assigned input partition (since assignment if none) */
   inputIdle: Gauge<'partition'>;
-  /** dependency = kafka | redis: retries after a failed call to that dependency */
-  backoff: Counter<'dependency'>;
+  /**
+   * dependency = kafka | redis, cause = one of OUTAGE_CAUSES (connection, timeout, auth, tls, acl,
+   * other): one per retry, as logged
+   */
+  backoff: Counter<'dependency' | 'cause'>;
   checkpoints: Counter<'result'>;
   assignedPartitions: Gauge;
   /** the sensor limit (--max-sensors) */
@@ -146,8 +149,8 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
     }),
     backoff: new Counter({
       name: 'streamfence_backoff_total',
-      help: 'Retries after a dependency failed or timed out, by dependency.',
-      labelNames: ['dependency'],
+      help: 'Retries after a Kafka or Redis call failed, by dependency and cause (one per logged retry line).',
+      labelNames: ['dependency', 'cause'],
       registers,
     }),
     checkpoints: new Counter({

@@ -34,7 +34,10 @@ import type { Logger } from '../log.js';
 import type { Metrics } from '../metrics/metrics.js';
 import { CheckpointStore } from '../redis/checkpoint-store.js';
 import { configKey } from '../redis/keys.js';
-import { withBackoff, type BackoffHooks } from './backoff.js';
+import { StreamfenceError } from '../../libs/errors/index.js';
+import type { KafkaSettings, RedisSettings } from '../connect/options.js';
+import { kafkaOutage, redisOutage, retryLine, RedisErrorWatch, type Outage } from '../connect/outage.js';
+import { backoffDelay, withBackoff, type BackoffHooks } from './backoff.js';
 import { parseMessage, rejectionRecord } from './kafka-message.js';
 
 export interface MonitorSettings {
@@ -59,11 +62,23 @@ export interface MonitorParts {
   log: Logger;
   metrics: Metrics;
   /**
+   * The settings the clients were built from, to name the address in retry lines
+   * (`redis 127.0.0.1:6399: connection refused; retrying in 5 s`). Optional for benches.
+   */
+  connection?: { kafka: KafkaSettings; redis: RedisSettings };
+  /**
    * Judges a failure while starting: a refusal no retry can cure (wrong password, denied ACL,
    * untrusted certificate) is returned and start() fails with it, so `run` exits 2 with that line
    * instead of retrying for ever. Null (the default) means wait and retry.
    */
   startRefusal?: (dependency: 'kafka' | 'redis', err: unknown) => Error | null;
+}
+
+/** How a stop ended: every held partition checkpointed (or none held), or not. */
+export interface StopOutcome {
+  clean: boolean;
+  /** Partitions whose state could not be written (their next owner re-reads from the last checkpoint). */
+  notCheckpointed: number[];
 }
 
 interface PartitionWorker {
@@ -103,7 +118,7 @@ export class Monitor {
   private readonly store: CheckpointStore;
   /** Shared by every partition's engine: the sensor limit is per process. */
   private readonly budget: SensorBudget;
-  private readonly consumer: Consumer;
+  private consumer: Consumer;
   private readonly producer: Producer;
   private readonly admin: Admin;
   private lockTail: Promise<unknown> = Promise.resolve();
@@ -111,6 +126,19 @@ export class Monitor {
   /** Wall-clock time of the last message per assigned partition (its assignment time before one). */
   private readonly heardAt = new Map<number, number>();
   private joined = false;
+  /** True once the consumer has joined its group for the first time: refusals are retried after. */
+  private started = false;
+  /** A refusal seen while starting (the consumer crashed for good): start() ends with it. */
+  private startFailure: StreamfenceError | null = null;
+  /** Kafka failed since the last heartbeat or batch: not ready. */
+  private kafkaDown = false;
+  /** Consumer restarts since it last joined (their wait grows). */
+  private consumerRestarts = 0;
+  /** Waits a stop request cuts short (backoff while starting). */
+  private readonly stopWaiters = new Set<() => void>();
+  private readonly redisWatch: RedisErrorWatch;
+  private readonly kafkaSettings: KafkaSettings;
+  private readonly redisSettings: RedisSettings;
   private stopping = false;
   /** After a stop request, dependency retries give up at this time (inside the 10 s stop budget). */
   private stopGiveUpAt = Infinity;
@@ -132,6 +160,11 @@ export class Monitor {
     this.settings = settings;
     this.log = parts.log;
     this.metrics = metrics;
+    this.redisWatch = new RedisErrorWatch(redis);
+    this.kafkaSettings = parts.connection?.kafka ?? { brokers: ['(brokers)'] };
+    this.redisSettings = parts.connection?.redis ?? {
+      url: `redis://${redis.options.host ?? '127.0.0.1'}:${redis.options.port ?? 6379}`,
+    };
     this.startRefusal = parts.startRefusal ?? (() => null);
     this.store = new CheckpointStore(
       redis,
@@ -142,15 +175,7 @@ export class Monitor {
     );
     this.budget = new SensorBudget(settings.maxSensors ?? DEFAULT_MAX_SENSORS);
     metrics.sensorLimit.set(this.budget.limit);
-    this.consumer = kafka.consumer({
-      groupId: settings.group,
-      sessionTimeout: settings.sessionTimeoutMs,
-      rebalanceTimeout: Math.max(60_000, settings.sessionTimeoutMs),
-      heartbeatInterval: Math.max(100, Math.floor(settings.sessionTimeoutMs / 10)),
-      maxBytesPerPartition: 1_048_576,
-      // Never give up on the group: retriable failures restart the consumer after a pause.
-      retry: { retries: 10, initialRetryTime: 300, maxRetryTime: 10_000, restartOnFailure: async () => true },
-    });
+    this.consumer = this.makeConsumer();
     this.producer = kafka.producer({
       idempotent: true,
       maxInFlightRequests: 1,
@@ -160,7 +185,30 @@ export class Monitor {
     this.admin = kafka.admin();
   }
 
-  /** Connect (retrying while dependencies are down) and start consuming. */
+  private makeConsumer(): Consumer {
+    const { settings } = this;
+    return this.kafka.consumer({
+      groupId: settings.group,
+      sessionTimeout: settings.sessionTimeoutMs,
+      rebalanceTimeout: Math.max(60_000, settings.sessionTimeoutMs),
+      heartbeatInterval: Math.max(100, Math.floor(settings.sessionTimeoutMs / 10)),
+      maxBytesPerPartition: 1_048_576,
+      // A few quick retries inside kafkajs, then a restart after our own logged, counted wait:
+      // never give up on the group while the failure is one waiting may fix.
+      retry: {
+        retries: 3,
+        initialRetryTime: 300,
+        maxRetryTime: 5_000,
+        restartOnFailure: (e) => this.beforeRestart(e),
+      },
+    });
+  }
+
+  /**
+   * Connect (retrying while dependencies are unreachable) and start consuming. A refusal waiting
+   * cannot fix (wrong password, untrusted certificate, ACL denial, missing topic) ends it with its
+   * StreamfenceError; a stop request ends the waiting at once (it resolves, not consuming).
+   */
   async start(): Promise<void> {
     const refuse = (dependency: 'kafka' | 'redis') => ({
       fatal: (err: unknown) => this.startRefusal(dependency, err),
@@ -175,21 +223,12 @@ export class Monitor {
         ),
       refuse('redis'),
     );
-    await this.retry('kafka', () => this.admin.connect(), refuse('kafka'));
-    await this.retry('kafka', () => this.producer.connect(), refuse('kafka'));
-    await this.retry('kafka', () => this.consumer.connect(), refuse('kafka'));
-    this.wireEvents();
-    await this.retry(
-      'kafka',
-      () => this.consumer.subscribe({ topic: this.settings.inputTopic, fromBeginning: true }),
-      refuse('kafka'),
-    );
-    await this.consumer.run({
-      autoCommit: false,
-      eachBatchAutoResolve: false,
-      partitionsConsumedConcurrently: 1,
-      eachBatch: (p) => this.locked(() => this.onBatch(p)),
-    });
+    await this.retry('kafka', () => this.admin.connect());
+    await this.requireTopics();
+    await this.retry('kafka', () => this.producer.connect());
+    await this.startConsumer();
+    if (this.startFailure) throw this.startFailure;
+    if (this.stopping) return;
     this.timer = setInterval(() => {
       void this.locked(() => this.checkpointDue()).catch((e: unknown) =>
         this.log.error({ err: errText(e) }, 'periodic checkpoint failed'),
@@ -203,7 +242,81 @@ export class Monitor {
     );
   }
 
-  /** Joined the group and Redis answers. */
+  /** Connect, subscribe and run the consumer (run() returns once it has joined, or crashed). */
+  private async startConsumer(): Promise<void> {
+    await this.retry('kafka', () => this.consumer.connect());
+    this.wireEvents();
+    await this.retry(
+      'kafka',
+      () => this.consumer.subscribe({ topic: this.settings.inputTopic, fromBeginning: true }),
+      {},
+      `read topic ${this.settings.inputTopic}`,
+    );
+    if (this.stopping) return;
+    await this.consumer.run({
+      autoCommit: false,
+      eachBatchAutoResolve: false,
+      partitionsConsumedConcurrently: 1,
+      eachBatch: (p) => this.locked(() => this.onBatch(p)),
+    });
+  }
+
+  /** The input, alert and rejected topics must exist (NOT_FOUND naming the first missing one). */
+  private async requireTopics(): Promise<void> {
+    const topics = new Set(await this.retry('kafka', () => this.admin.listTopics(), {}, 'list topics'));
+    const { inputTopic, alertTopic, rejectedTopic } = this.settings;
+    for (const [topic, option] of [
+      [inputTopic, '--input-topic'],
+      [alertTopic, '--alert-topic'],
+      [rejectedTopic, '--rejected-topic'],
+    ] as const) {
+      if (!topics.has(topic))
+        throw new StreamfenceError(
+          'NOT_FOUND',
+          `kafka ${this.kafkaSettings.brokers.join(',')}: topic "${topic}" (${option}) does not exist; check the name or create it first`,
+        );
+    }
+  }
+
+  /**
+   * Called by kafkajs before it restarts a consumer that failed: log and count the retry, wait our
+   * own growing backoff (cut short by a stop request), then restart unless stopping.
+   */
+  private async beforeRestart(err: unknown): Promise<boolean> {
+    if (this.stopping) return false;
+    this.consumerRestarts++;
+    const delayMs = backoffDelay(this.consumerRestarts, 500);
+    this.noteRetry(
+      this.describe('kafka', err, `read topic ${this.settings.inputTopic}`),
+      delayMs,
+      this.consumerRestarts,
+    );
+    await this.pause(delayMs, true);
+    return !this.stopping;
+  }
+
+  /**
+   * kafkajs does not restart a consumer after an error it counts as final (a refusal, e.g. an ACL
+   * removed while running): a fresh consumer joins again after a logged, counted wait.
+   */
+  private async replaceConsumer(err: unknown): Promise<void> {
+    this.consumerRestarts++;
+    const delayMs = backoffDelay(this.consumerRestarts, 500);
+    this.noteRetry(
+      this.describe('kafka', err, `read topic ${this.settings.inputTopic}`),
+      delayMs,
+      this.consumerRestarts,
+    );
+    await this.pause(delayMs, true);
+    if (this.stopping) return;
+    await this.consumer.disconnect().catch(() => undefined);
+    this.consumer = this.makeConsumer();
+    await this.startConsumer().catch((e: unknown) => {
+      if (!this.stopping) this.log.debug({ err: errText(e) }, 'consumer restart failed');
+    });
+  }
+
+  /** Joined the group, Kafka and Redis answer, not stopping. */
   async readiness(): Promise<{ ready: boolean; detail: Record<string, unknown> }> {
     let redisOk = false;
     try {
@@ -211,31 +324,113 @@ export class Monitor {
     } catch {
       redisOk = false;
     }
-    const ready = this.joined && redisOk && !this.stopping;
+    const ready = this.joined && redisOk && !this.kafkaDown && !this.stopping;
     this.metrics.ready.set(ready ? 1 : 0);
     return {
       ready,
-      detail: { joined: this.joined, redis: redisOk, partitions: [...this.assigned].sort((a, b) => a - b) },
+      detail: {
+        joined: this.joined,
+        kafka: !this.kafkaDown,
+        redis: redisOk,
+        partitions: [...this.assigned].sort((a, b) => a - b),
+      },
     };
   }
 
-  /** Graceful stop: finish the batch, publish, checkpoint, commit, hand partitions back, leave. */
-  async stop(): Promise<void> {
-    if (this.stopping) return;
+  /** True once stop() was called. */
+  get stopRequested(): boolean {
+    return this.stopping;
+  }
+
+  /**
+   * Graceful stop: finish the batch, publish, checkpoint, commit, hand partitions back, leave.
+   * Says only what happened: a partition whose checkpoint could not be written is named, never
+   * reported as checkpointed.
+   */
+  async stop(): Promise<StopOutcome> {
+    if (this.stopping) return { clean: true, notCheckpointed: [] };
     this.stopping = true;
-    this.stopGiveUpAt = Date.now() + 7_000;
+    this.stopGiveUpAt = Date.now() + 6_000;
+    for (const wake of [...this.stopWaiters]) wake();
     if (this.timer) clearInterval(this.timer);
-    this.log.info('stopping: finishing the current batch');
-    await this.consumer.stop();
+    this.metrics.ready.set(0);
+    this.log.info(
+      this.started ? 'stopping: finishing the current batch' : 'stopping before the group was joined',
+    );
+    // While joining, kafkajs's stop waits for the join answer (up to the rebalance timeout): bound it.
+    await withTimeout(this.consumer.stop(), this.started ? 4_000 : 1_500).catch(() => undefined);
+    const notCheckpointed: number[] = [];
+    let lastFailure: Outage | null = null;
+    const held = this.workers.size;
     await this.locked(async () => {
       for (const w of [...this.workers.values()]) {
-        if (await this.checkpoint(w)) await this.store.release(w.partition).catch(() => undefined);
+        try {
+          if (await this.checkpoint(w)) await this.store.release(w.partition).catch(() => undefined);
+        } catch (e) {
+          notCheckpointed.push(w.partition);
+          const last = e instanceof Error && 'lastError' in e ? (e as { lastError: unknown }).lastError : e;
+          lastFailure = this.describe('redis', last);
+        }
       }
     });
-    await this.consumer.disconnect();
-    await this.producer.disconnect();
-    await this.admin.disconnect();
-    this.log.info('stopped: state checkpointed, group left');
+    await withTimeout(this.consumer.disconnect(), 1_500).catch(() => undefined);
+    await withTimeout(this.producer.disconnect(), 1_000).catch(() => undefined);
+    await withTimeout(this.admin.disconnect(), 1_000).catch(() => undefined);
+    if (notCheckpointed.length > 0) {
+      this.log.warn(
+        { partitions: notCheckpointed, cause: (lastFailure as Outage | null)?.line },
+        `stopped WITHOUT a checkpoint of partitions ${notCheckpointed.join(', ')} (${(lastFailure as Outage | null)?.line ?? 'no answer'}); the next start re-reads them from their last checkpoint`,
+      );
+      return { clean: false, notCheckpointed };
+    }
+    this.log.info(
+      held === 0
+        ? 'stopped: no partition state held, nothing to checkpoint'
+        : 'stopped: state checkpointed, group left',
+    );
+    return { clean: true, notCheckpointed };
+  }
+
+  /** Wait `ms`; a stop request cuts it short when `always` is set or the consumer never joined. */
+  private pause(ms: number, always = false): Promise<void> {
+    return new Promise<void>((resolve) => {
+      const done = () => {
+        clearTimeout(timer);
+        this.stopWaiters.delete(done);
+        resolve();
+      };
+      const timer = setTimeout(done, ms);
+      if (always || !this.started) this.stopWaiters.add(done);
+    });
+  }
+
+  /** The failure in words, naming the address (and the operation, for ACL refusals). */
+  private describe(dependency: 'kafka' | 'redis', err: unknown, what?: string): Outage {
+    return dependency === 'kafka'
+      ? kafkaOutage(err, this.kafkaSettings, what)
+      : redisOutage(err, this.redisSettings, this.redisWatch.lastError);
+  }
+
+  /**
+   * A failed request or connection the Kafka client retries on its own (a broker that stops
+   * answering mid-run): one line and one count per failure, with the broker it names. Pass the
+   * client's log entries here (buildKafka's onError).
+   */
+  noteKafkaClientError(entry: { namespace: string; log: { message?: unknown; broker?: unknown } }): void {
+    if (this.stopping || entry.namespace !== 'Connection') return;
+    const broker = typeof entry.log.broker === 'string' ? entry.log.broker : null;
+    const settings = broker === null ? this.kafkaSettings : { ...this.kafkaSettings, brokers: [broker] };
+    this.noteRetry(kafkaOutage(new Error(String(entry.log.message ?? '')), settings), null, 0);
+  }
+
+  /** One warn line and one count per retry. */
+  private noteRetry(outage: Outage, delayMs: number | null, attempt: number): void {
+    if (outage.dependency === 'kafka') this.kafkaDown = true;
+    this.metrics.backoff.inc({ dependency: outage.dependency, cause: outage.cause });
+    this.log.warn(
+      { dependency: outage.dependency, cause: outage.cause, code: outage.refusal?.code, attempt, delayMs },
+      retryLine(outage, delayMs),
+    );
   }
 
   private wireEvents(): void {
@@ -244,6 +439,9 @@ export class Monitor {
       const mine = e.payload.memberAssignment[this.settings.inputTopic] ?? [];
       this.assigned = new Set(mine);
       this.joined = true;
+      this.started = true;
+      this.kafkaDown = false;
+      this.consumerRestarts = 0;
       const now = Date.now();
       for (const partition of [...this.heardAt.keys()]) {
         if (this.assigned.has(partition)) continue;
@@ -275,13 +473,26 @@ export class Monitor {
         ),
       );
     });
+    // A retriable failure is logged and counted by beforeRestart; a final one ends a start, or is
+    // waited out with a fresh consumer once the monitor has been running.
     this.consumer.on(ev.CRASH, (e) => {
       this.joined = false;
-      this.metrics.backoff.inc({ dependency: 'kafka' });
-      this.log.warn(
-        { err: errText(e.payload.error), restart: e.payload.restart },
-        'consumer failed; restarting',
-      );
+      this.kafkaDown = true;
+      if (e.payload.restart || this.stopping) return;
+      const outage = this.describe('kafka', e.payload.error, `read topic ${this.settings.inputTopic}`);
+      if (!this.started) {
+        this.startFailure =
+          outage.refusal ??
+          new StreamfenceError(
+            'SERVICE_UNAVAILABLE',
+            `${outage.line}; the consumer could not join group ${this.settings.group}`,
+          );
+        return;
+      }
+      void this.replaceConsumer(e.payload.error);
+    });
+    this.consumer.on(ev.HEARTBEAT, () => {
+      this.kafkaDown = false;
     });
     this.consumer.on(ev.STOP, () => {
       this.joined = false;
@@ -295,21 +506,35 @@ export class Monitor {
     return run;
   }
 
+  /**
+   * Call a dependency until it answers, one warn line and one count per retry. Before the first
+   * join a refusal (auth, TLS, ACL) is thrown at once as its StreamfenceError, and a stop request
+   * ends the waiting; after it, everything is waited out (a stop gives up at its deadline).
+   */
   private retry<T>(
     dependency: 'kafka' | 'redis',
     fn: () => Promise<T>,
     extra: Partial<BackoffHooks> = {},
+    what?: string,
   ): Promise<T> {
-    return withBackoff(fn, {
-      onRetry: (attempt, delayMs, err) => {
-        this.metrics.backoff.inc({ dependency });
-        this.log.warn(
-          { dependency, attempt, delayMs, err: errText(err) },
-          `${dependency} call failed; retrying`,
-        );
-      },
+    const attempt = async () => {
+      try {
+        const result = await fn();
+        if (dependency === 'kafka') this.kafkaDown = false;
+        return result;
+      } catch (err) {
+        const refusal = this.started
+          ? null
+          : (this.startRefusal(dependency, err) ?? this.describe(dependency, err, what).refusal);
+        throw refusal ?? err;
+      }
+    };
+    return withBackoff(attempt, {
+      onRetry: (n, delayMs, err) => this.noteRetry(this.describe(dependency, err, what), delayMs, n),
+      final: (err) => err instanceof StreamfenceError,
       // A stop request ends the waiting: stop() then hands back whatever is safe.
-      giveUp: () => this.stopping && Date.now() > this.stopGiveUpAt,
+      giveUp: () => this.stopping && (!this.started || Date.now() > this.stopGiveUpAt),
+      sleep: (ms) => this.pause(ms),
       ...extra,
     });
   }
@@ -346,6 +571,7 @@ export class Monitor {
   private async onBatch(p: EachBatchPayload): Promise<void> {
     const { batch, resolveOffset, heartbeat, isRunning, isStale } = p;
     if (this.stopping || batch.messages.length === 0 || isStale()) return;
+    this.kafkaDown = false;
     const part = batch.partition;
     const w = this.workers.get(part) ?? (await this.claim(part, heartbeat));
     const msgs = batch.messages;

@@ -15,6 +15,7 @@ import { DEFAULT_MAX_SENSORS, SensorBudget } from '../../libs/engine/sensor-budg
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { InputRecord, ReplayObserver, ReplaySummary } from '../../libs/schema/replay.js';
 import { keyPartitioner } from './partitioner.js';
+import { alertKpis, kpiEventOf, type KpiEvent } from '../../libs/kpi/alert-kpis.js';
 import { LineWriter } from './writer.js';
 import { fileProblem } from '../fs-errors.js';
 
@@ -84,6 +85,9 @@ export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
   const rejected = new LineWriter(join(outDir, REPLAY_FILES.rejected));
   const byReason = new Map<string, number>();
   let records = 0;
+  // Raises and clears only (a small share of the readings), for the alert-system health figures.
+  const kpiEvents: KpiEvent[] = [];
+  const span = { start: Infinity, end: -Infinity };
 
   const reject = (rec: InputRecord, reason: string, detail: string): void => {
     byReason.set(reason, (byReason.get(reason) ?? 0) + 1);
@@ -108,7 +112,13 @@ export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
           continue;
         }
         const ev = out.events;
-        for (let j = 0; j < ev.length; j++) alerts.push(JSON.stringify(ev[j]));
+        const ts = res.reading.ts;
+        if (ts < span.start) span.start = ts;
+        if (ts > span.end) span.end = ts;
+        for (let j = 0; j < ev.length; j++) {
+          alerts.push(JSON.stringify(ev[j]));
+          if (ev[j].state !== 'updated') kpiEvents.push(kpiEventOf(ev[j]));
+        }
       }
       records += batch.length;
       // Evicted ids matter to the monitor (it deletes them from Redis); a replay only counts them.
@@ -142,6 +152,7 @@ export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
     activeAtEnd: engine.activeAlertCount(),
     sensorLimit: { max: maxSensors, evicted: engine.evictedTotal },
     config: configToJson(config),
+    kpis: alertKpis(kpiEvents, span.start <= span.end ? span : { start: 0, end: 0 }),
   };
   for (const o of observers) {
     const extra = o.summaryFields?.() ?? {};

@@ -138,6 +138,9 @@ const ROWS: Row[] = [
   ['run: negative checkpoint interval', () => ['run', '--brokers', brokers(), '--redis', redisUrl(), '--checkpoint-ms', '-5'], none, 'ARGS_INVALID', () => /--checkpoint-ms must be/],
   ['board: token on the command line', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--board-token', 'kiln-room-secret-0042'], none, 'ARGS_INVALID', () => /board token is a secret.*STREAMFENCE_BOARD_TOKEN.*--board-token-file/],
   ['board: token too short', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--board-token-file', p('short-token')], none, 'ARGS_INVALID', () => /4 characters; use at least 16/],
+  ['board: missing alert topic', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--alert-topic', missingTopic, '--action-topic', presentTopic, '--port', '0'], none, 'NOT_FOUND', () => new RegExp(`"${missingTopic}" does not exist`)],
+  ['board: missing action topic', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--alert-topic', presentTopic, '--action-topic', missingTopic, '--port', '0'], none, 'NOT_FOUND', () => new RegExp(`"${missingTopic}" does not exist`)],
+  ['board: port in use', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--alert-topic', presentTopic, '--action-topic', presentTopic, '--port', String(new URL(redisUrl()).port || 6379)], none, 'PORT_IN_USE', () => /^streamfence: port \d+ on 127\.0\.0\.1 is in use; choose another with --port/],
   ['board: port out of range', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--port', '70000'], none, 'ARGS_INVALID', () => /--port must be a TCP port/],
   ['demo: port out of range', () => ['demo', '--port', '-1'], none, 'ARGS_INVALID', () => /--port must be a TCP port .* got "-1"/],
 ];

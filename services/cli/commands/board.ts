@@ -4,17 +4,15 @@
  * the action topic so every board and terminal view agree.
  */
 import { NOTICE } from '../../../libs/schema/notice.js';
+import { StreamfenceError } from '../../../libs/errors/index.js';
 import { ENV } from '../../config/env.js';
 import {
   KAFKA_OPTIONS,
   REDIS_OPTIONS,
   buildKafka,
   buildRedis,
-  connectRedis,
   connectionHelp,
-  kafkaRefusal,
   parseArgsOptions,
-  redisRefusal,
   readKafkaSettings,
   readRedisSettings,
 } from '../../connect/index.js';
@@ -33,7 +31,9 @@ import {
   printHelp,
   stringOption,
 } from '../../setup/args.js';
-import { untilStopSignal } from '../../setup/signals.js';
+import { kafkaOutage, redisOutage, retryLine, RedisErrorWatch } from '../../connect/outage.js';
+import { backoffDelay } from '../../monitor/backoff.js';
+import { onStopSignal, untilStopSignal } from '../../setup/signals.js';
 import { parseSince } from './alerts.js';
 
 const CMD = 'board';
@@ -123,8 +123,8 @@ export async function main(argv: string[]): Promise<number> {
 
   printBanner(CMD);
   const redis = buildRedis(redisSettings);
-  await connectRedis(redis, redisSettings);
-  const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-board', retries: 5 });
+  const redisWatch = new RedisErrorWatch(redis);
+  const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-board', retries: 2 });
   let feed: LiveFeed | null = null;
   const hub = new BoardHub({
     mode: 'live',
@@ -141,16 +141,58 @@ export async function main(argv: string[]): Promise<number> {
     sinceMs,
     onSkip: (why) => process.stderr.write(`streamfence board: ${why}\n`),
   });
-  try {
-    await feed.start();
-  } catch (e) {
-    redis.disconnect();
-    throw (
-      kafkaRefusal(e, kafkaSettings, `read ${alertTopic} and ${actionTopic}`) ??
-      redisRefusal(e, redisSettings) ??
-      e
-    );
+  // Kafka or Redis unreachable at start is an outage that may end (as for `run`): one line per
+  // attempt, retried until it answers or a stop signal comes. A refusal waiting cannot fix (auth,
+  // certificate, ACL, a missing topic) ends the board with exit 2.
+  let stopRequested = false;
+  let wake: (() => void) | null = null;
+  const releaseEarlyStop = onStopSignal(() => {
+    stopRequested = true;
+    wake?.();
+  });
+  for (let attempt = 1; ; attempt++) {
+    let dependency: 'kafka' | 'redis' = 'redis';
+    try {
+      await redis.ping();
+      dependency = 'kafka';
+      await feed.start();
+      break;
+    } catch (e) {
+      // Whatever the feed opened (its producer) is closed, so a refused board exits at once.
+      await feed.stop().catch(() => {});
+      // follow() wraps an unreachable Kafka as SERVICE_UNAVAILABLE: that one is an outage too.
+      const typed = e instanceof StreamfenceError && e.code !== 'SERVICE_UNAVAILABLE' ? e : null;
+      const cause = e instanceof StreamfenceError && typed === null ? (e.cause ?? e) : e;
+      const outage =
+        typed !== null
+          ? null
+          : dependency === 'redis'
+            ? redisOutage(cause, redisSettings, redisWatch.lastError)
+            : kafkaOutage(cause, kafkaSettings, `read ${alertTopic} and ${actionTopic}`);
+      const final = typed ?? outage!.refusal;
+      if (final !== null) {
+        releaseEarlyStop();
+        redis.disconnect();
+        throw final;
+      }
+      const delayMs = backoffDelay(attempt, 1_000);
+      process.stderr.write(`streamfence board: ${retryLine(outage!, delayMs)}\n`);
+      await new Promise<void>((resolve) => {
+        const timer = setTimeout(resolve, delayMs);
+        wake = () => {
+          clearTimeout(timer);
+          resolve();
+        };
+      });
+      wake = null;
+      if (stopRequested) {
+        redis.disconnect();
+        process.stderr.write('streamfence board: stopped\n');
+        return 0;
+      }
+    }
   }
+  releaseEarlyStop();
   const metrics = createBoardMetrics(hub);
   const board = await startBoardServer({ hub, metrics, host, port, token });
   process.stdout.write(

@@ -75,12 +75,14 @@ export async function main(argv: string[]): Promise<number> {
 
   const metrics = createMetrics();
   const redis = buildRedis(o.redis);
+  let monitorRef: Monitor | null = null;
   const kafka = buildKafka(o.kafka, {
     clientId: `streamfence-${hostname()}-${process.pid}`,
     log,
-    // Errors kafkajs retries on its own (a broker that stops answering, a lost group membership)
-    // count as Kafka backoff too, so an outage shows in the metric even when no call of ours fails.
-    onError: () => metrics.backoff.inc({ dependency: 'kafka' }),
+    // Few retries inside kafkajs: the monitor's own backoff logs and counts each attempt; the
+    // requests kafkajs retries itself (fetches, heartbeats) are worded by the monitor too.
+    retries: 2,
+    onError: (entry) => monitorRef?.noteKafkaClientError(entry),
   });
   log.info(
     {
@@ -96,7 +98,7 @@ export async function main(argv: string[]): Promise<number> {
     'starting',
   );
 
-  const monitor = new Monitor({
+  const monitor: Monitor = new Monitor({
     kafka,
     redis,
     config,
@@ -113,8 +115,10 @@ export async function main(argv: string[]): Promise<number> {
     },
     log,
     metrics,
+    connection: { kafka: o.kafka, redis: o.redis },
     startRefusal: startRefusal(o.kafka, o.redis, `read ${o.inputTopic} in group ${o.group}`),
   });
+  monitorRef = monitor;
   const http = await startMetricsServer(metrics.registry, o.metricsPort, () => monitor.readiness());
   log.info({ port: http.port }, `metrics listening on port ${http.port}`);
 
@@ -132,7 +136,7 @@ export async function main(argv: string[]): Promise<number> {
     stopping = monitor
       .stop()
       .then(
-        () => 0,
+        (outcome) => (outcome.clean ? 0 : 1),
         (e: unknown) => {
           log.error(
             { err: (e as Error).message },
@@ -166,16 +170,17 @@ export async function main(argv: string[]): Promise<number> {
       },
     );
     monitor.start().catch((e: unknown) => {
-      // A typed refusal is the whole story in one line, written last so it is what a user sees.
-      if (e instanceof StreamfenceError)
-        void stop('start-failure').then(() => {
-          log.error({ code: e.code }, `${e.message} [${e.code}]`);
-          resolve(2);
-        });
-      else {
+      // A stop request during start ends the waiting; that is a stop, not a failure.
+      if (monitor.stopRequested) return;
+      const code = e instanceof StreamfenceError ? 2 : 1;
+      if (!(e instanceof StreamfenceError))
         log.error({ err: (e as Error).message }, 'monitor failed to start');
-        void stop('start-failure').then(() => resolve(1));
-      }
+      void stop('start-failure').then(() => {
+        // A typed refusal is the whole story in one line, written last so it is what a user sees.
+        if (e instanceof StreamfenceError) log.error({ code: e.code }, `${e.message} [${e.code}]`);
+        resolve(code);
+        setTimeout(() => process.exit(code), 1_000).unref();
+      });
     });
   });
 }

@@ -105,7 +105,7 @@ describe('streamfence run: Kafka outage', () => {
     const metricsPort = await mon.metricsPort();
     const text = await (await fetch(`http://127.0.0.1:${metricsPort}/metrics`)).text();
     expect(
-      Number(/^streamfence_backoff_total\{dependency="kafka"\} (\S+)$/m.exec(text)?.[1]),
+      Number(/^streamfence_backoff_total\{dependency="kafka",cause="\w+"\} (\S+)$/m.exec(text)?.[1]),
     ).toBeGreaterThan(0);
     expect(await expectNoLostAlerts(alertTopic, readings, config, { kafka })).toBeGreaterThan(0);
 

@@ -92,7 +92,7 @@ describe('streamfence run: Redis outage', () => {
     const metricsPort = await mon.metricsPort();
     const text = await (await fetch(`http://127.0.0.1:${metricsPort}/metrics`)).text();
     expect(
-      Number(/^streamfence_backoff_total\{dependency="redis"\} (\S+)$/m.exec(text)?.[1]),
+      Number(/^streamfence_backoff_total\{dependency="redis",cause="\w+"\} (\S+)$/m.exec(text)?.[1]),
     ).toBeGreaterThan(0);
 
     await expectNoLostAlerts(alertTopic, readings, config);

@@ -164,4 +164,37 @@ describe('config: critical levels the user left out follow the warning levels', 
     expect(e.code).toBe('CONFIG_CONTRADICTION');
     expect(e.message).toContain('kiln-*');
   });
+
+  it('profile settings: defaults none/UTC/7, IANA zones accepted, anything else refused naming the key', () => {
+    const plain = validateConfig({});
+    expect([plain.defaults.profile, plain.defaults.timeZone, plain.defaults.profileDays]).toEqual([
+      'none',
+      'UTC',
+      7,
+    ]);
+    const c = validateConfig({
+      sensors: [{ match: 'hall-2/**', profile: 'daily', timeZone: 'America/New_York', profileDays: 14 }],
+    });
+    expect(c.sensors[0].overrides).toEqual({
+      profile: 'daily',
+      timeZone: 'America/New_York',
+      profileDays: 14,
+    });
+    for (const bad of [
+      { profile: 'weekly' },
+      { timeZone: 'Mars/Olympus' },
+      { timeZone: 3 },
+      { profileDays: 0 },
+      { profileDays: 32 },
+    ]) {
+      let caught: unknown;
+      try {
+        validateConfig({ defaults: bad });
+      } catch (e) {
+        caught = e;
+      }
+      expect((caught as { code: string }).code).toBe('CONFIG_INVALID');
+      expect((caught as Error).message).toContain(`"${Object.keys(bad)[0]}"`);
+    }
+  });
 });

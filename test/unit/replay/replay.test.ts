@@ -232,7 +232,9 @@ describe('runReplay', () => {
     expect(counts).toEqual([2, 3]);
     const written = JSON.parse(read(join(dir, 'obs'), REPLAY_FILES.summary));
     expect(written.input).toEqual({ from: 'test' });
-    expect(Object.keys(written).slice(-2)).toEqual(['config', 'extraPart']);
+    expect(Object.keys(written).slice(-2)).toEqual(['kpis', 'extraPart']);
+    expect(written.kpis.raised).toBe(written.alerts.raised);
+    expect(written.kpis.cleared).toBe(written.alerts.cleared);
     expect(written.extraPart).toEqual({ ok: 1 });
     await expect(
       runReplay({

@@ -1,0 +1,153 @@
+/**
+ * A failed call to Kafka or Redis in a long-running command (`run`, `board`, following `alerts`),
+ * in words: the one line naming the address and the cause that every retry logs
+ * (`redis 127.0.0.1:6399: connection refused; retrying in 5 s`), a small fixed cause label for
+ * `streamfence_backoff_total`, and whether the failure is a refusal waiting cannot fix (a wrong
+ * password, an untrusted certificate, an ACL denial), which ends a command that has not started
+ * yet with exit 2. Built on the refusal and network wording of refusals.ts, so one-shot and
+ * long-running commands name the same failure the same way.
+ */
+import { StreamfenceError } from '../../libs/errors/index.js';
+import type { KafkaSettings, RedisSettings } from './options.js';
+import { kafkaRefusal, networkCause, redisRefusal, unreachableLine } from './refusals.js';
+
+/** The label values of `cause` on streamfence_backoff_total (a fixed, small set). */
+export const OUTAGE_CAUSES = ['connection', 'timeout', 'auth', 'tls', 'acl', 'other'] as const;
+/** One of OUTAGE_CAUSES. */
+export type OutageCause = (typeof OUTAGE_CAUSES)[number];
+
+/** One failed attempt, described. */
+export interface Outage {
+  dependency: 'kafka' | 'redis';
+  cause: OutageCause;
+  /** "redis 127.0.0.1:6399: connection refused" (no secret, no library text) */
+  line: string;
+  /** Set when waiting cannot fix it (auth, certificate, ACL): a command still starting ends with it. */
+  refusal: StreamfenceError | null;
+}
+
+const REFUSAL_CAUSE: Partial<Record<string, OutageCause>> = {
+  AUTH_FAILED: 'auth',
+  NOT_AUTHORISED: 'acl',
+  TLS_FAILED: 'tls',
+};
+
+function fromRefusal(dependency: 'kafka' | 'redis', refusal: StreamfenceError): Outage {
+  // "closed the connection" (plain text to a TLS port, or a server going down) may be an outage
+  // that ends: it is retried, worded as the hint it is. A failed handshake, a wrong password or
+  // an ACL denial is not.
+  const final = !(refusal.code === 'TLS_FAILED' && /closed the connection/.test(refusal.message));
+  return {
+    dependency,
+    cause: REFUSAL_CAUSE[refusal.code] ?? 'other',
+    line: refusal.message,
+    refusal: final ? refusal : null,
+  };
+}
+
+function networkOutage(dependency: 'kafka' | 'redis', err: unknown, fallbackAddress: string): Outage | null {
+  const n = networkCause(err);
+  if (n === null) return null;
+  return {
+    dependency,
+    cause: /timed out/.test(n.cause) ? 'timeout' : 'connection',
+    line: unreachableLine(dependency, n.address ?? fallbackAddress, n.cause),
+    refusal: null,
+  };
+}
+
+/** The innermost message's first clause, without library class names (for the last-resort line). */
+function shortReason(err: unknown): string {
+  let e = err as { message?: unknown; cause?: unknown; originalError?: unknown } | undefined;
+  let text = String(e?.message ?? err);
+  for (let i = 0; e && i < 6; i++) {
+    if (e.message !== undefined) text = String(e.message);
+    e = (e.originalError ?? e.cause) as typeof e;
+  }
+  return text
+    .split('\n')[0]
+    .replace(/^KafkaJS\w+:\s*/, '')
+    .slice(0, 160);
+}
+
+/** A failed Kafka call (`what`: the operation, for ACL wording). */
+export function kafkaOutage(err: unknown, s: KafkaSettings, what = 'connect'): Outage {
+  const refusal = kafkaRefusal(err, s, what);
+  if (refusal !== null) return fromRefusal('kafka', refusal);
+  const at = s.brokers.join(',');
+  const network = networkOutage('kafka', err, at);
+  if (network !== null) return network;
+  const reason = shortReason(err);
+  const timeout = /timed? ?out/i.test(reason);
+  return {
+    dependency: 'kafka',
+    cause: timeout ? 'timeout' : 'other',
+    line: timeout ? unreachableLine('kafka', at, 'no answer (timed out)') : `kafka ${at}: ${reason}`,
+    refusal: null,
+  };
+}
+
+/**
+ * A failed Redis call. ioredis rejects a command with "Reached the max retries per request limit"
+ * or "Connection is closed"; the real cause (ECONNREFUSED, WRONGPASS, a certificate) arrived
+ * earlier as the client's 'error' event: pass it as `socketError` (see RedisErrorWatch).
+ */
+export function redisOutage(err: unknown, s: RedisSettings, socketError: unknown = null): Outage {
+  const u = new URL(s.url);
+  const at = `${u.hostname}:${u.port || 6379}`;
+  for (const candidate of socketError === null ? [err] : [socketError, err]) {
+    const refusal = redisRefusal(candidate, s);
+    if (refusal !== null) return fromRefusal('redis', refusal);
+    const network = networkOutage('redis', candidate, at);
+    if (network !== null) return network;
+  }
+  const reason = shortReason(err);
+  if (/timed? ?out/i.test(reason))
+    return {
+      dependency: 'redis',
+      cause: 'timeout',
+      line: unreachableLine('redis', at, 'no answer (timed out)'),
+      refusal: null,
+    };
+  if (/max retries per request|Connection is closed|Stream isn't writeable/i.test(reason))
+    return {
+      dependency: 'redis',
+      cause: 'connection',
+      line: unreachableLine('redis', at, 'connection lost'),
+      refusal: null,
+    };
+  return { dependency: 'redis', cause: 'other', line: `redis ${at}: ${reason}`, refusal: null };
+}
+
+/**
+ * "…; retrying in 5 s" (tenths below 10 s: the first retries come after 0.1 s, 0.2 s, …); with a
+ * null delay (a retry the Kafka client times itself) just "…; retrying".
+ */
+export function retryLine(outage: Outage, delayMs: number | null): string {
+  if (delayMs === null) return `${outage.line}; retrying`;
+  const seconds =
+    delayMs >= 10_000 ? String(Math.round(delayMs / 1000)) : String(Math.round(delayMs / 100) / 10);
+  return `${outage.line}; retrying in ${seconds} s`;
+}
+
+/**
+ * Remembers the last 'error' event of an ioredis client (the socket's own cause), forgotten once
+ * the client is ready again, so a failed command can be worded by what really went wrong.
+ */
+export class RedisErrorWatch {
+  private last: unknown = null;
+
+  constructor(client: { on(event: string, listener: (arg: unknown) => void): unknown }) {
+    client.on('error', (e) => {
+      this.last = e;
+    });
+    client.on('ready', () => {
+      this.last = null;
+    });
+  }
+
+  /** The socket error seen since the client was last ready, or null. */
+  get lastError(): unknown {
+    return this.last;
+  }
+}

@@ -1,0 +1,34 @@
+/**
+ * The retry line of a long-running command names the address and the cause in words, never the
+ * client library's text; refusals waiting cannot fix are marked final.
+ */
+import { describe, expect, it } from 'vitest';
+import { kafkaOutage, redisOutage, retryLine } from '../../../services/connect/outage.js';
+
+const refused = Object.assign(new Error('connect ECONNREFUSED 127.0.0.1:6399'), { code: 'ECONNREFUSED' });
+
+describe('outage lines', () => {
+  it('words ioredis "max retries" by the socket error seen before it', () => {
+    const ioredisText = new Error('Reached the max retries per request limit (which is 1).');
+    const outage = redisOutage(ioredisText, { url: 'redis://127.0.0.1:6399' }, refused);
+    expect(retryLine(outage, 5_000)).toBe('redis 127.0.0.1:6399: connection refused; retrying in 5 s');
+    expect(outage).toMatchObject({ cause: 'connection', refusal: null });
+  });
+
+  it('a wrong Redis password is a final refusal', () => {
+    const outage = redisOutage(
+      new Error('x'),
+      { url: 'redis://127.0.0.1:6379' },
+      new Error('WRONGPASS invalid username-password pair'),
+    );
+    expect(outage.cause).toBe('auth');
+    expect(outage.refusal?.code).toBe('AUTH_FAILED');
+  });
+
+  it('an unreachable broker, without the library class name', () => {
+    const err = new Error('Connection error: connect ECONNREFUSED 127.0.0.1:9999');
+    const outage = kafkaOutage(err, { brokers: ['127.0.0.1:9999'] });
+    expect(retryLine(outage, 200)).toBe('kafka 127.0.0.1:9999: connection refused; retrying in 0.2 s');
+    expect(retryLine(outage, null)).toBe('kafka 127.0.0.1:9999: connection refused; retrying');
+  });
+});
