@@ -30,6 +30,13 @@ export function quantileType6(sorted: ArrayLike<number>, p: number): number {
 export function exactRank(sorted: ArrayLike<number>, x: number): number {
   const n = sorted.length;
   if (n === 0) return NaN;
+  const [below, atOrBelow] = rankBounds(sorted, x);
+  return (below + (atOrBelow - below) / 2) / n;
+}
+
+/** How many values of sorted data are below x, and how many at or below it (binary searches). */
+function rankBounds(sorted: ArrayLike<number>, x: number): [number, number] {
+  const n = sorted.length;
   let lo = 0;
   let hi = n;
   while (lo < hi) {
@@ -44,7 +51,7 @@ export function exactRank(sorted: ArrayLike<number>, x: number): number {
     if (sorted[mid] <= x) lo = mid + 1;
     else hi = mid;
   }
-  return (below + (lo - below) / 2) / n;
+  return [below, lo];
 }
 
 /**
@@ -57,21 +64,7 @@ export function exactRank(sorted: ArrayLike<number>, x: number): number {
  */
 export function rankRangeError(sorted: ArrayLike<number>, x: number, p: number, ties = false): number {
   const n = sorted.length;
-  let lo = 0;
-  let hi = n;
-  while (lo < hi) {
-    const mid = (lo + hi) >>> 1;
-    if (sorted[mid] < x) lo = mid + 1;
-    else hi = mid;
-  }
-  let below = lo;
-  hi = n;
-  while (lo < hi) {
-    const mid = (lo + hi) >>> 1;
-    if (sorted[mid] <= x) lo = mid + 1;
-    else hi = mid;
-  }
-  let atOrBelow = lo;
+  let [below, atOrBelow] = rankBounds(sorted, x);
   if (ties && below === atOrBelow) {
     const left = below > 0 ? sorted[below - 1] : x;
     const right = atOrBelow < n ? sorted[atOrBelow] : x;
