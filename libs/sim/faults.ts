@@ -5,11 +5,29 @@
  */
 import type { Prng } from './prng.js';
 
-/** The kinds of fault the simulator plants. */
-export type FaultKind = 'spike' | 'step' | 'drift' | 'stuck' | 'noise' | 'dropout';
+/**
+ * The kinds of fault the simulator plants. `timeshift`: the sensor reads what is normal for
+ * another time of day (the daytime level at night: a pump left on its day schedule, a missed
+ * setback), so its values stay inside the range of the whole day.
+ */
+export type FaultKind = 'spike' | 'step' | 'drift' | 'stuck' | 'noise' | 'dropout' | 'timeshift';
 
 /** Every fault kind, in plan order. */
-export const FAULT_KINDS: readonly FaultKind[] = ['spike', 'step', 'drift', 'stuck', 'noise', 'dropout'];
+export const FAULT_KINDS: readonly FaultKind[] = [
+  'spike',
+  'step',
+  'drift',
+  'stuck',
+  'noise',
+  'dropout',
+  'timeshift',
+];
+
+/**
+ * The kinds every sensor can have. `timeshift` is planned only where a scenario asks for it and
+ * only on sensors with a strong daily cycle (elsewhere it would change nothing visible).
+ */
+export const COMMON_FAULT_KINDS: readonly FaultKind[] = FAULT_KINDS.filter((k) => k !== 'timeshift');
 
 /** One planned fault, in reading slots of its sensor (both ends inclusive). */
 export interface PlannedFault {
@@ -20,6 +38,8 @@ export interface PlannedFault {
   size: number;
   /** +1 or -1: which way the fault pushes. */
   sign: number;
+  /** timeshift only: how far ahead in the day the sensor reads, ms (set by the plant, which knows the cycle). */
+  shiftMs?: number;
 }
 
 const MIN = 60_000;
@@ -33,6 +53,7 @@ const KIND_WEIGHTS: Record<FaultKind, number> = {
   stuck: 1.5,
   noise: 1.5,
   dropout: 1,
+  timeshift: 2,
 };
 
 /** Length of each kind as [shortest, longest] in ms, and a floor in readings so a fault is never invisible. */
@@ -43,6 +64,7 @@ const KIND_LENGTH: Record<FaultKind, { ms: [number, number]; minSlots: number }>
   stuck: { ms: [40 * MIN, 90 * MIN], minSlots: 25 },
   noise: { ms: [20 * MIN, 60 * MIN], minSlots: 10 },
   dropout: { ms: [30 * MIN, 120 * MIN], minSlots: 3 },
+  timeshift: { ms: [60 * MIN, 180 * MIN], minSlots: 10 },
 };
 
 /** Sizes in typical spreads: plausible upsets, not absurd ones. */
@@ -53,17 +75,28 @@ const KIND_SIZE: Record<FaultKind, [number, number]> = {
   stuck: [0, 0],
   noise: [3, 4],
   dropout: [0, 0],
+  timeshift: [0, 0],
 };
 
 /** Quiet time between two faults of one sensor, so its baseline settles in between. */
 const GAP_MS: [number, number] = [3 * HOUR, 9 * HOUR];
 
-/** Plan one sensor's faults over `slots` readings after the warm-up, from its own seeded stream. */
+/**
+ * Plan one sensor's faults over `slots` readings after the warm-up, from its own seeded stream.
+ * `kinds` (default COMMON_FAULT_KINDS) are the kinds this sensor can have; the same list always
+ * draws the same plan.
+ */
 export function planFaults(
   rng: Prng,
-  opts: { slots: number; intervalMs: number; warmupMs: number; oneSided: 'high' | 'low' | null },
+  opts: {
+    slots: number;
+    intervalMs: number;
+    warmupMs: number;
+    oneSided: 'high' | 'low' | null;
+    kinds?: readonly FaultKind[];
+  },
 ): PlannedFault[] {
-  const kinds = FAULT_KINDS;
+  const kinds = opts.kinds ?? COMMON_FAULT_KINDS;
   const weights = kinds.map((k) => KIND_WEIGHTS[k]);
   const out: PlannedFault[] = [];
   let slot =

@@ -6,11 +6,13 @@
  */
 import { formatDuration } from '../config/duration.js';
 import { StreamfenceError } from '../errors/index.js';
-import { planFaults, type FaultKind, type PlannedFault } from './faults.js';
+import { LocalClock } from '../engine/local-time.js';
+import { COMMON_FAULT_KINDS, planFaults, type FaultKind, type PlannedFault } from './faults.js';
 import { Prng, subSeed } from './prng.js';
 import {
   DEFAULT_SCENARIO,
   SCENARIO_DEFS,
+  hasStrongDailyCycle,
   sensorsPerUnit,
   typicalSpread,
   type MachineTemplate,
@@ -70,6 +72,37 @@ export const SCENARIOS: Record<string, { title: string; description: string }> =
 export const SIM_LIMITS = { maxSensors: 5000, maxDurationMs: 400 * 86_400_000, minIntervalMs: 100 } as const;
 
 const DAY = 86_400_000;
+const HOUR = 3_600_000;
+
+/**
+ * The scenario's daily cycle at an instant, from -1 to 1: its curve in local time when it has
+ * one, else a cosine peaking at `dailyPeakHour` UTC. The zone offset is looked up once per UTC
+ * hour (offsets change on whole hours in the zones the scenarios use).
+ */
+class DailyCycle {
+  private readonly clock: LocalClock | null;
+  private offsetHour = Number.NaN;
+  private offset = 0;
+
+  constructor(private readonly def: ScenarioDef) {
+    this.clock = def.dailyCurve === undefined ? null : new LocalClock(def.timeZone ?? 'UTC');
+  }
+
+  at(ts: number): number {
+    const curve = this.def.dailyCurve;
+    if (curve === undefined) return Math.cos((2 * Math.PI * (ts - this.def.dailyPeakHour * HOUR)) / DAY);
+    const hour = Math.floor(ts / HOUR);
+    if (hour !== this.offsetHour) {
+      this.offsetHour = hour;
+      this.offset = this.clock!.offsetOf(hour * HOUR);
+    }
+    const local = (((ts + this.offset) % DAY) + DAY) % DAY;
+    const position = local / HOUR;
+    const from = Math.floor(position);
+    const share = position - from;
+    return curve[from] * (1 - share) + curve[(from + 1) % 24] * share;
+  }
+}
 
 /** Shared load factor of one machine (Ornstein-Uhlenbeck, mean 0, sd 1). */
 interface MachineRun {
@@ -135,9 +168,11 @@ export class PlantSimulator {
   private slot = 0;
   private idx = 0;
   private readonly faultLabels: FaultLabel[];
+  private readonly cycle: DailyCycle;
 
   constructor(private readonly opts: SimOptions) {
     this.def = checkOptions(opts);
+    this.cycle = new DailyCycle(this.def);
     this.scenario = opts.scenario ?? DEFAULT_SCENARIO;
     const per = sensorsPerUnit(this.def);
     const count = opts.sensors ?? per * this.def.defaultUnits;
@@ -167,6 +202,10 @@ export class PlantSimulator {
     }
     // Offsets spread the sensors over the slot in table order, keeping the stream time-ordered.
     this.runs.forEach((r, i) => (r.offsetMs = Math.floor((i * opts.intervalMs) / this.runs.length)));
+    for (const run of this.runs)
+      for (const fault of run.faults)
+        if (fault.kind === 'timeshift')
+          fault.shiftMs = this.farthestHour(this.tsOf(fault.startSlot, run), this.tsOf(fault.endSlot, run));
     this.faultLabels = this.runs
       .flatMap((r) =>
         r.faults.map((f) => ({
@@ -192,13 +231,15 @@ export class PlantSimulator {
 
   private newSensor(id: string, template: SensorTemplate, machine: MachineRun, faultsOn: boolean): SensorRun {
     const rng = new Prng(subSeed(this.opts.seed, `noise:${id}`));
-    const spread = typicalSpread(template);
+    const spread = typicalSpread(template, this.def.faultsAgainstHour === true);
+    const extra = hasStrongDailyCycle(template) ? (this.def.extraFaultKinds ?? []) : [];
     const faults = faultsOn
       ? planFaults(new Prng(subSeed(this.opts.seed, `faults:${id}`)), {
           slots: this.slots,
           intervalMs: this.opts.intervalMs,
           warmupMs: this.def.warmupMs,
           oneSided: template.direction === 'both' ? null : template.direction,
+          kinds: extra.length === 0 ? COMMON_FAULT_KINDS : [...COMMON_FAULT_KINDS, ...extra],
         })
       : [];
     return {
@@ -221,6 +262,26 @@ export class PlantSimulator {
       faultPos: 0,
       last: template.base,
     };
+  }
+
+  /**
+   * The shift (whole hours, 3 to 21) whose level differs most from the normal level over the
+   * fault's span: the time of day the fault reads, so it is as far from normal as the cycle allows.
+   */
+  private farthestHour(from: number, to: number): number {
+    let best = 0;
+    let bestGap = -1;
+    for (let hours = 3; hours <= 21; hours++) {
+      let gap = 0;
+      let samples = 0;
+      for (let ts = from; ts <= to; ts += 10 * 60_000, samples++)
+        gap += Math.abs(this.cycle.at(ts + hours * HOUR) - this.cycle.at(ts));
+      if (gap / samples > bestGap) {
+        bestGap = gap / samples;
+        best = hours;
+      }
+    }
+    return best * HOUR;
   }
 
   private tsOf(slot: number, run: SensorRun): number {
@@ -277,16 +338,18 @@ export class PlantSimulator {
     // Draw both normals every slot so a fault never shifts the random stream of later readings.
     const noise = run.rng.normal();
     const extra = run.rng.normal();
-    const phase = (2 * Math.PI * (ts - this.def.dailyPeakHour * 3_600_000)) / DAY;
-    const structure = template.daily * Math.cos(phase) + template.loadGain * run.lagged;
+    while (run.faultPos < run.faults.length && run.faults[run.faultPos].endSlot < slot) run.faultPos++;
+    const planned = run.faults[run.faultPos];
+    const fault = planned !== undefined && planned.startSlot <= slot ? planned : undefined;
+    // A time-of-day fault reads the cycle of another hour; load and noise stay the sensor's own.
+    const cycleAt = fault?.kind === 'timeshift' ? ts + fault.shiftMs! : ts;
+    const structure = template.daily * this.cycle.at(cycleAt) + template.loadGain * run.lagged;
     let value =
       template.shape === 'lognormal'
         ? template.base * Math.exp(template.noise * noise + structure / template.base)
         : template.base + structure + template.noise * noise;
 
-    while (run.faultPos < run.faults.length && run.faults[run.faultPos].endSlot < slot) run.faultPos++;
-    const fault = run.faults[run.faultPos];
-    if (fault !== undefined && fault.startSlot <= slot) {
+    if (fault !== undefined) {
       const push = fault.sign * fault.size * run.spread;
       switch (fault.kind) {
         case 'spike':
@@ -306,6 +369,8 @@ export class PlantSimulator {
           return run.last;
         case 'dropout':
           return null;
+        case 'timeshift':
+          break;
       }
     }
     if (template.shape === 'lognormal' && value < 0) value = 0;

@@ -7,6 +7,7 @@
  * the same machine move together (motor current and bearing temperature follow the same load).
  */
 import type { Direction } from '../config/settings.js';
+import type { FaultKind } from './faults.js';
 
 /** One sensor kind of a machine: unit, level, spread and how it follows the machine's load. */
 export interface SensorTemplate {
@@ -50,8 +51,22 @@ export interface ScenarioDef {
   unitName: string;
   /** Units in the default set. */
   defaultUnits: number;
-  /** Hour of day (UTC) when the daily cycle peaks. */
+  /** Hour of day (UTC) when the daily cycle peaks (the cosine cycle; unused with `dailyCurve`). */
   dailyPeakHour: number;
+  /**
+   * A daily cycle of another shape: 24 values from -1 to 1, one per local hour (at hh:00; linear
+   * in between), in `timeZone`. Without it the cycle is a cosine peaking at `dailyPeakHour` UTC.
+   */
+  dailyCurve?: readonly number[];
+  /** IANA time zone of the plant's local time, which `dailyCurve` follows (default UTC). */
+  timeZone?: string;
+  /**
+   * Fault sizes in spreads within one hour of the day (noise and load only) instead of over the
+   * whole day: with a strong daily cycle, an upset is big against the hour, not against the day.
+   */
+  faultsAgainstHour?: boolean;
+  /** Kinds planned beyond the common ones (timeshift on sensors with a strong daily cycle). */
+  extraFaultKinds?: readonly FaultKind[];
   /** No faults before this much data: the engine needs a warm baseline first. */
   warmupMs: number;
   machines: MachineTemplate[];
@@ -376,10 +391,154 @@ const HEATING: ScenarioDef = {
   ],
 };
 
+/**
+ * Drinking-water demand by local hour (-1 lowest, 1 highest): a night minimum around 03:00, a
+ * morning peak, a midday plateau and an evening peak. Invented, of the usual shape.
+ */
+const DEMAND_CURVE: readonly number[] = [
+  -0.7, -0.85, -0.95, -1, -0.95, -0.6, 0.1, 0.8, 1, 0.8, 0.5, 0.4, 0.45, 0.4, 0.3, 0.25, 0.3, 0.5, 0.75, 0.85,
+  0.7, 0.4, 0, -0.4,
+];
+
+/**
+ * Detection settings for a signal with a strong daily cycle at 1-minute readings: a 24 h window
+ * (a shorter one chases the morning rise and flags it every day) and a daily profile in the
+ * plant's time zone.
+ */
+const DAILY_DEFAULTS = {
+  ...MINUTE_DEFAULTS,
+  window: '24h',
+  buckets: 12,
+  profile: 'daily',
+  timeZone: 'Europe/Berlin',
+  profileDays: 7,
+};
+
+const WATER: ScenarioDef = {
+  title: 'Brackenford water supply (invented): supply zones',
+  description:
+    'Each supply zone takes treated water through a metered inlet, a booster pump station and a quality ' +
+    'panel. Demand follows the day strongly (night minimum, morning and evening peaks, local time ' +
+    'Europe/Berlin); flow, pump current and pressure follow it. Plants time-of-day faults: the level ' +
+    'of another hour (the daytime flow at night).',
+  unitName: 'zone',
+  defaultUnits: 2,
+  dailyPeakHour: 8,
+  dailyCurve: DEMAND_CURVE,
+  timeZone: 'Europe/Berlin',
+  faultsAgainstHour: true,
+  extraFaultKinds: ['timeshift'],
+  // The daily profile judges a local hour from its third day of history (PROFILE_WARM_DAYS).
+  warmupMs: 4 * 24 * HOUR,
+  defaults: DAILY_DEFAULTS,
+  machines: [
+    {
+      name: 'inlet',
+      description: 'metered zone inlet',
+      loadTauMin: 120,
+      sensors: [
+        sensor({
+          name: 'flow',
+          unit: 'm3/h',
+          description: 'zone inlet flow',
+          base: 180,
+          noise: 3,
+          daily: 90,
+          loadGain: 6,
+          decimals: 1,
+          min: 0,
+        }),
+        sensor({
+          name: 'pressure',
+          unit: 'bar',
+          description: 'inlet pressure (falls as demand rises)',
+          base: 4.2,
+          noise: 0.03,
+          daily: -0.5,
+          loadGain: 0.04,
+          decimals: 3,
+          min: 0,
+          max: 10,
+        }),
+      ],
+    },
+    {
+      name: 'booster',
+      description: 'booster pump station',
+      loadTauMin: 60,
+      sensors: [
+        sensor({
+          name: 'pump-current',
+          unit: 'A',
+          description: 'duty pump motor current',
+          base: 55,
+          noise: 0.6,
+          daily: 18,
+          loadGain: 1.5,
+          min: 0,
+        }),
+        sensor({
+          name: 'motor-temp',
+          unit: 'degC',
+          description: 'duty pump motor winding temperature',
+          base: 58,
+          noise: 0.3,
+          daily: 6,
+          loadGain: 0.8,
+          loadLagMin: 30,
+          min: -20,
+          max: 140,
+        }),
+        sensor({
+          name: 'vibration',
+          unit: 'mm/s',
+          description: 'duty pump vibration velocity (RMS)',
+          base: 1.8,
+          noise: 0.06,
+          loadGain: 0.03,
+          shape: 'lognormal',
+          direction: 'high',
+          min: 0,
+        }),
+      ],
+    },
+    {
+      name: 'quality',
+      description: 'water quality panel',
+      loadTauMin: 240,
+      sensors: [
+        sensor({
+          name: 'chlorine',
+          unit: 'mg/l',
+          description: 'free chlorine residual',
+          base: 0.45,
+          noise: 0.015,
+          daily: 0.03,
+          loadGain: 0.01,
+          decimals: 3,
+          min: 0,
+        }),
+        sensor({
+          name: 'turbidity',
+          unit: 'NTU',
+          description: 'turbidity (high is bad)',
+          base: 0.12,
+          noise: 0.08,
+          shape: 'lognormal',
+          direction: 'high',
+          decimals: 3,
+          min: 0,
+        }),
+      ],
+    },
+  ],
+};
+
 /** Every scenario, by name. */
 export const SCENARIO_DEFS: Record<string, ScenarioDef> = {
   'harbour-brewery': BREWERY,
   'district-heat': HEATING,
+  'water-supply': WATER,
 };
 
 /** The scenario used when none is named. */
@@ -393,10 +552,21 @@ export function sensorsPerUnit(def: ScenarioDef): number {
 /**
  * Typical spread of a sensor's normal readings (noise, load and daily cycle together); fault
  * sizes are multiples of it so a fault means the same thing on a thermometer and an ammeter.
+ * `withinHour` leaves the daily cycle out: the spread at one time of day.
  */
-export function typicalSpread(t: SensorTemplate): number {
+export function typicalSpread(t: SensorTemplate, withinHour = false): number {
   const lagShrink = t.loadLagMin > 0 ? 0.6 : 1;
   const load = t.loadGain * lagShrink;
-  const sd = Math.sqrt(t.noise * t.noise + load * load + (t.daily * t.daily) / 2);
+  const daily = withinHour ? 0 : (t.daily * t.daily) / 2;
+  const sd = Math.sqrt(t.noise * t.noise + load * load + daily);
   return t.shape === 'lognormal' ? t.base * sd : sd;
+}
+
+/**
+ * A sensor whose daily cycle is strong enough for a time-of-day fault to show: its daily
+ * amplitude is at least 3 spreads of one hour (a margin chosen here, so the shifted level stands
+ * out of the hour's normal readings) and it is two-sided (a one-sided sensor's faults only push its bad way).
+ */
+export function hasStrongDailyCycle(t: SensorTemplate): boolean {
+  return t.direction === 'both' && Math.abs(t.daily) >= 3 * typicalSpread(t, true);
 }

@@ -63,8 +63,10 @@ Generate readings from an invented plant, with injected faults and their labels.
 ${connectionHelp({ kafka: true })}
 With --kafka and no --brokers, ${ENV.brokers} or else 127.0.0.1:9092.
 
-Fault kinds: spike, step, drift, stuck, noise, dropout. The suggested config assumes readings about
-once a minute (minSamples and flatlineAfter count readings).
+Fault kinds: spike, step, drift, stuck, noise, dropout; water-supply also plants timeshift (the
+level of another time of day, e.g. the daytime flow at night) on sensors with a strong daily cycle.
+The suggested config assumes readings about once a minute (minSamples and flatlineAfter count
+readings); for water-supply it sets profile: daily in the plant's time zone.
 `;
 
 function duration(v: string, name: string): number {

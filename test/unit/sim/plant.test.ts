@@ -140,3 +140,108 @@ describe('plant simulator', () => {
     expect(() => suggestedConfig('nowhere')).toThrow(/unknown scenario/);
   });
 });
+
+describe('water-supply: strong daily cycles and time-of-day faults', () => {
+  const WATER: SimOptions = {
+    seed: 3,
+    start: Date.UTC(2026, 0, 5),
+    durationMs: 9 * DAY,
+    intervalMs: 60_000,
+    scenario: 'water-supply',
+  };
+  const HOUR = 3_600_000;
+  /** Local hour in the plant's zone (the scenario's curve follows Europe/Berlin local time). */
+  const berlinHour = (ts: number): number =>
+    Number(
+      new Intl.DateTimeFormat('en-GB', {
+        timeZone: 'Europe/Berlin',
+        hour: 'numeric',
+        hourCycle: 'h23',
+      }).format(ts),
+    );
+
+  it('plants timeshift faults only on two-sided sensors with a strong daily cycle, after the 4-day warm-up', () => {
+    const sim = new PlantSimulator(WATER);
+    const labels = sim.labels();
+    const shifted = labels.filter((l) => l.kind === 'timeshift');
+    expect(shifted.length).toBeGreaterThan(5);
+    const onSensors = new Set(shifted.map((l) => l.sensor.replace(/^zone-\d+\//, '')));
+    expect([...onSensors].sort()).toEqual([
+      'booster/motor-temp',
+      'booster/pump-current',
+      'inlet/flow',
+      'inlet/pressure',
+    ]);
+    for (const l of labels) expect(l.start).toBeGreaterThanOrEqual(WATER.start + 4 * DAY);
+    const kinds = new Set(labels.map((l) => l.kind));
+    expect([...kinds].sort()).toEqual(['drift', 'dropout', 'noise', 'spike', 'step', 'stuck', 'timeshift']);
+  });
+
+  it('a timeshift fault reads a level normal for another time of day: inside the day range, far from the hour', () => {
+    // Against the same plant without faults (same noise streams): inside a timeshift label the
+    // readings differ from the clean ones by several spreads of the hour on average, yet stay
+    // within the clean sensor's own range over the whole data set (normal for some hour).
+    const faulty = [...new PlantSimulator(WATER)];
+    const clean = [...new PlantSimulator({ ...WATER, faults: false })];
+    const key = (r: SimReading) => `${r.sensor}@${r.ts}`;
+    const cleanAt = new Map(clean.map((r) => [key(r), r.value]));
+    const range = new Map<string, [number, number]>();
+    for (const r of clean) {
+      const [lo, hi] = range.get(r.sensor) ?? [Infinity, -Infinity];
+      range.set(r.sensor, [Math.min(lo, r.value), Math.max(hi, r.value)]);
+    }
+    const labels = new PlantSimulator(WATER).labels().filter((l) => l.kind === 'timeshift');
+    for (const l of labels) {
+      const inside = faulty.filter((r) => r.sensor === l.sensor && r.ts >= l.start && r.ts <= l.end);
+      expect(inside.length).toBeGreaterThanOrEqual(10);
+      const [lo, hi] = range.get(l.sensor)!;
+      const span = hi - lo;
+      let gap = 0;
+      for (const r of inside) {
+        expect(r.value, key(r)).toBeGreaterThanOrEqual(lo - 0.05 * span);
+        expect(r.value, key(r)).toBeLessThanOrEqual(hi + 0.05 * span);
+        gap += Math.abs(r.value - cleanAt.get(key(r))!);
+      }
+      // At least a fifth of the day's range on average (the shift is chosen for the widest gap).
+      expect(gap / inside.length, `${l.sensor} ${new Date(l.start).toISOString()}`).toBeGreaterThan(
+        0.2 * span,
+      );
+    }
+  });
+
+  it('the daily cycle follows local time across the daylight-saving change (Europe/Berlin, 2026-03-29)', () => {
+    // Demand peaks at 08:00 local and is 0.2 of its amplitude (18 m3/h of flow) lower at 09:00.
+    // Readings on the hour, a week either side of the change: if the cycle ignored the change,
+    // after it 08:00 local would read the 07:00 level (below 09:00's) and the gap would turn.
+    const readings = [
+      ...new PlantSimulator({
+        ...WATER,
+        start: Date.UTC(2026, 2, 22),
+        durationMs: 14 * DAY,
+        faults: false,
+        sensors: 1,
+      }),
+    ].filter((r) => r.ts % HOUR === 0);
+    expect(readings[0].sensor).toBe('zone-1/inlet/flow');
+    const change = Date.UTC(2026, 2, 29, 1);
+    for (const side of [(ts: number) => ts < change, (ts: number) => ts >= change]) {
+      const mean = (hour: number) => {
+        const at = readings.filter((r) => side(r.ts) && berlinHour(r.ts) === hour).map((r) => r.value);
+        return at.reduce((x, y) => x + y, 0) / at.length;
+      };
+      // Sampling error of the gap about 3 m3/h (noise and the 2 h load process over 7 days).
+      expect(mean(8) - mean(9)).toBeGreaterThan(9);
+      expect(mean(8) - mean(3)).toBeGreaterThan(150);
+    }
+  });
+
+  it('suggests a 24 h window and a daily profile in the plant time zone', () => {
+    const cfg = validateConfig(suggestedConfig('water-supply'), 'water-supply');
+    expect(cfg.defaults).toMatchObject({
+      window: 24 * 3_600_000,
+      profile: 'daily',
+      timeZone: 'Europe/Berlin',
+      profileDays: 7,
+    });
+  });
+});
