@@ -1,12 +1,13 @@
 #!/usr/bin/env bash
-# Refresh the README's images (deploy/docs/board.png, board-groups.png, report.png). The browser tests
-# draw them into test-artifacts/docs/ on every run (tests never write outside test-artifacts/);
-# this script runs just those tests on a fresh build and copies the two images here.
+# Refresh the README's images (deploy/docs/*.png). The browser tests draw them into
+# test-artifacts/docs/ on every run (tests never write outside test-artifacts/); this script runs
+# just those tests on a fresh build and copies the images here.
 # Usage: npm run docs:images   (needs /usr/bin/chromium, like npm run test:browser)
 set -euo pipefail
 cd "$(dirname "$0")/../.."
+IMAGES=(board.png board-groups.png report.png report-health.png)
 npm run build --silent
-rm -f test-artifacts/docs/board.png test-artifacts/docs/board-groups.png test-artifacts/docs/report.png
+for image in "${IMAGES[@]}"; do rm -f "test-artifacts/docs/$image"; done
 npx vitest run --project browser test/browser/board.test.ts test/browser/board-groups.test.ts test/browser/report.test.ts
-cp test-artifacts/docs/board.png test-artifacts/docs/board-groups.png test-artifacts/docs/report.png deploy/docs/
-echo "refreshed deploy/docs/board.png, board-groups.png and report.png; review them, then commit"
+for image in "${IMAGES[@]}"; do cp "test-artifacts/docs/$image" deploy/docs/; done
+echo "refreshed deploy/docs/: ${IMAGES[*]}; review them, then commit"

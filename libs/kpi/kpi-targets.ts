@@ -12,6 +12,13 @@ export const KPI_SOURCES = {
   ours: 'streamfence aim, no standard figure',
 } as const;
 
+/** Short names of the sources, for a table column (the full wording stays in {@link KPI_SOURCES}). */
+export const KPI_SOURCE_NAMES: Readonly<Record<string, string>> = Object.freeze({
+  [KPI_SOURCES.isa]: 'ISA-18.2 / IEC 62682',
+  [KPI_SOURCES.eemua]: 'EEMUA 191 / ISA-18.2',
+  [KPI_SOURCES.ours]: 'streamfence',
+});
+
 /** One target: the figure it applies to, the limit in words, a test against a value, the source. */
 export interface KpiTarget {
   /** Which AlertKpis figure (a dotted path, e.g. "flood.share"). */
@@ -39,6 +46,12 @@ export const KPI_TARGETS: readonly KpiTarget[] = Object.freeze([
   },
   {
     figure: 'per10Min.peak',
+    text: 'at most about 10 in any 10 minutes',
+    met: (v) => v <= 10,
+    source: KPI_SOURCES.isa,
+  },
+  {
+    figure: 'worst10min',
     text: 'at most about 10 in any 10 minutes',
     met: (v) => v <= 10,
     source: KPI_SOURCES.isa,
@@ -84,4 +97,14 @@ export const KPI_TARGETS: readonly KpiTarget[] = Object.freeze([
 /** The target for a figure, if one is set. */
 export function targetFor(figure: string): KpiTarget | undefined {
   return KPI_TARGETS.find((t) => t.figure === figure);
+}
+
+/** How a figure stands against its target: met, not met, or not judged (no target, or no value). */
+export type KpiVerdict = 'met' | 'not-met' | 'not-judged';
+
+/** The verdict for one figure's value (null or non-finite values and figures without a target are not judged). */
+export function verdictFor(figure: string, value: number | null): KpiVerdict {
+  const target = targetFor(figure);
+  if (target === undefined || value === null || !Number.isFinite(value)) return 'not-judged';
+  return target.met(value) ? 'met' : 'not-met';
 }

@@ -42,6 +42,13 @@ svg .flood { stroke: var(--crit); stroke-width: 1.5; stroke-dasharray: 2 3; }
 svg .pt { fill: var(--band); stroke: #1e3f6e; }
 svg .pt.recommended { fill: var(--ok); stroke: #1c5a45; }
 svg .ring { fill: none; stroke: var(--ok); stroke-width: 2; }
+h3.plain { font-family: inherit; word-break: normal; }
+.verdict { display: inline-flex; align-items: center; gap: 5px; white-space: nowrap; font-weight: 600; }
+.verdict svg { fill: none; stroke: currentColor; stroke-width: 1.7; }
+.verdict.met { color: var(--ok); }
+.verdict.not-met { color: var(--crit); letter-spacing: .03em; }
+.verdict.not-judged { color: var(--muted); font-weight: 400; }
+.sources { margin: 2px 0 10px; padding-left: 18px; }
 `;
 
 /**

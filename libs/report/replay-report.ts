@@ -17,6 +17,7 @@ import { AdaptiveBins } from './bins.js';
 import { HourlyCounts, hourBars } from './hourly.js';
 import { FENCE_CHANNELS, markerShape, rateChart, sensorChart, type AlertMarker } from './charts.js';
 import { esc } from './escape.js';
+import { healthSection } from './health.js';
 import { fenceBand, NO_BAND } from './fences.js';
 import { page, table, type Cell } from './html.js';
 import { fmtNum, markerPath } from './svg.js';
@@ -384,6 +385,8 @@ function renderReplayReport(summary: ReplaySummary, c: Collected): string {
     rejects,
     '<h2>Alert rate</h2>',
     rateSection,
+    '<h2 id="health">Alert-system health</h2>',
+    healthSection(summary.kpis),
     '<h2>Alerts by sensor</h2>',
     alertTable,
     `<h2>Top ${esc(top.length)} sensors by alerts raised</h2>`,

@@ -5,6 +5,7 @@
  */
 import type { Engine, ProcessOutcome } from '../engine/engine.js';
 import type { ParseResult, Reading } from '../engine/reading.js';
+import type { AlertKpis } from '../kpi/alert-kpis.js';
 
 /** One input line and what parsing it gave, numbered from 1 in file (or merged topic) order. */
 export interface InputRecord {
@@ -48,6 +49,8 @@ export interface ReplaySummary {
   /** The sensor limit in force and the idle sensors evicted to stay under it. */
   sensorLimit: { max: number; evicted: number };
   config: Record<string, unknown>;
+  /** Alert-system health figures of the raised and cleared events (libs/kpi/alert-kpis.ts). */
+  kpis: AlertKpis;
   /** Fields added by observers (summaryFields). */
   [extra: string]: unknown;
 }

@@ -100,120 +100,156 @@ const GUARDED_READS = new Set(['/api/alerts', '/api/groups', '/api/board', '/api
 const TOKEN_NEEDED =
   'this board needs its token: type it into the "Board token" field in the page header, or send "Authorization: Bearer <token>" from a program';
 
+/** What every request handler needs: the hub, the metrics, the token and the open event streams. */
+interface BoardContext {
+  hub: BoardHub;
+  metrics: BoardMetrics;
+  token: string | null;
+  streams: Set<ServerResponse>;
+}
+
+/** POST /api/alerts|groups/<id>/<action>: an operator action, behind the token. */
+async function handleAction(
+  context: BoardContext,
+  req: IncomingMessage,
+  res: ServerResponse,
+  path: string,
+): Promise<void> {
+  const route = ACTION_ROUTE.exec(path);
+  if (!route) return fail(res, 404, 'not_found', `no such endpoint: POST ${path}`);
+  if (!authorized(context.token, req.headers.authorization))
+    return fail(res, 401, 'unauthorized', TOKEN_NEEDED);
+  let body: unknown;
+  try {
+    body = await readJsonBody(req);
+  } catch (err) {
+    if (err instanceof BodyError) return fail(res, err.status, 'bad_request', err.message);
+    throw err;
+  }
+  let id: string;
+  try {
+    id = decodeURIComponent(route[2]);
+  } catch {
+    return fail(res, 400, 'bad_request', 'the id in the path is not valid URL encoding');
+  }
+  const kind = route[3] as ActionKind;
+  const result =
+    route[1] === 'groups'
+      ? await context.hub.actOnGroup(kind, id, body)
+      : await context.hub.act(kind, id, body);
+  if (!result.ok) {
+    const code = result.status === 404 ? 'not_found' : result.status === 409 ? 'conflict' : 'bad_request';
+    return fail(res, result.status, code, result.message);
+  }
+  return json(res, 200, 'group' in result ? { group: result.group, alerts: result.alerts } : result.alert);
+}
+
+/** GET/HEAD: the page, its assets, the JSON reads (behind the token when there is one), metrics, health. */
+async function handleRead(
+  context: BoardContext,
+  req: IncomingMessage,
+  res: ServerResponse,
+  path: string,
+): Promise<void> {
+  const { hub, token } = context;
+  if (GUARDED_READS.has(path) && !authorized(token, req.headers.authorization)) {
+    return fail(res, 401, 'unauthorized', TOKEN_NEEDED);
+  }
+  switch (path) {
+    case '/':
+    case '/index.html':
+      return send(res, 200, 'text/html; charset=utf-8', BOARD_HTML, {
+        'content-security-policy': PAGE_CSP,
+      });
+    case '/assets/board.js':
+      return send(res, 200, 'text/javascript; charset=utf-8', BOARD_JS);
+    case '/assets/board.css':
+      return send(res, 200, 'text/css; charset=utf-8', BOARD_CSS);
+    case '/api/alerts':
+      return json(res, 200, hub.store.list());
+    case '/api/groups':
+      return json(res, 200, hub.groups());
+    case '/api/board':
+      return json(res, 200, hub.snapshot({ notice: NOTICE, tokenRequired: token !== null }));
+    case '/api/events':
+      return openStream(context, req, res);
+    case '/metrics': {
+      const text = await context.metrics.registry.metrics();
+      return send(res, 200, context.metrics.registry.contentType, text);
+    }
+    case '/healthz':
+      return json(res, 200, { ok: true, mode: hub.opts.mode, alertsOpen: hub.store.openCount });
+    default:
+      return fail(res, 404, 'not_found', `no such page or endpoint: ${path}`);
+  }
+}
+
+/** GET /api/events: the live event stream (SSE), a hello first, then every hub message. */
+function openStream(context: BoardContext, req: IncomingMessage, res: ServerResponse): void {
+  res.writeHead(200, {
+    'content-type': 'text/event-stream; charset=utf-8',
+    'cache-control': 'no-store',
+    connection: 'keep-alive',
+    ...SECURITY_HEADERS,
+  });
+  res.write(
+    `retry: 3000\nevent: hello\ndata: ${JSON.stringify({ notice: NOTICE, mode: context.hub.opts.mode })}\n\n`,
+  );
+  const unsubscribe = context.hub.subscribe((message: HubMessage) => {
+    res.write(`event: ${message.type}\ndata: ${JSON.stringify(message)}\n\n`);
+  });
+  context.streams.add(res);
+  const done = () => {
+    unsubscribe();
+    context.streams.delete(res);
+  };
+  req.on('close', done);
+  res.on('error', done);
+}
+
+async function handle(context: BoardContext, req: IncomingMessage, res: ServerResponse): Promise<void> {
+  const path = new URL(req.url ?? '/', 'http://board.local').pathname;
+  const method = req.method ?? 'GET';
+  if (method === 'POST') return handleAction(context, req, res, path);
+  if (method !== 'GET' && method !== 'HEAD') {
+    return fail(res, 405, 'method_not_allowed', `${method} is not supported here; use GET or POST`);
+  }
+  return handleRead(context, req, res, path);
+}
+
+/** Serves the board on `opts.host:opts.port`; resolves once listening (a port it cannot take rejects with one line). */
 export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard> {
-  const { hub, metrics, token } = opts;
-  const streams = new Set<ServerResponse>();
-
-  const handle = async (req: IncomingMessage, res: ServerResponse): Promise<void> => {
-    const url = new URL(req.url ?? '/', 'http://board.local');
-    const path = url.pathname;
-    const method = req.method ?? 'GET';
-
-    if (method === 'POST') {
-      const m = ACTION_ROUTE.exec(path);
-      if (!m) return fail(res, 404, 'not_found', `no such endpoint: POST ${path}`);
-      if (!authorized(token, req.headers.authorization)) return fail(res, 401, 'unauthorized', TOKEN_NEEDED);
-      let body: unknown;
-      try {
-        body = await readJsonBody(req);
-      } catch (e) {
-        if (e instanceof BodyError) return fail(res, e.status, 'bad_request', e.message);
-        throw e;
-      }
-      let id: string;
-      try {
-        id = decodeURIComponent(m[2]);
-      } catch {
-        return fail(res, 400, 'bad_request', 'the id in the path is not valid URL encoding');
-      }
-      const kind = m[3] as ActionKind;
-      const r = m[1] === 'groups' ? await hub.actOnGroup(kind, id, body) : await hub.act(kind, id, body);
-      if (!r.ok) {
-        const code = r.status === 404 ? 'not_found' : r.status === 409 ? 'conflict' : 'bad_request';
-        return fail(res, r.status, code, r.message);
-      }
-      return json(res, 200, 'group' in r ? { group: r.group, alerts: r.alerts } : r.alert);
-    }
-    if (method !== 'GET' && method !== 'HEAD') {
-      return fail(res, 405, 'method_not_allowed', `${method} is not supported here; use GET or POST`);
-    }
-    if (GUARDED_READS.has(path) && !authorized(token, req.headers.authorization)) {
-      return fail(res, 401, 'unauthorized', TOKEN_NEEDED);
-    }
-    switch (path) {
-      case '/':
-      case '/index.html':
-        return send(res, 200, 'text/html; charset=utf-8', BOARD_HTML, {
-          'content-security-policy': PAGE_CSP,
-        });
-      case '/assets/board.js':
-        return send(res, 200, 'text/javascript; charset=utf-8', BOARD_JS);
-      case '/assets/board.css':
-        return send(res, 200, 'text/css; charset=utf-8', BOARD_CSS);
-      case '/api/alerts':
-        return json(res, 200, hub.store.list());
-      case '/api/groups':
-        return json(res, 200, hub.groups());
-      case '/api/board':
-        return json(res, 200, hub.snapshot({ notice: NOTICE, tokenRequired: token !== null }));
-      case '/api/events':
-        return openStream(req, res);
-      case '/metrics': {
-        const text = await metrics.registry.metrics();
-        return send(res, 200, metrics.registry.contentType, text);
-      }
-      case '/healthz':
-        return json(res, 200, { ok: true, mode: hub.opts.mode, alertsOpen: hub.store.openCount });
-      default:
-        return fail(res, 404, 'not_found', `no such page or endpoint: ${path}`);
-    }
+  const context: BoardContext = {
+    hub: opts.hub,
+    metrics: opts.metrics,
+    token: opts.token,
+    streams: new Set<ServerResponse>(),
   };
-
-  const openStream = (req: IncomingMessage, res: ServerResponse): void => {
-    res.writeHead(200, {
-      'content-type': 'text/event-stream; charset=utf-8',
-      'cache-control': 'no-store',
-      connection: 'keep-alive',
-      ...SECURITY_HEADERS,
-    });
-    res.write(
-      `retry: 3000\nevent: hello\ndata: ${JSON.stringify({ notice: NOTICE, mode: hub.opts.mode })}\n\n`,
-    );
-    const off = hub.subscribe((m: HubMessage) => {
-      res.write(`event: ${m.type}\ndata: ${JSON.stringify(m)}\n\n`);
-    });
-    streams.add(res);
-    const done = () => {
-      off();
-      streams.delete(res);
-    };
-    req.on('close', done);
-    res.on('error', done);
-  };
-
+  const { streams } = context;
   const server = createServer((req, res) => {
-    handle(req, res).catch((e: unknown) => {
-      if (!res.headersSent) fail(res, 500, 'internal', `the board failed to answer: ${(e as Error).message}`);
+    handle(context, req, res).catch((err: unknown) => {
+      if (!res.headersSent)
+        fail(res, 500, 'internal', `the board failed to answer: ${(err as Error).message}`);
       else res.end();
     });
   });
   server.requestTimeout = 30_000;
   server.headersTimeout = 10_000;
 
-  const ticker = setInterval(() => hub.tick(), opts.tickMs ?? 1000);
+  const ticker = setInterval(() => opts.hub.tick(), opts.tickMs ?? 1000);
   ticker.unref();
   const heartbeat = setInterval(() => {
-    for (const s of streams) s.write(': keep-alive\n\n');
+    for (const stream of streams) stream.write(': keep-alive\n\n');
   }, SSE_HEARTBEAT_MS);
   heartbeat.unref();
 
   return new Promise((resolve, reject) => {
     // A port that cannot be taken leaves nothing running behind (the caller may try another).
-    const failed = (e: unknown) => {
+    const failed = (err: unknown) => {
       clearInterval(ticker);
       clearInterval(heartbeat);
       // One line naming the port and --port; the node error stays as `cause` (demo reads its code).
-      reject(listenFailure(e, { port: opts.port, host: opts.host, option: '--port' }));
+      reject(listenFailure(err, { port: opts.port, host: opts.host, option: '--port' }));
     };
     server.once('error', failed);
     server.listen(opts.port, opts.host, () => {
@@ -227,7 +263,7 @@ export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard
           new Promise<void>((done) => {
             clearInterval(ticker);
             clearInterval(heartbeat);
-            for (const s of streams) s.end();
+            for (const stream of streams) stream.end();
             streams.clear();
             server.close(() => done());
             server.closeAllConnections();

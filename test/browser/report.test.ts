@@ -2,7 +2,7 @@
  * The HTML reports in real headless Chromium: a replay report and a tune report are generated from
  * invented data, opened from disk, and checked for drawn charts (SVG with non-zero size and real
  * path data), the visible caution and no console errors. Screenshots go to test-artifacts/ only;
- * test-artifacts/docs/report.png is the README's image, which `npm run docs:images` copies to
+ * test-artifacts/docs/report.png and report-health.png are the README's images, which `npm run docs:images` copies to
  * deploy/docs/.
  */
 import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
@@ -195,6 +195,33 @@ describe('HTML reports in Chromium', () => {
     await page.screenshot({
       path: join(ARTIFACTS, 'docs', 'report.png'),
       clip: { x: 0, y: top - 10, width: 1100, height: bottom - top + 20 },
+      fullPage: true,
+    });
+    // The health section: each figure's verdict in words beside a drawn shape, the README's image.
+    const health = page.locator('h2#health');
+    expect(await health.count()).toBe(1);
+    const verdicts = await page.locator('.health span.verdict').allInnerTexts();
+    expect(verdicts).toHaveLength(11);
+    for (const v of verdicts) expect(['met', 'NOT MET', 'not judged']).toContain(v.trim());
+    const shape = await page.locator('.health span.verdict svg').first().boundingBox();
+    expect(shape!.width).toBeGreaterThan(10);
+    const [healthTop, healthBottom] = await page.evaluate(() => {
+      const doc = globalThis as unknown as {
+        scrollY: number;
+        document: {
+          getElementById(id: string): { getBoundingClientRect(): { top: number } };
+          querySelectorAll(s: string): ArrayLike<{ getBoundingClientRect(): { bottom: number } }>;
+        };
+      };
+      const tables = doc.document.querySelectorAll('#health ~ table');
+      return [
+        doc.document.getElementById('health').getBoundingClientRect().top + doc.scrollY,
+        tables[0].getBoundingClientRect().bottom + doc.scrollY,
+      ];
+    });
+    await page.screenshot({
+      path: join(ARTIFACTS, 'docs', 'report-health.png'),
+      clip: { x: 0, y: healthTop - 10, width: 1100, height: healthBottom - healthTop + 20 },
       fullPage: true,
     });
     expect(errors).toEqual([]);

@@ -11,7 +11,7 @@ import {
   LINE_WIDTH,
   type GroupMark,
 } from '../../../libs/board/line.js';
-import { AssetNamer, groupAlerts } from '../../../libs/board/groups.js';
+import { AssetNamer, groupAlerts, type GroupRule } from '../../../libs/board/groups.js';
 import { BoardStore } from '../../../libs/board/store.js';
 import { GROUP_ARG_OPTIONS, GROUP_HELP, readGroupRule } from '../../board/group-options.js';
 import { isSeverity, SEVERITIES, type Severity } from '../../../libs/schema/vocabulary.js';
@@ -26,11 +26,14 @@ import {
   kafkaRefusal,
   parseArgsOptions,
   readKafkaSettings,
+  type KafkaSettings,
 } from '../../connect/index.js';
+import type { Kafka } from 'kafkajs';
 import { asAction, asAlertEvent, type ActionMessage } from '../../board/live.js';
 import {
   optionLabel,
   parseCommandArgs,
+  type ParsedArgs,
   parseTimeOrAgo,
   printBanner,
   printHelp,
@@ -115,6 +118,236 @@ export const OPTION_ENV: Record<keyof typeof OPTIONS, string> = {
   wide: ENV.alertsWide,
 };
 
+/** What `alerts` was asked to show, read from its flags and their variables. */
+interface AlertsRequest {
+  kafkaSettings: KafkaSettings;
+  alertTopic: string;
+  /** The action topic named by the user, or undefined for the default one (skipped if absent). */
+  actionTopicOption: string | undefined;
+  noActions: boolean;
+  severityFloor: Severity | null;
+  sensorGlob: string | undefined;
+  sinceMs: number | null;
+  json: boolean;
+  once: boolean;
+  wide: boolean;
+}
+
+function readRequest(args: ParsedArgs): AlertsRequest {
+  const kafkaSettings = readKafkaSettings(args.values, process.env, { cmd: CMD });
+  const alertTopic = stringOption(args, 'alert-topic', CMD) ?? 'sensor-alerts';
+  const actionTopicOption = stringOption(args, 'action-topic', CMD);
+  const severityRaw = stringOption(args, 'severity', CMD);
+  if (severityRaw !== undefined && !isSeverity(severityRaw)) {
+    usageError(`--severity must be ${SEVERITIES.join(' or ')}, got "${severityRaw}"`, CMD);
+  }
+  const sensorGlob = stringOption(args, 'sensor', CMD);
+  const sinceRaw = stringOption(args, 'since', CMD);
+  const sinceMs =
+    sinceRaw === undefined ? null : parseSince(sinceRaw, Date.now(), CMD, optionLabel(args, 'since'));
+  const noActions = args.values['no-actions'] === true;
+  if (noActions) warnNoEffect(CMD, args, ['action-topic'], 'with --no-actions');
+  return {
+    kafkaSettings,
+    alertTopic,
+    actionTopicOption,
+    noActions,
+    severityFloor: (severityRaw ?? null) as Severity | null,
+    sensorGlob,
+    sinceMs,
+    json: args.values.json === true,
+    once: args.values.once === true,
+    wide: args.values.wide === true,
+  };
+}
+
+/**
+ * The topics to follow: the alert topic, and the action topic unless --no-actions. A named action
+ * topic must exist; the default one is skipped with a note when it does not. `existing` is the
+ * one-shot check's topic list, or null when following (then the topics are listed here).
+ */
+async function topicsToFollow(
+  request: AlertsRequest,
+  kafka: Kafka,
+  existing: Set<string> | null,
+): Promise<string[]> {
+  const topics = [request.alertTopic];
+  if (request.noActions) return topics;
+  const actionTopic = request.actionTopicOption ?? 'sensor-alert-actions';
+  let exists = existing === null ? true : existing.has(actionTopic);
+  if (existing === null) {
+    const admin = kafka.admin();
+    try {
+      await admin.connect();
+      exists = (await admin.listTopics()).includes(actionTopic);
+    } catch {
+      // follow() reports an unreachable Kafka with a clear message below.
+    } finally {
+      await admin.disconnect().catch(() => {});
+    }
+  }
+  if (exists) topics.push(actionTopic);
+  else if (request.actionTopicOption !== undefined)
+    usageError(`the action topic "${actionTopic}" does not exist`, CMD);
+  else
+    process.stderr.write(`streamfence alerts: no action topic "${actionTopic}"; showing alert events only\n`);
+  return topics;
+}
+
+/**
+ * Open alerts as the board sees them, to tag group membership the same way the board groups cards.
+ */
+class GroupTagger {
+  readonly board = new BoardStore({ clearedKeep: 0 });
+  private readonly assets: AssetNamer;
+
+  constructor(private readonly rule: GroupRule) {
+    this.assets = new AssetNamer(rule);
+  }
+
+  /** The group mark of an open alert, or null when it is in no group. */
+  markOf(id: string): GroupMark | null {
+    const open = this.board.list();
+    const group = groupAlerts(open, this.assets, this.rule.windowMs).find((g) => g.members.includes(id));
+    if (group === undefined) return null;
+    const first = open.find((alert) => alert.id === group.firstOut);
+    return {
+      asset: group.asset,
+      firstOutSensor: first?.sensor ?? group.firstOut,
+      isFirstOut: id === group.firstOut,
+    };
+  }
+}
+
+/**
+ * Prints lines in time order. Each topic arrives in its own order, so lines are held: everything
+ * present at start is merged before the first line, and while following, lines wait REORDER_MS.
+ * Rendering (which also tracks the open alerts for group tags) runs in that order.
+ */
+class TimeOrderedPrinter {
+  /** The reader went away (e.g. `| head`): stop quietly. */
+  broken = false;
+  private held: { ts: number; seq: number; render: () => string | null }[] = [];
+  private seq = 0;
+
+  constructor() {
+    process.stdout.on('error', () => {
+      this.broken = true;
+    });
+  }
+
+  /** Holds a line to print at its time; `render` runs when it prints and may drop it (null). */
+  emit(ts: number, render: () => string | null): void {
+    this.held.push({ ts, seq: this.seq++, render });
+    if (this.held.length >= HOLD_CAP) this.flush();
+  }
+
+  /** Prints every held line in time order. */
+  flush(): void {
+    this.held.sort((a, b) => a.ts - b.ts || a.seq - b.seq);
+    const batch = this.held;
+    this.held = [];
+    for (const item of batch) {
+      const line = item.render();
+      if (line !== null && !this.broken) process.stdout.write(`${line}\n`);
+    }
+  }
+}
+
+/** Turns the followed topics' messages into held lines, applying the filters. */
+function messageHandler(
+  request: AlertsRequest,
+  printer: TimeOrderedPrinter,
+  tagger: GroupTagger,
+): (message: { topic: string; value: Buffer | null }) => void {
+  const color = !request.json && process.stdout.isTTY === true && !process.env.NO_COLOR;
+  const style = { color, wide: request.wide };
+  const floor = request.severityFloor;
+  const glob = request.sensorGlob;
+  const sensorOk = glob === undefined ? () => true : picomatch(glob, { dot: true });
+  // What filters and action lines need to know about an alert: its sensor and severity. Bounded:
+  // the oldest entries go first once the cap is reached.
+  const known = new Map<string, { sensor: string; severity: Severity }>();
+  const remember = (id: string, info: { sensor: string; severity: Severity }) => {
+    known.delete(id);
+    known.set(id, info);
+    if (known.size > KNOWN_CAP) known.delete(known.keys().next().value as string);
+  };
+  return (message) => {
+    let value: unknown;
+    try {
+      value = JSON.parse(message.value?.toString('utf8') ?? '');
+    } catch {
+      return;
+    }
+    if (message.topic === request.alertTopic) {
+      const event = asAlertEvent(value);
+      if (event === null) return;
+      remember(event.id, { sensor: event.sensor, severity: event.severity });
+      const shown = sensorOk(event.sensor) && passesSeverity(event.severity, floor);
+      printer.emit(Date.parse(event.ts), () => {
+        // A clear is tagged with the group it left; a raise or update with the group it is in.
+        const before = event.state === 'cleared' && shown && !request.json ? tagger.markOf(event.id) : null;
+        tagger.board.applyEvent(event, Date.parse(event.ts));
+        if (!shown) return null;
+        if (request.json) return JSON.stringify(value);
+        return eventLine(event, style, event.state === 'cleared' ? before : tagger.markOf(event.id));
+      });
+      return;
+    }
+    const actionMessage = value as Partial<ActionMessage>;
+    const action =
+      actionMessage?.kind === 'streamfence.operator-action' ? asAction(actionMessage.action) : null;
+    if (action === null) return;
+    printer.emit(Date.parse(action.at), () => {
+      tagger.board.applyAction(action, Date.parse(action.at));
+      const alert = known.get(action.id);
+      const sensor =
+        alert?.sensor ?? (typeof actionMessage.sensor === 'string' ? actionMessage.sensor : null);
+      const filtered = glob !== undefined || floor !== null;
+      if (
+        filtered &&
+        (sensor === null ||
+          !sensorOk(sensor) ||
+          (alert !== undefined && !passesSeverity(alert.severity, floor)))
+      )
+        return null;
+      return request.json ? JSON.stringify(value) : actionLine(action, sensor, style);
+    });
+  };
+}
+
+/**
+ * Waits until the follower is done (--once caught up, or a failure) or a stop is asked for.
+ * Stopping must feel immediate (Ctrl-C): the caller prints what is held, and the consumer gets a
+ * moment to leave its group. A viewer group never commits, so one left behind only lingers until
+ * its session times out.
+ */
+async function untilDoneOrStopped(
+  follower: { stop(): Promise<void>; done: Promise<void> },
+  printer: TimeOrderedPrinter,
+): Promise<void> {
+  let stopping = false;
+  let stopped!: () => void;
+  const stoppedOrGrace = new Promise<void>((resolve) => (stopped = resolve));
+  const stop = () => {
+    if (stopping) return;
+    stopping = true;
+    const grace = new Promise<void>((resolve) => setTimeout(resolve, STOP_GRACE_MS).unref());
+    void Promise.race([follower.stop(), grace]).then(stopped);
+  };
+  const releaseSignals = onStopSignal(stop);
+  const poll = setInterval(() => {
+    if (printer.broken) stop();
+  }, 200);
+  try {
+    await Promise.race([follower.done, stoppedOrGrace]);
+  } finally {
+    clearInterval(poll);
+    releaseSignals();
+  }
+}
+
 export async function main(argv: string[]): Promise<number> {
   const args = parseCommandArgs(
     CMD,
@@ -124,199 +357,52 @@ export async function main(argv: string[]): Promise<number> {
     OPTION_ENV,
   );
   if (args.help) return printHelp(HELP);
-  const kafkaSettings = readKafkaSettings(args.values, process.env, { cmd: CMD });
-  const alertTopic = stringOption(args, 'alert-topic', CMD) ?? 'sensor-alerts';
-  const actionTopicOpt = stringOption(args, 'action-topic', CMD);
-  const severityRaw = stringOption(args, 'severity', CMD);
-  if (severityRaw !== undefined && !isSeverity(severityRaw)) {
-    usageError(`--severity must be ${SEVERITIES.join(' or ')}, got "${severityRaw}"`, CMD);
-  }
-  const floor = (severityRaw ?? null) as Severity | null;
-  const glob = stringOption(args, 'sensor', CMD);
-  const sensorOk = glob === undefined ? () => true : picomatch(glob, { dot: true });
-  const sinceRaw = stringOption(args, 'since', CMD);
-  const sinceMs =
-    sinceRaw === undefined ? null : parseSince(sinceRaw, Date.now(), CMD, optionLabel(args, 'since'));
-  const json = args.values.json === true;
-  const once = args.values.once === true;
-  const noActions = args.values['no-actions'] === true;
-  if (noActions) warnNoEffect(CMD, args, ['action-topic'], 'with --no-actions');
+  const request = readRequest(args);
+  const { kafkaSettings, alertTopic, once } = request;
   // A one-shot look (--once) checks Kafka and the topics first: a wrong address or topic name is
   // one line at once. Following keeps to the path below, which follow() reports on.
+  const actionRequired =
+    request.actionTopicOption !== undefined && !request.noActions ? [request.actionTopicOption] : [];
   const existing = once
     ? await checkKafka(kafkaSettings, {
         clientId: 'streamfence-alerts',
-        required: [alertTopic, ...(actionTopicOpt !== undefined && !noActions ? [actionTopicOpt] : [])],
+        required: [alertTopic, ...actionRequired],
         what: `read topic ${alertTopic}`,
       })
     : null;
-  const color = !json && process.stdout.isTTY === true && !process.env.NO_COLOR;
-  const style = { color, wide: args.values.wide === true };
-  const groupRule = readGroupRule(args, process.env, CMD);
-  const assets = new AssetNamer(groupRule);
-  // Open alerts as the board sees them, to tag group membership the same way.
-  const board = new BoardStore({ clearedKeep: 0 });
-  const markOf = (id: string): GroupMark | null => {
-    const open = board.list();
-    const group = groupAlerts(open, assets, groupRule.windowMs).find((g) => g.members.includes(id));
-    if (group === undefined) return null;
-    const first = open.find((a) => a.id === group.firstOut);
-    return {
-      asset: group.asset,
-      firstOutSensor: first?.sensor ?? group.firstOut,
-      isFirstOut: id === group.firstOut,
-    };
-  };
+  const tagger = new GroupTagger(readGroupRule(args, process.env, CMD));
 
   printBanner(CMD);
   const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-alerts', retries: 5 });
-  const topics = [alertTopic];
-  if (!noActions) {
-    const actionTopic = actionTopicOpt ?? 'sensor-alert-actions';
-    let exists = existing === null ? true : existing.has(actionTopic);
-    if (existing === null) {
-      const admin = kafka.admin();
-      try {
-        await admin.connect();
-        exists = (await admin.listTopics()).includes(actionTopic);
-      } catch {
-        // follow() reports an unreachable Kafka with a clear message below.
-      } finally {
-        await admin.disconnect().catch(() => {});
-      }
-    }
-    if (exists) topics.push(actionTopic);
-    else if (actionTopicOpt !== undefined)
-      usageError(`the action topic "${actionTopic}" does not exist`, CMD);
-    else
-      process.stderr.write(
-        `streamfence alerts: no action topic "${actionTopic}"; showing alert events only\n`,
-      );
-  }
-
-  // What filters and action lines need to know about an alert: its sensor and severity. Bounded:
-  // the oldest entries go first once the cap is reached.
-  const known = new Map<string, { sensor: string; severity: Severity }>();
-  const remember = (id: string, info: { sensor: string; severity: Severity }) => {
-    known.delete(id);
-    known.set(id, info);
-    if (known.size > KNOWN_CAP) known.delete(known.keys().next().value as string);
-  };
-  let broken = false;
-  process.stdout.on('error', () => {
-    broken = true; // reader went away (e.g. `| head`): stop quietly
-  });
-  const out = (line: string) => {
-    if (!broken) process.stdout.write(`${line}\n`);
-  };
-
-  // Each topic arrives in its own order, so lines are held and printed in time order: everything
-  // present at start is merged before the first line, and while following, lines wait REORDER_MS.
-  // Rendering (which also tracks the open alerts for group tags) runs in that order.
-  type Item = { ts: number; seq: number; render: () => string | null };
-  let held: Item[] = [];
-  let seq = 0;
+  const topics = await topicsToFollow(request, kafka, existing);
+  const printer = new TimeOrderedPrinter();
   let caughtUp = false;
-  const flush = () => {
-    held.sort((a, b) => a.ts - b.ts || a.seq - b.seq);
-    const batch = held;
-    held = [];
-    for (const it of batch) {
-      const line = it.render();
-      if (line !== null) out(line);
-    }
-  };
-  const emit = (ts: number, render: () => string | null) => {
-    held.push({ ts, seq: seq++, render });
-    if (held.length >= HOLD_CAP) flush();
-  };
   // Unref'd: a failed start must not be kept alive by this timer.
   const reorder = setInterval(() => {
-    if (caughtUp && !once) flush();
+    if (caughtUp && !once) printer.flush();
   }, REORDER_MS).unref();
 
   const readWhat = `read ${topics.length > 1 ? 'topics' : 'topic'} ${topics.join(' and ')}`;
-  let follower: Awaited<ReturnType<typeof follow>>;
   try {
-    follower = await follow({
+    const follower = await follow({
       kafka,
       topics,
-      sinceMs,
+      sinceMs: request.sinceMs,
       untilEnd: once,
       role: 'alerts',
       maxWaitMs: FETCH_WAIT_MS,
       onCaughtUp: () => {
         caughtUp = true;
-        if (!once) flush();
+        if (!once) printer.flush();
       },
-      onMessage: (m) => {
-        let v: unknown;
-        try {
-          v = JSON.parse(m.value?.toString('utf8') ?? '');
-        } catch {
-          return;
-        }
-        if (m.topic === alertTopic) {
-          const ev = asAlertEvent(v);
-          if (ev === null) return;
-          remember(ev.id, { sensor: ev.sensor, severity: ev.severity });
-          const shown = sensorOk(ev.sensor) && passesSeverity(ev.severity, floor);
-          emit(Date.parse(ev.ts), () => {
-            // A clear is tagged with the group it left; a raise or update with the group it is in.
-            const before = ev.state === 'cleared' && shown && !json ? markOf(ev.id) : null;
-            board.applyEvent(ev, Date.parse(ev.ts));
-            if (!shown) return null;
-            if (json) return JSON.stringify(v);
-            return eventLine(ev, style, ev.state === 'cleared' ? before : markOf(ev.id));
-          });
-          return;
-        }
-        const msg = v as Partial<ActionMessage>;
-        const act = msg?.kind === 'streamfence.operator-action' ? asAction(msg.action) : null;
-        if (act === null) return;
-        emit(Date.parse(act.at), () => {
-          board.applyAction(act, Date.parse(act.at));
-          const k = known.get(act.id);
-          const sensor = k?.sensor ?? (typeof msg.sensor === 'string' ? msg.sensor : null);
-          const filtered = glob !== undefined || floor !== null;
-          if (
-            filtered &&
-            (sensor === null || !sensorOk(sensor) || (k !== undefined && !passesSeverity(k.severity, floor)))
-          )
-            return null;
-          return json ? JSON.stringify(v) : actionLine(act, sensor, style);
-        });
-      },
+      onMessage: messageHandler(request, printer, tagger),
     });
-  } catch (e) {
-    clearInterval(reorder);
-    throw kafkaRefusal(e, kafkaSettings, readWhat) ?? e;
-  }
-  // Stopping must feel immediate (Ctrl-C): print what is held, then give the consumer a moment to
-  // leave its group. A viewer group never commits, so one left behind only lingers until its
-  // session times out.
-  let stopping = false;
-  let stopped!: () => void;
-  const stoppedOrGrace = new Promise<void>((r) => (stopped = r));
-  const stop = () => {
-    if (stopping) return;
-    stopping = true;
-    const grace = new Promise<void>((r) => setTimeout(r, STOP_GRACE_MS).unref());
-    void Promise.race([follower.stop(), grace]).then(stopped);
-  };
-  const releaseSignals = onStopSignal(stop);
-  const poll = setInterval(() => {
-    if (broken) stop();
-  }, 200);
-  try {
-    await Promise.race([follower.done, stoppedOrGrace]);
-  } catch (e) {
-    throw kafkaRefusal(e, kafkaSettings, readWhat) ?? e;
+    await untilDoneOrStopped(follower, printer);
+  } catch (err) {
+    throw kafkaRefusal(err, kafkaSettings, readWhat) ?? err;
   } finally {
     clearInterval(reorder);
-    clearInterval(poll);
-    releaseSignals();
   }
-  flush();
+  printer.flush();
   return 0;
 }

@@ -15,7 +15,11 @@ import {
   parseArgsOptions,
   readKafkaSettings,
   readRedisSettings,
+  type KafkaSettings,
+  type RedisSettings,
 } from '../../connect/index.js';
+import type { Redis } from 'ioredis';
+import type { GroupRule } from '../../../libs/board/groups.js';
 import { MIN_BOARD_TOKEN_LENGTH, boardTokenFor, readBoardToken, refuseTokenFlag } from '../../board/auth.js';
 import { BoardHub } from '../../board/hub.js';
 import { GROUP_ARG_OPTIONS, GROUP_HELP, readGroupRule } from '../../board/group-options.js';
@@ -27,6 +31,7 @@ import {
   numberOption,
   optionLabel,
   parseCommandArgs,
+  type ParsedArgs,
   printBanner,
   printHelp,
   stringOption,
@@ -89,20 +94,21 @@ export const OPTION_ENV: Record<Exclude<keyof typeof OPTIONS, 'board-token'>, st
   'board-token-file': ENV.boardTokenFile,
 };
 
-export async function main(argv: string[]): Promise<number> {
-  const args = parseCommandArgs(
-    CMD,
-    argv,
-    {
-      ...parseArgsOptions(KAFKA_OPTIONS),
-      ...parseArgsOptions(REDIS_OPTIONS),
-      ...OPTIONS,
-      ...GROUP_ARG_OPTIONS,
-    },
-    false,
-    OPTION_ENV,
-  );
-  if (args.help) return printHelp(HELP);
+/** What `board` was asked to serve, read from its flags and their variables. */
+interface BoardRequest {
+  kafkaSettings: KafkaSettings;
+  redisSettings: RedisSettings;
+  alertTopic: string;
+  actionTopic: string;
+  prefix: string;
+  sinceMs: number | null;
+  port: number;
+  host: string;
+  token: string | null;
+  groupRule: GroupRule;
+}
+
+function readRequest(args: ParsedArgs): BoardRequest {
   const kafkaSettings = readKafkaSettings(args.values, process.env, { cmd: CMD });
   const redisSettings = readRedisSettings(args.values, process.env, {
     cmd: CMD,
@@ -120,81 +126,138 @@ export async function main(argv: string[]): Promise<number> {
   if (args.values['board-token'] !== undefined) refuseTokenFlag(CMD);
   const token = boardTokenFor(host, readBoardToken(stringOption(args, 'board-token-file', CMD), process.env));
   const groupRule = readGroupRule(args, process.env, CMD);
-
-  printBanner(CMD);
-  const redis = buildRedis(redisSettings);
-  const redisWatch = new RedisErrorWatch(redis);
-  const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-board', retries: 2 });
-  let feed: LiveFeed | null = null;
-  const hub = new BoardHub({
-    mode: 'live',
-    groupRule,
-    clock: { wall: () => Date.now(), plant: () => Date.now() },
-    share: (a) => feed!.share(a),
-  });
-  feed = new LiveFeed(hub, {
-    kafka,
-    redis,
-    prefix,
+  return {
+    kafkaSettings,
+    redisSettings,
     alertTopic,
     actionTopic,
+    prefix,
     sinceMs,
-    onSkip: (why) => process.stderr.write(`streamfence board: ${why}\n`),
-  });
-  // Kafka or Redis unreachable at start is an outage that may end (as for `run`): one line per
-  // attempt, retried until it answers or a stop signal comes. A refusal waiting cannot fix (auth,
-  // certificate, ACL, a missing topic) ends the board with exit 2.
+    port,
+    host,
+    token,
+    groupRule,
+  };
+}
+
+/**
+ * Starts the feed, waiting out an unreachable Kafka or Redis as an outage that may end (as `run`
+ * does): one line per attempt, retried until it answers or a stop signal comes. A refusal waiting
+ * cannot fix (auth, certificate, ACL, a missing topic) is thrown (exit 2). Resolves 'stopped' when
+ * a stop signal came first.
+ */
+async function startFeedWaitingOutOutages(
+  feed: LiveFeed,
+  redis: Redis,
+  request: BoardRequest,
+): Promise<'started' | 'stopped'> {
+  const redisWatch = new RedisErrorWatch(redis);
   let stopRequested = false;
   let wake: (() => void) | null = null;
   const releaseEarlyStop = onStopSignal(() => {
     stopRequested = true;
     wake?.();
   });
-  for (let attempt = 1; ; attempt++) {
-    let dependency: 'kafka' | 'redis' = 'redis';
-    try {
-      await redis.ping();
-      dependency = 'kafka';
-      await feed.start();
-      break;
-    } catch (e) {
-      // Whatever the feed opened (its producer) is closed, so a refused board exits at once.
-      await feed.stop().catch(() => {});
-      // follow() wraps an unreachable Kafka as SERVICE_UNAVAILABLE: that one is an outage too.
-      const typed = e instanceof StreamfenceError && e.code !== 'SERVICE_UNAVAILABLE' ? e : null;
-      const cause = e instanceof StreamfenceError && typed === null ? (e.cause ?? e) : e;
-      const outage =
-        typed !== null
-          ? null
-          : dependency === 'redis'
-            ? redisOutage(cause, redisSettings, redisWatch.lastError)
-            : kafkaOutage(cause, kafkaSettings, `read ${alertTopic} and ${actionTopic}`);
-      const final = typed ?? outage!.refusal;
-      if (final !== null) {
-        releaseEarlyStop();
-        redis.disconnect();
-        throw final;
-      }
-      const delayMs = backoffDelay(attempt, 1_000);
-      process.stderr.write(`streamfence board: ${retryLine(outage!, delayMs)}\n`);
-      await new Promise<void>((resolve) => {
-        const timer = setTimeout(resolve, delayMs);
-        wake = () => {
-          clearTimeout(timer);
-          resolve();
-        };
-      });
-      wake = null;
-      if (stopRequested) {
-        redis.disconnect();
-        process.stderr.write('streamfence board: stopped\n');
-        return 0;
+  try {
+    for (let attempt = 1; ; attempt++) {
+      let dependency: 'kafka' | 'redis' = 'redis';
+      try {
+        await redis.ping();
+        dependency = 'kafka';
+        await feed.start();
+        return 'started';
+      } catch (err) {
+        // Whatever the feed opened (its producer) is closed, so a refused board exits at once.
+        await feed.stop().catch(() => {});
+        // follow() wraps an unreachable Kafka as SERVICE_UNAVAILABLE: that one is an outage too.
+        const typed = err instanceof StreamfenceError && err.code !== 'SERVICE_UNAVAILABLE' ? err : null;
+        const cause = err instanceof StreamfenceError && typed === null ? (err.cause ?? err) : err;
+        const outage =
+          typed !== null
+            ? null
+            : dependency === 'redis'
+              ? redisOutage(cause, request.redisSettings, redisWatch.lastError)
+              : kafkaOutage(
+                  cause,
+                  request.kafkaSettings,
+                  `read ${request.alertTopic} and ${request.actionTopic}`,
+                );
+        const final = typed ?? outage!.refusal;
+        if (final !== null) throw final;
+        const delayMs = backoffDelay(attempt, 1_000);
+        process.stderr.write(`streamfence board: ${retryLine(outage!, delayMs)}\n`);
+        await new Promise<void>((resolve) => {
+          const timer = setTimeout(resolve, delayMs);
+          wake = () => {
+            clearTimeout(timer);
+            resolve();
+          };
+        });
+        wake = null;
+        if (stopRequested) return 'stopped';
       }
     }
+  } finally {
+    releaseEarlyStop();
   }
-  releaseEarlyStop();
+}
+
+export async function main(argv: string[]): Promise<number> {
+  const args = parseCommandArgs(
+    CMD,
+    argv,
+    {
+      ...parseArgsOptions(KAFKA_OPTIONS),
+      ...parseArgsOptions(REDIS_OPTIONS),
+      ...OPTIONS,
+      ...GROUP_ARG_OPTIONS,
+    },
+    false,
+    OPTION_ENV,
+  );
+  if (args.help) return printHelp(HELP);
+  const request = readRequest(args);
+  const { alertTopic, actionTopic } = request;
+
+  printBanner(CMD);
+  const redis = buildRedis(request.redisSettings);
+  const kafka = buildKafka(request.kafkaSettings, { clientId: 'streamfence-board', retries: 2 });
+  let feed: LiveFeed | null = null;
+  const hub = new BoardHub({
+    mode: 'live',
+    groupRule: request.groupRule,
+    clock: { wall: () => Date.now(), plant: () => Date.now() },
+    share: (action) => feed!.share(action),
+  });
+  feed = new LiveFeed(hub, {
+    kafka,
+    redis,
+    prefix: request.prefix,
+    alertTopic,
+    actionTopic,
+    sinceMs: request.sinceMs,
+    onSkip: (why) => process.stderr.write(`streamfence board: ${why}\n`),
+  });
+  let started: 'started' | 'stopped';
+  try {
+    started = await startFeedWaitingOutOutages(feed, redis, request);
+  } catch (err) {
+    redis.disconnect();
+    throw err;
+  }
+  if (started === 'stopped') {
+    redis.disconnect();
+    process.stderr.write('streamfence board: stopped\n');
+    return 0;
+  }
   const metrics = createBoardMetrics(hub);
-  const board = await startBoardServer({ hub, metrics, host, port, token });
+  const board = await startBoardServer({
+    hub,
+    metrics,
+    host: request.host,
+    port: request.port,
+    token: request.token,
+  });
   process.stdout.write(
     `streamfence board: following ${alertTopic} and ${actionTopic}; board at ${board.url}/\n`,
   );

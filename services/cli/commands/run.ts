@@ -17,11 +17,12 @@ import {
   type KafkaSettings,
   type RedisSettings,
 } from '../../connect/index.js';
-import { createLogger } from '../../log.js';
+import type { Redis } from 'ioredis';
+import { createLogger, type Logger } from '../../log.js';
 import { startMetricsServer } from '../../metrics/http.js';
-import { createMetrics } from '../../metrics/metrics.js';
+import { createMetrics, type Metrics } from '../../metrics/metrics.js';
 import { Monitor } from '../../monitor/monitor.js';
-import { optionsHelp, parseRunOptions, RUN_OPTIONS } from '../run-options.js';
+import { optionsHelp, parseRunOptions, RUN_OPTIONS, type MonitorOptions } from '../run-options.js';
 import { loadEngineConfig } from '../../setup/config-file.js';
 import { onStopSignal } from '../../setup/signals.js';
 
@@ -47,36 +48,31 @@ export function startRefusal(
 /** A stop request ends the process within this time (the documented 10 s stop budget). */
 export const STOP_DEADLINE_MS = 9_500;
 
-export async function main(argv: string[]): Promise<number> {
-  const parsed = parseRunOptions(argv, process.env);
-  if (parsed.help) {
-    process.stdout.write(
-      [
-        'Usage: streamfence run [options]',
-        '',
-        'The live monitor: consumes readings {sensor, ts, value} (keyed by sensor id) from Kafka, judges',
-        'each against its sensor baseline, publishes alert events, keeps exact state in Redis.',
-        '',
-        optionsHelp(RUN_OPTIONS),
-        '  --help                             this help',
-        '',
-        `Secrets are read from the environment or files only, never from flags.`,
-        `  ${NOTICE}`,
-        '',
-      ].join('\n'),
-    );
-    return 0;
-  }
-  const o = parsed.opts;
-  const log = createLogger('streamfence-run', o.logLevel);
-  log.info({ notice: NOTICE, engine: ENGINE_VERSION }, `streamfence run: ${NOTICE}`);
+const RUN_HELP = [
+  'Usage: streamfence run [options]',
+  '',
+  'The live monitor: consumes readings {sensor, ts, value} (keyed by sensor id) from Kafka, judges',
+  'each against its sensor baseline, publishes alert events, keeps exact state in Redis.',
+  '',
+  optionsHelp(RUN_OPTIONS),
+  '  --help                             this help',
+  '',
+  `Secrets are read from the environment or files only, never from flags.`,
+  `  ${NOTICE}`,
+  '',
+].join('\n');
 
-  const config = loadEngineConfig(o.configFile, `--config (or ${ENV.configFile})`);
+/** The monitor with its clients, built from the parsed options (nothing connects yet). */
+interface MonitorParts {
+  monitor: Monitor;
+  redis: Redis;
+}
 
-  const metrics = createMetrics();
-  const redis = buildRedis(o.redis);
+function buildMonitor(options: MonitorOptions, log: Logger, metrics: Metrics): MonitorParts {
+  const config = loadEngineConfig(options.configFile, `--config (or ${ENV.configFile})`);
+  const redis = buildRedis(options.redis);
   let monitorRef: Monitor | null = null;
-  const kafka = buildKafka(o.kafka, {
+  const kafka = buildKafka(options.kafka, {
     clientId: `streamfence-${hostname()}-${process.pid}`,
     log,
     // Few retries inside kafkajs: the monitor's own backoff logs and counts each attempt; the
@@ -86,44 +82,56 @@ export async function main(argv: string[]): Promise<number> {
   });
   log.info(
     {
-      kafka: describeKafka(o.kafka),
-      redis: describeRedis(o.redis),
-      inputTopic: o.inputTopic,
-      alertTopic: o.alertTopic,
-      rejectedTopic: o.rejectedTopic,
-      group: o.group,
-      statePrefix: o.statePrefix,
-      config: o.configFile,
+      kafka: describeKafka(options.kafka),
+      redis: describeRedis(options.redis),
+      inputTopic: options.inputTopic,
+      alertTopic: options.alertTopic,
+      rejectedTopic: options.rejectedTopic,
+      group: options.group,
+      statePrefix: options.statePrefix,
+      config: options.configFile,
     },
     'starting',
   );
-
   const monitor: Monitor = new Monitor({
     kafka,
     redis,
     config,
     settings: {
-      statePrefix: o.statePrefix,
-      inputTopic: o.inputTopic,
-      alertTopic: o.alertTopic,
-      rejectedTopic: o.rejectedTopic,
-      group: o.group,
-      checkpointMs: o.checkpointMs,
-      checkpointReadings: o.checkpointReadings,
-      maxSensors: o.maxSensors,
-      sessionTimeoutMs: o.sessionTimeoutMs,
+      statePrefix: options.statePrefix,
+      inputTopic: options.inputTopic,
+      alertTopic: options.alertTopic,
+      rejectedTopic: options.rejectedTopic,
+      group: options.group,
+      checkpointMs: options.checkpointMs,
+      checkpointReadings: options.checkpointReadings,
+      maxSensors: options.maxSensors,
+      sessionTimeoutMs: options.sessionTimeoutMs,
     },
     log,
     metrics,
-    connection: { kafka: o.kafka, redis: o.redis },
-    startRefusal: startRefusal(o.kafka, o.redis, `read ${o.inputTopic} in group ${o.group}`),
+    connection: { kafka: options.kafka, redis: options.redis },
+    startRefusal: startRefusal(
+      options.kafka,
+      options.redis,
+      `read ${options.inputTopic} in group ${options.group}`,
+    ),
   });
   monitorRef = monitor;
-  const http = await startMetricsServer(metrics.registry, o.metricsPort, () => monitor.readiness());
-  log.info({ port: http.port }, `metrics listening on port ${http.port}`);
+  return { monitor, redis };
+}
 
+/**
+ * Stops the monitor once (later calls share the first), closing the metrics server and Redis; a
+ * stop that overruns the 10 s budget exits the process.
+ */
+function stopper(
+  parts: MonitorParts,
+  http: { close(): Promise<void> },
+  log: Logger,
+): (signal: string) => Promise<number> {
   let stopping: Promise<number> | null = null;
-  const stop = (signal: string): Promise<number> => {
+  return (signal) => {
     if (stopping) return stopping;
     log.info({ signal }, 'stop requested');
     const deadline = setTimeout(() => {
@@ -133,13 +141,13 @@ export async function main(argv: string[]): Promise<number> {
       process.exit(1);
     }, STOP_DEADLINE_MS);
     deadline.unref();
-    stopping = monitor
+    stopping = parts.monitor
       .stop()
       .then(
         (outcome) => (outcome.clean ? 0 : 1),
-        (e: unknown) => {
+        (err: unknown) => {
           log.error(
-            { err: (e as Error).message },
+            { err: (err as Error).message },
             'stop failed; the next start re-reads from the last checkpoint',
           );
           return 1;
@@ -147,19 +155,41 @@ export async function main(argv: string[]): Promise<number> {
       )
       .finally(async () => {
         await http.close();
-        redis.disconnect();
+        parts.redis.disconnect();
         clearTimeout(deadline);
       });
     return stopping;
   };
+}
+
+/** Ends the process with `code` even if a library left a handle open (unref'd: a clean exit is not delayed). */
+function exitSoon(code: number): void {
+  setTimeout(() => process.exit(code), 1_000).unref();
+}
+
+export async function main(argv: string[]): Promise<number> {
+  const parsed = parseRunOptions(argv, process.env);
+  if (parsed.help) {
+    process.stdout.write(RUN_HELP);
+    return 0;
+  }
+  const options = parsed.opts;
+  const log = createLogger('streamfence-run', options.logLevel);
+  log.info({ notice: NOTICE, engine: ENGINE_VERSION }, `streamfence run: ${NOTICE}`);
+
+  const metrics = createMetrics();
+  const parts = buildMonitor(options, log, metrics);
+  const { monitor } = parts;
+  const http = await startMetricsServer(metrics.registry, options.metricsPort, () => monitor.readiness());
+  log.info({ port: http.port }, `metrics listening on port ${http.port}`);
+  const stop = stopper(parts, http, log);
 
   return new Promise<number>((resolve) => {
     onStopSignal(
       (signal) => {
         void stop(signal).then((code) => {
           resolve(code);
-          // Exit even if a library left a handle open; unref'd so a clean exit is not delayed.
-          setTimeout(() => process.exit(code), 1_000).unref();
+          exitSoon(code);
         });
       },
       {
@@ -169,17 +199,17 @@ export async function main(argv: string[]): Promise<number> {
         },
       },
     );
-    monitor.start().catch((e: unknown) => {
+    monitor.start().catch((err: unknown) => {
       // A stop request during start ends the waiting; that is a stop, not a failure.
       if (monitor.stopRequested) return;
-      const code = e instanceof StreamfenceError ? 2 : 1;
-      if (!(e instanceof StreamfenceError))
-        log.error({ err: (e as Error).message }, 'monitor failed to start');
+      const code = err instanceof StreamfenceError ? 2 : 1;
+      if (!(err instanceof StreamfenceError))
+        log.error({ err: (err as Error).message }, 'monitor failed to start');
       void stop('start-failure').then(() => {
         // A typed refusal is the whole story in one line, written last so it is what a user sees.
-        if (e instanceof StreamfenceError) log.error({ code: e.code }, `${e.message} [${e.code}]`);
+        if (err instanceof StreamfenceError) log.error({ code: err.code }, `${err.message} [${err.code}]`);
         resolve(code);
-        setTimeout(() => process.exit(code), 1_000).unref();
+        exitSoon(code);
       });
     });
   });

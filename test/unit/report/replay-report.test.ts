@@ -7,6 +7,7 @@ import { NOTICE } from '../../../libs/schema/notice.js';
 import { esc } from '../../../libs/report/escape.js';
 import { runReplay } from '../../../services/replay/replay.js';
 import { createReportObserver, type ReportOptions } from '../../../libs/report/replay-report.js';
+import { healthSection } from '../../../libs/report/health.js';
 import { asRecords, feed, SHORT_WINDOW_CONFIG } from './data.js';
 
 async function report(
@@ -63,6 +64,14 @@ describe('replay report', () => {
     const raised = table.filter(([s]) => String(s).startsWith('still-'));
     expect(raised.map(([s]) => s).slice(0, 2)).toEqual(headings);
     expect(Number(raised[0][1])).toBeGreaterThanOrEqual(Number(raised[1][1]));
+  });
+
+  it('has the alert-system health section, from the same figures as summary.json kpis', async () => {
+    const { summary, html } = await report(3_000);
+    expect(summary.kpis.raised).toBe(summary.alerts.raised);
+    expect(html).toContain(`<h2 id="health">Alert-system health</h2>\n${healthSection(summary.kpis)}\n`);
+    // The same replay renders the same bytes (no clock in the report).
+    expect((await report(3_000)).html).toBe(html);
   });
 
   it('says when a top sensor could not be charted because of the sensor cap', async () => {
