@@ -47,6 +47,11 @@ export interface Metrics extends EngineMetrics {
    */
   backoff: Counter<'dependency' | 'cause'>;
   checkpoints: Counter<'result'>;
+  /**
+   * partition states found lost and rebuilt, by cause: keys_lost_running (lost under a running monitor,
+   * memory state rewritten)
+   */
+  stateRebuilds: Counter<'cause'>;
   assignedPartitions: Gauge;
   /** the sensor limit (--max-sensors) */
   sensorLimit: Gauge;
@@ -157,6 +162,12 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
       name: 'streamfence_checkpoints_total',
       help: 'Partition checkpoints, by result (written; fenced: the partition now belongs to another monitor; owner_gone: Redis lost the partition keys, state rewritten in full).',
       labelNames: ['result'],
+      registers,
+    }),
+    stateRebuilds: new Counter({
+      name: 'streamfence_state_rebuilds_total',
+      help: 'Partition states found lost and rebuilt, by cause (keys_lost_running: Redis lost the keys under a running monitor, memory state written in full again).',
+      labelNames: ['cause'],
       registers,
     }),
     assignedPartitions: new Gauge({

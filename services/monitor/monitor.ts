@@ -746,8 +746,9 @@ export class Monitor {
       // Redis lost the partition's keys under us (flush, restart without persistence). The memory
       // state is exact: take ownership back and write all of it, rather than dropping it.
       this.metrics.checkpoints.inc({ result: 'owner_gone' });
+      this.metrics.stateRebuilds.inc({ cause: 'keys_lost_running' });
       this.log.error(
-        { partition: w.partition, sensors: w.engine.sensorCount },
+        { partition: w.partition, sensors: w.engine.sensorCount, cause: 'keys_lost_running' },
         'partition state gone from Redis; keeping the exact state in memory and writing it in full again',
       );
       const retaken = await this.retry('redis', () => this.store.retake(w.partition), {
