@@ -9,7 +9,7 @@ import type { SensorSettings } from '../config/settings.js';
 import type { AlertEvent } from '../schema/alert-event.js';
 import type { AlertState } from '../schema/vocabulary.js';
 import { NOTICE } from '../schema/notice.js';
-import { fencesOf, judge, NORMAL_COLD, robustZ, zScore, type Verdict } from './judge.js';
+import { fencesOf, judge, NORMAL_COLD, robustZ, settled, zScore, type Verdict } from './judge.js';
 import { step, type ActiveAlert } from './lifecycle.js';
 import { alertId } from './alert-id.js';
 import { alertMessage, qualityMessage, staleMessage } from './alert-wording.js';
@@ -223,7 +223,10 @@ export class Engine {
       sensor: reading.sensor,
       ts: reading.ts,
       seen: state.seen,
+      now: window.newestTs,
       verdict,
+      // Only an unflagged reading under a raised alert needs the deadband check.
+      settled: before === null || verdict.flagged || settled(reading.value, settings, baseline, state.fences),
     });
 
     // Readings that raise, continue or clear an alert feed the baseline only when configured to.
