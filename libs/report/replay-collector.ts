@@ -98,6 +98,7 @@ const FIRST_BIN_MS = 1000;
 
 /** Collects the replay report's figures from the readings and outcomes of one replay. */
 export class ReportCollector {
+  /** The options with their defaults filled in. */
   readonly options: ResolvedReportOptions;
   /** Charted sensors, in the order first seen (at most `maxChartSensors`). */
   readonly series = new Map<string, SensorSeries>();
