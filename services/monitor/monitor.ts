@@ -32,7 +32,7 @@ import { configToJson } from '../../libs/config/config.js';
 import type { RejectReason } from '../../libs/engine/reading.js';
 import type { Logger } from '../log.js';
 import type { Metrics } from '../metrics/metrics.js';
-import { CheckpointStore } from '../redis/checkpoint-store.js';
+import { CheckpointStore, type ExpectedOffset } from '../redis/checkpoint-store.js';
 import { configKey } from '../redis/keys.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { KafkaSettings, RedisSettings } from '../connect/options.js';
@@ -763,30 +763,39 @@ export class Monitor {
       if (bytes) entries.push([sensor, bytes]);
     }
     const offset = w.next;
+    const expected: ExpectedOffset =
+      w.checkpointed < 0 ? { kind: 'none' } : { kind: 'offset', offset: w.checkpointed.toString() };
     const end = this.metrics.checkpointDuration.startTimer();
     let result = await this.retry(
       'redis',
-      () => this.store.save(w.partition, offset.toString(), entries, evicted),
+      () => this.store.save(w.partition, offset.toString(), expected, entries, evicted),
       { whileWaiting: heartbeat },
     );
-    if (result === 'owner_gone') {
-      // Redis lost the partition's keys under us (flush, restart without persistence). The memory
-      // state is exact: take ownership back and write all of it, rather than dropping it.
-      this.metrics.checkpoints.inc({ result: 'owner_gone' });
-      this.metrics.stateRebuilds.inc({ cause: 'keys_lost_running' });
+    if (result === 'owner_gone' || result === 'rolled_back') {
+      // Redis lost the partition's keys (flush, restart without persistence) or went back to an
+      // older checkpoint (a restart that lost the append-only file's last second, a replica
+      // promoted before it had our last writes). The memory state is exact: keep it and write all
+      // of it, rather than dropping it or writing only what changed since.
+      const cause = result === 'owner_gone' ? 'keys_lost_running' : 'checkpoint_rolled_back';
+      this.metrics.checkpoints.inc({ result });
+      this.metrics.stateRebuilds.inc({ cause });
       this.log.error(
-        { partition: w.partition, sensors: w.engine.sensorCount, cause: 'keys_lost_running' },
-        'partition state gone from Redis; keeping the exact state in memory and writing it in full again',
+        { partition: w.partition, sensors: w.engine.sensorCount, cause, expectedOffset: w.checkpointed },
+        result === 'owner_gone'
+          ? 'partition state gone from Redis; keeping the exact state in memory and writing it in full again'
+          : 'partition state in Redis went back to an older checkpoint; keeping the exact state in memory and writing it in full again',
       );
-      const retaken = await this.retry('redis', () => this.store.retake(w.partition), {
-        whileWaiting: heartbeat,
-      });
+      const retaken =
+        result === 'rolled_back' ||
+        (await this.retry('redis', () => this.store.retake(w.partition), { whileWaiting: heartbeat }));
       if (retaken) {
         const all: [string, Uint8Array][] = [];
         for (const sensor of w.engine.sensors()) all.push([sensor, w.engine.encode(sensor)!]);
-        result = await this.retry('redis', () => this.store.save(w.partition, offset.toString(), all, []), {
-          whileWaiting: heartbeat,
-        });
+        result = await this.retry(
+          'redis',
+          () => this.store.save(w.partition, offset.toString(), { kind: 'replace' }, all, []),
+          { whileWaiting: heartbeat },
+        );
       } else result = 'fenced';
     }
     end();
