@@ -40,6 +40,10 @@ import { kafkaOutage, redisOutage, retryLine, RedisErrorWatch, type Outage } fro
 import { backoffDelay, withBackoff, type BackoffHooks } from './backoff.js';
 import { parseMessage, rejectionRecord } from './kafka-message.js';
 
+/** Where a monitor starts on a partition that has neither a checkpoint nor a committed offset. */
+export const START_FROM = ['now', 'earliest'] as const;
+export type StartFrom = (typeof START_FROM)[number];
+
 export interface MonitorSettings {
   statePrefix: string;
   inputTopic: string;
@@ -51,6 +55,11 @@ export interface MonitorSettings {
   sessionTimeoutMs: number;
   /** Most sensors this process holds (default DEFAULT_MAX_SENSORS). */
   maxSensors?: number;
+  /**
+   * A partition with no checkpoint and no committed offset: `now` (the default) starts at the end
+   * the topic had when this monitor started, `earliest` at the oldest message Kafka still holds.
+   */
+  startFrom?: StartFrom;
 }
 
 /** What a Monitor is built from: clients (from services/connect), the engine config, settings, log and metrics. */
@@ -123,6 +132,8 @@ export class Monitor {
   private readonly admin: Admin;
   private lockTail: Promise<unknown> = Promise.resolve();
   private assigned = new Set<number>();
+  /** Each input partition's end offset when this monitor started: where `now` starts. */
+  private startOffsets = new Map<number, number>();
   /** Wall-clock time of the last message per assigned partition (its assignment time before one). */
   private readonly heardAt = new Map<number, number>();
   private joined = false;
@@ -225,6 +236,8 @@ export class Monitor {
     );
     await this.retry('kafka', () => this.admin.connect());
     await this.requireTopics();
+    const ends = await this.retry('kafka', () => this.admin.fetchTopicOffsets(this.settings.inputTopic));
+    this.startOffsets = new Map(ends.map((o) => [o.partition, Number(o.high)]));
     await this.retry('kafka', () => this.producer.connect());
     await this.startConsumer();
     if (this.startFailure) throw this.startFailure;
@@ -546,10 +559,23 @@ export class Monitor {
     let next: number;
     if (cp.offset !== null) next = Number(cp.offset);
     else {
-      // Never checkpointed: the state is empty, which is exact only from the start of the log.
+      // Never checkpointed: start at the end the topic had when we started (`now`), so days of
+      // retained history are not judged and published again, or at the oldest message kept.
       const offsets = await this.retry('kafka', () => this.admin.fetchTopicOffsets(this.settings.inputTopic));
       const p = offsets.find((o) => o.partition === partition);
-      next = Number(p?.low ?? '0');
+      const low = Number(p?.low ?? '0');
+      const high = Number(p?.high ?? '0');
+      const startFrom = this.settings.startFrom ?? 'now';
+      next =
+        startFrom === 'earliest'
+          ? low
+          : Math.min(Math.max(this.startOffsets.get(partition) ?? high, low), high);
+      this.log.info(
+        { partition, startFrom, offset: next.toString() },
+        startFrom === 'earliest'
+          ? 'no stored state: starting at the oldest message Kafka holds'
+          : 'no stored state: starting at the end of the topic (readings from now on)',
+      );
     }
     const w: PartitionWorker = {
       partition,
@@ -578,8 +604,9 @@ export class Monitor {
 
     if (w.start !== 'done') {
       const first = Number(msgs[0].offset);
-      if (first > w.next && w.start === 'verify') {
-        // The fetch began past our checkpoint (e.g. group offsets ahead of the Redis state): go back.
+      if (first !== w.next && w.start === 'verify') {
+        // The fetch began elsewhere than our checkpoint (group offsets ahead of the Redis state, or
+        // the oldest message on a first start from `now`): go there.
         this.log.info(
           { partition: part, from: first.toString(), to: w.next.toString() },
           'seeking to checkpoint',
