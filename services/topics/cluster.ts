@@ -5,6 +5,7 @@
  */
 import kafkajs, { type Admin } from 'kafkajs';
 import type { TopicFound, TopicSpec } from '../../libs/topics/plan.js';
+import { createTopicsWithLeaders } from '../connect/topics.js';
 
 // kafkajs is CommonJS: its enums are reachable only through the default export under Node ESM.
 const { ConfigResourceTypes } = kafkajs;
@@ -70,18 +71,18 @@ export async function findTopics(admin: Admin, names: string[]): Promise<Map<str
 }
 
 /**
- * Creates the topics and waits for their leaders. A topic another client made in the meantime is
- * not an error (kafkajs answers false then); the caller reads the layout back either way.
+ * Creates the topics and waits for their leaders (cluster-wide: see createTopicsWithLeaders). A
+ * topic another client made in the meantime is not an error; the caller reads the layout back.
  */
 export async function createTopics(admin: Admin, specs: TopicSpec[]): Promise<void> {
   if (specs.length === 0) return;
-  await admin.createTopics({
-    waitForLeaders: true,
-    topics: specs.map((s) => ({
+  await createTopicsWithLeaders(
+    admin,
+    specs.map((s) => ({
       topic: s.name,
       numPartitions: s.partitions,
       replicationFactor: s.replicationFactor,
       configEntries: [{ name: 'retention.ms', value: String(s.retentionMs) }],
     })),
-  });
+  );
 }
