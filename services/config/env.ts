@@ -109,6 +109,14 @@ export const ENV = {
   /** Whole messages instead of lines fitted to 120 columns (--wide of alerts). */
   alertsWide: 'STREAMFENCE_ALERTS_WIDE',
 
+  // topics
+  /** Partitions, replication factor and retention of the topics `streamfence topics` creates or checks. */
+  topicsPartitions: 'STREAMFENCE_TOPICS_PARTITIONS',
+  topicsReplicationFactor: 'STREAMFENCE_TOPICS_REPLICATION_FACTOR',
+  topicsRetention: 'STREAMFENCE_TOPICS_RETENTION',
+  /** One JSON object per topic instead of text lines (--json of topics). */
+  topicsJson: 'STREAMFENCE_TOPICS_JSON',
+
   // demo
   demoSpeed: 'STREAMFENCE_DEMO_SPEED',
   demoPreroll: 'STREAMFENCE_DEMO_PREROLL',

@@ -38,7 +38,14 @@ import { CheckpointStore, type ExpectedOffset } from '../redis/checkpoint-store.
 import { configKey } from '../redis/keys.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { KafkaSettings, RedisSettings } from '../connect/options.js';
-import { kafkaOutage, redisOutage, retryLine, RedisErrorWatch, type Outage } from '../connect/outage.js';
+import {
+  kafkaLogError,
+  kafkaOutage,
+  redisOutage,
+  retryLine,
+  RedisErrorWatch,
+  type Outage,
+} from '../connect/outage.js';
 import { backoffDelay, withBackoff, type BackoffHooks } from './backoff.js';
 import { parseMessage, rejectionRecord } from './kafka-message.js';
 
@@ -298,7 +305,7 @@ export class Monitor {
       'kafka',
       () => this.consumer.subscribe({ topic: this.settings.inputTopic, fromBeginning: true }),
       {},
-      `read topic ${this.settings.inputTopic}`,
+      this.readWhat,
     );
     if (this.stopping) return;
     await this.consumer.run({
@@ -379,11 +386,7 @@ export class Monitor {
     if (this.stopping) return false;
     this.consumerRestarts++;
     const delayMs = backoffDelay(this.consumerRestarts, 500);
-    this.noteRetry(
-      this.describe('kafka', err, `read topic ${this.settings.inputTopic}`),
-      delayMs,
-      this.consumerRestarts,
-    );
+    this.noteRetry(this.describe('kafka', err, this.readWhat), delayMs, this.consumerRestarts);
     await this.pause(delayMs, true);
     return !this.stopping;
   }
@@ -395,11 +398,7 @@ export class Monitor {
   private async replaceConsumer(err: unknown): Promise<void> {
     this.consumerRestarts++;
     const delayMs = backoffDelay(this.consumerRestarts, 500);
-    this.noteRetry(
-      this.describe('kafka', err, `read topic ${this.settings.inputTopic}`),
-      delayMs,
-      this.consumerRestarts,
-    );
+    this.noteRetry(this.describe('kafka', err, this.readWhat), delayMs, this.consumerRestarts);
     await this.pause(delayMs, true);
     if (this.stopping) return;
     await this.consumer.disconnect().catch(() => undefined);
@@ -407,6 +406,11 @@ export class Monitor {
     await this.startConsumer().catch((e: unknown) => {
       if (!this.stopping) this.log.debug({ err: errText(e) }, 'consumer restart failed');
     });
+  }
+
+  /** The consumer's operation, for ACL wording: the topic and the group (either ACL may deny it). */
+  private get readWhat(): string {
+    return `read topic ${this.settings.inputTopic} in group ${this.settings.group}`;
   }
 
   /** Joined the group, Kafka and Redis answer, not stopping. */
@@ -509,11 +513,17 @@ export class Monitor {
    * answering mid-run): one line and one count per failure, with the broker it names. Pass the
    * client's log entries here (buildKafka's onError).
    */
-  noteKafkaClientError(entry: { namespace: string; log: { message?: unknown; broker?: unknown } }): void {
+  noteKafkaClientError(entry: {
+    namespace: string;
+    log: { message?: unknown; broker?: unknown; error?: unknown };
+  }): void {
     if (this.stopping || entry.namespace !== 'Connection') return;
     const broker = typeof entry.log.broker === 'string' ? entry.log.broker : null;
     const settings = broker === null ? this.kafkaSettings : { ...this.kafkaSettings, brokers: [broker] };
-    this.noteRetry(kafkaOutage(new Error(String(entry.log.message ?? '')), settings), null, 0);
+    const outage = kafkaOutage(kafkaLogError(entry.log), settings, this.readWhat);
+    // Before the first join a refusal ends start() with its own line: no "retrying" before it.
+    if (!this.started && outage.refusal !== null) return;
+    this.noteRetry(outage, null, 0);
   }
 
   /** One warn line and one count per retry. */
@@ -572,7 +582,7 @@ export class Monitor {
       this.joined = false;
       this.kafkaDown = true;
       if (e.payload.restart || this.stopping) return;
-      const outage = this.describe('kafka', e.payload.error, `read topic ${this.settings.inputTopic}`);
+      const outage = this.describe('kafka', e.payload.error, this.readWhat);
       if (!this.started) {
         this.startFailure =
           outage.refusal ??
