@@ -24,6 +24,8 @@ export const ENV = {
   maxSensors: 'STREAMFENCE_MAX_SENSORS',
   /** Where a monitor starts on a partition it has no state and no committed offset for: now or earliest. */
   startFrom: 'STREAMFENCE_START_FROM',
+  /** A first deployment learns the baselines from the history before its start point (true/false). */
+  warmStart: 'STREAMFENCE_WARM_START',
   logLevel: 'STREAMFENCE_LOG_LEVEL',
   /** Kafka TLS: "true" turns it on; CA / client certificate / key are PEM file paths. */
   kafkaTls: 'STREAMFENCE_KAFKA_TLS',
