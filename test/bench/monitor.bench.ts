@@ -545,6 +545,9 @@ function spawnMonitor(args: {
       String(args.metricsPort),
       '--session-timeout-ms',
       '6000',
+      // The topic is filled before the processes start.
+      '--start-from',
+      'earliest',
       '--log-level',
       'warn',
     ],
