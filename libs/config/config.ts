@@ -274,6 +274,7 @@ export class SettingsResolver {
     Object.freeze(config.defaults);
   }
 
+  /** The settings of the first rule whose glob matches the sensor, else the defaults. */
   resolve(sensor: string): SensorSettings {
     for (const matcher of this.matchers) if (matcher.test(sensor)) return matcher.settings;
     return this.config.defaults;

@@ -24,10 +24,13 @@ export interface ConditionAlert {
 export class SensorState {
   /** Lifetime accepted readings. */
   seen = 0;
+  /** The newest value (for the stuck-sensor rule). */
   lastValue = NaN;
   /** Length of the current run of identical values. */
   stuckRun = 0;
+  /** The rolling event-time window of bucket digests. */
   readonly window: SensorWindow;
+  /** Where the sensor is in the alert lifecycle (debounce counts, the raised alert). */
   life: LifecycleState;
   /** Consecutive readings of quality other than good, up to the newest. */
   doubtfulRun = 0;
@@ -39,6 +42,7 @@ export class SensorState {
   staleAlert: ConditionAlert | null = null;
   /** Fences cached for the baseline object they were computed from. */
   fencesFor: Baseline | null = null;
+  /** The fences of the current baseline, cached until the baseline changes. */
   fences: Fences | null = null;
   /** The time-of-day profile (`profile: daily`), or null. */
   profile: DailyProfile | null;

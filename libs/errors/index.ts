@@ -34,6 +34,7 @@ export type ErrorCode = (typeof ERROR_CODES)[number];
  * @example throw new StreamfenceError('ARGS_INVALID', '--port must be a whole number from 0 to 65535, got "x"');
  */
 export class StreamfenceError extends Error {
+  /** The stable code, as listed in the README's error-code table. */
   readonly code: ErrorCode;
   constructor(code: ErrorCode, message: string, options?: { cause?: unknown }) {
     super(message, options);

@@ -16,6 +16,7 @@ import {
   type RedisSettings,
 } from '../connect/index.js';
 import { LOG_LEVELS, type LogLevel } from '../log.js';
+import { START_FROM, type StartFrom } from '../monitor/monitor.js';
 import { PORT_OR_ANY_RULE, parseCommandArgs, parseNumber, usageError } from '../setup/args.js';
 
 export { optionsHelp } from '../connect/index.js';
@@ -32,6 +33,7 @@ export interface MonitorOptions {
   checkpointMs: number;
   checkpointReadings: number;
   maxSensors: number;
+  startFrom: StartFrom;
   sessionTimeoutMs: number;
   logLevel: LogLevel;
   kafka: KafkaSettings;
@@ -77,6 +79,11 @@ const MONITOR_OPTIONS: Record<string, OptionSpec> = {
     env: ENV.maxSensors,
     def: String(DEFAULT_MAX_SENSORS),
     help: 'most sensors held in memory and Redis; readings of new sensors beyond it are rejected (sensor_limit)',
+  },
+  'start-from': {
+    env: ENV.startFrom,
+    def: 'now',
+    help: `where to start on a partition with no stored state and no committed offset: ${START_FROM.join(' or ')} (now = the end of the topic when the monitor starts)`,
   },
   'session-timeout-ms': {
     env: ENV.kafkaSessionTimeoutMs,
@@ -129,6 +136,10 @@ export function parseRunOptions(
   const logLevel = get('log-level') as LogLevel;
   if (!LOG_LEVELS.includes(logLevel)) invalid(`--log-level must be one of ${LOG_LEVELS.join(', ')}`);
 
+  const startFrom = get('start-from') as StartFrom;
+  if (!START_FROM.includes(startFrom))
+    invalid(`--start-from must be ${START_FROM.join(' or ')}, got "${startFrom}"`);
+
   const group = get('group')!;
   const inputTopic = get('input-topic')!;
   for (const [n, v] of [
@@ -153,6 +164,7 @@ export function parseRunOptions(
       checkpointMs: wholeNumber(get('checkpoint-ms')!, 'checkpoint-ms', 10),
       checkpointReadings: wholeNumber(get('checkpoint-readings')!, 'checkpoint-readings', 1),
       maxSensors: wholeNumber(get('max-sensors')!, 'max-sensors', 1),
+      startFrom,
       sessionTimeoutMs: wholeNumber(get('session-timeout-ms')!, 'session-timeout-ms', 1000),
       logLevel,
       kafka,

@@ -22,6 +22,8 @@ export const ENV = {
   checkpointReadings: 'STREAMFENCE_CHECKPOINT_READINGS',
   /** Most sensors one monitor process holds state for; new sensors beyond it are rejected. */
   maxSensors: 'STREAMFENCE_MAX_SENSORS',
+  /** Where a monitor starts on a partition it has no state and no committed offset for: now or earliest. */
+  startFrom: 'STREAMFENCE_START_FROM',
   logLevel: 'STREAMFENCE_LOG_LEVEL',
   /** Kafka TLS: "true" turns it on; CA / client certificate / key are PEM file paths. */
   kafkaTls: 'STREAMFENCE_KAFKA_TLS',

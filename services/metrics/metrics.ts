@@ -160,13 +160,13 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
     }),
     checkpoints: new Counter({
       name: 'streamfence_checkpoints_total',
-      help: 'Partition checkpoints, by result (written; fenced: the partition now belongs to another monitor; owner_gone: Redis lost the partition keys, state rewritten in full).',
+      help: 'Partition checkpoints, by result (written; fenced: the partition now belongs to another monitor; owner_gone: Redis lost the partition keys; rolled_back: Redis went back to an older checkpoint; both rewrite the state in full).',
       labelNames: ['result'],
       registers,
     }),
     stateRebuilds: new Counter({
       name: 'streamfence_state_rebuilds_total',
-      help: 'Partition states found lost and rebuilt, by cause (keys_lost_running: Redis lost the keys under a running monitor, memory state written in full again).',
+      help: 'Partition states found lost and rebuilt, by cause (keys_lost_running: Redis lost the keys under a running monitor; checkpoint_rolled_back: Redis went back to an older checkpoint; the memory state is written in full again).',
       labelNames: ['cause'],
       registers,
     }),

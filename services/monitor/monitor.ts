@@ -32,13 +32,17 @@ import { configToJson } from '../../libs/config/config.js';
 import type { RejectReason } from '../../libs/engine/reading.js';
 import type { Logger } from '../log.js';
 import type { Metrics } from '../metrics/metrics.js';
-import { CheckpointStore } from '../redis/checkpoint-store.js';
+import { CheckpointStore, type ExpectedOffset } from '../redis/checkpoint-store.js';
 import { configKey } from '../redis/keys.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { KafkaSettings, RedisSettings } from '../connect/options.js';
 import { kafkaOutage, redisOutage, retryLine, RedisErrorWatch, type Outage } from '../connect/outage.js';
 import { backoffDelay, withBackoff, type BackoffHooks } from './backoff.js';
 import { parseMessage, rejectionRecord } from './kafka-message.js';
+
+/** Where a monitor starts on a partition that has neither a checkpoint nor a committed offset. */
+export const START_FROM = ['now', 'earliest'] as const;
+export type StartFrom = (typeof START_FROM)[number];
 
 export interface MonitorSettings {
   statePrefix: string;
@@ -51,6 +55,11 @@ export interface MonitorSettings {
   sessionTimeoutMs: number;
   /** Most sensors this process holds (default DEFAULT_MAX_SENSORS). */
   maxSensors?: number;
+  /**
+   * A partition with no checkpoint and no committed offset: `now` (the default) starts at the end
+   * the topic had when this monitor started, `earliest` at the oldest message Kafka still holds.
+   */
+  startFrom?: StartFrom;
 }
 
 /** What a Monitor is built from: clients (from services/connect), the engine config, settings, log and metrics. */
@@ -123,6 +132,8 @@ export class Monitor {
   private readonly admin: Admin;
   private lockTail: Promise<unknown> = Promise.resolve();
   private assigned = new Set<number>();
+  /** Each input partition's end offset when this monitor started: where `now` starts. */
+  private startOffsets = new Map<number, number>();
   /** Wall-clock time of the last message per assigned partition (its assignment time before one). */
   private readonly heardAt = new Map<number, number>();
   private joined = false;
@@ -225,6 +236,8 @@ export class Monitor {
     );
     await this.retry('kafka', () => this.admin.connect());
     await this.requireTopics();
+    const ends = await this.retry('kafka', () => this.admin.fetchTopicOffsets(this.settings.inputTopic));
+    this.startOffsets = new Map(ends.map((o) => [o.partition, Number(o.high)]));
     await this.retry('kafka', () => this.producer.connect());
     await this.startConsumer();
     if (this.startFailure) throw this.startFailure;
@@ -546,10 +559,23 @@ export class Monitor {
     let next: number;
     if (cp.offset !== null) next = Number(cp.offset);
     else {
-      // Never checkpointed: the state is empty, which is exact only from the start of the log.
+      // Never checkpointed: start at the end the topic had when we started (`now`), so days of
+      // retained history are not judged and published again, or at the oldest message kept.
       const offsets = await this.retry('kafka', () => this.admin.fetchTopicOffsets(this.settings.inputTopic));
       const p = offsets.find((o) => o.partition === partition);
-      next = Number(p?.low ?? '0');
+      const low = Number(p?.low ?? '0');
+      const high = Number(p?.high ?? '0');
+      const startFrom = this.settings.startFrom ?? 'now';
+      next =
+        startFrom === 'earliest'
+          ? low
+          : Math.min(Math.max(this.startOffsets.get(partition) ?? high, low), high);
+      this.log.info(
+        { partition, startFrom, offset: next.toString() },
+        startFrom === 'earliest'
+          ? 'no stored state: starting at the oldest message Kafka holds'
+          : 'no stored state: starting at the end of the topic (readings from now on)',
+      );
     }
     const w: PartitionWorker = {
       partition,
@@ -578,8 +604,9 @@ export class Monitor {
 
     if (w.start !== 'done') {
       const first = Number(msgs[0].offset);
-      if (first > w.next && w.start === 'verify') {
-        // The fetch began past our checkpoint (e.g. group offsets ahead of the Redis state): go back.
+      if (first !== w.next && w.start === 'verify') {
+        // The fetch began elsewhere than our checkpoint (group offsets ahead of the Redis state, or
+        // the oldest message on a first start from `now`): go there.
         this.log.info(
           { partition: part, from: first.toString(), to: w.next.toString() },
           'seeking to checkpoint',
@@ -736,30 +763,39 @@ export class Monitor {
       if (bytes) entries.push([sensor, bytes]);
     }
     const offset = w.next;
+    const expected: ExpectedOffset =
+      w.checkpointed < 0 ? { kind: 'none' } : { kind: 'offset', offset: w.checkpointed.toString() };
     const end = this.metrics.checkpointDuration.startTimer();
     let result = await this.retry(
       'redis',
-      () => this.store.save(w.partition, offset.toString(), entries, evicted),
+      () => this.store.save(w.partition, offset.toString(), expected, entries, evicted),
       { whileWaiting: heartbeat },
     );
-    if (result === 'owner_gone') {
-      // Redis lost the partition's keys under us (flush, restart without persistence). The memory
-      // state is exact: take ownership back and write all of it, rather than dropping it.
-      this.metrics.checkpoints.inc({ result: 'owner_gone' });
-      this.metrics.stateRebuilds.inc({ cause: 'keys_lost_running' });
+    if (result === 'owner_gone' || result === 'rolled_back') {
+      // Redis lost the partition's keys (flush, restart without persistence) or went back to an
+      // older checkpoint (a restart that lost the append-only file's last second, a replica
+      // promoted before it had our last writes). The memory state is exact: keep it and write all
+      // of it, rather than dropping it or writing only what changed since.
+      const cause = result === 'owner_gone' ? 'keys_lost_running' : 'checkpoint_rolled_back';
+      this.metrics.checkpoints.inc({ result });
+      this.metrics.stateRebuilds.inc({ cause });
       this.log.error(
-        { partition: w.partition, sensors: w.engine.sensorCount, cause: 'keys_lost_running' },
-        'partition state gone from Redis; keeping the exact state in memory and writing it in full again',
+        { partition: w.partition, sensors: w.engine.sensorCount, cause, expectedOffset: w.checkpointed },
+        result === 'owner_gone'
+          ? 'partition state gone from Redis; keeping the exact state in memory and writing it in full again'
+          : 'partition state in Redis went back to an older checkpoint; keeping the exact state in memory and writing it in full again',
       );
-      const retaken = await this.retry('redis', () => this.store.retake(w.partition), {
-        whileWaiting: heartbeat,
-      });
+      const retaken =
+        result === 'rolled_back' ||
+        (await this.retry('redis', () => this.store.retake(w.partition), { whileWaiting: heartbeat }));
       if (retaken) {
         const all: [string, Uint8Array][] = [];
         for (const sensor of w.engine.sensors()) all.push([sensor, w.engine.encode(sensor)!]);
-        result = await this.retry('redis', () => this.store.save(w.partition, offset.toString(), all, []), {
-          whileWaiting: heartbeat,
-        });
+        result = await this.retry(
+          'redis',
+          () => this.store.save(w.partition, offset.toString(), { kind: 'replace' }, all, []),
+          { whileWaiting: heartbeat },
+        );
       } else result = 'fenced';
     }
     end();

@@ -187,6 +187,8 @@ function settings(topic: string, prefix: string, group: string, alertTopic: stri
     checkpointMs: 1_000,
     checkpointReadings: 50_000,
     sessionTimeoutMs: 6_000,
+    // The bench produces its readings before the monitor starts.
+    startFrom: 'earliest',
   };
 }
 

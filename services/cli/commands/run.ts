@@ -106,6 +106,7 @@ function buildMonitor(options: MonitorOptions, log: Logger, metrics: Metrics): M
       checkpointMs: options.checkpointMs,
       checkpointReadings: options.checkpointReadings,
       maxSensors: options.maxSensors,
+      startFrom: options.startFrom,
       sessionTimeoutMs: options.sessionTimeoutMs,
     },
     log,

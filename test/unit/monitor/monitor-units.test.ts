@@ -54,6 +54,13 @@ describe('run options', () => {
     expect(opts(['--group', 'from-flag'], env).group).toBe('from-flag');
   });
 
+  it('starts a partition without stored state from now unless told earliest', () => {
+    expect(opts(base).startFrom).toBe('now');
+    expect(opts([...base, '--start-from', 'earliest']).startFrom).toBe('earliest');
+    expect(opts(base, { STREAMFENCE_START_FROM: 'earliest' }).startFrom).toBe('earliest');
+    expect(code(() => opts([...base, '--start-from', 'latest']))).toBe('ARGS_INVALID');
+  });
+
   it('reads SASL and Redis passwords from env or files, never flags', () => {
     const dir = mkdtempSync(path.join(tmpdir(), 'sf-opt-'));
     const file = path.join(dir, 'pw');
