@@ -22,6 +22,7 @@ export const ERROR_CODES = [
   'NOT_FOUND',
   'INPUT_EMPTY',
   'PORT_IN_USE',
+  'TOPICS_DIFFER',
 ] as const;
 
 /** A stable error code: what programs and tests match on (the message is for people). */

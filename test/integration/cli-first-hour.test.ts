@@ -19,7 +19,7 @@ import { bannerText } from '../../services/setup/args.js';
 import { createTopic, deleteTopics, kafkaBrokers, redisUrl, uniqueName } from '../harness/services.js';
 
 const CLI = 'dist/services/cli/main.js';
-const COMMANDS = ['demo', 'replay', 'run', 'inspect', 'board', 'alerts', 'simulate', 'tune'];
+const COMMANDS = ['demo', 'replay', 'run', 'inspect', 'board', 'alerts', 'simulate', 'tune', 'topics'];
 /** Generous: every refusal here is measured at 1-3 s on the shared 2-core machine. */
 const TIME_LIMIT_MS = 15_000;
 
@@ -144,6 +144,10 @@ const ROWS: Row[] = [
   ['alerts --once: --kafka-tls against a plain listener', () => ['alerts', '--once', '--brokers', brokers(), '--kafka-tls'], none, 'TLS_FAILED', () => /^streamfence: kafka: \S+ ended the connection during the TLS handshake; check that this port is a TLS listener/],
   ['replay: --kafka-tls against a plain listener', () => ['replay', `kafka://${missingTopic}`, '--brokers', brokers(), '--kafka-tls', '--from', '2026-04-01T00:00:00Z', '--to', '2026-04-02T00:00:00Z', '--out', p('o6')], none, 'TLS_FAILED', () => /ended the connection during the TLS handshake/],
   ['alerts: --since without a zone', () => ['alerts', '--once', '--brokers', brokers(), '--since', '2026-12-02T05:00:00'], none, 'ARGS_INVALID', () => /--since "2026-12-02T05:00:00" must be a time with a zone/],
+  // topics
+  ['topics: closed Kafka port', () => ['topics', 'check', '--brokers', `127.0.0.1:${deadPort}`], none, 'SERVICE_UNAVAILABLE', () => new RegExp(`^streamfence: kafka 127\\.0\\.0\\.1:${deadPort}: connection refused`)],
+  ['topics: no action', () => ['topics', '--brokers', brokers()], none, 'ARGS_INVALID', () => /say what to do: streamfence topics create, or streamfence topics check/],
+  ['topics: more replicas than brokers', () => ['topics', 'create', '--brokers', brokers(), '--input-topic', missingTopic, '--replication-factor', '9'], none, 'ARGS_INVALID', () => /--replication-factor 9 is more than the 1 broker of the cluster/],
   // run, board, demo: argument mistakes (their outages are retried, not refused)
   ['run: metrics port out of range', () => ['run', '--brokers', brokers(), '--redis', redisUrl(), '--metrics-port', '70000'], none, 'ARGS_INVALID', () => /--metrics-port must be a TCP port from 1 to 65535, or 0 for any free port, got "70000"/],
   ['run: negative checkpoint interval', () => ['run', '--brokers', brokers(), '--redis', redisUrl(), '--checkpoint-ms', '-5'], none, 'ARGS_INVALID', () => /--checkpoint-ms must be/],

@@ -107,6 +107,7 @@ function buildMonitor(options: MonitorOptions, log: Logger, metrics: Metrics): M
       checkpointReadings: options.checkpointReadings,
       maxSensors: options.maxSensors,
       startFrom: options.startFrom,
+      warmStart: options.warmStart,
       sessionTimeoutMs: options.sessionTimeoutMs,
     },
     log,

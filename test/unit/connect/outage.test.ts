@@ -3,7 +3,7 @@
  * client library's text; refusals waiting cannot fix are marked final.
  */
 import { describe, expect, it } from 'vitest';
-import { kafkaOutage, redisOutage, retryLine } from '../../../services/connect/outage.js';
+import { kafkaLogError, kafkaOutage, redisOutage, retryLine } from '../../../services/connect/outage.js';
 
 const refused = Object.assign(new Error('connect ECONNREFUSED 127.0.0.1:6399'), { code: 'ECONNREFUSED' });
 
@@ -64,5 +64,23 @@ describe('outage lines', () => {
   it('the same drop without TLS configured is not called a TLS failure', () => {
     const redis = redisOutage(new Error('Connection is closed.'), { url: 'redis://127.0.0.1:6380' }, dropped);
     expect(redis.refusal?.message ?? '').not.toMatch(/TLS handshake/);
+  });
+
+  it('a broker answer logged by the client ("Response …") is worded by its error, an ACL denial as one', () => {
+    const s = {
+      brokers: ['127.0.0.1:19092'],
+      sasl: { mechanism: 'scram-sha-512' as const, username: 'monitor', password: 'x' },
+    };
+    // kafkajs' words for GROUP_AUTHORIZATION_FAILED (its protocol error table).
+    const err = kafkaLogError({
+      message: 'Response GroupCoordinator(key: 10, version: 2)',
+      error: 'Not authorized to access group: Group authorization failed',
+    });
+    const outage = kafkaOutage(err, s, 'read topic sf-in-a in group other-a');
+    expect(outage.cause).toBe('acl');
+    expect(outage.line).toBe(
+      'kafka: not authorised to read topic sf-in-a in group other-a (group ACL) for user monitor; grant the ACL or use another user',
+    );
+    expect(kafkaLogError({ message: 'Connection timeout' }).message).toBe('Connection timeout');
   });
 });

@@ -61,6 +61,14 @@ describe('run options', () => {
     expect(code(() => opts([...base, '--start-from', 'latest']))).toBe('ARGS_INVALID');
   });
 
+  it('takes --warm-start as a switch, refused beside --start-from earliest', () => {
+    expect(opts(base).warmStart).toBe(false);
+    expect(opts([...base, '--warm-start']).warmStart).toBe(true);
+    expect(opts(base, { STREAMFENCE_WARM_START: 'yes' }).warmStart).toBe(true);
+    expect(code(() => opts(base, { STREAMFENCE_WARM_START: 'maybe' }))).toBe('ARGS_INVALID');
+    expect(code(() => opts([...base, '--warm-start', '--start-from', 'earliest']))).toBe('ARGS_INVALID');
+  });
+
   it('reads SASL and Redis passwords from env or files, never flags', () => {
     const dir = mkdtempSync(path.join(tmpdir(), 'sf-opt-'));
     const file = path.join(dir, 'pw');
