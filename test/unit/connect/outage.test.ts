@@ -32,6 +32,40 @@ describe('outage lines', () => {
     expect(retryLine(outage, null)).toBe('kafka 127.0.0.1:9999: connection refused; retrying');
   });
 
+  // Node's text when a peer ends the connection before the handshake completes (what a plain
+  // Kafka listener does with a TLS hello).
+  const dropped = Object.assign(
+    new Error('Client network socket disconnected before secure TLS connection was established'),
+    { code: 'ECONNRESET' },
+  );
+
+  it('a TLS peer that drops the handshake is a final TLS_FAILED refusal, in words', () => {
+    const kafka = kafkaOutage(new Error(`Connection error: ${dropped.message}`), {
+      brokers: ['127.0.0.1:9092'],
+      tls: true,
+    });
+    expect(kafka).toMatchObject({ dependency: 'kafka', cause: 'tls' });
+    expect(kafka.refusal?.code).toBe('TLS_FAILED');
+    expect(kafka.line).toBe(
+      'kafka: 127.0.0.1:9092 ended the connection during the TLS handshake; check that this port is a TLS listener (a plain one does this) or leave out --kafka-tls',
+    );
+    const redis = redisOutage(
+      new Error('Connection is closed.'),
+      { url: 'rediss://127.0.0.1:6380' },
+      dropped,
+    );
+    expect(redis.refusal?.code).toBe('TLS_FAILED');
+    expect(redis.line).toMatch(/^redis: 127\.0\.0\.1:6380 ended the connection during the TLS handshake; /);
+    expect(`${kafka.line} ${redis.line}`).not.toMatch(
+      /socket|secure TLS connection was established|Connection is closed/,
+    );
+  });
+
+  it('the same drop without TLS configured is not called a TLS failure', () => {
+    const redis = redisOutage(new Error('Connection is closed.'), { url: 'redis://127.0.0.1:6380' }, dropped);
+    expect(redis.refusal?.message ?? '').not.toMatch(/TLS handshake/);
+  });
+
   it('a broker answer logged by the client ("Response …") is worded by its error, an ACL denial as one', () => {
     const s = {
       brokers: ['127.0.0.1:19092'],
