@@ -27,15 +27,28 @@ ENV_FILE="$STACK_DIR/env"
 # The one place stack-up.sh and stack-down.sh read their arguments; add new stack variants here.
 STACK_SECURE=no
 STACK_WIPE=no
+STACK_BROKERS=1
 parse_stack_args() {
-  local arg
-  for arg in "$@"; do
-    case "$arg" in
+  while (($# > 0)); do
+    case "$1" in
       --secure) STACK_SECURE=yes ;;
       --wipe) STACK_WIPE=yes ;;
-      *) die "unknown argument '$arg' (known: --secure, --wipe)" ;;
+      --brokers=*) STACK_BROKERS="${1#--brokers=}" ;;
+      --brokers)
+        (($# > 1)) || die "--brokers needs a count: 1 or 3"
+        STACK_BROKERS="$2"
+        shift
+        ;;
+      *) die "unknown argument '$1' (known: --secure, --wipe, --brokers 1|3)" ;;
     esac
+    shift
   done
+  [[ "$STACK_BROKERS" == 1 || "$STACK_BROKERS" == 3 ]] ||
+    die "--brokers takes 1 or 3 (a three-voter quorum survives one broker down), got '$STACK_BROKERS'"
+  if [[ "$STACK_SECURE" == yes && "$STACK_BROKERS" != 1 ]]; then
+    die "--brokers 3 --secure is not supported: the secure stack has one broker; run the three-broker stack without --secure"
+  fi
+  return 0
 }
 
 say() { printf 'stack: %s\n' "$*"; }

@@ -38,11 +38,15 @@ if [[ "$STACK_SECURE" == yes ]]; then
 fi
 
 stop_pid_file Kafka "$KAFKA_PID_FILE" "$KAFKA_DIR/server.properties" 30
+# The three-broker Kafka (--brokers 3), whichever arguments stack-down got: its pid files say it ran.
+source "$LOCAL_DIR/cluster.sh"
+stop_kafka_cluster
 stop_pid_file Redis "$REDIS_PID_FILE" redis-server 10
 rm -f "$ENV_FILE"
 
 if [[ "$STACK_WIPE" == yes ]]; then
   say "wiping $KAFKA_DIR and $REDIS_DIR"
   rm -rf "$KAFKA_DIR" "$REDIS_DIR"
+  wipe_kafka_cluster
 fi
 say "down"

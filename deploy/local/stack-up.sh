@@ -1,6 +1,6 @@
 #!/usr/bin/env bash
-# Bring up the local stack for development and tests: a real Kafka broker (KRaft, one node, run from
-# Maven Central jars) and Redis. Idempotent: a second run finds what is running and only re-checks it.
+# Bring up the local stack for development and tests: a real Kafka (KRaft, one node or, with
+# --brokers 3, three; run from Maven Central jars) and Redis. Idempotent: a second run finds what is running and only re-checks it.
 # Writes the addresses to $STACK_DIR/env for the test harness. See DEVELOPERS.md "Local stack".
 set -euo pipefail
 source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
@@ -90,6 +90,12 @@ KAFKA_JVM_OPTS=(-Xms256m -Xmx512m -XX:+UseSerialGC -XX:TieredStopAtLevel=1 -XX:+
 kafka_java() { java "${KAFKA_JVM_OPTS[@]}" "$@"; }
 
 start_kafka() {
+  local n
+  for n in $(seq 1 3); do
+    if pid_alive "$STACK_DIR/kafka-$n.pid" "$STACK_DIR/kafka-$n/server.properties"; then
+      die "this stack folder ($STACK_DIR) runs a three-broker Kafka; stop it first with 'npm run stack:down', or use --brokers 3"
+    fi
+  done
   if pid_alive "$KAFKA_PID_FILE" "$KAFKA_DIR/server.properties"; then
     # Ours and alive: it may still be starting, so wait rather than probe once.
     wait_kafka --timeout 60 --pid "$(cat "$KAFKA_PID_FILE")" >/dev/null ||
@@ -194,7 +200,13 @@ INFO
   exit 0
 fi
 
-start_kafka
+if [[ "$STACK_BROKERS" == 1 ]]; then
+  start_kafka
+else
+  source "$LOCAL_DIR/cluster.sh"
+  KAFKA_BROKERS="$(cluster_brokers)"
+  start_kafka_cluster
+fi
 start_redis
 
 tmp_env="$ENV_FILE.tmp.$$"
@@ -212,9 +224,9 @@ mv "$tmp_env" "$ENV_FILE"
 elapsed=$(awk -v s="$started_at" -v e="$(date +%s.%N)" 'BEGIN { printf "%.1f", e - s }')
 cat <<INFO
 stack: up in ${elapsed}s
-  Kafka brokers : $KAFKA_BROKERS   (Kafka $KAFKA_VERSION, KRaft; topics are not auto-created)
+  Kafka brokers : $KAFKA_BROKERS   (Kafka $KAFKA_VERSION, KRaft, $STACK_BROKERS node(s); topics are not auto-created)
   Redis URL     : $REDIS_URL
   env file      : $ENV_FILE   (set -a; . $ENV_FILE; set +a)
-  logs          : $KAFKA_DIR/logs, $REDIS_DIR (own Redis only), $STACK_DIR/logs
+  logs          : $([[ "$STACK_BROKERS" == 1 ]] && echo "$KAFKA_DIR/logs" || echo "$STACK_DIR/kafka-<n>/logs"), $REDIS_DIR (own Redis only), $STACK_DIR/logs
   stop          : npm run stack:down
 INFO

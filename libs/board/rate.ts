@@ -32,6 +32,7 @@ export class RateMeter {
     readonly floodPer10Min: number = RATE_DEFAULTS.floodPer10Min,
   ) {}
 
+  /** Counts a raise at event time `ts`. */
   record(ts: number): void {
     const t = this.times;
     // Keep ascending order even if a raise arrives slightly out of order.
@@ -50,6 +51,7 @@ export class RateMeter {
     return this.times.length;
   }
 
+  /** Raises in the hour before `now`, and whether that is a flood; drops older times. */
   read(now: number): RateReading {
     const t = this.times;
     let drop = 0;

@@ -20,6 +20,7 @@ export class RecentSeries {
     readonly maxSensors = 2000,
   ) {}
 
+  /** Appends a point to the sensor's ring, evicting the least recently touched sensor when full. */
   add(sensor: string, p: SeriesPoint): void {
     let r = this.rings.get(sensor);
     if (r === undefined) {
@@ -47,6 +48,7 @@ export class RecentSeries {
     return r.pts.length < this.perSensor ? [...r.pts] : [...r.pts.slice(r.pos), ...r.pts.slice(0, r.pos)];
   }
 
+  /** Sensors that have a ring. */
   get sensorCount(): number {
     return this.rings.size;
   }

@@ -213,6 +213,7 @@ export class BoardStore {
     return back;
   }
 
+  /** An open or recently cleared alert by id. */
   get(id: string): BoardAlert | undefined {
     return this.open.get(id) ?? this.cleared.find((a) => a.id === id);
   }
@@ -240,6 +241,7 @@ export class BoardStore {
     return s;
   }
 
+  /** Alerts currently open (active or shelved). */
   get openCount(): number {
     return this.open.size;
   }

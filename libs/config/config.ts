@@ -203,6 +203,18 @@ function parseOne(key: keyof SensorSettings, value: unknown, where: string): unk
       return count(1, SETTING_BOUNDS.maxRaiseWindow);
     case 'clearAfter':
       return count(1);
+    case 'deadband':
+      if (typeof value !== 'number' || !Number.isFinite(value) || value < 0)
+        bad(where, key, 'a number of spreads, 0 or more (0 = no margin)', value);
+      return value;
+    case 'clearDelay':
+    case 'onDelay': {
+      const ms = parseDuration(value);
+      if (ms === null || ms > SETTING_BOUNDS.maxWindowMs) {
+        bad(where, key, `a duration from 0 to 31d such as "30s" or "2m" (0 = none)`, value);
+      }
+      return ms;
+    }
     case 'buckets':
       return count(1, SETTING_BOUNDS.maxBuckets);
     case 'profile':
@@ -239,6 +251,9 @@ function contradiction(where: string, msg: string): never {
   throw new StreamfenceError('CONFIG_CONTRADICTION', `${where}: ${msg}`);
 }
 
+const usesFence = (settings: SensorSettings) => settings.trigger !== 'z';
+const usesZ = (settings: SensorSettings) => settings.trigger !== 'fence';
+
 function checkContradictions(settings: SensorSettings, where: string): void {
   if (settings.outerK <= settings.fenceK)
     contradiction(where, `outerK (${settings.outerK}) must be greater than fenceK (${settings.fenceK})`);
@@ -253,6 +268,17 @@ function checkContradictions(settings: SensorSettings, where: string): void {
       `raiseAfter (${settings.raiseAfter}) cannot exceed raiseWindow (${settings.raiseWindow})`,
     );
   }
+  // A margin as wide as the warning level would leave no reading that could clear an alert.
+  if (settings.deadband > 0 && usesFence(settings) && settings.deadband >= settings.fenceK)
+    contradiction(
+      where,
+      `deadband (${settings.deadband}) must be below fenceK (${settings.fenceK}), or no reading could clear an alert`,
+    );
+  if (settings.deadband > 0 && usesZ(settings) && settings.deadband >= settings.zLimit)
+    contradiction(
+      where,
+      `deadband (${settings.deadband}) must be below zLimit (${settings.zLimit}), or no reading could clear an alert`,
+    );
   if (settings.min !== null && settings.max !== null && settings.min >= settings.max)
     contradiction(where, `min (${settings.min}) must be below max (${settings.max})`);
   if (settings.window % settings.buckets !== 0) {
@@ -274,6 +300,7 @@ export class SettingsResolver {
     Object.freeze(config.defaults);
   }
 
+  /** The settings of the first rule whose glob matches the sensor, else the defaults. */
   resolve(sensor: string): SensorSettings {
     for (const matcher of this.matchers) if (matcher.test(sensor)) return matcher.settings;
     return this.config.defaults;
@@ -285,6 +312,8 @@ export function configToJson(config: EngineConfig): Record<string, unknown> {
   const conv = (settings: Partial<SensorSettings>) => {
     const out: Record<string, unknown> = { ...settings };
     if (settings.window !== undefined) out.window = formatDuration(settings.window);
+    if (settings.clearDelay !== undefined) out.clearDelay = formatDuration(settings.clearDelay);
+    if (settings.onDelay !== undefined) out.onDelay = formatDuration(settings.onDelay);
     if (settings.staleAfter !== undefined)
       out.staleAfter = settings.staleAfter === null ? 'off' : formatDuration(settings.staleAfter);
     return out;

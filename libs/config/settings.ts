@@ -36,6 +36,16 @@ export interface SensorSettings {
   raiseWindow: number;
   /** Consecutive unflagged readings needed to clear a raised alert. */
   clearAfter: number;
+  /**
+   * Clear margin in units of the baseline's spread: while an alert is raised, a reading counts
+   * towards clearing only when it is inside the inner fences by `deadband` IQRs and within the z
+   * limit by `deadband` standard deviations (the rules `trigger` uses). 0 = no margin.
+   */
+  deadband: number;
+  /** Event time (ms) the clearing readings must span before a raised alert clears (0 = none). */
+  clearDelay: number;
+  /** Event time (ms) the raise rule must hold on every reading before an alert is raised (0 = none). */
+  onDelay: number;
   /** Baseline window length in milliseconds (config accepts "24h", "90m", "3600s" or ms). */
   window: number;
   /** Number of buckets the window is split into; the window must divide evenly. */
@@ -72,6 +82,9 @@ export const DEFAULT_SETTINGS: Readonly<SensorSettings> = Object.freeze({
   raiseAfter: 1,
   raiseWindow: 1,
   clearAfter: 3,
+  deadband: 0,
+  clearDelay: 0,
+  onDelay: 0,
   window: 24 * 3600 * 1000,
   buckets: 12,
   learnWhileRaised: true,

@@ -26,6 +26,7 @@ export class ByteWriter {
     this.pos = 0;
   }
 
+  /** Writes one byte. */
   u8(value: number): void {
     this.ensure(1);
     this.buf[this.pos++] = value;
@@ -42,18 +43,21 @@ export class ByteWriter {
     this.buf[this.pos++] = value;
   }
 
+  /** Writes a little-endian 64-bit float. */
   f64(value: number): void {
     this.ensure(8);
     this.view.setFloat64(this.pos, value, true);
     this.pos += 8;
   }
 
+  /** Writes a little-endian 32-bit float. */
   f32(value: number): void {
     this.ensure(4);
     this.view.setFloat32(this.pos, value, true);
     this.pos += 4;
   }
 
+  /** Writes UTF-8 text, its byte length first. */
   str(text: string): void {
     const encoded = enc.encode(text);
     this.uvar(encoded.length);
@@ -62,6 +66,7 @@ export class ByteWriter {
     this.pos += encoded.length;
   }
 
+  /** A copy of what has been written. */
   bytes(): Uint8Array {
     return this.buf.slice(0, this.pos);
   }
@@ -79,11 +84,13 @@ export class ByteReader {
     if (this.pos + n > this.buf.length) throw new RangeError('state ends early');
   }
 
+  /** Reads one byte. */
   u8(): number {
     this.need(1);
     return this.buf[this.pos++];
   }
 
+  /** Reads an unsigned varint (as written by `ByteWriter.uvar`). */
   uvar(): number {
     let value = 0;
     let mul = 1;
@@ -96,6 +103,7 @@ export class ByteReader {
     }
   }
 
+  /** Reads a little-endian 64-bit float. */
   f64(): number {
     this.need(8);
     const value = this.view.getFloat64(this.pos, true);
@@ -103,6 +111,7 @@ export class ByteReader {
     return value;
   }
 
+  /** Reads a little-endian 32-bit float. */
   f32(): number {
     this.need(4);
     const value = this.view.getFloat32(this.pos, true);
@@ -110,6 +119,7 @@ export class ByteReader {
     return value;
   }
 
+  /** Reads length-prefixed UTF-8 text. */
   str(): string {
     const n = this.uvar();
     this.need(n);
@@ -118,6 +128,7 @@ export class ByteReader {
     return text;
   }
 
+  /** True when every byte has been read. */
   get done(): boolean {
     return this.pos === this.buf.length;
   }

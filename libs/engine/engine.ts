@@ -9,7 +9,7 @@ import type { SensorSettings } from '../config/settings.js';
 import type { AlertEvent } from '../schema/alert-event.js';
 import type { AlertState } from '../schema/vocabulary.js';
 import { NOTICE } from '../schema/notice.js';
-import { fencesOf, judge, NORMAL_COLD, robustZ, zScore, type Verdict } from './judge.js';
+import { fencesOf, judge, NORMAL_COLD, robustZ, settled, zScore, type Verdict } from './judge.js';
 import { step, type ActiveAlert } from './lifecycle.js';
 import { alertId } from './alert-id.js';
 import { alertMessage, qualityMessage, staleMessage } from './alert-wording.js';
@@ -86,8 +86,10 @@ interface PartitionClock {
  * partition, per worker).
  */
 export class Engine {
+  /** Picks each sensor's settings from the config rules. */
   readonly resolver: SettingsResolver;
   private readonly states = new Map<string, SensorState>();
+  /** Running totals (readings, rejects, flags, alerts) for summaries and metrics. */
   readonly counters: EngineCounters = newCounters();
   /** Newest event time accepted by this engine: the clock idle sensors are measured against. */
   private watermark = -Infinity;
@@ -115,6 +117,7 @@ export class Engine {
       );
   }
 
+  /** The settings the engine applies to this sensor. */
   settingsFor(sensor: string): SensorSettings {
     return this.resolver.resolve(sensor);
   }
@@ -223,7 +226,10 @@ export class Engine {
       sensor: reading.sensor,
       ts: reading.ts,
       seen: state.seen,
+      now: window.newestTs,
       verdict,
+      // Only an unflagged reading under a raised alert needs the deadband check.
+      settled: before === null || verdict.flagged || settled(reading.value, settings, baseline, state.fences),
     });
 
     // Readings that raise, continue or clear an alert feed the baseline only when configured to.
@@ -471,10 +477,12 @@ export class Engine {
     return this.states.size;
   }
 
+  /** Ids of the sensors the engine holds state for. */
   sensors(): IterableIterator<string> {
     return this.states.keys();
   }
 
+  /** The sensor's state, or undefined when the engine has none. */
   get(sensor: string): SensorState | undefined {
     return this.states.get(sensor);
   }
@@ -490,6 +498,7 @@ export class Engine {
     return active;
   }
 
+  /** The sensor's state as bytes for the checkpoint store (see sensor-state.ts), or null when unknown. */
   encode(sensor: string): Uint8Array | null {
     const state = this.states.get(sensor);
     return state === undefined ? null : encodeSensorState(state);

@@ -174,3 +174,41 @@ export function judge(
     zHit: zSev !== null,
   };
 }
+
+/**
+ * Whether an unflagged reading is back inside the fence and z rules by the deadband (in units of
+ * the baseline's spread: `deadband` IQRs inside the inner fences, `deadband` standard deviations
+ * inside the z limit), for the rules `trigger` uses; a rule with zero spread does not apply.
+ * Always true without a deadband or a warm baseline. A raised alert clears only on settled
+ * readings, so a value hovering just inside a limit keeps its alert instead of clearing and
+ * raising again.
+ */
+export function settled(
+  value: number,
+  settings: SensorSettings,
+  baseline: Baseline | null,
+  fences: Fences | null,
+): boolean {
+  const margin = settings.deadband;
+  if (margin === 0 || baseline === null || fences === null || baseline.count < settings.minSamples)
+    return true;
+  const high = settings.direction !== 'low';
+  const low = settings.direction !== 'high';
+  const band = margin * baseline.iqr;
+  const insideFence =
+    baseline.iqr === 0 || ((!high || value <= fences.upper - band) && (!low || value >= fences.lower + band));
+  const limit = settings.zLimit - margin;
+  const z = baseline.stdDev > 0 ? (value - baseline.mean) / baseline.stdDev : 0;
+  const insideZ = (!high || z <= limit) && (!low || z >= -limit);
+  switch (settings.trigger) {
+    case 'fence':
+      return insideFence;
+    case 'z':
+      return insideZ;
+    case 'either':
+      return insideFence && insideZ;
+    case 'both':
+      // Flagged only when both rules fire, so either rule back inside by the margin settles it.
+      return insideFence || insideZ;
+  }
+}

@@ -1,7 +1,9 @@
 /**
  * Alert lifecycle of one sensor: debounce on the way up (raiseAfter of the last raiseWindow
- * readings flagged, the current one included), hysteresis on the way down (clearAfter
- * consecutive unflagged readings), and `updated` when the severity changes while raised:
+ * readings flagged, the current one included, held for onDelay of event time), hysteresis on the
+ * way down (clearAfter consecutive settled readings spanning clearDelay of event time; a reading
+ * is settled when it is back inside the limits by the deadband), and `updated` when the severity
+ * changes while raised:
  * at once when it worsens, but only after clearAfter readings in a row below the alert's
  * severity when it eases, so a reading hovering at the outer fence cannot flood the operator
  * with warning/critical flips.
@@ -19,6 +21,8 @@ export interface ActiveAlert {
   raisedTs: number;
   flaggedReadings: number;
   clearRun: number;
+  /** Event time of the first reading of the current clear run (NaN while clearRun is 0). */
+  clearSinceTs: number;
   /** Consecutive readings below the alert's severity (unflagged or milder). */
   easeRun: number;
 }
@@ -29,6 +33,11 @@ export interface LifecycleState {
   ring: Uint8Array;
   ringPos: number;
   ringFlagged: number;
+  /**
+   * Event time since when the raise rule has held on every reading, while no alert is raised
+   * (NaN when it does not hold): onDelay is measured from it.
+   */
+  pendingSinceTs: number;
   active: ActiveAlert | null;
 }
 
@@ -37,7 +46,13 @@ export type Transition = AlertState | null;
 
 /** A sensor's lifecycle before its first reading: empty ring, no alert. */
 export function newLifecycle(settings: SensorSettings): LifecycleState {
-  return { ring: new Uint8Array(settings.raiseWindow), ringPos: 0, ringFlagged: 0, active: null };
+  return {
+    ring: new Uint8Array(settings.raiseWindow),
+    ringPos: 0,
+    ringFlagged: 0,
+    pendingSinceTs: NaN,
+    active: null,
+  };
 }
 
 /** One judged reading, as the lifecycle needs it. */
@@ -47,7 +62,15 @@ export interface LifecycleStep {
   ts: number;
   /** The reading's lifetime position for its sensor (with sensor and ts, it makes the alert id). */
   seen: number;
+  /** The sensor's event time (its newest reading time): what onDelay and clearDelay are measured in. */
+  now: number;
   verdict: Pick<Verdict, 'flagged' | 'severity' | 'reasons'>;
+  /**
+   * For an unflagged reading: whether it is back inside the limits by the deadband (always true
+   * without one). An unflagged reading that is not settled holds a raised alert: it neither
+   * clears nor counts towards clearing.
+   */
+  settled: boolean;
 }
 
 /**
@@ -63,7 +86,13 @@ export function step(life: LifecycleState, settings: SensorSettings, reading: Li
 
   const alert = life.active;
   if (alert === null) {
-    if (flagged && life.ringFlagged >= settings.raiseAfter) {
+    if (!flagged || life.ringFlagged < settings.raiseAfter) {
+      life.pendingSinceTs = NaN;
+      return null;
+    }
+    if (Number.isNaN(life.pendingSinceTs)) life.pendingSinceTs = reading.now;
+    if (reading.now - life.pendingSinceTs >= settings.onDelay) {
+      life.pendingSinceTs = NaN;
       life.active = {
         id: alertId(reading.sensor, reading.ts, reading.seen),
         severity: severity!,
@@ -71,6 +100,7 @@ export function step(life: LifecycleState, settings: SensorSettings, reading: Li
         raisedTs: reading.ts,
         flaggedReadings: life.ringFlagged,
         clearRun: 0,
+        clearSinceTs: NaN,
         easeRun: 0,
       };
       return 'raised';
@@ -79,6 +109,7 @@ export function step(life: LifecycleState, settings: SensorSettings, reading: Li
   }
   if (flagged) {
     alert.clearRun = 0;
+    alert.clearSinceTs = NaN;
     alert.flaggedReadings += 1;
     const worse = severityRank(severity) > severityRank(alert.severity);
     const milder = severityRank(severity) < severityRank(alert.severity);
@@ -93,8 +124,15 @@ export function step(life: LifecycleState, settings: SensorSettings, reading: Li
     return null;
   }
   alert.easeRun += 1;
+  if (!reading.settled) {
+    // Inside the limits but not by the deadband: the alert holds, and the clear run starts over.
+    alert.clearRun = 0;
+    alert.clearSinceTs = NaN;
+    return null;
+  }
   alert.clearRun += 1;
-  if (alert.clearRun >= settings.clearAfter) {
+  if (alert.clearRun === 1) alert.clearSinceTs = reading.now;
+  if (alert.clearRun >= settings.clearAfter && reading.now - alert.clearSinceTs >= settings.clearDelay) {
     // Forget the debounce history so flags from before the clear cannot re-raise at once.
     life.ring.fill(0);
     life.ringFlagged = 0;

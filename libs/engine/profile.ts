@@ -50,6 +50,7 @@ export interface ProfileSnapshot {
   profileDays: number;
   openDay: number;
   openHour: number;
+  /** Mean and variance of the open hour's readings. */
   openMoments: Moments;
   openFirstTs: number;
   openLastTs: number;
@@ -82,11 +83,17 @@ export class DailyProfile {
   private readonly clock: LocalClock;
   /** Local day and hour of the open entry; -1 before the first reading. */
   openDay = -1;
+  /** Absolute hour (ts / 1 h) of the open slot; -1 before the first reading. */
   openHour = -1;
+  /** Digest of the open hour's readings (not in any baseline yet). */
   open = new OpenDigest(SKETCH.profileBins, SKETCH.openCap);
+  /** Mean and variance of the open hour's readings. */
   openMoments: Moments = emptyMoments();
+  /** Time of the open hour's first reading. */
   openFirstTs = 0;
+  /** Time of the open hour's newest reading. */
   openLastTs = 0;
+  /** Closed hours per local hour of the day (0-23), oldest first. */
   slots: ProfileEntry[][] = Array.from({ length: 24 }, () => []);
   private cached: { minSamples: number; baseline: ProfileBaseline | null } | null = null;
 

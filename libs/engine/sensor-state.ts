@@ -24,10 +24,13 @@ export interface ConditionAlert {
 export class SensorState {
   /** Lifetime accepted readings. */
   seen = 0;
+  /** The newest value (for the stuck-sensor rule). */
   lastValue = NaN;
   /** Length of the current run of identical values. */
   stuckRun = 0;
+  /** The rolling event-time window of bucket digests. */
   readonly window: SensorWindow;
+  /** Where the sensor is in the alert lifecycle (debounce counts, the raised alert). */
   life: LifecycleState;
   /** Consecutive readings of quality other than good, up to the newest. */
   doubtfulRun = 0;
@@ -39,6 +42,7 @@ export class SensorState {
   staleAlert: ConditionAlert | null = null;
   /** Fences cached for the baseline object they were computed from. */
   fencesFor: Baseline | null = null;
+  /** The fences of the current baseline, cached until the baseline changes. */
   fences: Fences | null = null;
   /** The time-of-day profile (`profile: daily`), or null. */
   profile: DailyProfile | null;
@@ -61,15 +65,19 @@ const MAGIC_1 = 0x46; // 'F'
 /**
  * Bump whenever the encoding changes: a state of another version is refused, never misread.
  * 4 added the doubtful-quality run and the bad_quality alert after the lifecycle; 5 the newest
- * reading's value and the stale alert; 6 the time-of-day profile section at the end. Versions 3
- * to 5 are still read (no run, no such alerts, the newest value taken as the last judged one, the
- * profile empty).
+ * reading's value and the stale alert; 6 the time-of-day profile section at the end; 7 the
+ * lifecycle's onDelay and clearDelay start times. Versions 3 to 6 are still read (no run, no such
+ * alerts, the newest value taken as the last judged one, the profile empty; an on-delay starts
+ * afresh and a clear run in progress is timed from the newest reading, so a restored alert never
+ * clears earlier than it would have).
  */
-export const STATE_VERSION = 6;
+export const STATE_VERSION = 7;
 /** The first version with the time-of-day profile section at the end. */
 const PROFILE_VERSION = 6;
 /** Older encodings this build still reads. */
-const READABLE_VERSIONS = [3, 4, 5, STATE_VERSION];
+const READABLE_VERSIONS = [3, 4, 5, 6, STATE_VERSION];
+/** The first version with the lifecycle's start times (pendingSinceTs, clearSinceTs). */
+const DELAY_VERSION = 7;
 
 // Reused across calls: encoding is synchronous, and checkpoints encode thousands of sensors at once.
 const sharedWriter = new ByteWriter();
@@ -257,6 +265,7 @@ function writeLifecycle(out: ByteWriter, life: LifecycleState): void {
   for (let i = 0; i < life.ring.length; i++) out.u8(life.ring[i]);
   out.uvar(life.ringPos);
   out.uvar(life.ringFlagged);
+  out.f64(life.pendingSinceTs);
   const active = life.active;
   out.u8(active ? 1 : 0);
   if (active) {
@@ -267,6 +276,7 @@ function writeLifecycle(out: ByteWriter, life: LifecycleState): void {
     out.f64(active.raisedTs);
     out.uvar(active.flaggedReadings);
     out.uvar(active.clearRun);
+    out.f64(active.clearSinceTs);
     out.uvar(active.easeRun);
   }
 }
@@ -304,7 +314,7 @@ export function decodeSensorState(
     state.seen = seen;
     state.lastValue = lastValue;
     state.stuckRun = stuckRun;
-    readLifecycle(input, state.life, settings, sensor);
+    readLifecycle(input, state.life, settings, sensor, version, window.newestTs);
     if (version >= 4) {
       state.doubtfulRun = input.uvar();
       state.qualityAlert = readCondition(input);
@@ -380,22 +390,29 @@ function readClosedBucket(input: ByteReader): ClosedBucket {
   return { index, moments, firstTs, lastTs, centroids: { first, steps, counts } };
 }
 
-/** Read the lifecycle into `life` (fresh from the settings); a ring of another length is dropped. */
+/**
+ * Read the lifecycle into `life` (fresh from the settings); a ring of another length is dropped
+ * (with its on-delay start). Before DELAY_VERSION there are no start times: see STATE_VERSION.
+ */
 function readLifecycle(
   input: ByteReader,
   life: LifecycleState,
   settings: SensorSettings,
   sensor: string,
+  version: number,
+  newestTs: number,
 ): void {
   const ringLength = input.uvar();
   const ring = new Uint8Array(ringLength);
   for (let i = 0; i < ringLength; i++) ring[i] = input.u8();
   const ringPos = input.uvar();
   const ringFlagged = input.uvar();
+  const pendingSinceTs = version >= DELAY_VERSION ? input.f64() : NaN;
   if (ringLength === settings.raiseWindow) {
     life.ring = ring;
     life.ringPos = ringPos;
     life.ringFlagged = ringFlagged;
+    life.pendingSinceTs = pendingSinceTs;
   }
   if (input.u8() !== 1) return;
   const id = input.str();
@@ -411,13 +428,18 @@ function readLifecycle(
       );
     reasons.push(reason);
   }
+  const raisedTs = input.f64();
+  const flaggedReadings = input.uvar();
+  const clearRun = input.uvar();
+  const clearSinceTs = version >= DELAY_VERSION ? input.f64() : clearRun > 0 ? newestTs : NaN;
   life.active = {
     id,
     severity,
     reasons,
-    raisedTs: input.f64(),
-    flaggedReadings: input.uvar(),
-    clearRun: input.uvar(),
+    raisedTs,
+    flaggedReadings,
+    clearRun,
+    clearSinceTs,
     easeRun: input.uvar(),
   };
 }

@@ -51,10 +51,13 @@ export interface WindowSnapshot {
   buckets: number;
   newestTs: number;
   openIndex: number;
+  /** Mean and variance of the open bucket. */
   openMoments: Moments;
   openFirstTs: number;
   openLastTs: number;
+  /** Digest of the open bucket (never part of the baseline). */
   open: OpenDigestSnapshot;
+  /** Closed buckets inside the window, oldest first: the baseline. */
   closed: ClosedBucket[];
 }
 
@@ -69,13 +72,19 @@ export interface WindowSnapshot {
  * window.add(ts, value);
  */
 export class SensorWindow {
+  /** Width of one bucket in milliseconds. */
   readonly bucketMs: number;
   /** Index (ts / bucketMs) of the open bucket; -1 before the first reading. */
   openIndex = -1;
+  /** Digest of the open bucket (never part of the baseline). */
   open: OpenDigest;
+  /** Mean and variance of the open bucket. */
   openMoments: Moments = emptyMoments();
+  /** Time of the open bucket's first reading. */
   openFirstTs = 0;
+  /** Time of the open bucket's newest reading. */
   openLastTs = 0;
+  /** Closed buckets inside the window, oldest first: the baseline. */
   closed: ClosedBucket[] = [];
   /** Newest event time seen (for lateness). */
   newestTs = -1;

@@ -22,6 +22,7 @@ export const ERROR_CODES = [
   'NOT_FOUND',
   'INPUT_EMPTY',
   'PORT_IN_USE',
+  'TOPICS_DIFFER',
 ] as const;
 
 /** A stable error code: what programs and tests match on (the message is for people). */
@@ -34,6 +35,7 @@ export type ErrorCode = (typeof ERROR_CODES)[number];
  * @example throw new StreamfenceError('ARGS_INVALID', '--port must be a whole number from 0 to 65535, got "x"');
  */
 export class StreamfenceError extends Error {
+  /** The stable code, as listed in the README's error-code table. */
   readonly code: ErrorCode;
   constructor(code: ErrorCode, message: string, options?: { cause?: unknown }) {
     super(message, options);

@@ -25,6 +25,7 @@ export class LineSplitter {
     return this.lineNo;
   }
 
+  /** Splits a chunk into lines, handing each complete one to `sink`; a partial last line waits for the next chunk. */
   feed(text: string, sink: LineSink): void {
     if (this.first && text.length > 0) {
       this.first = false;

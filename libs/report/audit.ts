@@ -54,6 +54,7 @@ export class AuditSample<T> {
     return data;
   }
 
+  /** The sampled sensors and their data, by hash then id. */
   entries(): [string, T][] {
     return [...this.members]
       .sort((a, b) => a[1].hash - b[1].hash || (a[0] < b[0] ? -1 : 1))
@@ -70,10 +71,12 @@ export class BucketMirror {
 
   constructor(readonly cap: number) {}
 
+  /** Readings held. */
   get size(): number {
     return this.held;
   }
 
+  /** Files a reading under a bucket; sets `overflowed` instead when the cap is reached. */
   add(bucketIndex: number, value: number): void {
     if (this.held >= this.cap) {
       this.overflowed = true;

@@ -35,7 +35,9 @@ export interface Bin {
 
 /** A fixed number of time bins (min/max per bin) whose width doubles in place as time runs on. */
 export class AdaptiveBins {
+  /** Most bins kept. */
   readonly slots: number;
+  /** Current bin width; doubles whenever the span outgrows the slots. */
   widthMs: number;
   /** Absolute slot index (floor(ts / width)) held in array position 0. */
   private base = 0;
@@ -127,6 +129,7 @@ export class AdaptiveBins {
     return i;
   }
 
+  /** Position of a named sum channel; throws RangeError for an unknown name. */
   sumChannel(name: string): number {
     const i = this.sumNames.indexOf(name);
     if (i < 0) throw new RangeError(`no sum channel ${name}`);

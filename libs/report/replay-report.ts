@@ -1,88 +1,19 @@
 /**
- * The replay report observer: plugs into runReplay, collects what the report draws while the
- * readings stream past, and renders one self-contained report.html at the end.
- *
- * Memory is bounded whatever the number of readings: each charted sensor keeps a fixed number of
- * adaptive time bins (min/max of readings, and the baseline median and fences sampled per bin),
- * at most `maxChartSensors` sensors are charted (the first seen; alert counts are kept for all),
- * alert markers are capped per sensor, and the optional sketch audit mirrors at most
- * `auditSample` sensors with at most `auditCap` readings each.
+ * The replay report: a replay observer (a ReportCollector, see replay-collector.ts) gathers the
+ * figures while the readings stream past, and `render(summary)` draws one self-contained
+ * report.html from them at the end.
  */
-import type { Engine, ProcessOutcome } from '../engine/engine.js';
-import type { Reading } from '../engine/reading.js';
-import type { Baseline } from '../engine/window.js';
-import { ALERT_BUDGET_PER_HOUR, FLOOD_LIMIT, FLOOD_WINDOW_MS } from '../schema/vocabulary.js';
-import { AuditSample, auditRow, BucketMirror, type AuditRow } from './audit.js';
-import { AdaptiveBins } from './bins.js';
-import { HourlyCounts, hourBars } from './hourly.js';
-import { FENCE_CHANNELS, markerShape, rateChart, sensorChart, type AlertMarker } from './charts.js';
+import type { ReplayObserver, ReplaySummary } from '../schema/replay.js';
+import type { AuditResult, ReportOptions } from './replay-collector.js';
+import { FLOOD, ReportCollector, type SensorAlertCount } from './replay-collector.js';
+import { hourBars } from './hourly.js';
+import { markerShape, rateChart, sensorChart } from './charts.js';
 import { esc } from './escape.js';
 import { healthSection } from './health.js';
-import { fenceBand, NO_BAND } from './fences.js';
 import { page, table, type Cell } from './html.js';
 import { fmtNum, markerPath } from './svg.js';
-import type { ReplayObserver, ReplaySummary } from '../schema/replay.js';
 
-/** Options of the replay report (`replay --report`, `--audit`). */
-export interface ReportOptions {
-  /** Sensors charted, by alerts raised (default 8). */
-  topN?: number;
-  /** Run the sketch audit (default false). */
-  audit?: boolean;
-  /** Sensors audited (default 20). */
-  auditSample?: number;
-  /** Exact readings kept per audited sensor (default 200 000). */
-  auditCap?: number;
-  /** Alert budget in raised alerts per hour (default 6). */
-  budgetPerHour?: number;
-  /** Time bins per charted sensor (default 360). */
-  binsPerSensor?: number;
-  /** Sensors with chart bins (default 2000). */
-  maxChartSensors?: number;
-  /** Alert markers kept per sensor (default 400). */
-  maxMarkersPerSensor?: number;
-}
-
-/** Defaults of the replay report options. */
-export const REPORT_DEFAULTS = {
-  topN: 8,
-  auditSample: 20,
-  auditCap: 200_000,
-  budgetPerHour: ALERT_BUDGET_PER_HOUR,
-  binsPerSensor: 360,
-  maxChartSensors: 2000,
-  maxMarkersPerSensor: 400,
-} as const;
-
-/** Flood: more than FLOOD_LIMIT alerts raised within 10 minutes (the tuning's convention, common practice). */
-export const FLOOD = { limit: FLOOD_LIMIT, windowMs: FLOOD_WINDOW_MS } as const;
-
-/** The audit result for summary.json: rows compared, plus sensors that could not be compared and why. */
-export interface AuditResult {
-  convention: string;
-  rows: AuditRow[];
-  skipped: { sensor: string; reason: string }[];
-}
-
-interface Series {
-  bins: AdaptiveBins;
-  markers: AlertMarker[];
-  markersDropped: number;
-  bandFor: Baseline | null;
-  band: Float64Array;
-}
-
-interface AlertCount {
-  raised: number;
-  updated: number;
-  cleared: number;
-  critical: number;
-}
-
-interface Mirror {
-  m: BucketMirror;
-  openIndex: number;
-}
+export { FLOOD, REPORT_DEFAULTS, type AuditResult, type ReportOptions } from './replay-collector.js';
 
 /** A replay observer that collects the report's figures and renders report.html at the end. */
 export type ReportObserver = ReplayObserver & {
@@ -94,173 +25,19 @@ export type ReportObserver = ReplayObserver & {
 /** Most bars on the alert-rate chart; longer spans group whole hours per bar. */
 const RATE_BARS = 168;
 
-// The first bin width: fine enough for a few minutes of data; it doubles as the span grows.
-const FIRST_BIN_MS = 1000;
-
 /** The replay report: pass it to runReplay as an observer, then `render(summary)`. */
-export function createReportObserver(opts: ReportOptions = {}): ReportObserver {
-  const o: Required<Omit<ReportOptions, 'audit'>> = { ...REPORT_DEFAULTS, ...stripUndefined(opts) };
-  const series = new Map<string, Series>();
-  const counts = new Map<string, AlertCount>();
-  // Raised alerts per clock hour: the chart compares real hourly counts with the hourly budget.
-  const rate = new HourlyCounts();
-  let untracked = 0;
-  const span = { from: Infinity, to: -Infinity };
-  // Raised times in the last 10 minutes of event time (for the worst 10-minute count).
-  const recent: number[] = [];
-  let worst10 = { count: 0, endTs: NaN };
-  const sample = opts.audit
-    ? new AuditSample<Mirror>(o.auditSample, () => ({ m: new BucketMirror(o.auditCap), openIndex: -1 }))
-    : null;
-  let audit: AuditResult | null = null;
-
-  const seriesFor = (sensor: string): Series | undefined => {
-    let s = series.get(sensor);
-    if (s === undefined) {
-      if (series.size >= o.maxChartSensors) return undefined;
-      s = {
-        bins: new AdaptiveBins({
-          slots: o.binsPerSensor,
-          initialWidthMs: FIRST_BIN_MS,
-          lastChannels: FENCE_CHANNELS,
-        }),
-        markers: [],
-        markersDropped: 0,
-        bandFor: null,
-        band: NO_BAND,
-      };
-      series.set(sensor, s);
-    }
-    return s;
+export function createReportObserver(options: ReportOptions = {}): ReportObserver {
+  const collector = new ReportCollector(options);
+  return {
+    onReading: (reading, outcome, engine) => collector.onReading(reading, outcome, engine),
+    onEnd: (engine) => collector.onEnd(engine),
+    auditResult: () => collector.auditResult(),
+    render: (summary) => renderReplayReport(summary, collector),
   };
-
-  const onRaised = (ts: number): void => {
-    rate.add(ts);
-    // Sliding 10-minute window over raised times; exact for time-ordered input, approximate otherwise.
-    recent.push(ts);
-    while (recent.length > 0 && recent[0] <= ts - FLOOD.windowMs) recent.shift();
-    if (recent.length > worst10.count) worst10 = { count: recent.length, endTs: ts };
-  };
-
-  const observer: ReportObserver = {
-    onReading(r: Reading, outcome: ProcessOutcome, engine: Engine): void {
-      if (!outcome.accepted) return;
-      const st = engine.get(r.sensor)!;
-      if (r.ts < span.from) span.from = r.ts;
-      if (r.ts > span.to) span.to = r.ts;
-      const s = series.get(r.sensor) ?? seriesFor(r.sensor);
-      if (s !== undefined) {
-        const b = st.window.baseline();
-        if (b !== s.bandFor) {
-          s.bandFor = b;
-          s.band = b === null ? NO_BAND : fenceBand(b, st.settings);
-        }
-        s.bins.addSampled(r.ts, r.value, s.band);
-      } else if (!counts.has(r.sensor) && st.seen === 1) untracked++;
-      const ev = outcome.events;
-      for (let i = 0; i < ev.length; i++) {
-        const e = ev[i];
-        // Usually the reading's own sensor; a reading that moves event time on can also raise a
-        // silent sensor's alert, which belongs to that sensor at the event's own time.
-        const own = e.sensor === r.sensor;
-        const ts = own ? r.ts : Date.parse(e.ts);
-        let c = counts.get(e.sensor);
-        if (c === undefined) {
-          c = { raised: 0, updated: 0, cleared: 0, critical: 0 };
-          counts.set(e.sensor, c);
-        }
-        c[e.state]++;
-        if (e.state === 'raised') {
-          if (e.severity === 'critical') c.critical++;
-          onRaised(ts);
-        }
-        const es = own ? s : series.get(e.sensor);
-        if (es !== undefined) {
-          if (es.markers.length < o.maxMarkersPerSensor)
-            es.markers.push({ ts, value: e.value, state: e.state, severity: e.severity });
-          else es.markersDropped++;
-        }
-      }
-      if (sample !== null) {
-        const mir = sample.get(r.sensor);
-        if (mir !== undefined) {
-          // Mirror exactly the readings the engine added to the open bucket.
-          const added = outcome.learned;
-          const w = st.window;
-          if (w.openIndex !== mir.openIndex) {
-            mir.openIndex = w.openIndex;
-            mir.m.prune(w.openIndex, w.buckets);
-          }
-          if (added) mir.m.add(w.openIndex, r.value);
-        }
-      }
-    },
-
-    onEnd(engine: Engine): void {
-      if (sample === null) return;
-      const rows: AuditRow[] = [];
-      const skipped: { sensor: string; reason: string }[] = [];
-      for (const [sensor, mir] of sample.entries()) {
-        const st = engine.get(sensor);
-        const b = st?.window.baseline() ?? null;
-        if (st === undefined || b === null) {
-          skipped.push({ sensor, reason: 'no closed bucket yet (no baseline)' });
-          continue;
-        }
-        if (mir.m.overflowed) {
-          skipped.push({ sensor, reason: `more than ${o.auditCap} readings in the window (audit cap)` });
-          continue;
-        }
-        const sorted = mir.m.sortedUnion(st.window.closed.map((c) => c.index));
-        if (sorted.length !== b.count) {
-          skipped.push({
-            sensor,
-            reason: `mirrored ${sorted.length} readings but the baseline holds ${b.count}`,
-          });
-          continue;
-        }
-        rows.push(auditRow(sensor, sorted, b));
-      }
-      audit = {
-        convention:
-          'exact quartiles: Hyndman-Fan type 7; rank error = distance from p to the exact rank range of the digest value (of the data values either side when it falls between two)',
-        rows,
-        skipped,
-      };
-    },
-
-    auditResult: () => audit,
-
-    render(summary: ReplaySummary): string {
-      return renderReplayReport(summary, {
-        o,
-        series,
-        counts,
-        rate,
-        untracked,
-        worst10,
-        audit,
-        span,
-      });
-    },
-  };
-  return observer;
 }
 
-function stripUndefined<T extends object>(x: T): Partial<T> {
-  return Object.fromEntries(Object.entries(x).filter(([, v]) => v !== undefined)) as Partial<T>;
-}
-
-interface Collected {
-  o: Required<Omit<ReportOptions, 'audit'>>;
-  series: Map<string, Series>;
-  counts: Map<string, AlertCount>;
-  rate: HourlyCounts;
-  untracked: number;
-  worst10: { count: number; endTs: number };
-  audit: AuditResult | null;
-  span: { from: number; to: number };
-}
+/** Sensors by alerts raised, then critical raises, then id (so ties are stable). */
+type RankedSensors = [string, SensorAlertCount][];
 
 const LEGEND_SHAPES: { label: string; cls: string; shape: 'triangle' | 'diamond' | 'circle' | 'dot' }[] = [
   {
@@ -291,14 +68,44 @@ function legend(): string {
   return `<div class="legend">${items.join('')}</div>`;
 }
 
-function renderReplayReport(summary: ReplaySummary, c: Collected): string {
-  const { o } = c;
-  const spanText =
-    c.span.from <= c.span.to
-      ? `${new Date(c.span.from).toISOString()} to ${new Date(c.span.to).toISOString()}`
-      : 'no readings';
+function renderReplayReport(summary: ReplaySummary, collected: ReportCollector): string {
+  const ranked = rankSensors(collected);
+  const top = ranked.slice(0, collected.options.topN);
+  const body = [
+    '<h2>Summary</h2>',
+    `<p>Event time: ${esc(spanText(collected.span))}. Engine ${esc(summary.engineVersion)}.</p>`,
+    overviewTable(summary),
+    '<h3>Rejected lines by reason</h3>',
+    rejectsTable(summary),
+    '<h2>Alert rate</h2>',
+    rateSection(summary, collected),
+    '<h2 id="health">Alert-system health</h2>',
+    healthSection(summary.kpis),
+    '<h2>Alerts by sensor</h2>',
+    alertsBySensorTable(ranked, collected.options.topN),
+    `<h2>Top ${esc(top.length)} sensors by alerts raised</h2>`,
+    top.length === 0
+      ? '<p>No sensor raised an alert, so no sensor chart is drawn.</p>'
+      : legend() + sensorCharts(top, collected),
+    collected.auditResult() === null ? '' : renderAudit(collected.auditResult()!),
+    '<h2>About this report</h2>',
+    limitsNote(collected),
+  ].join('\n');
+  return page(
+    'streamfence replay report',
+    `${summary.readings} readings from ${summary.sensors} sensors`,
+    body,
+  );
+}
 
-  const overview = table(
+function spanText(span: { from: number; to: number }): string {
+  return span.from <= span.to
+    ? `${new Date(span.from).toISOString()} to ${new Date(span.to).toISOString()}`
+    : 'no readings';
+}
+
+function overviewTable(summary: ReplaySummary): string {
+  return table(
     ['', 'count'],
     [
       ['readings accepted', summary.readings],
@@ -316,90 +123,81 @@ function renderReplayReport(summary: ReplaySummary, c: Collected): string {
     ],
     { numeric: [1] },
   );
-  const rejectRows = Object.entries(summary.rejected.byReason).map(([k, v]): Cell[] => [k, v]);
-  const rejects =
-    rejectRows.length === 0
-      ? '<p>No line was rejected.</p>'
-      : table(['reason', 'lines'], rejectRows, { numeric: [1] });
+}
 
-  const ranked = [...c.counts.entries()].sort(
+function rejectsTable(summary: ReplaySummary): string {
+  const rows = Object.entries(summary.rejected.byReason).map(([reason, lines]): Cell[] => [reason, lines]);
+  return rows.length === 0
+    ? '<p>No line was rejected.</p>'
+    : table(['reason', 'lines'], rows, { numeric: [1] });
+}
+
+function rankSensors(collected: ReportCollector): RankedSensors {
+  return [...collected.counts.entries()].sort(
     (a, b) =>
       b[1].raised - a[1].raised || b[1].critical - a[1].critical || (a[0] < b[0] ? -1 : a[0] > b[0] ? 1 : 0),
   );
-  const alertRows = ranked
-    .slice(0, Math.max(o.topN, 20))
-    .map(([sensor, n]): Cell[] => [sensor, n.raised, n.critical, n.updated, n.cleared]);
-  const alertTable =
-    alertRows.length === 0
-      ? '<p>No alert was raised.</p>'
-      : table(['sensor', 'raised', 'of which critical', 'updated', 'cleared'], alertRows, {
-          numeric: [1, 2, 3, 4],
-        }) +
-        (ranked.length > alertRows.length
-          ? `<p class="note">${ranked.length - alertRows.length} more sensors raised alerts.</p>`
-          : '');
+}
 
-  const hours = c.span.from < c.span.to ? (c.span.to - c.span.from) / 3_600_000 : 0;
+function alertsBySensorTable(ranked: RankedSensors, topN: number): string {
+  const rows = ranked
+    .slice(0, Math.max(topN, 20))
+    .map(([sensor, count]): Cell[] => [sensor, count.raised, count.critical, count.updated, count.cleared]);
+  if (rows.length === 0) return '<p>No alert was raised.</p>';
+  const more =
+    ranked.length > rows.length
+      ? `<p class="note">${ranked.length - rows.length} more sensors raised alerts.</p>`
+      : '';
+  return (
+    table(['sensor', 'raised', 'of which critical', 'updated', 'cleared'], rows, { numeric: [1, 2, 3, 4] }) +
+    more
+  );
+}
+
+function rateSection(summary: ReplaySummary, collected: ReportCollector): string {
+  const { span, worst10 } = collected;
+  const budgetPerHour = collected.options.budgetPerHour;
+  const hours = span.from < span.to ? (span.to - span.from) / 3_600_000 : 0;
   const floodPerHour = (FLOOD.limit * 3_600_000) / FLOOD.windowMs;
-  const rateSection = [
-    `<p>${esc(summary.alerts.raised)} alerts raised over ${esc(fmtNum(hours))} h of event time (${esc(fmtNum(hours > 0 ? summary.alerts.raised / hours : 0))}/h on average); budget ${esc(fmtNum(o.budgetPerHour))}/h. ` +
-      `Worst 10 minutes: ${esc(c.worst10.count)} raised${Number.isFinite(c.worst10.endTs) ? ` (ending ${esc(new Date(c.worst10.endTs).toISOString())})` : ''}; a flood is more than ${FLOOD.limit} within ${FLOOD.windowMs / 60_000} minutes (common practice).</p>`,
-    rateChart({
-      bars: hourBars(c.rate, c.span.from, c.span.to, RATE_BARS),
-      budgetPerHour: o.budgetPerHour,
-      floodPerHour,
-    }),
+  const worstEnd = Number.isFinite(worst10.endTs)
+    ? ` (ending ${esc(new Date(worst10.endTs).toISOString())})`
+    : '';
+  return [
+    `<p>${esc(summary.alerts.raised)} alerts raised over ${esc(fmtNum(hours))} h of event time (${esc(fmtNum(hours > 0 ? summary.alerts.raised / hours : 0))}/h on average); budget ${esc(fmtNum(budgetPerHour))}/h. ` +
+      `Worst 10 minutes: ${esc(worst10.count)} raised${worstEnd}; a flood is more than ${FLOOD.limit} within ${FLOOD.windowMs / 60_000} minutes (common practice).</p>`,
+    rateChart({ bars: hourBars(collected.rate, span.from, span.to, RATE_BARS), budgetPerHour, floodPerHour }),
     `<p class="note">Bars: alerts raised in each clock hour (UTC) across the whole data span; when the span has more than ${RATE_BARS} hours a bar groups several hours and shows its busiest hour. Bars over the budget are shaded differently. The flood line (${floodPerHour}/h) is drawn only when it falls inside the scale.</p>`,
   ].join('\n');
+}
 
-  const top = ranked.slice(0, o.topN);
-  const charts = top
-    .map(([sensor, n], i) => {
-      const s = c.series.get(sensor);
-      const head = `<h3>${esc(sensor)}</h3><p class="note">${n.raised} raised (${n.critical} critical), ${n.cleared} cleared</p>`;
-      if (s === undefined)
-        return `${head}<p class="note">Not charted: more than ${o.maxChartSensors} sensors in the replay and this one came later.</p>`;
+function sensorCharts(top: RankedSensors, collected: ReportCollector): string {
+  const options = collected.options;
+  return top
+    .map(([sensor, count], rank) => {
+      const series = collected.series.get(sensor);
+      const head = `<h3>${esc(sensor)}</h3><p class="note">${count.raised} raised (${count.critical} critical), ${count.cleared} cleared</p>`;
+      if (series === undefined)
+        return `${head}<p class="note">Not charted: more than ${options.maxChartSensors} sensors in the replay and this one came later.</p>`;
       const chart = sensorChart({
-        key: `s${i}`,
+        key: `s${rank}`,
         title: sensor,
-        bins: s.bins.bins(),
-        widthMs: s.bins.widthMs,
-        markers: s.markers,
+        bins: series.bins.bins(),
+        widthMs: series.bins.widthMs,
+        markers: series.markers,
       });
       const dropped =
-        s.markersDropped > 0
-          ? `<p class="note">${s.markersDropped} later alert markers not drawn (limit ${o.maxMarkersPerSensor}).</p>`
+        series.markersDropped > 0
+          ? `<p class="note">${series.markersDropped} later alert markers not drawn (limit ${options.maxMarkersPerSensor}).</p>`
           : '';
       return `${head}${chart}${dropped}`;
     })
     .join('\n');
+}
 
-  const auditSection = c.audit === null ? '' : renderAudit(c.audit);
-  const limits = `<p class="note">Bounded collection: ${o.binsPerSensor} time bins per sensor (bin width doubles as the span grows; each bin keeps the minimum and maximum reading, so single spikes stay visible, and the last baseline median and fences of the bin), at most ${o.maxChartSensors} charted sensors${c.untracked > 0 ? ` (${c.untracked} sensors were not charted)` : ''}, at most ${o.maxMarkersPerSensor} alert markers per sensor.</p>`;
-
-  const body = [
-    '<h2>Summary</h2>',
-    `<p>Event time: ${esc(spanText)}. Engine ${esc(summary.engineVersion)}.</p>`,
-    overview,
-    '<h3>Rejected lines by reason</h3>',
-    rejects,
-    '<h2>Alert rate</h2>',
-    rateSection,
-    '<h2 id="health">Alert-system health</h2>',
-    healthSection(summary.kpis),
-    '<h2>Alerts by sensor</h2>',
-    alertTable,
-    `<h2>Top ${esc(top.length)} sensors by alerts raised</h2>`,
-    top.length === 0 ? '<p>No sensor raised an alert, so no sensor chart is drawn.</p>' : legend() + charts,
-    auditSection,
-    '<h2>About this report</h2>',
-    limits,
-  ].join('\n');
-  return page(
-    'streamfence replay report',
-    `${summary.readings} readings from ${summary.sensors} sensors`,
-    body,
-  );
+function limitsNote(collected: ReportCollector): string {
+  const options = collected.options;
+  const untracked = collected.untracked > 0 ? ` (${collected.untracked} sensors were not charted)` : '';
+  return `<p class="note">Bounded collection: ${options.binsPerSensor} time bins per sensor (bin width doubles as the span grows; each bin keeps the minimum and maximum reading, so single spikes stay visible, and the last baseline median and fences of the bin), at most ${options.maxChartSensors} charted sensors${untracked}, at most ${options.maxMarkersPerSensor} alert markers per sensor.</p>`;
 }
 
 function renderAudit(a: AuditResult): string {

@@ -160,6 +160,7 @@ function checkOptions(opts: SimOptions): ScenarioDef {
 
 /** The seeded plant: `next()` yields readings in time order, the same for the same options. */
 export class PlantSimulator {
+  /** The scenario's name. */
   readonly scenario: string;
   private readonly def: ScenarioDef;
   private readonly runs: SensorRun[];
@@ -288,6 +289,7 @@ export class PlantSimulator {
     return this.opts.start + slot * this.opts.intervalMs + run.offsetMs;
   }
 
+  /** The simulated sensors and what they measure. */
   sensors(): SensorInfo[] {
     return this.runs.map((r) => ({ ...r.info }));
   }
@@ -316,6 +318,7 @@ export class PlantSimulator {
     }
   }
 
+  /** The readings in time order (the simulator is consumed by iterating). */
   [Symbol.iterator](): Iterator<SimReading> {
     return {
       next: (): IteratorResult<SimReading> => {

@@ -18,6 +18,7 @@ export class Prng {
     return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
   }
 
+  /** Uniform real number in [lo, hi). */
   uniform(lo: number, hi: number): number {
     return lo + (hi - lo) * this.next();
   }
@@ -42,6 +43,7 @@ export class Prng {
     return r * Math.cos(2 * Math.PI * v);
   }
 
+  /** One item, chosen with probability proportional to its weight. */
   pick<T>(items: readonly T[], weights: readonly number[]): T {
     let total = 0;
     for (const weight of weights) total += weight;

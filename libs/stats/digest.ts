@@ -209,9 +209,11 @@ export function roundForStorage(centroids: Centroids): Centroids {
 
 /** A frozen digest answering quantile and rank queries; built once per bucket roll. */
 export class FrozenDigest {
+  /** Centroid means, ascending. */
   readonly means: Float64Array;
   /** Cumulative weight at each centroid's mid-point (the package's `mean_cumn`). */
   private readonly mid: Float64Array;
+  /** Total weight (readings) of the digest. */
   readonly total: number;
 
   constructor(centroids: Centroids) {
@@ -226,6 +228,7 @@ export class FrozenDigest {
     this.total = cum;
   }
 
+  /** Number of centroids. */
   get size(): number {
     return this.means.length;
   }
@@ -300,6 +303,7 @@ export class OpenDigest {
     this.buf = new Float64Array(bufferSize);
   }
 
+  /** Adds a value; the buffer is merged into the centroids when full. */
   push(x: number): void {
     this.buf[this.bufLen++] = x;
     if (this.bufLen === this.buf.length) this.flush();
@@ -331,10 +335,12 @@ export class OpenDigest {
     this.bufLen = 0;
   }
 
+  /** Centroids and buffered values, for encoding. */
   snapshot(): OpenDigestSnapshot {
     return { means: this.c.means, counts: this.c.counts, buffer: this.buf.slice(0, this.bufLen) };
   }
 
+  /** A digest from its snapshot (throws RangeError when the buffer exceeds its capacity). */
   static restore(s: OpenDigestSnapshot, bins: number, bufferSize: number): OpenDigest {
     if (s.buffer.length >= bufferSize) throw new RangeError('open digest buffer larger than its capacity');
     const o = new OpenDigest(bins, bufferSize);

@@ -32,13 +32,16 @@ export function readingAt(c: ReadingColumns, i: number): Reading {
 /** Grows typed arrays by doubling while readings are appended; `finish` copies them to shared memory. */
 export class ColumnBuilder {
   private readonly index = new Map<string, number>();
+  /** Sensor ids by column index. */
   readonly names: string[] = [];
   private sensor = new Uint32Array(1024);
   private ts = new Float64Array(1024);
   private value = new Float64Array(1024);
   private quality = new Uint8Array(1024);
+  /** Readings added. */
   count = 0;
 
+  /** Appends one reading (quality only when not good). */
   add(sensor: string, ts: number, value: number, quality?: DoubtfulQuality): void {
     let id = this.index.get(sensor);
     if (id === undefined) {

@@ -43,6 +43,10 @@ const COMMANDS: Record<string, CommandEntry> = {
     summary: 'score a grid of settings against labelled history and recommend one',
     load: () => import('./commands/tune.js'),
   },
+  topics: {
+    summary: 'create the input, alert, rejected and action topics, or check them',
+    load: () => import('./commands/topics.js'),
+  },
 };
 
 export function usage(): string {

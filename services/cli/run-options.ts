@@ -16,6 +16,7 @@ import {
   type RedisSettings,
 } from '../connect/index.js';
 import { LOG_LEVELS, type LogLevel } from '../log.js';
+import { START_FROM, type StartFrom } from '../monitor/monitor.js';
 import { PORT_OR_ANY_RULE, parseCommandArgs, parseNumber, usageError } from '../setup/args.js';
 
 export { optionsHelp } from '../connect/index.js';
@@ -32,6 +33,8 @@ export interface MonitorOptions {
   checkpointMs: number;
   checkpointReadings: number;
   maxSensors: number;
+  startFrom: StartFrom;
+  warmStart: boolean;
   sessionTimeoutMs: number;
   logLevel: LogLevel;
   kafka: KafkaSettings;
@@ -78,6 +81,16 @@ const MONITOR_OPTIONS: Record<string, OptionSpec> = {
     def: String(DEFAULT_MAX_SENSORS),
     help: 'most sensors held in memory and Redis; readings of new sensors beyond it are rejected (sensor_limit)',
   },
+  'start-from': {
+    env: ENV.startFrom,
+    def: 'now',
+    help: `where to start on a partition with no stored state and no committed offset: ${START_FROM.join(' or ')} (now = the end of the topic when the monitor starts)`,
+  },
+  'warm-start': {
+    env: ENV.warmStart,
+    type: 'boolean',
+    help: 'on a first deployment, learn the baselines from the history before the start point (window + one bucket) before judging',
+  },
   'session-timeout-ms': {
     env: ENV.kafkaSessionTimeoutMs,
     def: '30000',
@@ -97,6 +110,16 @@ const CMD = 'run';
 
 function invalid(message: string): never {
   return usageError(message, CMD);
+}
+
+/** A switch: the flag, or its variable as true/false (anything else is refused). */
+function switchValue(values: Record<string, unknown>, env: NodeJS.ProcessEnv, name: string): boolean {
+  if (values[name] === true) return true;
+  const variable = MONITOR_OPTIONS[name].env!;
+  const raw = env[variable] ?? '';
+  if (raw === '' || /^(0|false|no|off)$/i.test(raw)) return false;
+  if (/^(1|true|yes|on)$/i.test(raw)) return true;
+  return invalid(`${variable} must be true or false, got "${raw}"`);
 }
 
 const wholeNumber = (raw: string, name: string, min: number): number =>
@@ -129,6 +152,16 @@ export function parseRunOptions(
   const logLevel = get('log-level') as LogLevel;
   if (!LOG_LEVELS.includes(logLevel)) invalid(`--log-level must be one of ${LOG_LEVELS.join(', ')}`);
 
+  const startFrom = get('start-from') as StartFrom;
+  if (!START_FROM.includes(startFrom))
+    invalid(`--start-from must be ${START_FROM.join(' or ')}, got "${startFrom}"`);
+
+  const warmStart = switchValue(values, env, 'warm-start');
+  if (warmStart && startFrom === 'earliest')
+    invalid(
+      '--warm-start learns from the history before the start point, but --start-from earliest leaves none; drop one of them',
+    );
+
   const group = get('group')!;
   const inputTopic = get('input-topic')!;
   for (const [n, v] of [
@@ -153,6 +186,8 @@ export function parseRunOptions(
       checkpointMs: wholeNumber(get('checkpoint-ms')!, 'checkpoint-ms', 10),
       checkpointReadings: wholeNumber(get('checkpoint-readings')!, 'checkpoint-readings', 1),
       maxSensors: wholeNumber(get('max-sensors')!, 'max-sensors', 1),
+      startFrom,
+      warmStart,
       sessionTimeoutMs: wholeNumber(get('session-timeout-ms')!, 'session-timeout-ms', 1000),
       logLevel,
       kafka,

@@ -22,6 +22,10 @@ export const ENV = {
   checkpointReadings: 'STREAMFENCE_CHECKPOINT_READINGS',
   /** Most sensors one monitor process holds state for; new sensors beyond it are rejected. */
   maxSensors: 'STREAMFENCE_MAX_SENSORS',
+  /** Where a monitor starts on a partition it has no state and no committed offset for: now or earliest. */
+  startFrom: 'STREAMFENCE_START_FROM',
+  /** A first deployment learns the baselines from the history before its start point (true/false). */
+  warmStart: 'STREAMFENCE_WARM_START',
   logLevel: 'STREAMFENCE_LOG_LEVEL',
   /** Kafka TLS: "true" turns it on; CA / client certificate / key are PEM file paths. */
   kafkaTls: 'STREAMFENCE_KAFKA_TLS',
@@ -104,6 +108,14 @@ export const ENV = {
   alertsJson: 'STREAMFENCE_ALERTS_JSON',
   /** Whole messages instead of lines fitted to 120 columns (--wide of alerts). */
   alertsWide: 'STREAMFENCE_ALERTS_WIDE',
+
+  // topics
+  /** Partitions, replication factor and retention of the topics `streamfence topics` creates or checks. */
+  topicsPartitions: 'STREAMFENCE_TOPICS_PARTITIONS',
+  topicsReplicationFactor: 'STREAMFENCE_TOPICS_REPLICATION_FACTOR',
+  topicsRetention: 'STREAMFENCE_TOPICS_RETENTION',
+  /** One JSON object per topic instead of text lines (--json of topics). */
+  topicsJson: 'STREAMFENCE_TOPICS_JSON',
 
   // demo
   demoSpeed: 'STREAMFENCE_DEMO_SPEED',

@@ -35,3 +35,4 @@ export {
   unreachableLine,
 } from './refusals.js';
 export { checkKafka, connectRedisOnce } from './preflight.js';
+export { createTopicsWithLeaders } from './topics.js';

@@ -70,6 +70,27 @@ function shortReason(err: unknown): string {
     .slice(0, 160);
 }
 
+/** The broker's authorization answers, by the words kafkajs gives them (its protocol error table). */
+const DENIALS: [RegExp, string][] = [
+  [/not authorized to access group|group authorization failed/i, 'GROUP_AUTHORIZATION_FAILED'],
+  [/not authorized to access topics|topic authorization failed/i, 'TOPIC_AUTHORIZATION_FAILED'],
+  [/cluster authorization failed/i, 'CLUSTER_AUTHORIZATION_FAILED'],
+  [/transactional id authorization failed/i, 'TRANSACTIONAL_ID_AUTHORIZATION_FAILED'],
+];
+
+/**
+ * The failure a kafkajs error log entry reports, as an error kafkaOutage can word. A connection
+ * failure keeps its message; a request the broker answered with an error ("Response Fetch(…)")
+ * becomes the broker's own error, typed when it is an ACL denial, so the retry line says "not
+ * authorised" instead of naming a protocol request.
+ */
+export function kafkaLogError(log: { message?: unknown; error?: unknown }): Error {
+  const message = String(log.message ?? '');
+  if (!message.startsWith('Response ') || typeof log.error !== 'string') return new Error(message);
+  const denied = DENIALS.find(([pattern]) => pattern.test(log.error as string));
+  return Object.assign(new Error(log.error), denied ? { type: denied[1] } : {});
+}
+
 /** A failed Kafka call (`what`: the operation, for ACL wording). */
 export function kafkaOutage(err: unknown, s: KafkaSettings, what = 'connect'): Outage {
   const refusal = kafkaRefusal(err, s, what);

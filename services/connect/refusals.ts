@@ -23,6 +23,11 @@ function chain(err: unknown): { name: string; message: string; type?: string; co
 }
 
 const TLS_WORDS = /certificate|self[- ]signed|unable to verify|CERT_|SSL routines|wrong version number/i;
+/**
+ * Node's words when the peer ends the connection before the TLS handshake completes: what a plain
+ * listener does with a TLS hello (a Kafka PLAINTEXT port always does), so waiting does not fix it.
+ */
+const TLS_DROPPED = /before secure TLS connection was established/i;
 
 /** A typed refusal for a Kafka failure, or null when the cause is not one of the known refusals. */
 export function kafkaRefusal(err: unknown, s: KafkaSettings, what = 'connect'): StreamfenceError | null {
@@ -53,6 +58,11 @@ export function kafkaRefusal(err: unknown, s: KafkaSettings, what = 'connect'): 
       `kafka: TLS handshake with ${at} failed: ${tls.message}; check --kafka-ca-file and the broker's certificate`,
     );
   }
+  if (s.tls && all.some((e) => TLS_DROPPED.test(e.message)))
+    return new StreamfenceError(
+      'TLS_FAILED',
+      `kafka: ${at} ended the connection during the TLS handshake; check that this port is a TLS listener (a plain one does this) or leave out --kafka-tls`,
+    );
   if (!s.tls && all.some((e) => /Closed connection|Connection timeout|ECONNRESET/i.test(e.message))) {
     return new StreamfenceError(
       'TLS_FAILED',
@@ -84,6 +94,11 @@ export function redisRefusal(err: unknown, s: RedisSettings): StreamfenceError |
     return new StreamfenceError(
       'TLS_FAILED',
       `redis: TLS handshake with ${at} failed: ${tls.message}; check --redis-ca-file and the server's certificate`,
+    );
+  if (u.protocol === 'rediss:' && all.some((e) => TLS_DROPPED.test(e.message)))
+    return new StreamfenceError(
+      'TLS_FAILED',
+      `redis: ${at} ended the connection during the TLS handshake; check that this port serves TLS or use a redis:// URL`,
     );
   if (
     u.protocol === 'redis:' &&

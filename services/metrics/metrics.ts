@@ -52,6 +52,14 @@ export interface Metrics extends EngineMetrics {
    * memory state rewritten)
    */
   stateRebuilds: Counter<'cause'>;
+  /** readings re-read from the input topic to rebuild baselines (keys_lost, warm_start); never judged aloud */
+  rebuildReadings: Counter;
+  /** input partitions re-reading history right now (judging resumes when it reaches 0) */
+  rebuildingPartitions: Gauge;
+  /** per partition: seconds of the wanted history the last rebuild could not find (retention) */
+  rebuildHistoryMissing: Gauge<'partition'>;
+  /** seconds the input topic's retention.ms falls short of the history a rebuild needs (0 = enough) */
+  retentionShortfall: Gauge;
   assignedPartitions: Gauge;
   /** the sensor limit (--max-sensors) */
   sensorLimit: Gauge;
@@ -160,14 +168,35 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
     }),
     checkpoints: new Counter({
       name: 'streamfence_checkpoints_total',
-      help: 'Partition checkpoints, by result (written; fenced: the partition now belongs to another monitor; owner_gone: Redis lost the partition keys, state rewritten in full).',
+      help: 'Partition checkpoints, by result (written; fenced: the partition now belongs to another monitor; owner_gone: Redis lost the partition keys; rolled_back: Redis went back to an older checkpoint; both rewrite the state in full).',
       labelNames: ['result'],
       registers,
     }),
     stateRebuilds: new Counter({
       name: 'streamfence_state_rebuilds_total',
-      help: 'Partition states found lost and rebuilt, by cause (keys_lost_running: Redis lost the keys under a running monitor, memory state written in full again).',
+      help: 'Partition states found lost and rebuilt, by cause (keys_lost_running: Redis lost the keys under a running monitor; checkpoint_rolled_back: Redis went back to an older checkpoint; the memory state is written in full again; keys_lost: gone while no monitor held them, baselines rebuilt from the input topic; warm_start: a first deployment learning from the history).',
       labelNames: ['cause'],
+      registers,
+    }),
+    rebuildReadings: new Counter({
+      name: 'streamfence_state_rebuild_readings_total',
+      help: 'Readings re-read from the input topic to rebuild baselines (state loss or warm start); they publish no alert event.',
+      registers,
+    }),
+    rebuildingPartitions: new Gauge({
+      name: 'streamfence_partitions_rebuilding',
+      help: 'Input partitions re-reading history to rebuild their baselines; judging them resumes when done.',
+      registers,
+    }),
+    rebuildHistoryMissing: new Gauge({
+      name: 'streamfence_state_rebuild_missing_seconds',
+      help: 'Per input partition: seconds of the history the last rebuild wanted that Kafka no longer held (retention shorter than window + one bucket).',
+      labelNames: ['partition'],
+      registers,
+    }),
+    retentionShortfall: new Gauge({
+      name: 'streamfence_input_retention_shortfall_seconds',
+      help: "Seconds by which the input topic's retention.ms is shorter than the history a state rebuild needs (0 when long enough or not readable).",
       registers,
     }),
     assignedPartitions: new Gauge({

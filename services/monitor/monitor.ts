@@ -29,16 +29,29 @@ import { Engine } from '../../libs/engine/engine.js';
 import { DEFAULT_MAX_SENSORS, SensorBudget } from '../../libs/engine/sensor-budget.js';
 import type { EngineConfig } from '../../libs/config/config.js';
 import { configToJson } from '../../libs/config/config.js';
+import { historyNeeded } from '../../libs/config/history-span.js';
+import { formatDuration } from '../../libs/config/duration.js';
 import type { RejectReason } from '../../libs/engine/reading.js';
 import type { Logger } from '../log.js';
 import type { Metrics } from '../metrics/metrics.js';
-import { CheckpointStore } from '../redis/checkpoint-store.js';
+import { CheckpointStore, type ExpectedOffset } from '../redis/checkpoint-store.js';
 import { configKey } from '../redis/keys.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { KafkaSettings, RedisSettings } from '../connect/options.js';
-import { kafkaOutage, redisOutage, retryLine, RedisErrorWatch, type Outage } from '../connect/outage.js';
+import {
+  kafkaLogError,
+  kafkaOutage,
+  redisOutage,
+  retryLine,
+  RedisErrorWatch,
+  type Outage,
+} from '../connect/outage.js';
 import { backoffDelay, withBackoff, type BackoffHooks } from './backoff.js';
 import { parseMessage, rejectionRecord } from './kafka-message.js';
+
+/** Where a monitor starts on a partition that has neither a checkpoint nor a committed offset. */
+export const START_FROM = ['now', 'earliest'] as const;
+export type StartFrom = (typeof START_FROM)[number];
 
 export interface MonitorSettings {
   statePrefix: string;
@@ -51,6 +64,16 @@ export interface MonitorSettings {
   sessionTimeoutMs: number;
   /** Most sensors this process holds (default DEFAULT_MAX_SENSORS). */
   maxSensors?: number;
+  /**
+   * A partition with no checkpoint and no committed offset: `now` (the default) starts at the end
+   * the topic had when this monitor started, `earliest` at the oldest message Kafka still holds.
+   */
+  startFrom?: StartFrom;
+  /**
+   * A first deployment (no checkpoint, no committed offset) learns from the history before its
+   * start point (window + one bucket, see historyNeeded) before judging, as after a state loss.
+   */
+  warmStart?: boolean;
 }
 
 /** What a Monitor is built from: clients (from services/connect), the engine config, settings, log and metrics. */
@@ -95,6 +118,33 @@ interface PartitionWorker {
   sinceCheckpoint: number;
   /** First batch after a claim: verify it starts at `next` (seek there once if it does not). */
   start: 'verify' | 'seeked' | 'done';
+  /** Set while history is re-read to rebuild the baselines (nothing is published meanwhile). */
+  rebuild: RebuildPlan | null;
+}
+
+/** Why baselines are rebuilt from the input topic (the `cause` of streamfence_state_rebuilds_total). */
+type RebuildCause = 'keys_lost' | 'warm_start';
+
+/**
+ * Re-reading a partition's history before the point where judging resumes. Phase `locate` reads
+ * the message just before that point for its Kafka time; `read` feeds the readings from the
+ * offset for (that time - historyNeeded) into the engine, publishing no alert event and no reject.
+ */
+interface RebuildPlan {
+  cause: RebuildCause;
+  /** Judging resumes at this offset: the offsets before it only feed the baselines. */
+  until: number;
+  phase: 'locate' | 'read';
+  /** The partition's oldest offset when the rebuild was planned. */
+  low: number;
+  /** Kafka time from which history is wanted (known once located). */
+  wantedFromMs: number;
+  /** Kafka time of the first message re-read (null before one). */
+  firstReadMs: number | null;
+  /** The re-read starts at the oldest message kept: history before it may be missing. */
+  fromOldest: boolean;
+  readings: number;
+  startedAt: number;
 }
 
 /** Messages waiting to be published; always emptied before a checkpoint. */
@@ -123,6 +173,8 @@ export class Monitor {
   private readonly admin: Admin;
   private lockTail: Promise<unknown> = Promise.resolve();
   private assigned = new Set<number>();
+  /** Each input partition's end offset when this monitor started: where `now` starts. */
+  private startOffsets = new Map<number, number>();
   /** Wall-clock time of the last message per assigned partition (its assignment time before one). */
   private readonly heardAt = new Map<number, number>();
   private joined = false;
@@ -225,6 +277,9 @@ export class Monitor {
     );
     await this.retry('kafka', () => this.admin.connect());
     await this.requireTopics();
+    const ends = await this.retry('kafka', () => this.admin.fetchTopicOffsets(this.settings.inputTopic));
+    this.startOffsets = new Map(ends.map((o) => [o.partition, Number(o.high)]));
+    await this.checkRetention();
     await this.retry('kafka', () => this.producer.connect());
     await this.startConsumer();
     if (this.startFailure) throw this.startFailure;
@@ -250,7 +305,7 @@ export class Monitor {
       'kafka',
       () => this.consumer.subscribe({ topic: this.settings.inputTopic, fromBeginning: true }),
       {},
-      `read topic ${this.settings.inputTopic}`,
+      this.readWhat,
     );
     if (this.stopping) return;
     await this.consumer.run({
@@ -259,6 +314,51 @@ export class Monitor {
       partitionsConsumedConcurrently: 1,
       eachBatch: (p) => this.locked(() => this.onBatch(p)),
     });
+  }
+
+  /**
+   * Warn (and set streamfence_input_retention_shortfall_seconds) when the input topic keeps less
+   * time than a state rebuild needs: a Redis that comes back empty could then rebuild only part of
+   * the window. One attempt: a user without DescribeConfigs on the topic is not kept waiting.
+   */
+  private async checkRetention(): Promise<void> {
+    const needed = historyNeeded(this.config);
+    try {
+      const described = await withTimeout(
+        this.admin.describeConfigs({
+          includeSynonyms: false,
+          resources: [{ type: 2, name: this.settings.inputTopic, configNames: ['retention.ms'] }],
+        }),
+        5_000,
+      );
+      const entry = described.resources[0]?.configEntries.find((c) => c.configName === 'retention.ms');
+      const retention = Number(entry?.configValue ?? '-1');
+      // -1: unlimited retention.
+      const shortfall = retention < 0 ? 0 : Math.max(0, needed - retention);
+      this.metrics.retentionShortfall.set(shortfall / 1000);
+      if (shortfall > 0)
+        this.log.warn(
+          { topic: this.settings.inputTopic, retentionMs: retention, neededMs: needed },
+          `input topic ${this.settings.inputTopic} keeps ${formatDuration(retention)} of readings but a state rebuild needs ${formatDuration(needed)} (window + one bucket); raise its retention.ms or a lost Redis state is rebuilt only in part`,
+        );
+    } catch (e) {
+      this.log.info(
+        { topic: this.settings.inputTopic, err: errText(e) },
+        'could not read the input topic retention (DescribeConfigs); not checked',
+      );
+    }
+  }
+
+  /** The group's committed offset of a partition (the monitor commits after each checkpoint), or null. */
+  private async committedOffset(partition: number): Promise<number | null> {
+    const answer = await this.retry('kafka', () =>
+      this.admin.fetchOffsets({ groupId: this.settings.group, topics: [this.settings.inputTopic] }),
+    );
+    const found = answer
+      .find((t) => t.topic === this.settings.inputTopic)
+      ?.partitions.find((p) => p.partition === partition);
+    const offset = Number(found?.offset ?? '-1');
+    return offset >= 0 ? offset : null;
   }
 
   /** The input, alert and rejected topics must exist (NOT_FOUND naming the first missing one). */
@@ -286,11 +386,7 @@ export class Monitor {
     if (this.stopping) return false;
     this.consumerRestarts++;
     const delayMs = backoffDelay(this.consumerRestarts, 500);
-    this.noteRetry(
-      this.describe('kafka', err, `read topic ${this.settings.inputTopic}`),
-      delayMs,
-      this.consumerRestarts,
-    );
+    this.noteRetry(this.describe('kafka', err, this.readWhat), delayMs, this.consumerRestarts);
     await this.pause(delayMs, true);
     return !this.stopping;
   }
@@ -302,11 +398,7 @@ export class Monitor {
   private async replaceConsumer(err: unknown): Promise<void> {
     this.consumerRestarts++;
     const delayMs = backoffDelay(this.consumerRestarts, 500);
-    this.noteRetry(
-      this.describe('kafka', err, `read topic ${this.settings.inputTopic}`),
-      delayMs,
-      this.consumerRestarts,
-    );
+    this.noteRetry(this.describe('kafka', err, this.readWhat), delayMs, this.consumerRestarts);
     await this.pause(delayMs, true);
     if (this.stopping) return;
     await this.consumer.disconnect().catch(() => undefined);
@@ -314,6 +406,11 @@ export class Monitor {
     await this.startConsumer().catch((e: unknown) => {
       if (!this.stopping) this.log.debug({ err: errText(e) }, 'consumer restart failed');
     });
+  }
+
+  /** The consumer's operation, for ACL wording: the topic and the group (either ACL may deny it). */
+  private get readWhat(): string {
+    return `read topic ${this.settings.inputTopic} in group ${this.settings.group}`;
   }
 
   /** Joined the group, Kafka and Redis answer, not stopping. */
@@ -416,11 +513,17 @@ export class Monitor {
    * answering mid-run): one line and one count per failure, with the broker it names. Pass the
    * client's log entries here (buildKafka's onError).
    */
-  noteKafkaClientError(entry: { namespace: string; log: { message?: unknown; broker?: unknown } }): void {
+  noteKafkaClientError(entry: {
+    namespace: string;
+    log: { message?: unknown; broker?: unknown; error?: unknown };
+  }): void {
     if (this.stopping || entry.namespace !== 'Connection') return;
     const broker = typeof entry.log.broker === 'string' ? entry.log.broker : null;
     const settings = broker === null ? this.kafkaSettings : { ...this.kafkaSettings, brokers: [broker] };
-    this.noteRetry(kafkaOutage(new Error(String(entry.log.message ?? '')), settings), null, 0);
+    const outage = kafkaOutage(kafkaLogError(entry.log), settings, this.readWhat);
+    // Before the first join a refusal ends start() with its own line: no "retrying" before it.
+    if (!this.started && outage.refusal !== null) return;
+    this.noteRetry(outage, null, 0);
   }
 
   /** One warn line and one count per retry. */
@@ -479,7 +582,7 @@ export class Monitor {
       this.joined = false;
       this.kafkaDown = true;
       if (e.payload.restart || this.stopping) return;
-      const outage = this.describe('kafka', e.payload.error, `read topic ${this.settings.inputTopic}`);
+      const outage = this.describe('kafka', e.payload.error, this.readWhat);
       if (!this.started) {
         this.startFailure =
           outage.refusal ??
@@ -542,24 +645,82 @@ export class Monitor {
   private async claim(partition: number, heartbeat: () => Promise<void>): Promise<PartitionWorker> {
     const cp = await this.retry('redis', () => this.store.claim(partition), { whileWaiting: heartbeat });
     const engine = new Engine(this.config, this.budget);
-    for (const bytes of cp.states.values()) engine.restore(bytes);
     let next: number;
-    if (cp.offset !== null) next = Number(cp.offset);
-    else {
-      // Never checkpointed: the state is empty, which is exact only from the start of the log.
+    let rebuild: RebuildPlan | null = null;
+    if (cp.offset !== null) {
+      for (const bytes of cp.states.values()) engine.restore(bytes);
+      next = Number(cp.offset);
+    } else {
+      // No offset: sensor states without one cannot be placed in the stream, so they are not used.
+      if (cp.states.size > 0)
+        this.log.warn({ partition, sensors: cp.states.size }, 'sensor states without an offset ignored');
       const offsets = await this.retry('kafka', () => this.admin.fetchTopicOffsets(this.settings.inputTopic));
       const p = offsets.find((o) => o.partition === partition);
-      next = Number(p?.low ?? '0');
+      const low = Number(p?.low ?? '0');
+      const high = Number(p?.high ?? '0');
+      const committed = await this.committedOffset(partition);
+      const plan = (cause: RebuildCause, until: number): RebuildPlan | null => {
+        this.metrics.stateRebuilds.inc({ cause });
+        if (until <= low) return null;
+        return {
+          cause,
+          until,
+          phase: 'locate',
+          low,
+          wantedFromMs: 0,
+          firstReadMs: null,
+          fromOldest: false,
+          readings: 0,
+          startedAt: Date.now(),
+        };
+      };
+      if (committed !== null) {
+        // The group made progress here but Redis holds nothing: the state was lost while no
+        // monitor held it (flushed, or a Redis restarted without persistence). Rebuild the
+        // baselines from the history before the committed offset, then judge on from there.
+        next = Math.min(Math.max(committed, low), high);
+        rebuild = plan('keys_lost', next);
+        this.log.error(
+          { partition, cause: 'keys_lost', committedOffset: committed, offset: next.toString() },
+          `partition state gone from Redis although group ${this.settings.group} committed offset ${committed}; rebuilding the baselines from the input topic before it (publishing nothing), then judging on from there`,
+        );
+      } else {
+        // Never checkpointed: start at the end the topic had when we started (`now`), so days of
+        // retained history are not judged and published again, or at the oldest message kept.
+        const startFrom = this.settings.startFrom ?? 'now';
+        next =
+          startFrom === 'earliest'
+            ? low
+            : Math.min(Math.max(this.startOffsets.get(partition) ?? high, low), high);
+        this.log.info(
+          { partition, startFrom, offset: next.toString() },
+          startFrom === 'earliest'
+            ? 'no stored state: starting at the oldest message Kafka holds'
+            : 'no stored state: starting at the end of the topic (readings from now on)',
+        );
+        if (this.settings.warmStart) {
+          rebuild = plan('warm_start', next);
+          this.log.info(
+            { partition, cause: 'warm_start', offset: next.toString() },
+            rebuild
+              ? 'warm start: learning the baselines from the history before the start point (publishing nothing)'
+              : 'warm start: no history before the start point; baselines start empty',
+          );
+        }
+      }
     }
     const w: PartitionWorker = {
       partition,
       engine,
-      next,
+      // A rebuild first reads the message just before the resume point, for its Kafka time.
+      next: rebuild ? rebuild.until - 1 : next,
       checkpointed: cp.offset === null ? -1 : next,
       dirty: new Set(),
       sinceCheckpoint: 0,
       start: 'verify',
+      rebuild,
     };
+    if (rebuild) this.metrics.rebuildingPartitions.inc();
     this.workers.set(partition, w);
     this.log.info(
       { partition, sensors: engine.sensorCount, offset: next.toString() },
@@ -578,8 +739,9 @@ export class Monitor {
 
     if (w.start !== 'done') {
       const first = Number(msgs[0].offset);
-      if (first > w.next && w.start === 'verify') {
-        // The fetch began past our checkpoint (e.g. group offsets ahead of the Redis state): go back.
+      if (first !== w.next && w.start === 'verify') {
+        // The fetch began elsewhere than our checkpoint (group offsets ahead of the Redis state, or
+        // the oldest message on a first start from `now`): go there.
         this.log.info(
           { partition: part, from: first.toString(), to: w.next.toString() },
           'seeking to checkpoint',
@@ -588,7 +750,7 @@ export class Monitor {
         w.start = 'seeked';
         return;
       }
-      if (first > w.next) {
+      if (first > w.next && !w.rebuild) {
         this.log.warn(
           { partition: part, expected: w.next.toString(), got: first.toString() },
           'readings after the checkpoint are gone from Kafka (retention?); continuing from the oldest available',
@@ -596,6 +758,7 @@ export class Monitor {
       }
       w.start = 'done';
     }
+    if (w.rebuild?.phase === 'locate' && (await this.locateRebuild(w, msgs, batch.topic))) return;
 
     const now = Date.now();
     this.heardAt.set(part, now);
@@ -611,6 +774,17 @@ export class Monitor {
       lastOffset = m.offset;
       if (off < w.next) continue; // already in the checkpointed state
       const res = parseMessage(m.key, m.value);
+      if (w.rebuild && off < w.rebuild.until) {
+        this.relearn(w, w.rebuild, m, res.ok ? res.reading : null);
+        w.next = off + 1;
+        if (w.next >= w.rebuild.until) this.finishRebuild(w, w.rebuild);
+        if (++since >= FLUSH_EVERY) {
+          since = 0;
+          resolveOffset(m.offset);
+          await heartbeat();
+        }
+        continue;
+      }
       if (!res.ok) {
         this.reject(res.reason, res.detail, m, batch.topic, part);
         rejected++;
@@ -658,6 +832,97 @@ export class Monitor {
     if (this.unsent > MAX_UNSENT) await this.flushed();
     this.metrics.partitionLag.set({ partition: String(part) }, Number(batch.highWatermark) - w.next);
     if (w.sinceCheckpoint >= this.settings.checkpointReadings) await this.checkpoint(w, heartbeat);
+  }
+
+  /**
+   * The located step of a rebuild: the message before the resume point gives the Kafka time; the
+   * re-read starts at the offset for that time minus historyNeeded. Returns true when the batch
+   * is done with (a seek was made).
+   */
+  private async locateRebuild(
+    w: PartitionWorker,
+    msgs: EachBatchPayload['batch']['messages'],
+    topic: string,
+  ): Promise<boolean> {
+    const plan = w.rebuild!;
+    const last = msgs.find((m) => Number(m.offset) === plan.until - 1);
+    if (!last) {
+      // Gone since the plan (retention): nothing before the resume point is left to learn from.
+      plan.phase = 'read';
+      plan.firstReadMs = Number(msgs[0].timestamp);
+      plan.wantedFromMs = plan.firstReadMs - historyNeeded(this.config);
+      plan.fromOldest = true;
+      w.next = plan.until;
+      this.finishRebuild(w, plan);
+      return false;
+    }
+    plan.wantedFromMs = Number(last.timestamp) - historyNeeded(this.config);
+    const byTime = await this.retry('kafka', () =>
+      this.admin.fetchTopicOffsetsByTimestamp(topic, plan.wantedFromMs),
+    );
+    const found = Number(byTime.find((o) => o.partition === w.partition)?.offset ?? '-1');
+    // No message at or after the time (-1), or out-of-order producer timestamps: stay in range.
+    const from = found < 0 ? plan.until - 1 : Math.min(Math.max(found, plan.low), plan.until - 1);
+    plan.phase = 'read';
+    plan.fromOldest = from === plan.low;
+    this.log.info(
+      {
+        partition: w.partition,
+        cause: plan.cause,
+        fromOffset: from,
+        untilOffset: plan.until,
+        fromTime: new Date(plan.wantedFromMs).toISOString(),
+      },
+      `re-reading ${plan.until - from} messages of history to rebuild the baselines`,
+    );
+    if (from === w.next) return false;
+    w.next = from;
+    this.consumer.seek({ topic, partition: w.partition, offset: from.toString() });
+    w.start = 'seeked';
+    return true;
+  }
+
+  /** One message of a rebuild: it feeds the baselines; its events and any reject are not published. */
+  private relearn(
+    w: PartitionWorker,
+    plan: RebuildPlan,
+    m: { timestamp: string },
+    reading: Parameters<Engine['process']>[0] | null,
+  ): void {
+    if (plan.firstReadMs === null) plan.firstReadMs = Number(m.timestamp);
+    if (reading === null) return;
+    const out = w.engine.process(reading);
+    if (!out.accepted) return;
+    plan.readings++;
+    w.dirty.add(reading.sensor);
+    for (const e of out.events) w.dirty.add(e.sensor);
+  }
+
+  /** The rebuild reached the resume point: say what it read and what was missing; judge from here. */
+  private finishRebuild(w: PartitionWorker, plan: RebuildPlan): void {
+    w.rebuild = null;
+    this.metrics.rebuildingPartitions.dec();
+    this.metrics.rebuildReadings.inc(plan.readings);
+    // History is missing when the re-read had to start at the oldest message kept and even that
+    // one is younger than the time wanted.
+    const oldest = plan.firstReadMs ?? plan.wantedFromMs;
+    const missingMs = plan.fromOldest ? Math.max(0, oldest - plan.wantedFromMs) : 0;
+    this.metrics.rebuildHistoryMissing.set({ partition: String(w.partition) }, missingMs / 1000);
+    const fields = {
+      partition: w.partition,
+      cause: plan.cause,
+      readings: plan.readings,
+      sensors: w.engine.sensorCount,
+      seconds: (Date.now() - plan.startedAt) / 1000,
+      missingSeconds: Math.round(missingMs / 1000),
+      offset: w.next.toString(),
+    };
+    if (missingMs > 0)
+      this.log.warn(
+        fields,
+        `baselines rebuilt from ${plan.readings} readings, but ${formatDuration(Math.round(missingMs))} of the history wanted is not in the input topic (retention shorter than window + one bucket, or a younger topic); judging resumes with what was there`,
+      );
+    else this.log.info(fields, `baselines rebuilt from ${plan.readings} readings; judging resumes`);
   }
 
   private reject(
@@ -725,6 +990,9 @@ export class Monitor {
   private async checkpoint(w: PartitionWorker, heartbeat?: () => Promise<void>): Promise<boolean> {
     if (this.workers.get(w.partition) !== w) return false;
     if (w.next === w.checkpointed && w.dirty.size === 0) return true;
+    // Mid-rebuild the state is not one to resume from (judging has not caught up): write nothing;
+    // a restart finds the same loss and rebuilds again.
+    if (w.rebuild) return true;
     await this.flushed();
     // Idle sensors leave memory now and Redis with this save (their baselines are empty anyway).
     // (A sensor evicted and seen again since is held anew: its new state is written, not deleted.)
@@ -736,30 +1004,39 @@ export class Monitor {
       if (bytes) entries.push([sensor, bytes]);
     }
     const offset = w.next;
+    const expected: ExpectedOffset =
+      w.checkpointed < 0 ? { kind: 'none' } : { kind: 'offset', offset: w.checkpointed.toString() };
     const end = this.metrics.checkpointDuration.startTimer();
     let result = await this.retry(
       'redis',
-      () => this.store.save(w.partition, offset.toString(), entries, evicted),
+      () => this.store.save(w.partition, offset.toString(), expected, entries, evicted),
       { whileWaiting: heartbeat },
     );
-    if (result === 'owner_gone') {
-      // Redis lost the partition's keys under us (flush, restart without persistence). The memory
-      // state is exact: take ownership back and write all of it, rather than dropping it.
-      this.metrics.checkpoints.inc({ result: 'owner_gone' });
-      this.metrics.stateRebuilds.inc({ cause: 'keys_lost_running' });
+    if (result === 'owner_gone' || result === 'rolled_back') {
+      // Redis lost the partition's keys (flush, restart without persistence) or went back to an
+      // older checkpoint (a restart that lost the append-only file's last second, a replica
+      // promoted before it had our last writes). The memory state is exact: keep it and write all
+      // of it, rather than dropping it or writing only what changed since.
+      const cause = result === 'owner_gone' ? 'keys_lost_running' : 'checkpoint_rolled_back';
+      this.metrics.checkpoints.inc({ result });
+      this.metrics.stateRebuilds.inc({ cause });
       this.log.error(
-        { partition: w.partition, sensors: w.engine.sensorCount, cause: 'keys_lost_running' },
-        'partition state gone from Redis; keeping the exact state in memory and writing it in full again',
+        { partition: w.partition, sensors: w.engine.sensorCount, cause, expectedOffset: w.checkpointed },
+        result === 'owner_gone'
+          ? 'partition state gone from Redis; keeping the exact state in memory and writing it in full again'
+          : 'partition state in Redis went back to an older checkpoint; keeping the exact state in memory and writing it in full again',
       );
-      const retaken = await this.retry('redis', () => this.store.retake(w.partition), {
-        whileWaiting: heartbeat,
-      });
+      const retaken =
+        result === 'rolled_back' ||
+        (await this.retry('redis', () => this.store.retake(w.partition), { whileWaiting: heartbeat }));
       if (retaken) {
         const all: [string, Uint8Array][] = [];
         for (const sensor of w.engine.sensors()) all.push([sensor, w.engine.encode(sensor)!]);
-        result = await this.retry('redis', () => this.store.save(w.partition, offset.toString(), all, []), {
-          whileWaiting: heartbeat,
-        });
+        result = await this.retry(
+          'redis',
+          () => this.store.save(w.partition, offset.toString(), { kind: 'replace' }, all, []),
+          { whileWaiting: heartbeat },
+        );
       } else result = 'fenced';
     }
     end();
@@ -793,6 +1070,10 @@ export class Monitor {
 
   private drop(w: PartitionWorker, why: string): void {
     this.workers.delete(w.partition);
+    if (w.rebuild) {
+      this.metrics.rebuildingPartitions.dec();
+      w.rebuild = null;
+    }
     w.engine.releaseAll();
     this.metrics.partitionLag.remove({ partition: String(w.partition) });
     this.log.info({ partition: w.partition, why }, 'partition released');

@@ -1,9 +1,14 @@
 /**
  * Partition checkpoints in Redis. Two Lua scripts, each atomic on one hash-tagged slot:
  *  - claim: make this process the partition's owner and read its state and offset in one step;
- *  - save:  write dirty sensor states and the new offset, only if this process is still the owner.
+ *  - save:  write dirty sensor states and the new offset, only if this process is still the owner
+ *           and the stored offset is the one this process wrote last.
  * The owner check fences a monitor that lost a partition in a rebalance but has not noticed yet:
- * its late write would otherwise mix its sensors with the new owner's newer ones.
+ * its late write would otherwise mix its sensors with the new owner's newer ones. The offset check
+ * catches a Redis that went back in time under a running monitor (a restart that replayed an
+ * append-only file missing its last second, a replica promoted before it received the last
+ * writes): writing only the sensors changed since would leave the others at their older state
+ * beside a newer offset, so the caller writes everything again instead.
  */
 import type { Redis } from 'ioredis';
 import { partitionKeys, type PartitionKeys } from './keys.js';
@@ -15,22 +20,37 @@ local st = redis.call('HGETALL', KEYS[1])
 return {off or false, st}
 `;
 
-// ARGV: token, offset, count of evicted sensors, their ids, then sensor/bytes pairs.
-// Returns 1 when written, 0 when fenced (another owner), 2 when the owner record is gone (state loss).
+// ARGV: token, offset, the offset expected in Redis (see EXPECT_*), count of evicted sensors, their
+// ids, then sensor/bytes pairs. The stored offset may also equal the new one: a retried save whose
+// first attempt was applied although its answer was lost. Returns 1 when written, 0 when fenced
+// (another owner), 2 when the owner record is gone (state loss), 3 when the stored offset is neither
+// (Redis went back to an older checkpoint). EXPECT_REPLACE deletes the state hash first, so sensors
+// evicted in the lost writes do not come back.
 const SAVE_LUA = `
 local owner = redis.call('GET', KEYS[3])
 if owner == false then return 2 end
 if owner ~= ARGV[1] then return 0 end
-local evicted = tonumber(ARGV[3])
-for i = 4, 3 + evicted do
+local stored = redis.call('GET', KEYS[2])
+if ARGV[3] == '*' then
+  redis.call('DEL', KEYS[1])
+elseif ARGV[3] == '' then
+  if stored ~= false and stored ~= ARGV[2] then return 3 end
+elseif stored ~= ARGV[3] and stored ~= ARGV[2] then
+  return 3
+end
+local evicted = tonumber(ARGV[4])
+for i = 5, 4 + evicted do
   redis.call('HDEL', KEYS[1], ARGV[i])
 end
-for i = 4 + evicted, #ARGV, 2 do
+for i = 5 + evicted, #ARGV, 2 do
   redis.call('HSET', KEYS[1], ARGV[i], ARGV[i + 1])
 end
 redis.call('SET', KEYS[2], ARGV[2])
 return 1
 `;
+
+/** What a save expects to find stored: nothing yet, this offset, or anything (replace in full). */
+export type ExpectedOffset = { kind: 'none' } | { kind: 'offset'; offset: string } | { kind: 'replace' };
 
 // Take ownership back only if nobody holds it (after a state loss). Returns 1 when taken.
 const RETAKE_LUA = `
@@ -55,6 +75,15 @@ interface ScriptedRedis extends Redis {
   sfRelease(state: string, offset: string, owner: string, token: string): Promise<number>;
   sfRetake(state: string, offset: string, owner: string, token: string): Promise<number>;
 }
+
+/** What a save did (see CheckpointStore.save). */
+export type SaveResult = 'written' | 'fenced' | 'owner_gone' | 'rolled_back';
+const SAVE_RESULTS: Record<number, SaveResult> = {
+  0: 'fenced',
+  1: 'written',
+  2: 'owner_gone',
+  3: 'rolled_back',
+};
 
 export interface PartitionCheckpoint {
   /** Next offset to read; null when the partition has never been checkpointed. */
@@ -95,20 +124,24 @@ export class CheckpointStore {
   /**
    * Write dirty states, delete evicted sensors and move the offset, in one step. `fenced`: another
    * process owns the partition now; `owner_gone`: the owner record itself is gone (Redis lost the
-   * partition's keys). Nothing is written in either case.
+   * partition's keys); `rolled_back`: the stored offset is not `expected` (Redis lost recent
+   * writes). Nothing is written in those cases. With `{kind: 'replace'}` the stored states are
+   * replaced by `dirty` (which must then hold every sensor).
    */
   async save(
     partition: number,
     offset: string,
+    expected: ExpectedOffset,
     dirty: Iterable<[string, Uint8Array]>,
     evicted: readonly string[] = [],
-  ): Promise<'written' | 'fenced' | 'owner_gone'> {
+  ): Promise<SaveResult> {
     const k = this.keys(partition);
-    const args: (string | Buffer)[] = [this.token, offset, String(evicted.length), ...evicted];
+    const expect = expected.kind === 'none' ? '' : expected.kind === 'replace' ? '*' : expected.offset;
+    const args: (string | Buffer)[] = [this.token, offset, expect, String(evicted.length), ...evicted];
     for (const [sensor, bytes] of dirty)
       args.push(sensor, Buffer.from(bytes.buffer, bytes.byteOffset, bytes.byteLength));
     const res = await this.r.sfSave(k.state, k.offset, k.owner, ...args);
-    return res === 1 ? 'written' : res === 2 ? 'owner_gone' : 'fenced';
+    return SAVE_RESULTS[res] ?? 'fenced';
   }
 
   /** Become the owner again after a state loss, only if no other process has claimed it. */

@@ -14,6 +14,7 @@ import { LIMITS } from '../../libs/engine/reading.js';
 import { DEFAULT_MAX_SENSORS, SensorBudget } from '../../libs/engine/sensor-budget.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { InputRecord, ReplayObserver, ReplaySummary } from '../../libs/schema/replay.js';
+import type { AlertEvent } from '../../libs/schema/alert-event.js';
 import { keyPartitioner } from './partitioner.js';
 import { alertKpis, kpiEventOf, type KpiEvent } from '../../libs/kpi/alert-kpis.js';
 import { LineWriter } from './writer.js';
@@ -48,10 +49,10 @@ export interface ReplayOptions {
   partitions?: number;
 }
 
-function sortedCounts(m: Map<string, number>): Record<string, number> {
-  const out: Record<string, number> = {};
-  for (const k of [...m.keys()].sort()) out[k] = m.get(k)!;
-  return out;
+function sortedCounts(counts: Map<string, number>): Record<string, number> {
+  const sorted: Record<string, number> = {};
+  for (const key of [...counts.keys()].sort()) sorted[key] = counts.get(key)!;
+  return sorted;
 }
 
 /**
@@ -72,106 +73,171 @@ export async function prepareDir(outDir: string): Promise<void> {
   }
 }
 
+/** What one replay writes while it runs: the alert and reject lines, and the counts behind them. */
+class ReplayOutput {
+  readonly alerts: LineWriter;
+  readonly rejected: LineWriter;
+  readonly rejectsByReason = new Map<string, number>();
+  // Raises and clears only (a small share of the readings), for the alert-system health figures.
+  readonly kpiEvents: KpiEvent[] = [];
+  /** Event-time span of the accepted readings. */
+  readonly span = { start: Infinity, end: -Infinity };
+
+  constructor(
+    outDir: string,
+    private readonly rejectObservers: ReplayObserver[],
+  ) {
+    this.alerts = new LineWriter(join(outDir, REPLAY_FILES.alerts));
+    this.rejected = new LineWriter(join(outDir, REPLAY_FILES.rejected));
+  }
+
+  /** Keeps a line that did not become an accepted reading, with its reason. */
+  reject(record: InputRecord, reason: string, detail: string): void {
+    this.rejectsByReason.set(reason, (this.rejectsByReason.get(reason) ?? 0) + 1);
+    const raw =
+      record.raw.length > LIMITS.maxLineLength ? record.raw.slice(0, LIMITS.maxLineLength) : record.raw;
+    this.rejected.push(JSON.stringify({ line: record.line, raw, reason, detail }));
+    for (const observer of this.rejectObservers) observer.onReject!(record, reason, detail);
+  }
+
+  /** Writes an accepted reading's alert events and widens the span. */
+  accepted(ts: number, events: readonly AlertEvent[]): void {
+    if (ts < this.span.start) this.span.start = ts;
+    if (ts > this.span.end) this.span.end = ts;
+    for (let j = 0; j < events.length; j++) {
+      this.alerts.push(JSON.stringify(events[j]));
+      if (events[j].state !== 'updated') this.kpiEvents.push(kpiEventOf(events[j]));
+    }
+  }
+
+  async flushSome(): Promise<void> {
+    await this.alerts.maybeFlush();
+    await this.rejected.maybeFlush();
+  }
+
+  async close(): Promise<void> {
+    await this.alerts.close();
+    await this.rejected.close();
+  }
+
+  destroy(): void {
+    this.alerts.destroy();
+    this.rejected.destroy();
+  }
+}
+
+/**
+ * Replays the records through a fresh Engine, writes alerts.ndjson, rejected.ndjson and
+ * summary.json into `outDir`, and returns the summary.
+ */
 export async function runReplay(opts: ReplayOptions): Promise<ReplaySummary> {
   const { source, config, outDir } = opts;
   const observers = opts.observers ?? [];
-  const readingObs = observers.filter((o) => o.onReading !== undefined);
-  const rejectObs = observers.filter((o) => o.onReject !== undefined);
+  const readingObservers = observers.filter((observer) => observer.onReading !== undefined);
   await prepareDir(outDir);
   const maxSensors = opts.maxSensors ?? DEFAULT_MAX_SENSORS;
   const partitionOf = keyPartitioner(opts.partitions ?? 1);
   const engine = new Engine(config, new SensorBudget(maxSensors));
-  const alerts = new LineWriter(join(outDir, REPLAY_FILES.alerts));
-  const rejected = new LineWriter(join(outDir, REPLAY_FILES.rejected));
-  const byReason = new Map<string, number>();
+  const output = new ReplayOutput(
+    outDir,
+    observers.filter((observer) => observer.onReject !== undefined),
+  );
   let records = 0;
-  // Raises and clears only (a small share of the readings), for the alert-system health figures.
-  const kpiEvents: KpiEvent[] = [];
-  const span = { start: Infinity, end: -Infinity };
-
-  const reject = (rec: InputRecord, reason: string, detail: string): void => {
-    byReason.set(reason, (byReason.get(reason) ?? 0) + 1);
-    const raw = rec.raw.length > LIMITS.maxLineLength ? rec.raw.slice(0, LIMITS.maxLineLength) : rec.raw;
-    rejected.push(JSON.stringify({ line: rec.line, raw, reason, detail }));
-    for (const o of rejectObs) o.onReject!(rec, reason, detail);
-  };
-
   try {
     for await (const batch of source) {
       for (let i = 0; i < batch.length; i++) {
-        const rec = batch[i];
-        const res = rec.result;
-        if (!res.ok) {
-          reject(rec, res.reason, res.detail);
+        const record = batch[i];
+        const parsed = record.result;
+        if (!parsed.ok) {
+          output.reject(record, parsed.reason, parsed.detail);
           continue;
         }
-        const out = engine.process(res.reading, rec.partition ?? partitionOf(res.reading.sensor));
-        for (const o of readingObs) o.onReading!(res.reading, out, engine);
-        if (!out.accepted) {
-          reject(rec, out.reason, out.detail);
-          continue;
-        }
-        const ev = out.events;
-        const ts = res.reading.ts;
-        if (ts < span.start) span.start = ts;
-        if (ts > span.end) span.end = ts;
-        for (let j = 0; j < ev.length; j++) {
-          alerts.push(JSON.stringify(ev[j]));
-          if (ev[j].state !== 'updated') kpiEvents.push(kpiEventOf(ev[j]));
-        }
+        const outcome = engine.process(
+          parsed.reading,
+          record.partition ?? partitionOf(parsed.reading.sensor),
+        );
+        for (const observer of readingObservers) observer.onReading!(parsed.reading, outcome, engine);
+        if (outcome.accepted) output.accepted(parsed.reading.ts, outcome.events);
+        else output.reject(record, outcome.reason, outcome.detail);
       }
       records += batch.length;
       // Evicted ids matter to the monitor (it deletes them from Redis); a replay only counts them.
       engine.takeEvicted();
-      await alerts.maybeFlush();
-      await rejected.maybeFlush();
+      await output.flushSome();
       opts.progress?.(records);
     }
-    await alerts.close();
-    await rejected.close();
+    await output.close();
   } catch (err) {
-    alerts.destroy();
-    rejected.destroy();
+    output.destroy();
     throw err;
   }
-  for (const o of observers) await o.onEnd?.(engine);
+  for (const observer of observers) await observer.onEnd?.(engine);
+  const summary = buildSummary(engine, output, opts, maxSensors);
+  addObserverFields(summary, observers);
+  await writeSummary(outDir, summary);
+  return summary;
+}
 
-  const c = engine.counters;
-  let total = 0;
-  for (const n of byReason.values()) total += n;
-  const summary: ReplaySummary = {
+function buildSummary(
+  engine: Engine,
+  output: ReplayOutput,
+  opts: ReplayOptions,
+  maxSensors: number,
+): ReplaySummary {
+  const counters = engine.counters;
+  let rejectedTotal = 0;
+  for (const lines of output.rejectsByReason.values()) rejectedTotal += lines;
+  const span = output.span;
+  return {
     engineVersion: ENGINE_VERSION,
     input: typeof opts.inputInfo === 'function' ? opts.inputInfo() : opts.inputInfo,
-    readings: c.readings,
-    quality: { good: c.quality.good, uncertain: c.quality.uncertain, bad: c.quality.bad },
-    rejected: { total, byReason: sortedCounts(byReason) },
+    readings: counters.readings,
+    quality: {
+      good: counters.quality.good,
+      uncertain: counters.quality.uncertain,
+      bad: counters.quality.bad,
+    },
+    rejected: { total: rejectedTotal, byReason: sortedCounts(output.rejectsByReason) },
     sensors: engine.sensorCount,
-    evaluated: c.evaluated,
-    flagged: { fence: c.flagged.fence, outerFence: c.flagged.outerFence, z: c.flagged.z, any: c.flagged.any },
-    alerts: { raised: c.alerts.raised, updated: c.alerts.updated, cleared: c.alerts.cleared },
+    evaluated: counters.evaluated,
+    flagged: {
+      fence: counters.flagged.fence,
+      outerFence: counters.flagged.outerFence,
+      z: counters.flagged.z,
+      any: counters.flagged.any,
+    },
+    alerts: {
+      raised: counters.alerts.raised,
+      updated: counters.alerts.updated,
+      cleared: counters.alerts.cleared,
+    },
     activeAtEnd: engine.activeAlertCount(),
     sensorLimit: { max: maxSensors, evicted: engine.evictedTotal },
-    config: configToJson(config),
-    kpis: alertKpis(kpiEvents, span.start <= span.end ? span : { start: 0, end: 0 }),
+    config: configToJson(opts.config),
+    kpis: alertKpis(output.kpiEvents, span.start <= span.end ? span : { start: 0, end: 0 }),
   };
-  for (const o of observers) {
-    const extra = o.summaryFields?.() ?? {};
-    for (const k of Object.keys(extra)) {
-      if (k in summary)
-        throw new Error(`replay observer summary field "${k}" clashes with an existing summary field`);
-      summary[k] = extra[k];
+}
+
+/** Observers' extra summary.json fields; a name that is already taken is a programming error. */
+function addObserverFields(summary: ReplaySummary, observers: readonly ReplayObserver[]): void {
+  for (const observer of observers) {
+    const extra = observer.summaryFields?.() ?? {};
+    for (const key of Object.keys(extra)) {
+      if (key in summary)
+        throw new Error(`replay observer summary field "${key}" clashes with an existing summary field`);
+      summary[key] = extra[key];
     }
   }
+}
+
+async function writeSummary(outDir: string, summary: ReplaySummary): Promise<void> {
   try {
     await writeFile(join(outDir, REPLAY_FILES.summary), `${JSON.stringify(summary, null, 2)}\n`);
   } catch (err) {
     throw new StreamfenceError(
       'OUTPUT_UNWRITABLE',
       `cannot write the summary in "${outDir}": ${fileProblem(err)}; choose another folder with --out`,
-      {
-        cause: err,
-      },
+      { cause: err },
     );
   }
-  return summary;
 }

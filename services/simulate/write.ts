@@ -6,7 +6,7 @@ import { createWriteStream } from 'node:fs';
 import { writeFile } from 'node:fs/promises';
 import { once } from 'node:events';
 import YAML from 'yaml';
-import { buildKafka, kafkaFailure, type KafkaSettings } from '../connect/index.js';
+import { buildKafka, createTopicsWithLeaders, kafkaFailure, type KafkaSettings } from '../connect/index.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { PlantSimulator, SimReading } from '../../libs/sim/plant.js';
 import { fileProblem } from '../fs-errors.js';
@@ -98,7 +98,7 @@ export async function produceReadings(
   try {
     await admin.connect();
     const topics = await admin.listTopics();
-    if (!topics.includes(topic)) await admin.createTopics({ topics: [{ topic }], waitForLeaders: true });
+    if (!topics.includes(topic)) await createTopicsWithLeaders(admin, [{ topic }]);
     await producer.connect();
   } catch (e) {
     await Promise.allSettled([admin.disconnect(), producer.disconnect()]);

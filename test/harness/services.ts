@@ -13,6 +13,7 @@ import { inject } from 'vitest';
 import { Kafka, logLevel } from 'kafkajs';
 import { Redis } from 'ioredis';
 import type { HarnessServices } from './context.js';
+import { createTopicsWithLeaders } from '../../services/connect/topics.js';
 
 export type { HarnessServices } from './context.js';
 
@@ -56,10 +57,9 @@ export async function createTopic(name: string, partitions = 1): Promise<void> {
   const admin = kafkaClient('streamfence-test-admin').admin();
   await admin.connect();
   try {
-    const created = await admin.createTopics({
-      topics: [{ topic: name, numPartitions: partitions, replicationFactor: 1 }],
-      waitForLeaders: true,
-    });
+    const created = await createTopicsWithLeaders(admin, [
+      { topic: name, numPartitions: partitions, replicationFactor: 1 },
+    ]);
     if (!created) throw new Error(`topic ${name} already exists: use uniqueName() for test topics`);
   } finally {
     await admin.disconnect();

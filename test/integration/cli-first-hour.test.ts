@@ -10,7 +10,7 @@
  */
 import { execFile } from 'node:child_process';
 import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
-import { createServer } from 'node:net';
+import { createServer, type Server } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
@@ -19,7 +19,7 @@ import { bannerText } from '../../services/setup/args.js';
 import { createTopic, deleteTopics, kafkaBrokers, redisUrl, uniqueName } from '../harness/services.js';
 
 const CLI = 'dist/services/cli/main.js';
-const COMMANDS = ['demo', 'replay', 'run', 'inspect', 'board', 'alerts', 'simulate', 'tune'];
+const COMMANDS = ['demo', 'replay', 'run', 'inspect', 'board', 'alerts', 'simulate', 'tune', 'topics'];
 /** Generous: every refusal here is measured at 1-3 s on the shared 2-core machine. */
 const TIME_LIMIT_MS = 15_000;
 
@@ -70,6 +70,9 @@ const readings = Array.from(
 let missingTopic: string;
 let presentTopic: string;
 let deadPort: number;
+/** A TCP server that ends every connection on its first bytes (a TLS hello): a peer that drops TLS. */
+let dropper: Server;
+let dropPort: number;
 
 beforeAll(async () => {
   writeFileSync(p('readings.ndjson'), readings);
@@ -86,9 +89,13 @@ beforeAll(async () => {
   presentTopic = uniqueName('first-hour-alerts');
   await createTopic(presentTopic);
   deadPort = await closedPort();
+  dropper = createServer((socket) => socket.once('data', () => socket.destroy()));
+  await new Promise<void>((r) => dropper.listen(0, '127.0.0.1', r));
+  dropPort = (dropper.address() as { port: number }).port;
 }, 60_000);
 
 afterAll(async () => {
+  await new Promise<void>((r) => dropper.close(() => r()));
   await deleteTopics(presentTopic);
 });
 
@@ -127,12 +134,20 @@ const ROWS: Row[] = [
   ['simulate: --out (a folder elsewhere)', () => ['simulate', '--out', p('s.ndjson')], none, 'ARGS_INVALID', () => /--readings FILE/],
   // inspect
   ['inspect: closed Redis port', () => ['inspect', '--redis', `redis://127.0.0.1:${deadPort}`], none, 'SERVICE_UNAVAILABLE', () => new RegExp(`^streamfence: redis 127\\.0\\.0\\.1:${deadPort}: connection refused`)],
+  ['inspect: rediss:// to a peer that drops the TLS handshake', () => ['inspect', '--redis', `rediss://127.0.0.1:${dropPort}`], none, 'TLS_FAILED', () => new RegExp(`^streamfence: redis: 127\\.0\\.0\\.1:${dropPort} ended the connection during the TLS handshake; check that this port serves TLS`)],
   ['inspect: a prefix that holds nothing', () => ['inspect', '--redis', redisUrl(), '--state-prefix', missingTopic], none, 'NOT_FOUND', () => new RegExp(`no sensor state under prefix "${missingTopic}"`)],
   // alerts --once
   ['alerts --once: missing topic', () => ['alerts', '--once', '--brokers', brokers(), '--alert-topic', missingTopic], none, 'NOT_FOUND', () => new RegExp(`topic "${missingTopic}" does not exist`)],
   ['alerts --once: missing action topic named', () => ['alerts', '--once', '--brokers', brokers(), '--alert-topic', presentTopic, '--action-topic', missingTopic], none, 'NOT_FOUND', () => new RegExp(`topic "${missingTopic}" does not exist`)],
   ['alerts --once: closed Kafka port', () => ['alerts', '--once', '--brokers', `127.0.0.1:${deadPort}`], none, 'SERVICE_UNAVAILABLE', () => new RegExp(`kafka 127\\.0\\.0\\.1:${deadPort}: connection refused`)],
+  // The shared broker's listener is PLAINTEXT: it drops a TLS hello.
+  ['alerts --once: --kafka-tls against a plain listener', () => ['alerts', '--once', '--brokers', brokers(), '--kafka-tls'], none, 'TLS_FAILED', () => /^streamfence: kafka: \S+ ended the connection during the TLS handshake; check that this port is a TLS listener/],
+  ['replay: --kafka-tls against a plain listener', () => ['replay', `kafka://${missingTopic}`, '--brokers', brokers(), '--kafka-tls', '--from', '2026-04-01T00:00:00Z', '--to', '2026-04-02T00:00:00Z', '--out', p('o6')], none, 'TLS_FAILED', () => /ended the connection during the TLS handshake/],
   ['alerts: --since without a zone', () => ['alerts', '--once', '--brokers', brokers(), '--since', '2026-12-02T05:00:00'], none, 'ARGS_INVALID', () => /--since "2026-12-02T05:00:00" must be a time with a zone/],
+  // topics
+  ['topics: closed Kafka port', () => ['topics', 'check', '--brokers', `127.0.0.1:${deadPort}`], none, 'SERVICE_UNAVAILABLE', () => new RegExp(`^streamfence: kafka 127\\.0\\.0\\.1:${deadPort}: connection refused`)],
+  ['topics: no action', () => ['topics', '--brokers', brokers()], none, 'ARGS_INVALID', () => /say what to do: streamfence topics create, or streamfence topics check/],
+  ['topics: more replicas than brokers', () => ['topics', 'create', '--brokers', brokers(), '--input-topic', missingTopic, '--replication-factor', '9'], none, 'ARGS_INVALID', () => /--replication-factor 9 is more than the 1 broker of the cluster/],
   // run, board, demo: argument mistakes (their outages are retried, not refused)
   ['run: metrics port out of range', () => ['run', '--brokers', brokers(), '--redis', redisUrl(), '--metrics-port', '70000'], none, 'ARGS_INVALID', () => /--metrics-port must be a TCP port from 1 to 65535, or 0 for any free port, got "70000"/],
   ['run: negative checkpoint interval', () => ['run', '--brokers', brokers(), '--redis', redisUrl(), '--checkpoint-ms', '-5'], none, 'ARGS_INVALID', () => /--checkpoint-ms must be/],

@@ -22,9 +22,20 @@ import { ENV } from '../../config/env.js';
 import { loadEngineConfig } from '../../setup/config-file.js';
 import { Progress, formatCount, formatSeconds } from '../../progress.js';
 import { checkInputFile, detectFormat, newInputStats, readInput } from '../../replay/input.js';
-import { REPLAY_FILES, prepareDir, runReplay, type ReplayObserver } from '../../replay/replay.js';
+import {
+  REPLAY_FILES,
+  prepareDir,
+  runReplay,
+  type ReplayObserver,
+  type ReplaySummary,
+} from '../../replay/replay.js';
 import type { InputRecord } from '../../replay/input.js';
-import { createReportObserver, REPORT_DEFAULTS } from '../../../libs/report/replay-report.js';
+import {
+  createReportObserver,
+  REPORT_DEFAULTS,
+  type ReportObserver,
+} from '../../../libs/report/replay-report.js';
+import type { EngineConfig } from '../../../libs/config/config.js';
 import { writeReport, REPORT_FILE } from '../../report/write.js';
 import { isKafkaUrl, parseKafkaUrl, KAFKA_URL_EXAMPLE, type KafkaRange } from '../../replay-kafka/url.js';
 import { kafkaRangeSource, newKafkaRangeStats } from '../../replay-kafka/source.js';
@@ -110,6 +121,7 @@ export const OPTION_ENV: Record<keyof typeof OPTIONS, string> = {
   partitions: ENV.replayPartitions,
 };
 
+/** `streamfence replay`: judge a file or a Kafka time range and write the results to a folder. */
 export async function main(argv: string[]): Promise<number> {
   const args = parseCommandArgs(
     CMD,
@@ -119,31 +131,72 @@ export async function main(argv: string[]): Promise<number> {
     OPTION_ENV,
   );
   if (args.help) return printHelp(HELP + envHelp(OPTION_ENV));
+  const settings = replaySettings(args);
+  warnUnused(args, settings);
+  const opened = await openInput(settings.input, args);
+  const report = settings.wantReport
+    ? createReportObserver({ topN: settings.topN, audit: settings.wantAudit, budgetPerHour: settings.budget })
+    : null;
+  await prepareDir(settings.outDir);
+  printBanner(CMD);
+  const summary = await runReplay({
+    source: opened.source,
+    config: settings.config,
+    outDir: settings.outDir,
+    inputInfo: opened.info,
+    observers: report === null ? [] : reportObservers(report),
+    progress: opened.update,
+    maxSensors: settings.maxSensors,
+    partitions: settings.partitions,
+  });
+  if (report !== null) await writeReport(settings.outDir, report.render(summary));
+  finishLine(opened, summary, settings.outDir);
+  return 0;
+}
+
+type ReplayArgs = ReturnType<typeof parseCommandArgs>;
+
+/** What `replay` was asked to do, every value checked. */
+interface ReplaySettings {
+  input: string;
+  outDir: string;
+  config: EngineConfig;
+  wantAudit: boolean;
+  wantReport: boolean;
+  topN: number;
+  budget: number;
+  maxSensors: number;
+  partitions: number;
+}
+
+function replaySettings(args: ReplayArgs): ReplaySettings {
   if (args.positionals.length === 0)
     usageError('give the readings file to replay, e.g. streamfence replay readings.ndjson', CMD);
   if (args.positionals.length > 1)
     usageError(`give one input file, got ${args.positionals.length}: ${args.positionals.join(' ')}`, CMD);
-  const input = args.positionals[0];
-  const outDir = stringOption(args, 'out', CMD) ?? './streamfence-out';
-  const config = loadEngineConfig(stringOption(args, 'config', CMD));
   const wantAudit = args.values.audit === true;
-  const wantReport = wantAudit || args.values.report === true;
-  const topN = numberOption(args, 'report-top', CMD, {
-    whole: true,
-    above: 0,
-    fallback: REPORT_DEFAULTS.topN,
-  });
-  const budget = numberOption(args, 'budget', CMD, { above: 0, fallback: ALERT_BUDGET_PER_HOUR });
-  const maxSensors = numberOption(args, 'max-sensors', CMD, {
-    whole: true,
-    above: 0,
-    fallback: DEFAULT_MAX_SENSORS,
-  });
+  return {
+    input: args.positionals[0],
+    outDir: stringOption(args, 'out', CMD) ?? './streamfence-out',
+    config: loadEngineConfig(stringOption(args, 'config', CMD)),
+    wantAudit,
+    wantReport: wantAudit || args.values.report === true,
+    topN: numberOption(args, 'report-top', CMD, { whole: true, above: 0, fallback: REPORT_DEFAULTS.topN }),
+    budget: numberOption(args, 'budget', CMD, { above: 0, fallback: ALERT_BUDGET_PER_HOUR }),
+    maxSensors: numberOption(args, 'max-sensors', CMD, {
+      whole: true,
+      above: 0,
+      fallback: DEFAULT_MAX_SENSORS,
+    }),
+    partitions: numberOption(args, 'partitions', CMD, { whole: true, above: 0, fallback: 1 }),
+  };
+}
 
-  const partitions = numberOption(args, 'partitions', CMD, { whole: true, above: 0, fallback: 1 });
-  if (!wantReport)
+/** One warning line per option given that has no effect with this input or without --report. */
+function warnUnused(args: ReplayArgs, settings: ReplaySettings): void {
+  if (!settings.wantReport)
     warnNoEffect(CMD, args, ['report-top', 'budget'], 'without --report: only the HTML report uses them');
-  if (!isKafkaUrl(input)) {
+  if (!isKafkaUrl(settings.input)) {
     warnNoEffect(CMD, args, ['from', 'to'], 'with a file input: only a kafka:// time range uses them');
     warnNoEffect(
       CMD,
@@ -155,57 +208,43 @@ export async function main(argv: string[]): Promise<number> {
     warnNoEffect(CMD, args, ['format'], 'with a kafka:// input: messages are JSON readings');
     warnNoEffect(CMD, args, ['partitions'], 'with a kafka:// input: each message keeps its topic partition');
   }
+}
 
-  let opened: OpenedInput;
-  if (isKafkaUrl(input)) {
-    const range = kafkaRange(input, args);
-    const connection = readKafkaSettings(args.values, process.env, { cmd: CMD, brokers: range.brokers });
-    await checkKafka(connection, {
-      clientId: 'streamfence-replay',
-      required: [range.topic],
-      what: `read topic ${range.topic}`,
-    });
-    opened = openKafka(range, connection);
-  } else {
-    opened = openFile(input, args);
-  }
-  const report = wantReport ? createReportObserver({ topN, audit: wantAudit, budgetPerHour: budget }) : null;
-  // The report observer collects bounded chart data during the replay; its audit numbers go to summary.json.
-  const observers: ReplayObserver[] =
-    report === null
-      ? []
-      : [
-          report,
-          {
-            summaryFields: () => {
-              const audit = report.auditResult();
-              return audit === null ? {} : { audit };
-            },
-          },
-        ];
-
-  await prepareDir(outDir);
-  printBanner(CMD);
-  const summary = await runReplay({
-    source: opened.source,
-    config,
-    outDir,
-    inputInfo: opened.info,
-    observers,
-    progress: opened.update,
-    maxSensors,
-    partitions,
+/** Opens the file, or checks Kafka and the topic before a kafka:// range is read. */
+async function openInput(input: string, args: ReplayArgs): Promise<OpenedInput> {
+  if (!isKafkaUrl(input)) return openFile(input, args);
+  const range = kafkaRange(input, args);
+  const connection = readKafkaSettings(args.values, process.env, { cmd: CMD, brokers: range.brokers });
+  await checkKafka(connection, {
+    clientId: 'streamfence-replay',
+    required: [range.topic],
+    what: `read topic ${range.topic}`,
   });
-  if (report !== null) await writeReport(outDir, report.render(summary));
+  return openKafka(range, connection);
+}
+
+/** The report observer collects bounded chart data during the replay; its audit numbers go to summary.json. */
+function reportObservers(report: ReportObserver): ReplayObserver[] {
+  return [
+    report,
+    {
+      summaryFields: () => {
+        const audit = report.auditResult();
+        return audit === null ? {} : { audit };
+      },
+    },
+  ];
+}
+
+function finishLine(opened: OpenedInput, summary: ReplaySummary, outDir: string): void {
   const progress = opened.progress;
   const secs = progress.elapsedSeconds;
-  const a = summary.alerts;
+  const alerts = summary.alerts;
   progress.finish(
     `streamfence replay: ${opened.count()} ${opened.unit}, ${summary.readings} readings from ${summary.sensors} sensors, ` +
-      `${summary.rejected.total} rejected, alerts ${a.raised} raised / ${a.updated} updated / ${a.cleared} cleared ` +
+      `${summary.rejected.total} rejected, alerts ${alerts.raised} raised / ${alerts.updated} updated / ${alerts.cleared} cleared ` +
       `-> ${outDir} (${formatSeconds(secs)}, ${formatCount(opened.count() / Math.max(secs, 1e-9))} ${opened.unit}/s)`,
   );
-  return 0;
 }
 
 /** An input ready to replay: its records, what summary.json says about it, and its progress line. */

@@ -106,6 +106,8 @@ function buildMonitor(options: MonitorOptions, log: Logger, metrics: Metrics): M
       checkpointMs: options.checkpointMs,
       checkpointReadings: options.checkpointReadings,
       maxSensors: options.maxSensors,
+      startFrom: options.startFrom,
+      warmStart: options.warmStart,
       sessionTimeoutMs: options.sessionTimeoutMs,
     },
     log,

@@ -288,6 +288,10 @@ export function spawnMonitor(a: MonitorArgs): MonitorProc {
     'debug',
     '--session-timeout-ms',
     '6000',
+    // The tests produce their readings before or while the monitor starts: read them all. (A
+    // later --start-from in extra wins.)
+    '--start-from',
+    'earliest',
     ...(a.extra ?? []),
   ];
   const child = spawn(process.execPath, args, {

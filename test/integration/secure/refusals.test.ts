@@ -191,3 +191,51 @@ describe('secured stack refusals of alerts --once', () => {
     expect(r.status).toBe(2);
   });
 });
+
+/**
+ * A consumer group the ACL does not grant (the monitor user may use groups starting `sf-` only):
+ * `run` ends while joining with one NOT_AUTHORISED line naming the topic and the group, exit 2,
+ * within seconds, with no "retrying" line before it (no crash loop).
+ */
+describe('secured stack: run with a group the ACL denies', () => {
+  const stack = secureStack();
+  const id = uniqueName('grp');
+  const topics = [`sf-in-${id}`, `sf-alerts-${id}`, `sf-rejected-${id}`];
+  const admin = () =>
+    buildKafka(readKafkaSettings({}, stack.admin, { cmd: 'test' }), { clientId: 'sf-test' }).admin();
+
+  beforeAll(async () => {
+    const a = admin();
+    await a.connect();
+    await a.createTopics({ topics: topics.map((topic) => ({ topic })), waitForLeaders: true });
+    await a.disconnect();
+  }, 60_000);
+
+  afterAll(async () => {
+    const a = admin();
+    await a.connect();
+    await a.deleteTopics({ topics }).catch(() => {});
+    await a.disconnect();
+  });
+
+  it('ends with one line and exit 2', () => {
+    const started = Date.now();
+    const r = refused(
+      [
+        'run',
+        ...['--input-topic', topics[0], '--alert-topic', topics[1], '--rejected-topic', topics[2]],
+        ...['--group', `other-${id}`, '--state-prefix', `sf:${id}`, '--metrics-port', '0'],
+      ],
+      stack.monitor,
+    );
+    const last = JSON.parse(r.last) as { msg: string; code: string };
+    expect(last.msg).toBe(
+      `kafka: not authorised to read topic ${topics[0]} in group other-${id} (group ACL) for user monitor; grant the ACL or use another user [NOT_AUTHORISED]`,
+    );
+    expect(last.code).toBe('NOT_AUTHORISED');
+    expect(r.status).toBe(2);
+    expect(r.all).not.toContain('retrying');
+    expect(r.all).not.toContain('    at ');
+    expect(Date.now() - started).toBeLessThan(30_000);
+  });
+});

@@ -72,6 +72,8 @@ describe('the secured stack, every command', () => {
         'run',
         ...['--input-topic', input, '--alert-topic', alerts, '--rejected-topic', rejected],
         ...['--group', group, '--state-prefix', prefix, '--metrics-port', '0', '--checkpoint-ms', '200'],
+        // The readings were simulated onto the topic before the monitor started.
+        ...['--start-from', 'earliest'],
       ],
       { env: { ...process.env, ...stack.monitor } },
     );

@@ -17,6 +17,7 @@ import * as demo from '../../../services/cli/commands/demo.js';
 import * as inspect from '../../../services/cli/commands/inspect.js';
 import * as replay from '../../../services/cli/commands/replay.js';
 import * as simulate from '../../../services/cli/commands/simulate.js';
+import * as topics from '../../../services/cli/commands/topics.js';
 import * as tune from '../../../services/cli/commands/tune.js';
 
 const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../../..');
@@ -26,7 +27,16 @@ interface CommandModule {
   OPTIONS: Record<string, unknown>;
   OPTION_ENV: Record<string, string>;
 }
-const COMMANDS: Record<string, CommandModule> = { alerts, board, demo, inspect, replay, simulate, tune };
+const COMMANDS: Record<string, CommandModule> = {
+  alerts,
+  board,
+  demo,
+  inspect,
+  replay,
+  simulate,
+  topics,
+  tune,
+};
 const WITHOUT_ENV: Record<string, string[]> = {
   simulate: ['list', 'out'],
   board: ['board-token'],

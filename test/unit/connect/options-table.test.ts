@@ -14,7 +14,7 @@ import { parseRunOptions, RUN_OPTIONS, optionsHelp } from '../../../services/cli
 
 /** Which commands connect to what; a new connecting command is added here and to the README. */
 const USERS = {
-  kafka: ['run', 'board', 'alerts', 'simulate --kafka', 'replay kafka://'],
+  kafka: ['run', 'board', 'alerts', 'simulate --kafka', 'replay kafka://', 'topics'],
   redis: ['run', 'inspect', 'board'],
 };
 
@@ -103,6 +103,7 @@ const COMMANDS = {
   replay: () => import('../../../services/cli/commands/replay.js'),
   inspect: () => import('../../../services/cli/commands/inspect.js'),
   run: () => import('../../../services/cli/commands/run.js'),
+  topics: () => import('../../../services/cli/commands/topics.js'),
 };
 
 describe('every connecting command reads the shared options', () => {
@@ -118,6 +119,7 @@ describe('every connecting command reads the shared options', () => {
     ['inspect', BAD_REDIS, redisMsg],
     ['run', [...KAFKA, ...BAD_MECH, '--redis', 'redis://127.0.0.1:1'], mechMsg],
     ['run', [...KAFKA, ...BAD_REDIS], redisMsg],
+    ['topics', ['check', ...KAFKA, ...BAD_MECH], mechMsg],
   ] as const)('%s %j', async (cmd, argv, msg) => {
     const e = await refusal(COMMANDS[cmd], [...argv]);
     expect(e.code).toBe('ARGS_INVALID');
@@ -130,6 +132,7 @@ describe('every connecting command reads the shared options', () => {
     ['simulate', KAFKA_OPTIONS],
     ['replay', KAFKA_OPTIONS],
     ['inspect', REDIS_OPTIONS],
+    ['topics', KAFKA_OPTIONS],
   ] as const)('%s --help lists every connection option', async (cmd, specs) => {
     const help = await helpOf(COMMANDS[cmd]);
     for (const name of Object.keys(specs)) expect(help).toContain(`--${name}`);

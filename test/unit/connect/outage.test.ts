@@ -3,7 +3,7 @@
  * client library's text; refusals waiting cannot fix are marked final.
  */
 import { describe, expect, it } from 'vitest';
-import { kafkaOutage, redisOutage, retryLine } from '../../../services/connect/outage.js';
+import { kafkaLogError, kafkaOutage, redisOutage, retryLine } from '../../../services/connect/outage.js';
 
 const refused = Object.assign(new Error('connect ECONNREFUSED 127.0.0.1:6399'), { code: 'ECONNREFUSED' });
 
@@ -30,5 +30,57 @@ describe('outage lines', () => {
     const outage = kafkaOutage(err, { brokers: ['127.0.0.1:9999'] });
     expect(retryLine(outage, 200)).toBe('kafka 127.0.0.1:9999: connection refused; retrying in 0.2 s');
     expect(retryLine(outage, null)).toBe('kafka 127.0.0.1:9999: connection refused; retrying');
+  });
+
+  // Node's text when a peer ends the connection before the handshake completes (what a plain
+  // Kafka listener does with a TLS hello).
+  const dropped = Object.assign(
+    new Error('Client network socket disconnected before secure TLS connection was established'),
+    { code: 'ECONNRESET' },
+  );
+
+  it('a TLS peer that drops the handshake is a final TLS_FAILED refusal, in words', () => {
+    const kafka = kafkaOutage(new Error(`Connection error: ${dropped.message}`), {
+      brokers: ['127.0.0.1:9092'],
+      tls: true,
+    });
+    expect(kafka).toMatchObject({ dependency: 'kafka', cause: 'tls' });
+    expect(kafka.refusal?.code).toBe('TLS_FAILED');
+    expect(kafka.line).toBe(
+      'kafka: 127.0.0.1:9092 ended the connection during the TLS handshake; check that this port is a TLS listener (a plain one does this) or leave out --kafka-tls',
+    );
+    const redis = redisOutage(
+      new Error('Connection is closed.'),
+      { url: 'rediss://127.0.0.1:6380' },
+      dropped,
+    );
+    expect(redis.refusal?.code).toBe('TLS_FAILED');
+    expect(redis.line).toMatch(/^redis: 127\.0\.0\.1:6380 ended the connection during the TLS handshake; /);
+    expect(`${kafka.line} ${redis.line}`).not.toMatch(
+      /socket|secure TLS connection was established|Connection is closed/,
+    );
+  });
+
+  it('the same drop without TLS configured is not called a TLS failure', () => {
+    const redis = redisOutage(new Error('Connection is closed.'), { url: 'redis://127.0.0.1:6380' }, dropped);
+    expect(redis.refusal?.message ?? '').not.toMatch(/TLS handshake/);
+  });
+
+  it('a broker answer logged by the client ("Response …") is worded by its error, an ACL denial as one', () => {
+    const s = {
+      brokers: ['127.0.0.1:19092'],
+      sasl: { mechanism: 'scram-sha-512' as const, username: 'monitor', password: 'x' },
+    };
+    // kafkajs' words for GROUP_AUTHORIZATION_FAILED (its protocol error table).
+    const err = kafkaLogError({
+      message: 'Response GroupCoordinator(key: 10, version: 2)',
+      error: 'Not authorized to access group: Group authorization failed',
+    });
+    const outage = kafkaOutage(err, s, 'read topic sf-in-a in group other-a');
+    expect(outage.cause).toBe('acl');
+    expect(outage.line).toBe(
+      'kafka: not authorised to read topic sf-in-a in group other-a (group ACL) for user monitor; grant the ACL or use another user',
+    );
+    expect(kafkaLogError({ message: 'Connection timeout' }).message).toBe('Connection timeout');
   });
 });

@@ -130,10 +130,20 @@ describe('daily profile: golden stream', () => {
     const plainConfig = settings('none');
     const engine = new Engine(plainConfig);
     run(engine, dailyStream(1));
-    const v6 = engine.encode('site-a/pump-3/flow')!;
-    expect(v6[v6.length - 1]).toBe(0); // no profile
-    const v5 = Uint8Array.from(v6.subarray(0, v6.length - 1));
+    const current = engine.encode('site-a/pump-3/flow')!;
+    expect(current[current.length - 1]).toBe(0); // no profile
+    // Version 5 has neither the profile byte nor the lifecycle's on-delay start (version 7), an
+    // f64 NaN here: it sits before no active alert (1 byte), the doubtful run (1), no quality
+    // alert (1), the newest value (8), no stale alert (1) and the profile byte (1).
+    const tail = 13;
+    const pending = current.subarray(current.length - tail - 8, current.length - tail);
+    expect(Number.isNaN(new DataView(pending.buffer, pending.byteOffset, 8).getFloat64(0, true))).toBe(true);
+    const v5 = Uint8Array.from([
+      ...current.subarray(0, current.length - tail - 8),
+      ...current.subarray(current.length - tail, current.length - 1),
+    ]);
     v5[2] = 5;
+    const v6 = current;
     const profiled = new Engine(settings('daily'));
     const state = profiled.restore(v5);
     expect(state.profile?.heldReadings).toBe(0);

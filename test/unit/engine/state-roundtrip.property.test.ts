@@ -23,6 +23,9 @@ const configArb = fc.record({
   direction: fc.constantFrom('both', 'high', 'low'),
   badQualityAfter: fc.constantFrom(0, 1, 3),
   staleAfter: fc.constantFrom('off', '1s', '4s'),
+  deadband: fc.constantFrom(0, 0.5, 1),
+  clearDelay: fc.constantFrom(0, '300ms', '2s'),
+  onDelay: fc.constantFrom(0, '200ms', '1s'),
 });
 
 /** Mostly good readings (no field), runs of doubtful ones now and then. */

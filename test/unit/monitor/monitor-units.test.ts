@@ -54,6 +54,21 @@ describe('run options', () => {
     expect(opts(['--group', 'from-flag'], env).group).toBe('from-flag');
   });
 
+  it('starts a partition without stored state from now unless told earliest', () => {
+    expect(opts(base).startFrom).toBe('now');
+    expect(opts([...base, '--start-from', 'earliest']).startFrom).toBe('earliest');
+    expect(opts(base, { STREAMFENCE_START_FROM: 'earliest' }).startFrom).toBe('earliest');
+    expect(code(() => opts([...base, '--start-from', 'latest']))).toBe('ARGS_INVALID');
+  });
+
+  it('takes --warm-start as a switch, refused beside --start-from earliest', () => {
+    expect(opts(base).warmStart).toBe(false);
+    expect(opts([...base, '--warm-start']).warmStart).toBe(true);
+    expect(opts(base, { STREAMFENCE_WARM_START: 'yes' }).warmStart).toBe(true);
+    expect(code(() => opts(base, { STREAMFENCE_WARM_START: 'maybe' }))).toBe('ARGS_INVALID');
+    expect(code(() => opts([...base, '--warm-start', '--start-from', 'earliest']))).toBe('ARGS_INVALID');
+  });
+
   it('reads SASL and Redis passwords from env or files, never flags', () => {
     const dir = mkdtempSync(path.join(tmpdir(), 'sf-opt-'));
     const file = path.join(dir, 'pw');

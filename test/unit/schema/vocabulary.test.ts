@@ -45,6 +45,7 @@ describe('alert vocabulary', () => {
       raisedTs: 0,
       flaggedReadings: 1,
       clearRun: 0,
+      clearSinceTs: NaN,
       easeRun: 0,
     };
     state.life.active = { ...active, reasons: ['fence_high'] };
