@@ -6,8 +6,6 @@
  * and judges on from the committed offset: the alert events after the loss equal a replay's.
  */
 import { describe, expect, it } from 'vitest';
-import type { Kafka } from 'kafkajs';
-import type { Reading } from '../../../libs/engine/reading.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { deleteKeysByPrefix, kafkaClient } from '../../harness/services.js';
 import {
@@ -18,23 +16,8 @@ import {
   useMonitorBed,
   waitCheckpointedToEnd,
   writeTestConfig,
+  produceStamped,
 } from './helpers.js';
-
-/** Readings keyed by sensor, each message stamped with its reading time (as a plant gateway would). */
-async function produceStamped(kafka: Kafka, topic: string, readings: Reading[]): Promise<void> {
-  const producer = kafka.producer({ idempotent: true, maxInFlightRequests: 1 });
-  await producer.connect();
-  try {
-    for (let i = 0; i < readings.length; i += 2000) {
-      const messages = readings
-        .slice(i, i + 2000)
-        .map((r) => ({ key: r.sensor, value: JSON.stringify(r), timestamp: String(r.ts) }));
-      await producer.send({ topic, acks: -1, messages });
-    }
-  } finally {
-    await producer.disconnect();
-  }
-}
 
 const eventKey = (e: AlertEvent) => `${e.sensor}:${e.state}:${e.severity}:${e.ts}`;
 

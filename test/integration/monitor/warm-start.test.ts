@@ -7,12 +7,18 @@ import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
-import type { Kafka } from 'kafkajs';
 import { parseConfigText } from '../../../libs/config/config.js';
 import type { Reading } from '../../../libs/engine/reading.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { kafkaClient } from '../../harness/services.js';
-import { readAlertEvents, referenceEvents, seeded, useMonitorBed, waitCheckpointedToEnd } from './helpers.js';
+import {
+  readAlertEvents,
+  referenceEvents,
+  seeded,
+  useMonitorBed,
+  waitCheckpointedToEnd,
+  produceStamped,
+} from './helpers.js';
 
 /** 12 h window in 1 h buckets: a rebuild re-reads 13 h of the day. */
 const CONFIG_TEXT = `
@@ -26,22 +32,6 @@ defaults:
 
 const MINUTE = 60_000;
 const SENSORS = 10;
-
-/** Readings keyed by sensor, each message stamped with its reading time. */
-async function produceStamped(kafka: Kafka, topic: string, readings: Reading[]): Promise<void> {
-  const producer = kafka.producer({ idempotent: true, maxInFlightRequests: 1 });
-  await producer.connect();
-  try {
-    for (let i = 0; i < readings.length; i += 2000) {
-      const messages = readings
-        .slice(i, i + 2000)
-        .map((r) => ({ key: r.sensor, value: JSON.stringify(r), timestamp: String(r.ts) }));
-      await producer.send({ topic, acks: -1, messages });
-    }
-  } finally {
-    await producer.disconnect();
-  }
-}
 
 describe('streamfence run --warm-start', () => {
   const bed = useMonitorBed();
