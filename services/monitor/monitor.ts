@@ -661,7 +661,10 @@ export class Monitor {
       const committed = await this.committedOffset(partition);
       const plan = (cause: RebuildCause, until: number): RebuildPlan | null => {
         this.metrics.stateRebuilds.inc({ cause });
-        if (until <= low) return null;
+        if (until <= low) {
+          if (cause === 'keys_lost') this.noHistoryLeft(partition, committed ?? low, low);
+          return null;
+        }
         return {
           cause,
           until,
@@ -679,11 +682,11 @@ export class Monitor {
         // monitor held it (flushed, or a Redis restarted without persistence). Rebuild the
         // baselines from the history before the committed offset, then judge on from there.
         next = Math.min(Math.max(committed, low), high);
-        rebuild = plan('keys_lost', next);
         this.log.error(
           { partition, cause: 'keys_lost', committedOffset: committed, offset: next.toString() },
           `partition state gone from Redis although group ${this.settings.group} committed offset ${committed}; rebuilding the baselines from the input topic before it (publishing nothing), then judging on from there`,
         );
+        rebuild = plan('keys_lost', next);
       } else {
         // Never checkpointed: start at the end the topic had when we started (`now`), so days of
         // retained history are not judged and published again, or at the oldest message kept.
@@ -880,6 +883,27 @@ export class Monitor {
     this.consumer.seek({ topic, partition: w.partition, offset: from.toString() });
     w.start = 'seeked';
     return true;
+  }
+
+  /**
+   * A state loss with nothing left to learn from: retention has removed every message before the
+   * resume point (and perhaps some after it). Say so and how much is missing; baselines start empty.
+   */
+  private noHistoryLeft(partition: number, committed: number, low: number): void {
+    const neededMs = historyNeeded(this.config);
+    const unjudged = Math.max(0, low - committed);
+    this.metrics.rebuildHistoryMissing.set({ partition: String(partition) }, neededMs / 1000);
+    this.log.warn(
+      {
+        partition,
+        cause: 'keys_lost',
+        committedOffset: committed,
+        oldestOffset: low,
+        missingSeconds: neededMs / 1000,
+        unjudged,
+      },
+      `nothing of the ${formatDuration(neededMs)} of history a rebuild wants is left in the input topic (retention)${unjudged > 0 ? `, and ${unjudged} messages after the committed offset are gone unjudged` : ''}; the baselines start empty (warm-up again)`,
+    );
   }
 
   /** One message of a rebuild: it feeds the baselines; its events and any reject are not published. */
