@@ -1,12 +1,13 @@
 /** The sensor limit: how many sensors one process holds state for, and what that costs. */
 /**
  * Memory to budget per sensor at the limit: heap plus typed-array bytes of one sensor with a full
- * default window (24 h, 12 buckets), measured by `npm run bench -- sensor-memory`: 10.7 KB at one
- * reading a minute, 32.0 KB at one every 10 s, 0.9 KB for a sensor with a single reading. Sensors
- * read faster than every 10 s take more; lower the limit for such plants.
+ * default window (24 h, 12 buckets), measured by `npm run bench -- sensor-memory` on 2026-12-03:
+ * 8.5 KB at one reading a minute, 37.1 KB at one every 10 s (27.8-32.0 KB in earlier runs: the
+ * 300-sensor sample is small), 1.0 KB for a sensor with a single reading. 40 KiB covers every
+ * rate up to one every 10 s; sensors read faster take more, so lower the limit for such plants.
  */
-export const HEAP_BYTES_PER_SENSOR = 32_768;
-/** Default sensor limit of one monitor process or replay: about 1.6 GB at the budget above. */
+export const HEAP_BYTES_PER_SENSOR = 40_960;
+/** Default sensor limit of one monitor process or replay: about 2.0 GiB at the budget above. */
 export const DEFAULT_MAX_SENSORS = 50_000;
 
 /**

@@ -383,7 +383,14 @@ export async function run(): Promise<Record<string, unknown>> {
           : `target ESTIMATED: the measured rebuild per reading at ${SENSORS} sensors, with the engine's share replaced by the engine alone measured at ${TARGET_SENSORS} sensors, times the target's readings.`),
     };
   } finally {
-    await admin.deleteTopics({ topics: [topic, alertTopic] }).catch(() => undefined);
+    // Removing a 1.5 GB topic can take the broker longer than kafkajs' 5 s default.
+    await admin
+      .deleteTopics({ topics: [topic, alertTopic], timeout: 60_000 })
+      .catch((e: unknown) =>
+        process.stderr.write(
+          `  could not delete ${topic}, ${alertTopic}: ${String(e)}; delete them by hand\n`,
+        ),
+      );
     await admin.disconnect();
     proc.kill('SIGTERM');
   }
