@@ -24,7 +24,7 @@ import { MIN_BOARD_TOKEN_LENGTH, boardTokenFor, readBoardToken, refuseTokenFlag 
 import { BoardHub } from '../../board/hub.js';
 import { GROUP_ARG_OPTIONS, GROUP_HELP, readGroupRule } from '../../board/group-options.js';
 import { LiveFeed } from '../../board/live.js';
-import { createBoardMetrics } from '../../metrics/board-metrics.js';
+import { createBoardMetrics, type LiveBoardMetrics } from '../../metrics/board-metrics.js';
 import { BoardReadiness } from '../../board/readiness.js';
 import { startBoardServer, type RunningBoard } from '../../board/server.js';
 import {
@@ -37,7 +37,7 @@ import {
   printHelp,
   stringOption,
 } from '../../setup/args.js';
-import { kafkaOutage, redisOutage, retryLine, RedisErrorWatch } from '../../connect/outage.js';
+import { kafkaOutage, redisOutage, retryLine, RedisErrorWatch, type Outage } from '../../connect/outage.js';
 import { backoffDelay } from '../../monitor/backoff.js';
 import { onStopSignal, untilStopSignal } from '../../setup/signals.js';
 import { parseSince } from './alerts.js';
@@ -141,6 +141,17 @@ function readRequest(args: ParsedArgs): BoardRequest {
   };
 }
 
+/** What the board's follower does, for ACL wording. */
+const readWhat = (request: BoardRequest): string => `read ${request.alertTopic} and ${request.actionTopic}`;
+
+/** One line and one count per retry, as `run` logs and counts its own; returns the line. */
+function noteRetry(metrics: LiveBoardMetrics, outage: Outage, delayMs: number | null): string {
+  metrics.backoff.inc({ dependency: outage.dependency, cause: outage.cause });
+  const line = retryLine(outage, delayMs);
+  process.stderr.write(`streamfence board: ${line}\n`);
+  return line;
+}
+
 /**
  * Starts the feed, waiting out an unreachable Kafka or Redis as an outage that may end (as `run`
  * does): one line per attempt, retried until it answers or a stop signal comes; the board (already
@@ -153,6 +164,7 @@ async function startFeedWaitingOutOutages(
   redis: Redis,
   request: BoardRequest,
   readiness: BoardReadiness,
+  metrics: LiveBoardMetrics,
 ): Promise<'started' | 'stopped'> {
   const redisWatch = new RedisErrorWatch(redis);
   let stopRequested = false;
@@ -181,17 +193,11 @@ async function startFeedWaitingOutOutages(
             ? null
             : dependency === 'redis'
               ? redisOutage(cause, request.redisSettings, redisWatch.lastError)
-              : kafkaOutage(
-                  cause,
-                  request.kafkaSettings,
-                  `read ${request.alertTopic} and ${request.actionTopic}`,
-                );
+              : kafkaOutage(cause, request.kafkaSettings, readWhat(request));
         const final = typed ?? outage!.refusal;
         if (final !== null) throw final;
         const delayMs = backoffDelay(attempt, 1_000);
-        const line = retryLine(outage!, delayMs);
-        readiness.wait(line);
-        process.stderr.write(`streamfence board: ${line}\n`);
+        readiness.wait(noteRetry(metrics, outage!, delayMs));
         await new Promise<void>((resolve) => {
           const timer = setTimeout(resolve, delayMs);
           wake = () => {
@@ -235,6 +241,7 @@ export async function main(argv: string[]): Promise<number> {
     clock: { wall: () => Date.now(), plant: () => Date.now() },
     share: (action) => feed!.share(action),
   });
+  const metrics = createBoardMetrics(hub);
   feed = new LiveFeed(hub, {
     kafka,
     redis,
@@ -243,8 +250,10 @@ export async function main(argv: string[]): Promise<number> {
     actionTopic,
     sinceMs: request.sinceMs,
     onSkip: (why) => process.stderr.write(`streamfence board: ${why}\n`),
+    // Once running, a refusal too is waited out (an ACL may be granted again): never a crash loop.
+    onRetry: (err, delayMs) =>
+      noteRetry(metrics, kafkaOutage(err, request.kafkaSettings, readWhat(request)), delayMs),
   });
-  const metrics = createBoardMetrics(hub);
   // Served before Kafka and Redis answer (the page says what it waits for; /readyz 503 until then),
   // so a port in use is refused at once and a service manager sees the board alive while it waits.
   const readiness = new BoardReadiness();
@@ -265,7 +274,7 @@ export async function main(argv: string[]): Promise<number> {
   process.stdout.write(`streamfence board: board at ${board.url}/\n`);
   let started: 'started' | 'stopped';
   try {
-    started = await startFeedWaitingOutOutages(feed, redis, request, readiness);
+    started = await startFeedWaitingOutOutages(feed, redis, request, readiness, metrics);
   } catch (err) {
     await board.close();
     redis.disconnect();
