@@ -24,7 +24,7 @@ import { MIN_BOARD_TOKEN_LENGTH, boardTokenFor, readBoardToken, refuseTokenFlag 
 import { BoardHub } from '../../board/hub.js';
 import { GROUP_ARG_OPTIONS, GROUP_HELP, readGroupRule } from '../../board/group-options.js';
 import { LiveFeed } from '../../board/live.js';
-import { createBoardMetrics } from '../../metrics/board-metrics.js';
+import { createBoardMetrics, type LiveBoardMetrics } from '../../metrics/board-metrics.js';
 import { startBoardServer } from '../../board/server.js';
 import {
   PORT_OR_ANY_RULE,
@@ -36,7 +36,7 @@ import {
   printHelp,
   stringOption,
 } from '../../setup/args.js';
-import { kafkaOutage, redisOutage, retryLine, RedisErrorWatch } from '../../connect/outage.js';
+import { kafkaOutage, redisOutage, retryLine, RedisErrorWatch, type Outage } from '../../connect/outage.js';
 import { backoffDelay } from '../../monitor/backoff.js';
 import { onStopSignal, untilStopSignal } from '../../setup/signals.js';
 import { parseSince } from './alerts.js';
@@ -140,6 +140,15 @@ function readRequest(args: ParsedArgs): BoardRequest {
   };
 }
 
+/** What the board's follower does, for ACL wording. */
+const readWhat = (request: BoardRequest): string => `read ${request.alertTopic} and ${request.actionTopic}`;
+
+/** One line and one count per retry, as `run` logs and counts its own. */
+function noteRetry(metrics: LiveBoardMetrics, outage: Outage, delayMs: number | null): void {
+  metrics.backoff.inc({ dependency: outage.dependency, cause: outage.cause });
+  process.stderr.write(`streamfence board: ${retryLine(outage, delayMs)}\n`);
+}
+
 /**
  * Starts the feed, waiting out an unreachable Kafka or Redis as an outage that may end (as `run`
  * does): one line per attempt, retried until it answers or a stop signal comes. A refusal waiting
@@ -150,6 +159,7 @@ async function startFeedWaitingOutOutages(
   feed: LiveFeed,
   redis: Redis,
   request: BoardRequest,
+  metrics: LiveBoardMetrics,
 ): Promise<'started' | 'stopped'> {
   const redisWatch = new RedisErrorWatch(redis);
   let stopRequested = false;
@@ -177,15 +187,11 @@ async function startFeedWaitingOutOutages(
             ? null
             : dependency === 'redis'
               ? redisOutage(cause, request.redisSettings, redisWatch.lastError)
-              : kafkaOutage(
-                  cause,
-                  request.kafkaSettings,
-                  `read ${request.alertTopic} and ${request.actionTopic}`,
-                );
+              : kafkaOutage(cause, request.kafkaSettings, readWhat(request));
         const final = typed ?? outage!.refusal;
         if (final !== null) throw final;
         const delayMs = backoffDelay(attempt, 1_000);
-        process.stderr.write(`streamfence board: ${retryLine(outage!, delayMs)}\n`);
+        noteRetry(metrics, outage!, delayMs);
         await new Promise<void>((resolve) => {
           const timer = setTimeout(resolve, delayMs);
           wake = () => {
@@ -229,6 +235,7 @@ export async function main(argv: string[]): Promise<number> {
     clock: { wall: () => Date.now(), plant: () => Date.now() },
     share: (action) => feed!.share(action),
   });
+  const metrics = createBoardMetrics(hub);
   feed = new LiveFeed(hub, {
     kafka,
     redis,
@@ -237,10 +244,13 @@ export async function main(argv: string[]): Promise<number> {
     actionTopic,
     sinceMs: request.sinceMs,
     onSkip: (why) => process.stderr.write(`streamfence board: ${why}\n`),
+    // Once running, a refusal too is waited out (an ACL may be granted again): never a crash loop.
+    onRetry: (err, delayMs) =>
+      noteRetry(metrics, kafkaOutage(err, request.kafkaSettings, readWhat(request)), delayMs),
   });
   let started: 'started' | 'stopped';
   try {
-    started = await startFeedWaitingOutOutages(feed, redis, request);
+    started = await startFeedWaitingOutOutages(feed, redis, request, metrics);
   } catch (err) {
     redis.disconnect();
     throw err;
@@ -250,7 +260,6 @@ export async function main(argv: string[]): Promise<number> {
     process.stderr.write('streamfence board: stopped\n');
     return 0;
   }
-  const metrics = createBoardMetrics(hub);
   const board = await startBoardServer({
     hub,
     metrics,
