@@ -188,7 +188,7 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   const results = evaluations.map((e, index) => pointResult(index, points[index], e));
   const rec = recommend(results, budget);
   const warnings = labelWarnings(incidents, new Set(cols.names), first, last);
-  for (const w of warnings) stream.write(`tune: warning: ${w}\n`);
+  for (const w of warnings) stream.write(`streamfence tune: warning: ${w}\n`);
   const result = tuningResult({ o, loaded, interval, incidents, warnings, scoreOptions, budget, base, spec });
   result.points = results;
   result.pointCount = points.length;
@@ -209,7 +209,7 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   const seconds = (performance.now() - started) / 1000;
   for (const line of comparisonTable(result)) stream.write(`${line}\n`);
   const summary =
-    `tune: ${points.length} points x ${formatCount(cols.count)} readings in ${formatSeconds(seconds)} ` +
+    `streamfence tune: ${points.length} points x ${formatCount(cols.count)} readings in ${formatSeconds(seconds)} ` +
     `(${formatCount((points.length * cols.count) / Math.max(seconds, 1e-9))} readings/s, ${workers} workers); ` +
     `${recommendationText(result.recommended)}; wrote ${o.out}`;
   gridProgress.finish(summary);
@@ -325,7 +325,7 @@ export function comparisonTable(t: TuningResult): string[] {
   ]);
   const widths = head.map((h, c) => Math.max(h.length, ...body.map((r) => r[c].length)));
   const line = (cells: string[]) =>
-    `tune: ${cells
+    `streamfence tune: ${cells
       .map((x, c) => x.padEnd(widths[c]))
       .join('  ')
       .trimEnd()}`;
