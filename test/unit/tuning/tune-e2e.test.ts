@@ -61,7 +61,7 @@ describe('simulate + tune', () => {
     expect(csv.filter((l) => l.endsWith(',yes'))).toHaveLength(1);
     expect(readFileSync(p('out/report.html'), 'utf8')).toContain('<html');
     expect(sink.chunks.join('')).toMatch(
-      /^tune: 8 points x 34\.\dk readings .* recommended #\d+ \(fenceK=[^)]*\): recall .*within the budget/m,
+      /^streamfence tune: 8 points x 34\.\dk readings .* recommended #\d+ \(fenceK=[^)]*\): recall .*within the budget/m,
     );
   });
 
