@@ -323,7 +323,6 @@ function groupCard(group: AlertGroup, members: BoardAlert[]): HTMLElement {
 }
 
 function card(alert: BoardAlert): HTMLElement {
-  const data = page.data!;
   const kind: BadgeKind = alert.status === 'cleared' ? 'cleared' : alert.severity;
   const item = el('li', { cls: 'card ' + kind, 'data-id': alert.id, 'data-status': alert.status });
   const head = el('div', { cls: 'head' }, [
@@ -334,6 +333,21 @@ function card(alert: BoardAlert): HTMLElement {
     head.appendChild(el('span', { cls: 'muted', text: 'was ' + alert.severity }));
   item.appendChild(head);
   item.appendChild(el('p', { cls: 'msg', text: alert.message }));
+  item.appendChild(cardFacts(alert));
+  if (alert.status !== 'cleared') cardChart(alert).forEach((part) => item.appendChild(part));
+  const ackLine = cardAckLine(alert);
+  if (ackLine) item.appendChild(ackLine);
+  const later = laterAcks(alert);
+  if (later) item.appendChild(later);
+  if (alert.status === 'shelved') item.appendChild(shelvedLine(alert));
+  const actions = cardActions(alert);
+  if (actions.childNodes.length) item.appendChild(actions);
+  return item;
+}
+
+/** A card's facts line: since when, how many flagged readings, the last value, when it cleared. */
+function cardFacts(alert: BoardAlert): HTMLElement {
+  const data = page.data!;
   const since = Date.parse(alert.since);
   const facts = el('p', { cls: 'facts' });
   facts.appendChild(
@@ -359,59 +373,62 @@ function card(alert: BoardAlert): HTMLElement {
   );
   if (alert.status === 'cleared')
     facts.appendChild(el('span', {}, ['Cleared ', el('b', { text: absTime(alert.ts) })]));
-  item.appendChild(facts);
+  return facts;
+}
+
+/** An open alert's chart of its sensor's recent readings and the legend under it. */
+function cardChart(alert: BoardAlert): Element[] {
+  const data = page.data!;
   const raw = (data.series && data.series[alert.sensor]) || [];
   const points = raw.map((point): ChartPoint => ({ ts: point[0], value: point[1], flagged: point[2] === 1 }));
-  if (alert.status !== 'cleared') {
-    item.appendChild(chart(alert, points));
-    const baseline = alert.baseline;
-    item.appendChild(
-      el('p', {
-        cls: 'legend',
-        text:
-          'Shaded: normal band ' +
-          fmt(baseline.lowerFence) +
-          ' to ' +
-          fmt(baseline.upperFence) +
-          '. Dashed: median ' +
-          fmt(baseline.median) +
-          '. Diamonds: flagged readings. ' +
-          points.length +
-          ' recent readings.',
-      }),
-    );
-  }
-  if (alert.acknowledged) {
-    item.appendChild(
-      el('p', {
-        cls: 'ack yes',
-        text: '✓ Acknowledged by ' + alert.acknowledgedBy + ' at ' + absTime(alert.acknowledgedAt),
-      }),
-    );
-  } else if (alert.status !== 'cleared') {
-    item.appendChild(el('p', { cls: 'ack no', text: '• Not acknowledged' }));
-  }
-  const later = laterAcks(alert);
-  if (later) item.appendChild(later);
-  if (alert.status === 'shelved') {
-    item.appendChild(
-      el('p', { cls: 'facts' }, [
-        'Shelved by ',
-        el('b', { text: alert.shelvedBy || 'unnamed' }),
-        ' until ',
-        el('b', { text: absTime(alert.shelvedUntil) }),
-        ' (back ' + relTime(wallNow() - Date.parse(alert.shelvedUntil ?? '')) + '). Reason: ',
-        el('b', { text: alert.shelveReason || '' }),
-      ]),
-    );
-  }
+  const baseline = alert.baseline;
+  const legend = el('p', {
+    cls: 'legend',
+    text:
+      'Shaded: normal band ' +
+      fmt(baseline.lowerFence) +
+      ' to ' +
+      fmt(baseline.upperFence) +
+      '. Dashed: median ' +
+      fmt(baseline.median) +
+      '. Diamonds: flagged readings. ' +
+      points.length +
+      ' recent readings.',
+  });
+  return [chart(alert, points), legend];
+}
+
+/** Who acknowledged the alert and when, or that nobody has (none for a cleared, unacknowledged one). */
+function cardAckLine(alert: BoardAlert): HTMLElement | null {
+  if (alert.acknowledged)
+    return el('p', {
+      cls: 'ack yes',
+      text: '✓ Acknowledged by ' + alert.acknowledgedBy + ' at ' + absTime(alert.acknowledgedAt),
+    });
+  if (alert.status !== 'cleared') return el('p', { cls: 'ack no', text: '• Not acknowledged' });
+  return null;
+}
+
+/** A shelved alert's line: by whom, until when, when it comes back and why. */
+function shelvedLine(alert: BoardAlert): HTMLElement {
+  return el('p', { cls: 'facts' }, [
+    'Shelved by ',
+    el('b', { text: alert.shelvedBy || 'unnamed' }),
+    ' until ',
+    el('b', { text: absTime(alert.shelvedUntil) }),
+    ' (back ' + relTime(wallNow() - Date.parse(alert.shelvedUntil ?? '')) + '). Reason: ',
+    el('b', { text: alert.shelveReason || '' }),
+  ]);
+}
+
+/** The buttons an alert's state allows: acknowledge, shelve or unshelve (may be empty). */
+function cardActions(alert: BoardAlert): HTMLElement {
   const actions = el('div', { cls: 'actions' });
   if (alert.status !== 'cleared' && !alert.acknowledged)
     actions.appendChild(actionButton('Acknowledge', 'acknowledge', alert));
   if (alert.status === 'active') actions.appendChild(actionButton('Shelve…', 'shelve', alert));
   if (alert.status === 'shelved') actions.appendChild(actionButton('Unshelve', 'unshelve', alert));
-  if (actions.childNodes.length) item.appendChild(actions);
-  return item;
+  return actions;
 }
 
 /** A list's cards: a group's card takes the place of its first-out; its other members go inside it. */
