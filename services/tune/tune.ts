@@ -151,6 +151,28 @@ function pointsForData(
   return expandGrid(spec, base.defaults, interval ?? undefined);
 }
 
+/**
+ * The console line saying which time-of-day profile every grid point keeps: the grid varies the
+ * judging thresholds only, never `profile`, `timeZone` or `profileDays` (a profile changes what the
+ * baseline is, not how strictly it is applied); compare profiles by tuning once per config
+ * (README "Daily profiles on history").
+ */
+export function profileNote(base: EngineConfig): string {
+  const d = base.defaults;
+  const own =
+    d.profile === 'daily'
+      ? `profile daily, timeZone ${d.timeZone}, profileDays ${d.profileDays}`
+      : 'profile none';
+  const overridden = base.sensors.filter((rule) =>
+    (['profile', 'timeZone', 'profileDays'] as const).some((key) => rule.overrides[key] !== undefined),
+  );
+  const rules =
+    overridden.length === 0
+      ? ''
+      : ` and the profile overrides of ${overridden.map((rule) => `"${rule.match}"`).join(', ')}`;
+  return `tune: every point keeps the config's profile setting (${own}${rules}); the grid does not vary profile, timeZone or profileDays: tune once per setting to compare them`;
+}
+
 /** Replay and score the labelled history with every grid point, recommend one and write the outputs. */
 export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   const stream = o.stream ?? process.stderr;
@@ -165,6 +187,7 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   // The output folder is made now, so a path that cannot take it fails before the grid runs.
   await prepareOutDir(o.out);
   o.onStart?.();
+  stream.write(`${profileNote(base)}\n`);
 
   const started = performance.now();
   const loaded = await loadInput(o, stream);
