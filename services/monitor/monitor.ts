@@ -682,10 +682,8 @@ export class Monitor {
       const committed = await this.committedOffset(partition);
       const plan = (cause: RebuildCause, until: number): RebuildPlan | null => {
         this.metrics.stateRebuilds.inc({ cause });
-        if (until <= low) {
-          if (cause === 'keys_lost') this.noHistoryLeft(partition, committed ?? low, low);
-          return null;
-        }
+        if (until <= low)
+          return cause === 'keys_lost' ? this.noHistoryLeft(partition, committed ?? low, low) : null;
         return {
           cause,
           until,
@@ -930,9 +928,10 @@ export class Monitor {
 
   /**
    * A state loss with nothing left to learn from: retention has removed every message before the
-   * resume point (and perhaps some after it). Say so and how much is missing; baselines start empty.
+   * resume point (and perhaps some after it). Say so and how much is missing; baselines start empty
+   * (null: no rebuild plan).
    */
-  private noHistoryLeft(partition: number, committed: number, low: number): void {
+  private noHistoryLeft(partition: number, committed: number, low: number): null {
     const neededMs = historyNeeded(this.config);
     const unjudged = Math.max(0, low - committed);
     this.metrics.rebuildHistoryMissing.set({ partition: String(partition) }, neededMs / 1000);
@@ -947,6 +946,7 @@ export class Monitor {
       },
       `nothing of the ${formatDuration(neededMs)} of history a rebuild wants is left in the input topic (retention)${unjudged > 0 ? `, and ${unjudged} messages after the committed offset are gone unjudged` : ''}; the baselines start empty (warm-up again)`,
     );
+    return null;
   }
 
   /** One message of a rebuild: it feeds the baselines; its events and any reject are not published. */
