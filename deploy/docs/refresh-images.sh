@@ -6,7 +6,7 @@
 # Usage: npm run docs:images   (needs /usr/bin/chromium, like npm run test:browser)
 set -euo pipefail
 cd "$(dirname "$0")/../.."
-IMAGES=(board.png board-groups.png report.png report-health.png profile-comparison.svg)
+IMAGES=(board.png board-groups.png report.png report-health.png report-tradeoff.png profile-comparison.svg)
 npm run build --silent
 for image in "${IMAGES[@]}"; do rm -f "test-artifacts/docs/$image"; done
 npx vitest run --project browser test/browser/board.test.ts test/browser/board-groups.test.ts test/browser/report.test.ts

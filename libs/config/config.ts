@@ -162,89 +162,78 @@ function bad(where: string, key: string, want: string, got: unknown): never {
 }
 
 function parseOne(key: keyof SensorSettings, value: unknown, where: string): unknown {
-  const positive = (want = 'a positive number') => {
-    if (typeof value !== 'number' || !Number.isFinite(value) || value <= 0) bad(where, key, want, value);
-    return value;
+  return SETTING_PARSERS[key](value, (want) => bad(where, key, want, value));
+}
+
+/** Checks one setting's value and returns it as the engine holds it; `fail` says what it must be. */
+type SettingParser = (value: unknown, fail: (want: string) => never) => unknown;
+
+const positiveNumber: SettingParser = (value, fail) =>
+  typeof value === 'number' && Number.isFinite(value) && value > 0 ? value : fail('a positive number');
+
+const wholeNumber =
+  (min: number, max = Number.MAX_SAFE_INTEGER): SettingParser =>
+  (value, fail) =>
+    typeof value === 'number' && Number.isInteger(value) && value >= min && value <= max
+      ? value
+      : fail(`a whole number from ${min} to ${max}`);
+
+const oneOf =
+  (...choices: string[]): SettingParser =>
+  (value, fail) =>
+    typeof value === 'string' && choices.includes(value) ? value : fail(`one of ${choices.join(', ')}`);
+
+/** A duration text (or ms) from `minMs` to 31 days, returned in ms. */
+const durationFrom =
+  (minMs: number, want: string): SettingParser =>
+  (value, fail) => {
+    const ms = parseDuration(value);
+    return ms === null || ms < minMs || ms > SETTING_BOUNDS.maxWindowMs ? fail(want) : ms;
   };
-  const count = (min: number, max = Number.MAX_SAFE_INTEGER) => {
-    if (typeof value !== 'number' || !Number.isInteger(value) || value < min || value > max) {
-      bad(where, key, `a whole number from ${min} to ${max}`, value);
-    }
-    return value;
-  };
-  switch (key) {
-    case 'fenceK':
-    case 'outerK':
-    case 'zLimit':
-    case 'zCritical':
-      return positive();
-    case 'trigger':
-      if (value !== 'fence' && value !== 'z' && value !== 'either' && value !== 'both')
-        bad(where, key, 'one of fence, z, either, both', value);
-      return value;
-    case 'direction':
-      if (value !== 'both' && value !== 'high' && value !== 'low')
-        bad(where, key, 'one of both, high, low', value);
-      return value;
-    case 'min':
-    case 'max':
-      if (value === null) return null;
-      if (typeof value !== 'number' || !Number.isFinite(value))
-        bad(where, key, 'a finite number or null', value);
-      return value;
-    case 'minSamples':
-      return count(2);
-    case 'flatlineAfter':
-    case 'badQualityAfter':
-      return count(0);
-    case 'raiseAfter':
-      return count(1, SETTING_BOUNDS.maxRaiseWindow);
-    case 'raiseWindow':
-      return count(1, SETTING_BOUNDS.maxRaiseWindow);
-    case 'clearAfter':
-      return count(1);
-    case 'deadband':
-      if (typeof value !== 'number' || !Number.isFinite(value) || value < 0)
-        bad(where, key, 'a number of spreads, 0 or more (0 = no margin)', value);
-      return value;
-    case 'clearDelay':
-    case 'onDelay': {
-      const ms = parseDuration(value);
-      if (ms === null || ms > SETTING_BOUNDS.maxWindowMs) {
-        bad(where, key, `a duration from 0 to 31d such as "30s" or "2m" (0 = none)`, value);
-      }
-      return ms;
-    }
-    case 'buckets':
-      return count(1, SETTING_BOUNDS.maxBuckets);
-    case 'profile':
-      if (value !== 'none' && value !== 'daily') bad(where, key, 'one of none, daily', value);
-      return value;
-    case 'timeZone':
-      if (typeof value !== 'string' || !isTimeZone(value))
-        bad(where, key, 'an IANA time zone name such as "UTC" or "Europe/Berlin"', value);
-      return value;
-    case 'profileDays':
-      return count(1, SETTING_BOUNDS.maxProfileDays);
-    case 'learnWhileRaised':
-      if (typeof value !== 'boolean') bad(where, key, 'true or false', value);
-      return value;
-    case 'staleAfter': {
-      if (value === null || value === 'off') return null;
-      const ms = parseDuration(value);
-      if (ms === null || ms < SETTING_BOUNDS.minWindowMs || ms > SETTING_BOUNDS.maxWindowMs) {
-        bad(where, key, `"off" or a duration from 1s to 31d such as "15m"`, value);
-      }
-      return ms;
-    }
-    case 'window': {
-      const ms = parseDuration(value);
-      if (ms === null || ms < SETTING_BOUNDS.minWindowMs || ms > SETTING_BOUNDS.maxWindowMs) {
-        bad(where, key, `a duration from 1s to 31d such as "24h" or "90m"`, value);
-      }
-      return ms;
-    }
-  }
+
+/** One parser per setting: a new setting without one is a type error here. */
+const SETTING_PARSERS: Record<keyof SensorSettings, SettingParser> = {
+  fenceK: positiveNumber,
+  outerK: positiveNumber,
+  zLimit: positiveNumber,
+  zCritical: positiveNumber,
+  trigger: oneOf('fence', 'z', 'either', 'both'),
+  direction: oneOf('both', 'high', 'low'),
+  min: finiteOrNull,
+  max: finiteOrNull,
+  minSamples: wholeNumber(2),
+  flatlineAfter: wholeNumber(0),
+  badQualityAfter: wholeNumber(0),
+  raiseAfter: wholeNumber(1, SETTING_BOUNDS.maxRaiseWindow),
+  raiseWindow: wholeNumber(1, SETTING_BOUNDS.maxRaiseWindow),
+  clearAfter: wholeNumber(1),
+  deadband: (value, fail) =>
+    typeof value === 'number' && Number.isFinite(value) && value >= 0
+      ? value
+      : fail('a number of spreads, 0 or more (0 = no margin)'),
+  clearDelay: durationFrom(0, `a duration from 0 to 31d such as "30s" or "2m" (0 = none)`),
+  onDelay: durationFrom(0, `a duration from 0 to 31d such as "30s" or "2m" (0 = none)`),
+  buckets: wholeNumber(1, SETTING_BOUNDS.maxBuckets),
+  profile: oneOf('none', 'daily'),
+  timeZone: (value, fail) =>
+    typeof value === 'string' && isTimeZone(value)
+      ? value
+      : fail('an IANA time zone name such as "UTC" or "Europe/Berlin"'),
+  profileDays: wholeNumber(1, SETTING_BOUNDS.maxProfileDays),
+  learnWhileRaised: (value, fail) => (typeof value === 'boolean' ? value : fail('true or false')),
+  staleAfter: (value, fail) =>
+    value === null || value === 'off'
+      ? null
+      : durationFrom(SETTING_BOUNDS.minWindowMs, `"off" or a duration from 1s to 31d such as "15m"`)(
+          value,
+          fail,
+        ),
+  window: durationFrom(SETTING_BOUNDS.minWindowMs, `a duration from 1s to 31d such as "24h" or "90m"`),
+};
+
+function finiteOrNull(value: unknown, fail: (want: string) => never): unknown {
+  if (value === null) return null;
+  return typeof value === 'number' && Number.isFinite(value) ? value : fail('a finite number or null');
 }
 
 function contradiction(where: string, msg: string): never {

@@ -137,43 +137,113 @@ function alignedCounts(
   width: number,
   limit: number,
 ): { peak: number; over: number } {
-  const by = new Map<number, number>();
-  for (const t of times) {
-    const k = Math.floor(t / width);
-    by.set(k, (by.get(k) ?? 0) + 1);
+  const raisesByPeriod = new Map<number, number>();
+  for (const time of times) {
+    const period = Math.floor(time / width);
+    raisesByPeriod.set(period, (raisesByPeriod.get(period) ?? 0) + 1);
   }
   let peak = 0;
   let over = 0;
-  for (const n of by.values()) {
-    if (n > peak) peak = n;
-    if (n > limit) over++;
+  for (const count of raisesByPeriod.values()) {
+    if (count > peak) peak = count;
+    if (count > limit) over++;
   }
   return { peak, over };
 }
 
 /** Chattering sensors and the raises that belong to a chattering run. */
-function chattering(raisesBy: Map<string, number[]>, s: KpiSettings): { sensors: number; raises: number } {
+function chattering(
+  raisesBySensor: Map<string, number[]>,
+  settings: KpiSettings,
+): { sensors: number; raises: number } {
   let sensors = 0;
   let raises = 0;
-  for (const times of raisesBy.values()) {
-    if (times.length < s.chatterRaises) continue;
+  for (const times of raisesBySensor.values()) {
+    if (times.length < settings.chatterRaises) continue;
     // A raise is in a run when some chatterRaises consecutive raises around it fit in the window.
     const inRun = new Uint8Array(times.length);
-    for (let i = 0; i + s.chatterRaises - 1 < times.length; i++) {
-      const j = i + s.chatterRaises - 1;
-      if (times[j] - times[i] <= s.chatterWindowMs) inRun.fill(1, i, j + 1);
+    for (let first = 0; first + settings.chatterRaises - 1 < times.length; first++) {
+      const last = first + settings.chatterRaises - 1;
+      if (times[last] - times[first] <= settings.chatterWindowMs) inRun.fill(1, first, last + 1);
     }
-    let n = 0;
-    for (const bit of inRun) n += bit;
-    if (n > 0) {
+    let inRunCount = 0;
+    for (const bit of inRun) inRunCount += bit;
+    if (inRunCount > 0) {
       sensors++;
-      raises += n;
+      raises += inRunCount;
     }
   }
   return { sensors, raises };
 }
 
 const byText = (a: string, b: string): number => (a < b ? -1 : a > b ? 1 : 0);
+
+/** What one pass over the events counts: raises (by sensor, sorted), clears, fleeting and stale alerts. */
+interface EventTally {
+  raisedTimes: number[];
+  /** Each sensor's raise times, ascending. */
+  raisesBySensor: Map<string, number[]>;
+  /** Alerts still open at the end: id -> raised at. */
+  open: Map<string, number>;
+  cleared: number;
+  fleeting: number;
+  /** Cleared alerts that had been active longer than staleMs. */
+  staleCleared: number;
+}
+
+function tallyEvents(events: readonly KpiEvent[], settings: KpiSettings): EventTally {
+  const tally: EventTally = {
+    raisedTimes: [],
+    raisesBySensor: new Map(),
+    open: new Map(),
+    cleared: 0,
+    fleeting: 0,
+    staleCleared: 0,
+  };
+  for (const event of events) {
+    if (event.state === 'raised') {
+      tally.raisedTimes.push(event.ts);
+      let times = tally.raisesBySensor.get(event.sensor);
+      if (times === undefined) tally.raisesBySensor.set(event.sensor, (times = []));
+      times.push(event.ts);
+      tally.open.set(event.id, event.since);
+    } else if (event.state === 'cleared') {
+      tally.cleared++;
+      tally.open.delete(event.id);
+      const lasted = event.ts - event.since;
+      if (lasted <= settings.fleetingMs) tally.fleeting++;
+      if (lasted > settings.staleMs) tally.staleCleared++;
+    }
+  }
+  for (const times of tally.raisesBySensor.values()) times.sort((a, b) => a - b);
+  return tally;
+}
+
+/** The `topN` sensors with the most raises (ties by id) and each one's share of all `raised`. */
+function topSensors(raisesBySensor: Map<string, number[]>, raised: number, topN: number): TopSensor[] {
+  return [...raisesBySensor.entries()]
+    .map(([sensor, times]) => ({ sensor, raised: times.length }))
+    .sort((a, b) => b.raised - a.raised || byText(a.sensor, b.sensor))
+    .slice(0, topN)
+    .map((top) => ({ ...top, share: top.raised / raised }));
+}
+
+/** Raises inside caught incidents per caught incident; null when no incident was caught. */
+function raisesPerCaughtIncident(raisesBySensor: Map<string, number[]>, labels: KpiLabels): number | null {
+  const exclude = new Set(labels.excludeKinds ?? []);
+  const counted = labels.incidents.filter((incident) => !exclude.has(incident.kind));
+  const raisedList: RaisedAlert[] = [];
+  for (const [sensor, times] of raisesBySensor) for (const ts of times) raisedList.push({ sensor, ts });
+  const perIncident = incidentRaises(counted, raisedList, labels.graceMs);
+  let caught = 0;
+  let inCaught = 0;
+  for (const raises of perIncident)
+    if (raises > 0) {
+      caught++;
+      inCaught += raises;
+    }
+  return caught === 0 ? null : inCaught / caught;
+}
 
 /**
  * The alert-system health figures of a stream of alert events over `span`. Raises outside the span
@@ -189,31 +259,13 @@ export function alertKpis(
   options: Partial<KpiSettings> = {},
   labels?: KpiLabels,
 ): AlertKpis {
-  const s: KpiSettings = { ...KPI_DEFAULTS, ...options };
-  const raisedTimes: number[] = [];
-  const raisesBy = new Map<string, number[]>();
-  const open = new Map<string, number>();
-  let cleared = 0;
-  let fleeting = 0;
-  let staleCleared = 0;
-  for (const e of events) {
-    if (e.state === 'raised') {
-      raisedTimes.push(e.ts);
-      let list = raisesBy.get(e.sensor);
-      if (list === undefined) raisesBy.set(e.sensor, (list = []));
-      list.push(e.ts);
-      open.set(e.id, e.since);
-    } else if (e.state === 'cleared') {
-      cleared++;
-      open.delete(e.id);
-      const lasted = e.ts - e.since;
-      if (lasted <= s.fleetingMs) fleeting++;
-      if (lasted > s.staleMs) staleCleared++;
-    }
-  }
-  for (const list of raisesBy.values()) list.sort((a, b) => a - b);
+  const settings: KpiSettings = { ...KPI_DEFAULTS, ...options };
+  const { raisedTimes, raisesBySensor, open, cleared, fleeting, staleCleared } = tallyEvents(
+    events,
+    settings,
+  );
   let staleOpen = 0;
-  for (const since of open.values()) if (span.end - since > s.staleMs) staleOpen++;
+  for (const since of open.values()) if (span.end - since > settings.staleMs) staleOpen++;
 
   const raised = raisedTimes.length;
   const spanMs = Math.max(0, span.end - span.start);
@@ -221,53 +273,34 @@ export function alertKpis(
   const periods =
     spanMs === 0 && raised === 0
       ? 0
-      : Math.floor(span.end / s.floodWindowMs) - Math.floor(span.start / s.floodWindowMs) + 1;
-  const tenMin = alignedCounts(raisedTimes, s.floodWindowMs, s.floodLimit);
+      : Math.floor(span.end / settings.floodWindowMs) - Math.floor(span.start / settings.floodWindowMs) + 1;
+  const tenMin = alignedCounts(raisedTimes, settings.floodWindowMs, settings.floodLimit);
   const hour = alignedCounts(raisedTimes, 3_600_000, Infinity);
-  const worst = worstWindow(raisedTimes, s.floodWindowMs);
-
-  const ranked = [...raisesBy.entries()]
-    .map(([sensor, times]) => ({ sensor, raised: times.length }))
-    .sort((a, b) => b.raised - a.raised || byText(a.sensor, b.sensor))
-    .slice(0, s.topN)
-    .map((t) => ({ ...t, share: t.raised / raised }));
-  const topRaised = ranked.reduce((sum, t) => sum + t.raised, 0);
-
-  let raisesPerCaught: number | null = null;
-  if (labels !== undefined) {
-    const exclude = new Set(labels.excludeKinds ?? []);
-    const counted = labels.incidents.filter((i) => !exclude.has(i.kind));
-    const raisedList: RaisedAlert[] = [];
-    for (const [sensor, times] of raisesBy) for (const ts of times) raisedList.push({ sensor, ts });
-    const perIncident = incidentRaises(counted, raisedList, labels.graceMs);
-    let caught = 0;
-    let inCaught = 0;
-    for (const n of perIncident)
-      if (n > 0) {
-        caught++;
-        inCaught += n;
-      }
-    raisesPerCaught = caught === 0 ? null : inCaught / caught;
-  }
+  const worst = worstWindow(raisedTimes, settings.floodWindowMs);
+  const ranked = topSensors(raisesBySensor, raised, settings.topN);
+  const topRaised = ranked.reduce((sum, top) => sum + top.raised, 0);
 
   return {
     hours,
     raised,
     cleared,
     perHour: { average: hours > 0 ? raised / hours : null, peak: hour.peak },
-    per10Min: { average: spanMs > 0 ? (raised * s.floodWindowMs) / spanMs : null, peak: tenMin.peak },
+    per10Min: {
+      average: spanMs > 0 ? (raised * settings.floodWindowMs) / spanMs : null,
+      peak: tenMin.peak,
+    },
     worst10min: worst,
     flood: {
       periods,
       floodPeriods: tenMin.over,
       share: periods > 0 ? tenMin.over / periods : null,
-      any: worst > s.floodLimit,
+      any: worst > settings.floodLimit,
     },
-    chattering: chattering(raisesBy, s),
+    chattering: chattering(raisesBySensor, settings),
     fleeting,
     stale: { count: staleCleared + staleOpen, activeAtEnd: open.size },
     top: { sensors: ranked, share: raised > 0 ? topRaised / raised : null },
-    raisesPerCaught,
-    settings: s,
+    raisesPerCaught: labels === undefined ? null : raisesPerCaughtIncident(raisesBySensor, labels),
+    settings,
   };
 }

@@ -42,6 +42,8 @@ svg .flood { stroke: var(--crit); stroke-width: 1.5; stroke-dasharray: 2 3; }
 svg .pt { fill: var(--band); stroke: #1e3f6e; }
 svg .pt.recommended { fill: var(--ok); stroke: #1c5a45; }
 svg .ring { fill: none; stroke: var(--ok); stroke-width: 2; }
+svg .pt.over { fill: #fff; }
+svg .pick-box { fill: none; stroke: var(--warn); stroke-width: 2; stroke-dasharray: 3 2; }
 h3.plain { font-family: inherit; word-break: normal; }
 .verdict { display: inline-flex; align-items: center; gap: 5px; white-space: nowrap; font-weight: 600; }
 .verdict svg { fill: none; stroke: currentColor; stroke-width: 1.7; }

@@ -99,3 +99,30 @@ export function spanOf(c: ReadingColumns): { first: number; last: number } {
   }
   return c.count === 0 ? { first: 0, last: 0 } : { first, last };
 }
+
+/** Intervals sampled per sensor for {@link medianReadingInterval} (bounds its memory and time). */
+export const INTERVALS_PER_SENSOR = 100;
+
+/**
+ * The median time between consecutive readings of one sensor, over the first
+ * {@link INTERVALS_PER_SENSOR} intervals of every sensor (positive gaps only: equal or
+ * out-of-order times say nothing about the rate); null when no sensor read twice. The median of
+ * an even count is the mean of the middle two.
+ */
+export function medianReadingInterval(c: ReadingColumns): number | null {
+  const previous = new Float64Array(c.names.length).fill(NaN);
+  const taken = new Uint32Array(c.names.length);
+  const gaps: number[] = [];
+  for (let i = 0; i < c.count; i++) {
+    const sensor = c.sensor[i];
+    const gap = c.ts[i] - previous[sensor];
+    previous[sensor] = c.ts[i];
+    if (!(gap > 0) || taken[sensor] >= INTERVALS_PER_SENSOR) continue;
+    taken[sensor]++;
+    gaps.push(gap);
+  }
+  if (gaps.length === 0) return null;
+  gaps.sort((a, b) => a - b);
+  const mid = gaps.length >> 1;
+  return gaps.length % 2 === 1 ? gaps[mid] : (gaps[mid - 1] + gaps[mid]) / 2;
+}

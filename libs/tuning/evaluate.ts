@@ -1,37 +1,71 @@
 /**
- * One grid point, end to end: replay the columns through a fresh Engine with the point's config
- * and score the raised alerts. The same function runs in tuning workers and in tests, so what
- * tune reports is exactly what a replay with that config gives.
+ * One grid point, end to end: replay the columns through a fresh Engine with the point's config,
+ * score the raised alerts and compute the alert-system health figures (libs/kpi) of all its
+ * alert events. The same function runs in tuning workers and in tests, so what tune reports is
+ * exactly what a replay with that config gives.
  */
 import type { EngineConfig } from '../config/config.js';
 import { Engine } from '../engine/engine.js';
-import { score, type RaisedAlert, type Score, type ScoreOptions } from '../scoring/score.js';
+import { alertKpis, kpiEventOf, type AlertKpis, type KpiEvent } from '../kpi/alert-kpis.js';
+import {
+  DEFAULT_GRACE_MS,
+  score,
+  type RaisedAlert,
+  type Score,
+  type ScoreOptions,
+} from '../scoring/score.js';
 import type { Incident } from '../scoring/labels.js';
 import { readingAt, type ReadingColumns } from './columns.js';
 
+/** What tune learns about one grid point: its score against the labels and its alert-system health. */
+export interface PointEvaluation {
+  score: Score;
+  kpis: AlertKpis;
+}
+
 /**
- * Raised alerts (sensor, event time) of a replay of the columns in their order. The event's own
- * sensor and time count: a reading can raise an alert for another sensor (one gone silent).
+ * The raised and cleared alert events of a replay of the columns in their order (updates left
+ * out: no figure uses them). The event's own sensor and time count: a reading can raise an alert
+ * for another sensor (one gone silent).
  */
-export function replayRaised(cfg: EngineConfig, c: ReadingColumns): RaisedAlert[] {
+export function replayEvents(cfg: EngineConfig, c: ReadingColumns): KpiEvent[] {
   const engine = new Engine(cfg);
-  const out: RaisedAlert[] = [];
+  const out: KpiEvent[] = [];
   for (let i = 0; i < c.count; i++) {
     const o = engine.process(readingAt(c, i));
-    for (const e of o.events) {
-      if (e.state !== 'raised') continue;
-      out.push({ sensor: e.sensor, ts: Date.parse(e.ts) });
-    }
+    for (const e of o.events) if (e.state !== 'updated') out.push(kpiEventOf(e));
   }
   return out;
 }
 
-/** Score one config on the columns against the incidents (what tune reports for a grid point). */
+/** Raised alerts (sensor, event time) of a replay of the columns in their order. */
+export function replayRaised(cfg: EngineConfig, c: ReadingColumns): RaisedAlert[] {
+  return raisedOf(replayEvents(cfg, c));
+}
+
+const raisedOf = (events: readonly KpiEvent[]): RaisedAlert[] =>
+  events.filter((e) => e.state === 'raised').map((e) => ({ sensor: e.sensor, ts: e.ts }));
+
+/**
+ * Score one config on the columns against the incidents, with the health figures over the data's
+ * span (raises per caught incident uses the same grace and the same kinds as the recall).
+ */
 export function evaluateConfig(
   cfg: EngineConfig,
   c: ReadingColumns,
   incidents: readonly Incident[],
   opts: ScoreOptions,
-): Score {
-  return score(incidents, replayRaised(cfg, c), opts);
+): PointEvaluation {
+  const events = replayEvents(cfg, c);
+  const kpis = alertKpis(
+    events,
+    { start: opts.dataStart, end: opts.dataEnd },
+    {},
+    {
+      incidents,
+      graceMs: opts.graceMs ?? DEFAULT_GRACE_MS,
+      excludeKinds: opts.excludeFromRecall ?? ['dropout'],
+    },
+  );
+  return { score: score(incidents, raisedOf(events), opts), kpis };
 }

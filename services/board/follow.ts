@@ -32,6 +32,13 @@ export interface FollowOptions {
   maxWaitMs?: number;
   /** Name shown in the viewer's group id, e.g. "board" or "alerts". */
   role: string;
+  /**
+   * The next offset to read per partition, for a follower that replaces one that failed: it goes on
+   * where that one stopped instead of reading the topics again (never before the start of retention).
+   */
+  resumeAt?: (topic: string, partition: number) => bigint | undefined;
+  /** Called when the consumer failed and kafkajs restarts it on its own (an outage that may end). */
+  onRestart?: (err: unknown) => void;
 }
 
 export interface Follower {
@@ -82,6 +89,13 @@ export async function follow(o: FollowOptions): Promise<Follower> {
           const off = BigInt(p.offset) < 0n ? end.get(pk(t, p.partition))! : BigInt(p.offset);
           start.set(pk(t, p.partition), off);
         }
+      }
+      for (const p of offs) {
+        const key = pk(t, p.partition);
+        const next = o.resumeAt?.(t, p.partition);
+        if (next === undefined || next <= start.get(key)!) continue;
+        // Past the end only if the topic was made again: then read it from its start.
+        if (next <= end.get(key)!) start.set(key, next);
       }
     }
   } finally {
@@ -136,42 +150,53 @@ export async function follow(o: FollowOptions): Promise<Follower> {
   joined.catch(() => {});
   consumer.on(consumer.events.GROUP_JOIN, () => joinedOk());
   consumer.on(consumer.events.CRASH, (e) => {
-    if (e.payload.restart) return;
+    if (e.payload.restart) {
+      // kafkajs restarts the consumer itself after its own wait (a broker gone, a timeout).
+      if (!stopped) o.onRestart?.(e.payload.error);
+      return;
+    }
     joinFailed(e.payload.error);
     stopped = true;
     void consumer.disconnect().catch(() => {});
     fail(e.payload.error);
   });
-  await consumer.connect();
-  for (const t of o.topics) await consumer.subscribe({ topic: t, fromBeginning: true });
-  await consumer.run({
-    autoCommit: false,
-    eachMessage: async ({ topic, partition, message }) => {
-      const k = pk(topic, partition);
-      const off = BigInt(message.offset);
-      if (off < (start.get(k) ?? 0n)) return; // before --since (a fetch that raced the seek)
-      if (!stopped) {
-        await o.onMessage({
-          topic,
-          partition,
-          offset: message.offset,
-          key: message.key,
-          value: message.value,
-          timestamp: Number(message.timestamp),
-        });
-      }
-      if (remaining.has(k) && off + 1n >= end.get(k)!) {
-        remaining.delete(k);
-        if (remaining.size === 0) {
-          markCaughtUp();
-          if (o.untilEnd) setImmediate(() => void stop());
+  try {
+    await consumer.connect();
+    for (const t of o.topics) await consumer.subscribe({ topic: t, fromBeginning: true });
+    await consumer.run({
+      autoCommit: false,
+      eachMessage: async ({ topic, partition, message }) => {
+        const k = pk(topic, partition);
+        const off = BigInt(message.offset);
+        if (off < (start.get(k) ?? 0n)) return; // before --since (a fetch that raced the seek)
+        if (!stopped) {
+          await o.onMessage({
+            topic,
+            partition,
+            offset: message.offset,
+            key: message.key,
+            value: message.value,
+            timestamp: Number(message.timestamp),
+          });
         }
-      }
-    },
-  });
-  for (const [k, off] of start) {
-    const [topic, p] = k.split('\u0000');
-    if (off > 0n) consumer.seek({ topic, partition: Number(p), offset: off.toString() });
+        if (remaining.has(k) && off + 1n >= end.get(k)!) {
+          remaining.delete(k);
+          if (remaining.size === 0) {
+            markCaughtUp();
+            if (o.untilEnd) setImmediate(() => void stop());
+          }
+        }
+      },
+    });
+    for (const [k, off] of start) {
+      const [topic, p] = k.split('\u0000');
+      if (off > 0n) consumer.seek({ topic, partition: Number(p), offset: off.toString() });
+    }
+  } catch (err) {
+    // A follower that never started leaves no consumer behind (a board retries every few seconds).
+    stopped = true;
+    await consumer.disconnect().catch(() => {});
+    throw err;
   }
   // Started means joined: a group the ACL denies fails here, before the caller reports success.
   await joined;

@@ -14,6 +14,7 @@ import type { Redis } from 'ioredis';
 import type { OperatorAction } from '../../libs/board/store.js';
 import type { AlertEvent } from '../../libs/schema/alert-event.js';
 import { ALERT_STATES, isSeverity, type AlertState } from '../../libs/schema/vocabulary.js';
+import { backoffDelay } from '../monitor/backoff.js';
 import { follow, type Follower, type FollowMessage } from './follow.js';
 import type { BoardHub } from './hub.js';
 
@@ -29,6 +30,8 @@ export interface ActionMessage {
 }
 
 const MAX_PENDING = 10_000;
+/** A follower that ran this long before failing counts as having recovered (the wait starts short). */
+const HEALTHY_MS = 60_000;
 
 /** Minimal shape check of an alert event from the topic; anything else is skipped. */
 export function asAlertEvent(v: unknown): AlertEvent | null {
@@ -74,6 +77,13 @@ export interface LiveFeedOptions {
   actionTopic: string;
   sinceMs?: number | null;
   onSkip?: (why: string) => void;
+  /**
+   * Called once per attempt to follow the topics again after the follower failed while running
+   * (an ACL removed, the group denied, a topic deleted), before waiting `delayMs`: the caller logs
+   * the one line and counts it. Without it the board would silently stop hearing alerts. A failure
+   * the Kafka client retries on its own (a broker gone) comes here too, with a null delay.
+   */
+  onRetry?: (err: unknown, delayMs: number | null, attempt: number) => void;
 }
 
 export class LiveFeed {
@@ -82,6 +92,14 @@ export class LiveFeed {
   private follower: Follower | null = null;
   /** Actions whose alert this board has not seen yet (from Redis at start, or from another board). */
   private readonly pending = new Map<string, OperatorAction[]>();
+  /** The next offset to read per topic and partition, so a replacement follower goes on from there. */
+  private readonly positions = new Map<string, bigint>();
+  private stopping = false;
+  /** Attempts to follow again since the follower last ran for HEALTHY_MS. */
+  private attempts = 0;
+  private wakeRetry: (() => void) | null = null;
+  /** Resolves when the recovery loop after a follower failure has ended (tests, stop). */
+  private recovery: Promise<void> = Promise.resolve();
   skipped = 0;
 
   constructor(
@@ -101,13 +119,64 @@ export class LiveFeed {
     }
     this.producer = this.o.kafka.producer({ allowAutoTopicCreation: false });
     await this.producer.connect();
-    this.follower = await follow({
+    this.watch(await this.followTopics());
+  }
+
+  private followTopics(): Promise<Follower> {
+    return follow({
       kafka: this.o.kafka,
       topics: [this.o.alertTopic, this.o.actionTopic],
       sinceMs: this.o.sinceMs,
       role: 'board',
-      onMessage: (m) => this.onMessage(m),
+      resumeAt: (topic, partition) => this.positions.get(`${topic}|${partition}`),
+      onRestart: (err) => this.o.onRetry?.(err, null, 0),
+      onMessage: (m) => {
+        this.positions.set(`${m.topic}|${m.partition}`, BigInt(m.offset) + 1n);
+        this.onMessage(m);
+      },
     });
+  }
+
+  /** Once started, a follower that fails is replaced after a logged, counted, growing wait. */
+  private watch(follower: Follower): void {
+    this.follower = follower;
+    const since = Date.now();
+    follower.done.catch((err: unknown) => {
+      if (this.stopping) return;
+      // A follower that joins and then fails at its first fetch (a topic ACL taken away) keeps the
+      // wait growing; one that ran a while starts again from the shortest wait.
+      if (Date.now() - since > HEALTHY_MS) this.attempts = 0;
+      this.recovery = this.followAgain(err);
+    });
+  }
+
+  private async followAgain(firstErr: unknown): Promise<void> {
+    let err = firstErr;
+    while (!this.stopping) {
+      const attempt = ++this.attempts;
+      const delayMs = backoffDelay(attempt, 1_000);
+      this.o.onRetry?.(err, delayMs, attempt);
+      await new Promise<void>((resolve) => {
+        const timer = setTimeout(resolve, delayMs);
+        this.wakeRetry = () => {
+          clearTimeout(timer);
+          resolve();
+        };
+      });
+      this.wakeRetry = null;
+      if (this.stopping) return;
+      try {
+        const follower = await this.followTopics();
+        if (this.stopping) {
+          await follower.stop();
+          return;
+        }
+        this.watch(follower);
+        return;
+      } catch (e) {
+        err = e;
+      }
+    }
   }
 
   private remember(act: OperatorAction): void {
@@ -178,6 +247,9 @@ export class LiveFeed {
   }
 
   async stop(): Promise<void> {
+    this.stopping = true;
+    this.wakeRetry?.();
+    await this.recovery;
     await this.follower?.stop();
     await this.producer?.disconnect().catch(() => {});
   }

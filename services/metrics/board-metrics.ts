@@ -6,10 +6,22 @@
  */
 import { Counter, Gauge, Registry } from 'prom-client';
 import type { BoardHub } from '../board/hub.js';
-import { collectProcessMetrics, createEngineMetrics, type EngineMetrics } from './metrics.js';
+import {
+  collectProcessMetrics,
+  createBackoffCounter,
+  createEngineMetrics,
+  type EngineMetrics,
+} from './metrics.js';
 
+/** What a board server serves on /metrics. */
 export interface BoardMetrics {
   registry: Registry;
+}
+
+/** The metrics of `streamfence board`, which follows Kafka and Redis and waits out their outages. */
+export interface LiveBoardMetrics extends BoardMetrics {
+  /** One per logged retry line (start-up and running), as `run` counts its own. */
+  backoff: Counter<'dependency' | 'cause'>;
 }
 
 /** A demo's metrics: the board's, plus the engine metrics its simulated plant is counted in. */
@@ -17,8 +29,14 @@ export interface DemoMetrics extends BoardMetrics {
   engine: EngineMetrics;
 }
 
-/** The metrics of `streamfence board`: alerts by status, events and actions applied, the rate meter. */
-export function createBoardMetrics(hub: BoardHub): BoardMetrics {
+/** The metrics of `streamfence board`: the board's figures and the retries after Kafka or Redis failed. */
+export function createBoardMetrics(hub: BoardHub): LiveBoardMetrics {
+  const { registry } = boardFigures(hub);
+  return { registry, backoff: createBackoffCounter(registry) };
+}
+
+/** Alerts by status, events and actions applied, the rate meter (board and demo alike). */
+function boardFigures(hub: BoardHub): BoardMetrics {
   const registry = new Registry();
   collectProcessMetrics(registry);
   const registers = [registry];
@@ -74,6 +92,6 @@ export function createBoardMetrics(hub: BoardHub): BoardMetrics {
 
 /** The metrics of `streamfence demo`: the board's, and the engine metrics `run` exposes. */
 export function createDemoMetrics(hub: BoardHub): DemoMetrics {
-  const board = createBoardMetrics(hub);
+  const board = boardFigures(hub);
   return { ...board, engine: createEngineMetrics(board.registry) };
 }

@@ -17,6 +17,16 @@ export function collectProcessMetrics(registry: Registry): void {
   collectDefaultMetrics({ register: registry });
 }
 
+/** `streamfence_backoff_total`, the same in every long-running command (`run`, `board`). */
+export function createBackoffCounter(registry: Registry): Counter<'dependency' | 'cause'> {
+  return new Counter({
+    name: 'streamfence_backoff_total',
+    help: 'Retries after a Kafka or Redis call failed, by dependency and cause (one per logged retry line).',
+    labelNames: ['dependency', 'cause'],
+    registers: [registry],
+  });
+}
+
 /** What an Engine's readings and alerts are counted as, wherever the engine runs (run, demo). */
 export interface EngineMetrics {
   /** outcome = accepted | rejected */
@@ -160,12 +170,7 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
       labelNames: ['partition'],
       registers,
     }),
-    backoff: new Counter({
-      name: 'streamfence_backoff_total',
-      help: 'Retries after a Kafka or Redis call failed, by dependency and cause (one per logged retry line).',
-      labelNames: ['dependency', 'cause'],
-      registers,
-    }),
+    backoff: createBackoffCounter(registry),
     checkpoints: new Counter({
       name: 'streamfence_checkpoints_total',
       help: 'Partition checkpoints, by result (written; fenced: the partition now belongs to another monitor; owner_gone: Redis lost the partition keys; rolled_back: Redis went back to an older checkpoint; both rewrite the state in full).',

@@ -14,7 +14,7 @@
  * All partition work (batches, checkpoints, hand-overs) runs one at a time under one lock.
  */
 import { randomUUID } from 'node:crypto';
-import {
+import kafkajs, {
   Partitioners,
   type Admin,
   type Consumer,
@@ -48,6 +48,9 @@ import {
 } from '../connect/outage.js';
 import { backoffDelay, withBackoff, type BackoffHooks } from './backoff.js';
 import { parseMessage, rejectionRecord } from './kafka-message.js';
+
+// kafkajs is CommonJS: its enums come through the default export under ESM.
+const { ConfigResourceTypes } = kafkajs;
 
 /** Where a monitor starts on a partition that has neither a checkpoint nor a committed offset. */
 export const START_FROM = ['now', 'earliest'] as const;
@@ -327,7 +330,13 @@ export class Monitor {
       const described = await withTimeout(
         this.admin.describeConfigs({
           includeSynonyms: false,
-          resources: [{ type: 2, name: this.settings.inputTopic, configNames: ['retention.ms'] }],
+          resources: [
+            {
+              type: ConfigResourceTypes.TOPIC,
+              name: this.settings.inputTopic,
+              configNames: ['retention.ms'],
+            },
+          ],
         }),
         5_000,
       );

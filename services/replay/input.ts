@@ -139,17 +139,7 @@ export async function* readInput(
   format: InputFormat,
   stats: InputStats = newInputStats(),
 ): AsyncGenerator<InputRecord[]> {
-  const gzip = isGzipContent(path);
-  const file = createReadStream(path, { highWaterMark: 256 * 1024 });
-  let source: AsyncIterable<Buffer> = file;
-  if (gzip) {
-    file.on('data', (b: Buffer | string) => {
-      stats.bytes += b.length;
-    });
-    const gunzip = createGunzip();
-    file.on('error', (e) => gunzip.destroy(e));
-    source = file.pipe(gunzip);
-  }
+  const { file, source, gzip } = openInput(path, stats);
   const decoder = new StringDecoder('utf8');
   const splitter = new LineSplitter(LIMITS.maxLineLength);
   let batch: InputRecord[] = [];
@@ -212,16 +202,40 @@ export async function* readInput(
   if (headerError !== null) {
     throw new StreamfenceError('INPUT_UNREADABLE', `cannot read input "${path}": ${headerError}`);
   }
-  if (format === 'csv' && columns === null) {
-    throw new StreamfenceError(
-      'INPUT_UNREADABLE',
-      `cannot read input "${path}": the file has no CSV header; the first non-blank line must name the columns sensor, ts and value`,
-    );
-  }
+  if (format === 'csv' && columns === null) throw noCsvHeader(path);
   if (batch.length > 0) yield batch;
-  if (!anyRecord && batch.length === 0)
-    throw new StreamfenceError(
-      'INPUT_EMPTY',
-      `input "${path}" holds nothing to read (${format === 'csv' ? 'only a header and ' : ''}${stats.blank} blank line${stats.blank === 1 ? '' : 's'}): check the path, or that the file was written completely`,
-    );
+  if (!anyRecord && batch.length === 0) throw nothingToRead(path, format, stats);
+}
+
+/**
+ * The file as a stream of bytes to split into lines, decompressed when its content is gzip.
+ * `stats.bytes` counts the compressed bytes here for gzip; the caller counts a plain file's.
+ */
+function openInput(
+  path: string,
+  stats: InputStats,
+): { file: ReturnType<typeof createReadStream>; source: AsyncIterable<Buffer>; gzip: boolean } {
+  const gzip = isGzipContent(path);
+  const file = createReadStream(path, { highWaterMark: 256 * 1024 });
+  if (!gzip) return { file, source: file, gzip };
+  file.on('data', (b: Buffer | string) => {
+    stats.bytes += b.length;
+  });
+  const gunzip = createGunzip();
+  file.on('error', (e) => gunzip.destroy(e));
+  return { file, source: file.pipe(gunzip), gzip };
+}
+
+function noCsvHeader(path: string): StreamfenceError {
+  return new StreamfenceError(
+    'INPUT_UNREADABLE',
+    `cannot read input "${path}": the file has no CSV header; the first non-blank line must name the columns sensor, ts and value`,
+  );
+}
+
+function nothingToRead(path: string, format: InputFormat, stats: InputStats): StreamfenceError {
+  return new StreamfenceError(
+    'INPUT_EMPTY',
+    `input "${path}" holds nothing to read (${format === 'csv' ? 'only a header and ' : ''}${stats.blank} blank line${stats.blank === 1 ? '' : 's'}): check the path, or that the file was written completely`,
+  );
 }

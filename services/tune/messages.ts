@@ -1,5 +1,6 @@
 /** Messages between the tuning pool and its workers. */
-import type { Score, ScoreOptions } from '../../libs/scoring/score.js';
+import type { ScoreOptions } from '../../libs/scoring/score.js';
+import type { PointEvaluation } from '../../libs/tuning/evaluate.js';
 import type { Incident } from '../../libs/scoring/labels.js';
 import type { GridPoint } from '../../libs/tuning/grid.js';
 
@@ -19,5 +20,5 @@ export interface WorkerInit {
 export type ToWorker = { type: 'point'; index: number; point: GridPoint } | { type: 'stop' };
 
 export type FromWorker =
-  | { type: 'result'; index: number; score: Score }
+  | { type: 'result'; index: number; evaluation: PointEvaluation }
   | { type: 'error'; index: number; message: string; code?: string };

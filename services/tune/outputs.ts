@@ -9,6 +9,7 @@ import { mkdir, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { renderTuneReport } from '../../libs/report/tune-report.js';
 import { StreamfenceError } from '../../libs/errors/index.js';
+import type { AlertKpis } from '../../libs/kpi/alert-kpis.js';
 import type { GridPoint } from '../../libs/tuning/grid.js';
 import { fileProblem } from '../fs-errors.js';
 
@@ -30,6 +31,17 @@ export interface PointResult {
   /** Per fault kind: caught / incidents of that kind (dropouts included here). */
   recallByKind: Record<string, number | null>;
   countsByKind: Record<string, { incidents: number; caught: number }>;
+  /** Every raised alert per caught incident, raised / caught (null: none caught); the rule ranks by it. */
+  alertsPerCaught: number | null;
+  /** Alert-system health (libs/kpi): raises inside caught incidents per caught incident (null: none caught). */
+  raisesPerCaught: number | null;
+  /** Sensors that chattered (3 raises within 60 s) and the raises in those runs. */
+  chatteringSensors: number;
+  chatteringRaises: number;
+  /** Alerts cleared within 60 s of their raise. */
+  fleeting: number;
+  /** Share of aligned 10-minute periods with more than the flood level raised (null: no periods). */
+  floodShare: number | null;
 }
 
 /** The documented shape of tuning.json (stable: fields are only ever added). */
@@ -46,6 +58,8 @@ export type TuningResult = {
     firstTs: string | null;
     lastTs: string | null;
     hours: number;
+    /** Median time between one sensor's readings (clear delays counted in readings use it); null when no sensor read twice. */
+    medianIntervalMs: number | null;
   };
   labels: { path: string; incidents: number; byKind: Record<string, number>; warnings: string[] };
   scoring: { graceMs: number; floodWindowMs: number; floodLimit: number; excludedFromRecall: string[] };
@@ -53,9 +67,14 @@ export type TuningResult = {
   /** The grid that was searched, in --grid syntax, and its number of points. */
   gridSpec: string;
   pointCount: number;
+  /** Combinations left out because their deadband leaves no way to clear an alert. */
+  skippedPoints: number;
   baseConfig: Record<string, unknown>;
   points: PointResult[];
-  recommended: (PointResult & { reason: string; withinBudget: boolean }) | null;
+  /** The recommended point, its reason and its full health figures (the report's health section). */
+  recommended: (PointResult & { reason: string; withinBudget: boolean; kpis: AlertKpis }) | null;
+  /** The point the earlier recall-first rule picks (for comparison; null for an empty grid). */
+  recallFirstIndex: number | null;
 };
 
 const CSV_COLUMNS = [
@@ -69,6 +88,8 @@ const CSV_COLUMNS = [
   'raiseWindow',
   'clearAfter',
   'flatlineAfter',
+  'deadband',
+  'clearDelay',
   'recall',
   'precision',
   'alertsPerHour',
@@ -78,10 +99,17 @@ const CSV_COLUMNS = [
   'trueRaised',
   'caught',
   'incidents',
+  'alertsPerCaught',
+  'raisesPerCaught',
+  'chatteringSensors',
+  'chatteringRaises',
+  'fleeting',
+  'floodShare',
 ] as const;
 
 const cell = (v: unknown): string => (v === null || v === undefined ? '' : String(v));
 
+/** tuning.csv: one row per point (clearDelay in milliseconds), recall per kind, the recommended mark. */
 export function tuningCsv(t: TuningResult): string {
   const kinds = Object.keys(t.labels.byKind).sort();
   const head = [...CSV_COLUMNS, ...kinds.map((k) => `recall_${k}`), 'recommended'];
@@ -130,6 +158,7 @@ export async function prepareOutDir(dir: string): Promise<void> {
   }
 }
 
+/** Write tuning.json, tuning.csv, recommended.json (when there is one) and report.html into DIR. */
 export async function writeOutputs(
   dir: string,
   t: TuningResult,

@@ -9,10 +9,10 @@ import { fileURLToPath, pathToFileURL } from 'node:url';
 import { configToJson, type EngineConfig } from '../../libs/config/config.js';
 import { StreamfenceError, type ErrorCode } from '../../libs/errors/index.js';
 import type { Incident } from '../../libs/scoring/labels.js';
-import type { Score, ScoreOptions } from '../../libs/scoring/score.js';
+import type { ScoreOptions } from '../../libs/scoring/score.js';
 import { applyPoint } from '../../libs/tuning/apply.js';
 import type { ReadingColumns } from '../../libs/tuning/columns.js';
-import { evaluateConfig } from '../../libs/tuning/evaluate.js';
+import { evaluateConfig, type PointEvaluation } from '../../libs/tuning/evaluate.js';
 import type { GridPoint } from '../../libs/tuning/grid.js';
 import type { FromWorker, ToWorker, WorkerInit } from './messages.js';
 
@@ -42,6 +42,7 @@ function startWorker(init: WorkerInit): Worker {
   return new Worker(boot, { eval: true, workerData: init });
 }
 
+/** Evaluate every grid point (score and health figures), results in grid order. */
 export async function runGrid(
   cols: ReadingColumns,
   base: EngineConfig,
@@ -49,8 +50,8 @@ export async function runGrid(
   incidents: readonly Incident[],
   scoreOptions: ScoreOptions,
   opts: PoolOptions,
-): Promise<Score[]> {
-  const results: Score[] = new Array(points.length);
+): Promise<PointEvaluation[]> {
+  const results: PointEvaluation[] = new Array(points.length);
   if (opts.workers <= 0) {
     for (let i = 0; i < points.length; i++) {
       results[i] = evaluateConfig(applyPoint(base, points[i]), cols, incidents, scoreOptions);
@@ -96,7 +97,7 @@ export async function runGrid(
             fail(new StreamfenceError((m.code as ErrorCode) ?? 'CONFIG_INVALID', m.message));
             return;
           }
-          results[m.index] = m.score;
+          results[m.index] = m.evaluation;
           done++;
           opts.onPoint?.(done);
           if (done === points.length) resolve();

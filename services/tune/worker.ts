@@ -1,6 +1,6 @@
 /**
  * Tuning worker: holds the shared reading columns and evaluates grid points sent by the pool,
- * one at a time, replying with each point's score.
+ * one at a time, replying with each point's score and health figures.
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import { validateConfig } from '../../libs/config/config.js';
@@ -27,8 +27,13 @@ parentPort!.on('message', (msg: ToWorker) => {
   }
   let reply: FromWorker;
   try {
-    const score = evaluateConfig(applyPoint(base, msg.point), columns, init.incidents, init.scoreOptions);
-    reply = { type: 'result', index: msg.index, score };
+    const evaluation = evaluateConfig(
+      applyPoint(base, msg.point),
+      columns,
+      init.incidents,
+      init.scoreOptions,
+    );
+    reply = { type: 'result', index: msg.index, evaluation };
   } catch (e) {
     reply = {
       type: 'error',

@@ -15,7 +15,9 @@ import { validateConfig } from '../../libs/config/config.js';
 import { NOTICE } from '../../libs/schema/notice.js';
 import { runReplay } from '../../services/replay/replay.js';
 import { createReportObserver } from '../../libs/report/replay-report.js';
-import { renderTuneReport, type TuningDoc } from '../../libs/report/tune-report.js';
+import { alertKpis, type KpiEvent } from '../../libs/kpi/alert-kpis.js';
+import { recallFirst, recommend, type Scored } from '../../libs/tuning/recommend.js';
+import { renderTuneReport, type TuningDoc, type TunePointDoc } from '../../libs/report/tune-report.js';
 import { writeReport } from '../../services/report/write.js';
 import { asRecords, feed } from '../unit/report/data.js';
 
@@ -63,12 +65,32 @@ async function replayReport(dir: string): Promise<string> {
 
 /** A small synthetic tuning.json in the shape the tune command writes (values invented). */
 function tuning(): TuningDoc {
-  const points = [];
+  const all = points();
+  return {
+    input: { path: 'kiln-week.ndjson', readings: 120_960, sensors: 12, hours: 168 },
+    labels: { incidents: 31 },
+    scoring: { floodWindowMs: 600_000, floodLimit: 10 },
+    budgetPerHour: 6,
+    points: all,
+    recommended: {
+      ...all[recommend(all, 6)!.index],
+      reason: 'fewest raised alerts per caught incident among the points near the best recall',
+      kpis: alertKpis(kilnEvents(), { start: Date.UTC(2026, 1, 2), end: Date.UTC(2026, 1, 9) }),
+    },
+    recallFirstIndex: recallFirst(all, 6),
+  };
+}
+
+/** The invented grid: fenceK 1.5-3 by raiseAfter 1-3. */
+function points(): (TunePointDoc & Scored)[] {
+  const points: (TunePointDoc & Scored)[] = [];
   for (const fenceK of [1.5, 2, 2.5, 3]) {
     for (const raiseAfter of [1, 2, 3]) {
       const alertsPerHour = 40 / (fenceK * fenceK * raiseAfter);
+      const clearDelay = fenceK === 2 || fenceK === 3 ? 600_000 : 0;
       points.push({
         index: points.length,
+        raised: 100,
         settings: {
           fenceK,
           outerK: fenceK * 2,
@@ -79,24 +101,40 @@ function tuning(): TuningDoc {
           raiseWindow: 3,
           clearAfter: 3,
           flatlineAfter: 60,
+          deadband: raiseAfter === 3 ? 0.5 : 0,
+          clearDelay,
         },
-        recall: Math.max(0, 1 - 0.12 * fenceK - 0.06 * raiseAfter),
+        // A clear delay costs a little recall and saves most repeated raises.
+        recall: 0.95 - 0.08 * (fenceK - 1.5) - 0.05 * (raiseAfter - 1) - (clearDelay > 0 ? 0.01 : 0),
         precision: Math.min(1, 0.15 * fenceK * raiseAfter),
         alertsPerHour,
-        worst10min: Math.round(alertsPerHour / 2),
-        flood: alertsPerHour / 2 > 10,
+        worst10min: Math.round(alertsPerHour * 0.7),
+        flood: Math.round(alertsPerHour * 0.7) > 10,
+        alertsPerCaught: clearDelay > 0 ? 1.05 + 0.05 * (3 - raiseAfter) : 1.4 + 0.9 / raiseAfter,
+        raisesPerCaught: clearDelay > 0 ? 1.02 : 1.2 + 0.6 / raiseAfter,
+        chatteringRaises: raiseAfter === 1 ? Math.round(12 / fenceK) : 0,
         recallByKind: { spike: Math.max(0, 1 - 0.1 * fenceK), step: Math.max(0, 0.9 - 0.05 * raiseAfter) },
       });
     }
   }
-  return {
-    input: { path: 'kiln-week.ndjson', readings: 120_960, sensors: 12, hours: 168 },
-    labels: { incidents: 31 },
-    scoring: { floodWindowMs: 600_000, floodLimit: 10 },
-    budgetPerHour: 6,
-    points,
-    recommended: { ...points[4], reason: 'highest recall with the alert rate within the budget' },
+  return points;
+}
+
+/** Invented alert events of a kiln line over a week: a few raises and clears, one chattering sensor. */
+function kilnEvents(): KpiEvent[] {
+  const day = 86_400_000;
+  const start = Date.UTC(2026, 1, 2);
+  const events: KpiEvent[] = [];
+  const alert = (sensor: string, at: number, lasts: number) => {
+    const id = `${sensor}@${at}`;
+    events.push({ id, sensor, state: 'raised', ts: at, since: at });
+    events.push({ id, sensor, state: 'cleared', ts: at + lasts, since: at });
   };
+  for (let d = 0; d < 7; d++) alert('kiln-2/zone-3-temp', start + d * day + 9 * 3_600_000, 40 * 60_000);
+  for (const s of [0, 20, 45]) alert('kiln-2/draught-fan-current', start + 3 * day + s * 1000, 5_000);
+  alert('kiln-2/feed-rate', start + 5 * day, 3 * 3_600_000);
+  events.sort((a, b) => a.ts - b.ts);
+  return events;
 }
 
 async function open(browser: Browser, file: string, errors: string[]): Promise<Page> {
@@ -243,7 +281,32 @@ describe('HTML reports in Chromium', () => {
     // The recommended row is the point with index 4 (fenceK 2, raiseAfter 2); shared settings are not columns.
     expect(await page.locator('tr.pick td').first().innerText()).toBe('2');
     expect(await page.locator('table').nth(1).locator('th').allInnerTexts()).not.toContain('zLimit');
+    // The trade-off chart: one marker per point (squares for floods), the two picks marked.
+    const tradeoff = await charts(page, 'svg.tradeoff-chart');
+    expect(tradeoff).toHaveLength(1);
+    expect(tradeoff[0].w).toBeGreaterThan(300);
+    const floods = points().filter((p) => p.flood).length;
+    expect(floods).toBeGreaterThan(0);
+    expect(await page.locator('svg.tradeoff-chart rect.pt').count()).toBe(floods);
+    expect(await page.locator('svg.tradeoff-chart circle.pt').count()).toBe(12 - floods);
+    expect(await page.locator('svg.tradeoff-chart circle.ring').count()).toBe(1);
+    expect(await page.locator('svg.tradeoff-chart rect.pick-box').count()).toBe(1);
+    // The invented grid's trade-off: the rule takes fenceK 2 with a clear delay (1.1 raised per caught
+    // incident) over the recall-first pick fenceK 1.5 (same recall 85 %, better precision, 1.7).
+    expect(await page.locator('p.note', { hasText: 'would pick' }).innerText()).toMatch(
+      /would pick fenceK=1.5 outerK=3 raiseAfter=3 deadband=0.5 clearDelay=0ms: recall 85.0 %.* 1.7 raised per caught incident/,
+    );
+    // The recommended point's health figures, with their verdicts; the table shows the noise columns.
+    expect(
+      await page.locator('h2', { hasText: 'Alert-system health of the recommended point' }).count(),
+    ).toBe(1);
+    expect(await page.locator('.health span.verdict').count()).toBe(11);
+    expect(await page.locator('th', { hasText: 'raised per caught' }).count()).toBe(1);
     await page.screenshot({ path: join(ARTIFACTS, 'report-tune.png'), fullPage: true });
+    mkdirSync(join(ARTIFACTS, 'docs'), { recursive: true });
+    await page
+      .locator('svg.tradeoff-chart')
+      .screenshot({ path: join(ARTIFACTS, 'docs', 'report-tradeoff.png') });
     expect(errors).toEqual([]);
     await page.close();
   });

@@ -33,6 +33,7 @@ export const BOARD_HTML = `<!doctype html>
 </header>
 <section id="rate" class="rate" aria-label="Alert rate"></section>
 <div id="flood" class="flood" role="alert" hidden></div>
+<div id="waiting" class="waiting" role="status" hidden></div>
 <div id="message" class="message" role="status" aria-live="polite"></div>
 <main>
   <section aria-labelledby="h-active">

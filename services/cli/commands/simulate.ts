@@ -130,20 +130,23 @@ export const OPTION_ENV: Record<Exclude<keyof typeof OPTIONS, 'list' | 'out'>, s
   'config-out': ENV.simConfigOut,
 };
 
-export async function main(argv: string[]): Promise<number> {
-  const args = parseCommandArgs(
-    CMD,
-    argv,
-    { ...OPTIONS, ...parseArgsOptions(KAFKA_OPTIONS) },
-    false,
-    OPTION_ENV,
-  );
-  if (args.help) return printHelp(HELP + envHelp(OPTION_ENV));
-  if (args.values.list === true) {
-    process.stdout.write(listScenarios());
-    return 0;
-  }
-  const s = (n: string) => stringOption(args, n, CMD);
+type SimulateArgs = ReturnType<typeof parseSimulateArgs>;
+
+function parseSimulateArgs(argv: string[]) {
+  return parseCommandArgs(CMD, argv, { ...OPTIONS, ...parseArgsOptions(KAFKA_OPTIONS) }, false, OPTION_ENV);
+}
+
+/** Where the output goes: a readings file or a Kafka topic, and the optional config and labels files. */
+interface Destinations {
+  out: string | undefined;
+  topic: string | undefined;
+  configOut: string | undefined;
+  labelsOut: string | undefined;
+}
+
+/** The output options, checked: at least one destination, not both a file and a topic. */
+function readDestinations(args: SimulateArgs): Destinations {
+  const s = (name: string) => stringOption(args, name, CMD);
   if (args.values.out !== undefined)
     usageError(
       '--out is an output folder in replay and tune; simulate writes named files: give the readings file with --readings FILE',
@@ -162,11 +165,12 @@ export async function main(argv: string[]): Promise<number> {
     warnNoEffect(CMD, args, Object.keys(KAFKA_OPTIONS), 'without --kafka: only --kafka connects to Kafka');
   if (out === undefined)
     warnNoEffect(CMD, args, ['format'], 'without --readings: it is the readings file format');
-  const connection =
-    topic === undefined
-      ? undefined
-      : readKafkaSettings(args.values, process.env, { cmd: CMD, defaultBrokers: '127.0.0.1:9092' });
-  const format = out !== undefined ? formatFromPath(out, s('format')) : undefined;
+  return { out, topic, configOut, labelsOut };
+}
+
+/** The simulator's options from the command line; `startText` is --start as given (if it was). */
+function readSimulatorOptions(args: SimulateArgs, topic: string | undefined) {
+  const s = (name: string) => stringOption(args, name, CMD);
   const seed = numberOption(args, 'seed', CMD, { whole: true, min: -(2 ** 32), max: 2 ** 32, fallback: 1 });
   const durationMs = duration(s('duration') ?? '2d', 'duration');
   const intervalMs = duration(s('interval') ?? '1m', 'interval');
@@ -180,8 +184,7 @@ export async function main(argv: string[]): Promise<number> {
     startTs = parseTimeValue(startText ?? DEFAULT_START, optionLabel(args, 'start'), CMD);
   }
   const scenario = s('scenario') ?? DEFAULT_SCENARIO;
-
-  const opts = {
+  const options = {
     seed,
     start: startTs,
     durationMs,
@@ -193,6 +196,24 @@ export async function main(argv: string[]): Promise<number> {
     faults: args.values['no-faults'] !== true,
     scenario,
   };
+  return { options, startText };
+}
+
+export async function main(argv: string[]): Promise<number> {
+  const args = parseSimulateArgs(argv);
+  if (args.help) return printHelp(HELP + envHelp(OPTION_ENV));
+  if (args.values.list === true) {
+    process.stdout.write(listScenarios());
+    return 0;
+  }
+  const { out, topic, configOut, labelsOut } = readDestinations(args);
+  const connection =
+    topic === undefined
+      ? undefined
+      : readKafkaSettings(args.values, process.env, { cmd: CMD, defaultBrokers: '127.0.0.1:9092' });
+  const format = out !== undefined ? formatFromPath(out, stringOption(args, 'format', CMD)) : undefined;
+  const { options: opts, startText } = readSimulatorOptions(args, topic);
+  const { scenario, start: startTs, durationMs, intervalMs } = opts;
   const sim = new PlantSimulator(opts);
 
   // Kafka is checked before anything is written, so an unreachable broker is one line at once.

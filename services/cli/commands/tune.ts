@@ -25,7 +25,8 @@ const CMD = 'tune';
 export const HELP = `Usage: streamfence tune INPUT --labels FILE --out DIR [options]
 
 Replay labelled history with every combination of a grid of settings, score each, and recommend
-the one that catches the most labelled incidents within an alert-rate budget.
+one within an alert-rate budget: no flood where one can be avoided, recall within 2 points of the
+best, then the fewest raised alerts per caught incident, then precision (README: Tuning).
 
 INPUT             readings file (NDJSON or CSV, optionally .gz), read once
   --labels FILE     incidents as CSV with header sensor,start,end[,kind]; reading times, ISO-8601
@@ -34,8 +35,9 @@ INPUT             readings file (NDJSON or CSV, optionally .gz), read once
   --config FILE     base config (YAML or JSON); default: built-in defaults
   --grid SPEC       settings to try (default: ${DEFAULT_GRID_SPEC})
                     keys fenceK, zLimit, trigger, debounce (raiseAfter/raiseWindow), clearAfter,
-                    flatlineAfter; lists with "," and numeric ranges from:to:step; parts joined by ";".
-                    A key left out keeps the base config's value.
+                    flatlineAfter, deadband, clearDelay (a duration, or 10readings: ten of the
+                    data's median reading intervals); lists with "," and numeric ranges
+                    from:to:step; parts joined by ";". A key left out keeps the base config's value.
   --budget N        raised alerts per hour allowed over the whole input (default ${ALERT_BUDGET_PER_HOUR})
   --grace D         time after an incident's end in which an alert still counts (default ${DEFAULT_GRACE_MS / 1000}s)
   --workers N       worker threads (default ${availableParallelism()} here: the number of CPUs)

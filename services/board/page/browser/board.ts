@@ -49,7 +49,18 @@ const page: {
   /** The server refused the token (or there was none): wait for the operator to type it. */
   locked: boolean;
   stream: AbortController | null;
-} = { data: null, fetchedAt: 0, timer: null, shelveTarget: null, marked: false, locked: false, stream: null };
+  /** The event stream is open (the header says "live" unless the board waits for Kafka/Redis). */
+  live: boolean;
+} = {
+  data: null,
+  fetchedAt: 0,
+  timer: null,
+  shelveTarget: null,
+  marked: false,
+  locked: false,
+  stream: null,
+  live: false,
+};
 
 function byId<T extends HTMLElement = HTMLElement>(id: string): T {
   return document.getElementById(id) as T;
@@ -323,7 +334,6 @@ function groupCard(group: AlertGroup, members: BoardAlert[]): HTMLElement {
 }
 
 function card(alert: BoardAlert): HTMLElement {
-  const data = page.data!;
   const kind: BadgeKind = alert.status === 'cleared' ? 'cleared' : alert.severity;
   const item = el('li', { cls: 'card ' + kind, 'data-id': alert.id, 'data-status': alert.status });
   const head = el('div', { cls: 'head' }, [
@@ -334,6 +344,21 @@ function card(alert: BoardAlert): HTMLElement {
     head.appendChild(el('span', { cls: 'muted', text: 'was ' + alert.severity }));
   item.appendChild(head);
   item.appendChild(el('p', { cls: 'msg', text: alert.message }));
+  item.appendChild(cardFacts(alert));
+  if (alert.status !== 'cleared') cardChart(alert).forEach((part) => item.appendChild(part));
+  const ackLine = cardAckLine(alert);
+  if (ackLine) item.appendChild(ackLine);
+  const later = laterAcks(alert);
+  if (later) item.appendChild(later);
+  if (alert.status === 'shelved') item.appendChild(shelvedLine(alert));
+  const actions = cardActions(alert);
+  if (actions.childNodes.length) item.appendChild(actions);
+  return item;
+}
+
+/** A card's facts line: since when, how many flagged readings, the last value, when it cleared. */
+function cardFacts(alert: BoardAlert): HTMLElement {
+  const data = page.data!;
   const since = Date.parse(alert.since);
   const facts = el('p', { cls: 'facts' });
   facts.appendChild(
@@ -359,59 +384,62 @@ function card(alert: BoardAlert): HTMLElement {
   );
   if (alert.status === 'cleared')
     facts.appendChild(el('span', {}, ['Cleared ', el('b', { text: absTime(alert.ts) })]));
-  item.appendChild(facts);
+  return facts;
+}
+
+/** An open alert's chart of its sensor's recent readings and the legend under it. */
+function cardChart(alert: BoardAlert): Element[] {
+  const data = page.data!;
   const raw = (data.series && data.series[alert.sensor]) || [];
   const points = raw.map((point): ChartPoint => ({ ts: point[0], value: point[1], flagged: point[2] === 1 }));
-  if (alert.status !== 'cleared') {
-    item.appendChild(chart(alert, points));
-    const baseline = alert.baseline;
-    item.appendChild(
-      el('p', {
-        cls: 'legend',
-        text:
-          'Shaded: normal band ' +
-          fmt(baseline.lowerFence) +
-          ' to ' +
-          fmt(baseline.upperFence) +
-          '. Dashed: median ' +
-          fmt(baseline.median) +
-          '. Diamonds: flagged readings. ' +
-          points.length +
-          ' recent readings.',
-      }),
-    );
-  }
-  if (alert.acknowledged) {
-    item.appendChild(
-      el('p', {
-        cls: 'ack yes',
-        text: '✓ Acknowledged by ' + alert.acknowledgedBy + ' at ' + absTime(alert.acknowledgedAt),
-      }),
-    );
-  } else if (alert.status !== 'cleared') {
-    item.appendChild(el('p', { cls: 'ack no', text: '• Not acknowledged' }));
-  }
-  const later = laterAcks(alert);
-  if (later) item.appendChild(later);
-  if (alert.status === 'shelved') {
-    item.appendChild(
-      el('p', { cls: 'facts' }, [
-        'Shelved by ',
-        el('b', { text: alert.shelvedBy || 'unnamed' }),
-        ' until ',
-        el('b', { text: absTime(alert.shelvedUntil) }),
-        ' (back ' + relTime(wallNow() - Date.parse(alert.shelvedUntil ?? '')) + '). Reason: ',
-        el('b', { text: alert.shelveReason || '' }),
-      ]),
-    );
-  }
+  const baseline = alert.baseline;
+  const legend = el('p', {
+    cls: 'legend',
+    text:
+      'Shaded: normal band ' +
+      fmt(baseline.lowerFence) +
+      ' to ' +
+      fmt(baseline.upperFence) +
+      '. Dashed: median ' +
+      fmt(baseline.median) +
+      '. Diamonds: flagged readings. ' +
+      points.length +
+      ' recent readings.',
+  });
+  return [chart(alert, points), legend];
+}
+
+/** Who acknowledged the alert and when, or that nobody has (none for a cleared, unacknowledged one). */
+function cardAckLine(alert: BoardAlert): HTMLElement | null {
+  if (alert.acknowledged)
+    return el('p', {
+      cls: 'ack yes',
+      text: '✓ Acknowledged by ' + alert.acknowledgedBy + ' at ' + absTime(alert.acknowledgedAt),
+    });
+  if (alert.status !== 'cleared') return el('p', { cls: 'ack no', text: '• Not acknowledged' });
+  return null;
+}
+
+/** A shelved alert's line: by whom, until when, when it comes back and why. */
+function shelvedLine(alert: BoardAlert): HTMLElement {
+  return el('p', { cls: 'facts' }, [
+    'Shelved by ',
+    el('b', { text: alert.shelvedBy || 'unnamed' }),
+    ' until ',
+    el('b', { text: absTime(alert.shelvedUntil) }),
+    ' (back ' + relTime(wallNow() - Date.parse(alert.shelvedUntil ?? '')) + '). Reason: ',
+    el('b', { text: alert.shelveReason || '' }),
+  ]);
+}
+
+/** The buttons an alert's state allows: acknowledge, shelve or unshelve (may be empty). */
+function cardActions(alert: BoardAlert): HTMLElement {
   const actions = el('div', { cls: 'actions' });
   if (alert.status !== 'cleared' && !alert.acknowledged)
     actions.appendChild(actionButton('Acknowledge', 'acknowledge', alert));
   if (alert.status === 'active') actions.appendChild(actionButton('Shelve…', 'shelve', alert));
   if (alert.status === 'shelved') actions.appendChild(actionButton('Unshelve', 'unshelve', alert));
-  if (actions.childNodes.length) item.appendChild(actions);
-  return item;
+  return actions;
 }
 
 /** A list's cards: a group's card takes the place of its first-out; its other members go inside it. */
@@ -487,12 +515,37 @@ function render(): void {
   fill('shelved', shelved, groups);
   fill('cleared', cleared, []);
   renderRate(data.rate);
+  renderWaiting(data.waiting || null);
   if (data.tokenRequired) showToken(false);
   document.title = (active.length ? '(' + active.length + ') ' : '') + 'streamfence board';
   if (focused) {
     const again = document.querySelector<HTMLElement>('[data-key="' + focused.replace(/"/g, '') + '"]');
     if (again) again.focus();
   }
+}
+
+/**
+ * A live board that cannot follow its topics yet says so above the alerts, with the retry line its
+ * terminal shows, and its header says "waiting for Kafka/Redis" instead of "live".
+ */
+function renderWaiting(waiting: string | null): void {
+  const box = byId('waiting');
+  box.hidden = waiting === null;
+  box.textContent =
+    waiting === null
+      ? ''
+      : 'Waiting for Kafka/Redis: ' + waiting + '. Alerts appear here once the board can read them.';
+  showLink();
+}
+
+/** The header's link state: the event stream, and whether the board waits for Kafka/Redis. */
+function showLink(): void {
+  // Without the stream its own states stand ("connecting…", "connection lost — retrying").
+  if (page.locked || !page.live) return;
+  const link = byId('link');
+  const waiting = page.data !== null && Boolean(page.data.waiting);
+  link.textContent = waiting ? 'waiting for Kafka/Redis' : 'live';
+  link.className = waiting ? 'link down' : 'link';
 }
 
 /** The board token typed in the header, as request headers (none when the field is empty). */
@@ -518,6 +571,7 @@ function showToken(ask: boolean): void {
 /** The server refused the token: stop asking it until the operator types one. */
 function lock(): void {
   page.locked = true;
+  page.live = false;
   if (page.stream) page.stream.abort();
   page.stream = null;
   byId('link').textContent = 'waiting for the board token';
@@ -562,6 +616,7 @@ function openStream(): void {
   const retry = (): void => {
     if (page.stream === control) page.stream = null;
     if (page.locked || control.signal.aborted) return;
+    page.live = false;
     link.textContent = 'connection lost — retrying';
     link.className = 'link down';
     setTimeout(openStream, 3000);
@@ -573,8 +628,8 @@ function openStream(): void {
         return;
       }
       if (!response.ok || !response.body) return retry();
-      link.textContent = 'live';
-      link.className = 'link';
+      page.live = true;
+      showLink();
       const reader = response.body.getReader();
       const decoder = new TextDecoder();
       let buffered = '';
@@ -586,7 +641,7 @@ function openStream(): void {
           buffered = lines.pop() || '';
           lines.forEach((line) => {
             const kind = line.startsWith('event: ') ? line.slice(7).trim() : '';
-            if (kind === 'alert' || kind === 'action' || kind === 'returned') soon();
+            if (kind === 'alert' || kind === 'action' || kind === 'returned' || kind === 'readiness') soon();
           });
           return next();
         });
