@@ -393,11 +393,16 @@ export class Monitor {
    */
   private async beforeRestart(err: unknown): Promise<boolean> {
     if (this.stopping) return false;
+    await this.consumerBackoff(err);
+    return !this.stopping;
+  }
+
+  /** One more consumer restart: log and count it, then wait its growing backoff (a stop cuts it short). */
+  private async consumerBackoff(err: unknown): Promise<void> {
     this.consumerRestarts++;
     const delayMs = backoffDelay(this.consumerRestarts, 500);
     this.noteRetry(this.describe('kafka', err, this.readWhat), delayMs, this.consumerRestarts);
     await this.pause(delayMs, true);
-    return !this.stopping;
   }
 
   /**
@@ -405,10 +410,7 @@ export class Monitor {
    * removed while running): a fresh consumer joins again after a logged, counted wait.
    */
   private async replaceConsumer(err: unknown): Promise<void> {
-    this.consumerRestarts++;
-    const delayMs = backoffDelay(this.consumerRestarts, 500);
-    this.noteRetry(this.describe('kafka', err, this.readWhat), delayMs, this.consumerRestarts);
-    await this.pause(delayMs, true);
+    await this.consumerBackoff(err);
     if (this.stopping) return;
     await this.consumer.disconnect().catch(() => undefined);
     this.consumer = this.makeConsumer();
