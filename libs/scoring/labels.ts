@@ -153,11 +153,11 @@ export function labelWarnings(
   const out: string[] = [];
   if (absentCount > 0)
     out.push(
-      `${absentCount} labels name sensors that never appear in the data (${examples([...absent])}); they count as missed: check the sensor names in the labels file`,
+      `${absentCount === 1 ? '1 label names a sensor that never appears' : `${absentCount} labels name sensors that never appear`} in the data (${examples([...absent])}); they count as missed: check the sensor names in the labels file`,
     );
   if (outside.length > 0)
     out.push(
-      `${outside.length} labels lie outside the data's time span ${new Date(dataStart).toISOString()} to ${new Date(dataEnd).toISOString()} (${examples(outside.map((i) => `${i.sensor} ${new Date(i.start).toISOString()}`))}); they count as missed: check the labels' times and zone`,
+      `${outside.length === 1 ? '1 label lies' : `${outside.length} labels lie`} outside the data's time span ${new Date(dataStart).toISOString()} to ${new Date(dataEnd).toISOString()} (${examples(outside.map((i) => `${i.sensor} ${new Date(i.start).toISOString()}`))}); they count as missed: check the labels' times and zone`,
     );
   return out;
 }
