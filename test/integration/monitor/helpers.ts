@@ -11,6 +11,7 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { logLevel, type Kafka } from 'kafkajs';
 import type { Redis } from 'ioredis';
+import type { RedisClient } from '../../../services/connect/index.js';
 import { afterAll, expect } from 'vitest';
 import { parseConfigText, type EngineConfig } from '../../../libs/config/config.js';
 import { Engine } from '../../../libs/engine/engine.js';
@@ -395,7 +396,7 @@ export function runStackScript(script: string, env: NodeJS.ProcessEnv, args: str
 
 /** Waits until the Redis checkpoints of every partition reach the topic's end offsets. */
 export async function waitCheckpointedToEnd(
-  redis: Redis,
+  redis: RedisClient,
   prefix: string,
   group: string,
   topic: string,
@@ -423,7 +424,7 @@ export async function waitCheckpointedToEnd(
 
 /** sensor -> lifetime readings, from the checkpoints in Redis. */
 export async function storedSeen(
-  redis: Redis,
+  redis: RedisClient,
   prefix: string,
   group: string,
   topic: string,
@@ -453,7 +454,7 @@ export const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
 /** Where a monitor keeps its state: the Redis it checkpoints to, its prefix, group and input topic. */
 export interface StateLocation {
-  redis: Redis;
+  redis: RedisClient;
   prefix: string;
   group: string;
   topic: string;
