@@ -37,4 +37,9 @@ export interface BoardSnapshot {
   notice?: string;
   /** Whether actions need the board token; the server adds it. */
   tokenRequired?: boolean;
+  /**
+   * While a live board does not follow its topics yet: what it waits for (the retry line, e.g.
+   * "redis 127.0.0.1:6399: connection refused; retrying in 5 s"); null once it does. The server adds it.
+   */
+  waiting?: string | null;
 }

@@ -1,5 +1,6 @@
 /**
- * The board's HTTP server: the page, the JSON API, the live event stream (SSE), metrics and health.
+ * The board's HTTP server: the page, the JSON API, the live event stream (SSE), metrics, health
+ * (/healthz: the process answers) and readiness (/readyz: 200 once the live feed follows its topics).
  * Plain node:http; every response is small and every request body is size-limited.
  */
 import { createServer, type IncomingMessage, type Server, type ServerResponse } from 'node:http';
@@ -8,6 +9,7 @@ import type { ActionKind } from '../../libs/board/store.js';
 import { NOTICE } from '../../libs/schema/notice.js';
 import { listenFailure } from '../setup/listen-errors.js';
 import { authorized } from './auth.js';
+import type { BoardReadiness, BoardReadinessState } from './readiness.js';
 import type { BoardHub, HubMessage } from './hub.js';
 import type { BoardMetrics } from '../metrics/board-metrics.js';
 import { BOARD_CSS } from './page/style.js';
@@ -26,6 +28,8 @@ export interface BoardServerOptions {
   token: string | null;
   /** How often shelves are checked for expiry. */
   tickMs?: number;
+  /** Whether the live feed follows its topics yet (absent: always ready, as the demo is). */
+  readiness?: BoardReadiness;
 }
 
 export interface RunningBoard {
@@ -97,6 +101,7 @@ async function readJsonBody(req: IncomingMessage): Promise<unknown> {
 const ACTION_ROUTE = /^\/api\/(alerts|groups)\/([^/]+)\/(acknowledge|shelve|unshelve)$/;
 /** Reads that show alerts: behind the token when the board has one (the page and assets are not). */
 const GUARDED_READS = new Set(['/api/alerts', '/api/groups', '/api/board', '/api/events']);
+const ALWAYS_READY: BoardReadinessState = { ready: true, waiting: null };
 const TOKEN_NEEDED =
   'this board needs its token: type it into the "Board token" field in the page header, or send "Authorization: Bearer <token>" from a program';
 
@@ -106,6 +111,7 @@ interface BoardContext {
   metrics: BoardMetrics;
   token: string | null;
   streams: Set<ServerResponse>;
+  readiness: () => BoardReadinessState;
 }
 
 /** POST /api/alerts|groups/<id>/<action>: an operator action, behind the token. */
@@ -170,7 +176,10 @@ async function handleRead(
     case '/api/groups':
       return json(res, 200, hub.groups());
     case '/api/board':
-      return json(res, 200, hub.snapshot({ notice: NOTICE, tokenRequired: token !== null }));
+      return json(res, 200, {
+        ...hub.snapshot({ notice: NOTICE, tokenRequired: token !== null }),
+        waiting: context.readiness().waiting,
+      });
     case '/api/events':
       return openStream(context, req, res);
     case '/metrics': {
@@ -178,7 +187,17 @@ async function handleRead(
       return send(res, 200, context.metrics.registry.contentType, text);
     }
     case '/healthz':
-      return json(res, 200, { ok: true, mode: hub.opts.mode, alertsOpen: hub.store.openCount });
+      return json(res, 200, {
+        ok: true,
+        mode: hub.opts.mode,
+        alertsOpen: hub.store.openCount,
+        ready: context.readiness().ready,
+      });
+    case '/readyz': {
+      // 503 until the live feed follows its topics: a load balancer sends no operator here yet.
+      const state = context.readiness();
+      return json(res, state.ready ? 200 : 503, state);
+    }
     default:
       return fail(res, 404, 'not_found', `no such page or endpoint: ${path}`);
   }
@@ -224,8 +243,13 @@ export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard
     metrics: opts.metrics,
     token: opts.token,
     streams: new Set<ServerResponse>(),
+    readiness: () => opts.readiness?.state ?? ALWAYS_READY,
   };
   const { streams } = context;
+  // The page reloads on a readiness change (it then shows or hides what the board waits for).
+  const stopReadiness = opts.readiness?.subscribe((state) => {
+    for (const stream of streams) stream.write(`event: readiness\ndata: ${JSON.stringify(state)}\n\n`);
+  });
   const server = createServer((req, res) => {
     handle(context, req, res).catch((err: unknown) => {
       if (!res.headersSent)
@@ -246,6 +270,7 @@ export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard
   return new Promise((resolve, reject) => {
     // A port that cannot be taken leaves nothing running behind (the caller may try another).
     const failed = (err: unknown) => {
+      stopReadiness?.();
       clearInterval(ticker);
       clearInterval(heartbeat);
       // One line naming the port and --port; the node error stays as `cause` (demo reads its code).
@@ -261,6 +286,7 @@ export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard
         url: `http://${hostPart}:${addr.port}`,
         close: () =>
           new Promise<void>((done) => {
+            stopReadiness?.();
             clearInterval(ticker);
             clearInterval(heartbeat);
             for (const stream of streams) stream.end();

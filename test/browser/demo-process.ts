@@ -1,4 +1,4 @@
-/** Starts `streamfence demo` as a child process on a free port and returns its URL. */
+/** Starts `streamfence demo` (or another command that serves a board) as a child process on a free port and returns its URL. */
 import { spawn, type ChildProcess } from 'node:child_process';
 import { once } from 'node:events';
 
@@ -9,10 +9,10 @@ export interface DemoProcess {
   stop(): Promise<void>;
 }
 
-export async function startDemo(args: string[]): Promise<DemoProcess> {
+export async function startDemo(args: string[], command: 'demo' | 'board' = 'demo'): Promise<DemoProcess> {
   const child = spawn(
     process.execPath,
-    ['--import', 'tsx', 'services/cli/main.ts', 'demo', '--port', '0', ...args],
+    ['--import', 'tsx', 'services/cli/main.ts', command, '--port', '0', ...args],
     {
       cwd: process.cwd(),
       stdio: ['ignore', 'pipe', 'pipe'],
@@ -22,7 +22,10 @@ export async function startDemo(args: string[]): Promise<DemoProcess> {
   let err = '';
   child.stderr!.setEncoding('utf8').on('data', (c: string) => (err += c));
   const url = await new Promise<string>((resolve, reject) => {
-    const timer = setTimeout(() => reject(new Error(`demo did not start in 60 s; stderr: ${err}`)), 60_000);
+    const timer = setTimeout(
+      () => reject(new Error(`${command} did not start in 60 s; stderr: ${err}`)),
+      60_000,
+    );
     child.stdout!.setEncoding('utf8').on('data', (c: string) => {
       out += c;
       const m = /board at (http:\/\/\S+?)\/?\s/.exec(out);
@@ -33,7 +36,7 @@ export async function startDemo(args: string[]): Promise<DemoProcess> {
     });
     child.once('exit', (code) => {
       clearTimeout(timer);
-      reject(new Error(`demo exited with ${code}; stderr: ${err}`));
+      reject(new Error(`${command} exited with ${code}; stderr: ${err}`));
     });
   });
   return {

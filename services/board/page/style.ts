@@ -29,6 +29,7 @@ button[aria-pressed="true"] { background: #dde3ea; }
 .rate meter { width: 10rem; height: 1rem; }
 .rate .over { color: var(--crit); font-weight: 600; }
 .flood { margin: .6rem 1rem 0; padding: .6rem .8rem; border: 2px solid var(--crit); background: var(--crit-bg); color: var(--crit); font-weight: 600; border-radius: 4px; }
+.waiting { margin: .6rem 1rem 0; padding: .6rem .8rem; border: 2px dashed var(--warn); background: var(--warn-bg); color: var(--warn); font-weight: 600; border-radius: 4px; }
 .message { min-height: 1.4rem; margin: .3rem 1rem 0; font-size: .9rem; color: var(--muted); }
 .message.bad { color: var(--crit); }
 main { padding: 0 1rem; display: grid; gap: .5rem; }

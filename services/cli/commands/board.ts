@@ -25,7 +25,8 @@ import { BoardHub } from '../../board/hub.js';
 import { GROUP_ARG_OPTIONS, GROUP_HELP, readGroupRule } from '../../board/group-options.js';
 import { LiveFeed } from '../../board/live.js';
 import { createBoardMetrics, type LiveBoardMetrics } from '../../metrics/board-metrics.js';
-import { startBoardServer } from '../../board/server.js';
+import { BoardReadiness } from '../../board/readiness.js';
+import { startBoardServer, type RunningBoard } from '../../board/server.js';
 import {
   PORT_OR_ANY_RULE,
   numberOption,
@@ -143,22 +144,26 @@ function readRequest(args: ParsedArgs): BoardRequest {
 /** What the board's follower does, for ACL wording. */
 const readWhat = (request: BoardRequest): string => `read ${request.alertTopic} and ${request.actionTopic}`;
 
-/** One line and one count per retry, as `run` logs and counts its own. */
-function noteRetry(metrics: LiveBoardMetrics, outage: Outage, delayMs: number | null): void {
+/** One line and one count per retry, as `run` logs and counts its own; returns the line. */
+function noteRetry(metrics: LiveBoardMetrics, outage: Outage, delayMs: number | null): string {
   metrics.backoff.inc({ dependency: outage.dependency, cause: outage.cause });
-  process.stderr.write(`streamfence board: ${retryLine(outage, delayMs)}\n`);
+  const line = retryLine(outage, delayMs);
+  process.stderr.write(`streamfence board: ${line}\n`);
+  return line;
 }
 
 /**
  * Starts the feed, waiting out an unreachable Kafka or Redis as an outage that may end (as `run`
- * does): one line per attempt, retried until it answers or a stop signal comes. A refusal waiting
- * cannot fix (auth, certificate, ACL, a missing topic) is thrown (exit 2). Resolves 'stopped' when
- * a stop signal came first.
+ * does): one line per attempt, retried until it answers or a stop signal comes; the board (already
+ * serving) shows the same line and stays not ready meanwhile. A refusal waiting cannot fix (auth,
+ * certificate, ACL, a missing topic) is thrown (exit 2). Resolves 'stopped' when a stop signal
+ * came first.
  */
 async function startFeedWaitingOutOutages(
   feed: LiveFeed,
   redis: Redis,
   request: BoardRequest,
+  readiness: BoardReadiness,
   metrics: LiveBoardMetrics,
 ): Promise<'started' | 'stopped'> {
   const redisWatch = new RedisErrorWatch(redis);
@@ -175,6 +180,7 @@ async function startFeedWaitingOutOutages(
         await redis.ping();
         dependency = 'kafka';
         await feed.start();
+        readiness.markReady();
         return 'started';
       } catch (err) {
         // Whatever the feed opened (its producer) is closed, so a refused board exits at once.
@@ -191,7 +197,7 @@ async function startFeedWaitingOutOutages(
         const final = typed ?? outage!.refusal;
         if (final !== null) throw final;
         const delayMs = backoffDelay(attempt, 1_000);
-        noteRetry(metrics, outage!, delayMs);
+        readiness.wait(noteRetry(metrics, outage!, delayMs));
         await new Promise<void>((resolve) => {
           const timer = setTimeout(resolve, delayMs);
           wake = () => {
@@ -248,30 +254,36 @@ export async function main(argv: string[]): Promise<number> {
     onRetry: (err, delayMs) =>
       noteRetry(metrics, kafkaOutage(err, request.kafkaSettings, readWhat(request)), delayMs),
   });
-  let started: 'started' | 'stopped';
+  // Served before Kafka and Redis answer (the page says what it waits for; /readyz 503 until then),
+  // so a port in use is refused at once and a service manager sees the board alive while it waits.
+  const readiness = new BoardReadiness();
+  let board: RunningBoard;
   try {
-    started = await startFeedWaitingOutOutages(feed, redis, request, metrics);
+    board = await startBoardServer({
+      hub,
+      metrics,
+      host: request.host,
+      port: request.port,
+      token: request.token,
+      readiness,
+    });
   } catch (err) {
     redis.disconnect();
     throw err;
   }
-  if (started === 'stopped') {
+  process.stdout.write(`streamfence board: board at ${board.url}/\n`);
+  let started: 'started' | 'stopped';
+  try {
+    started = await startFeedWaitingOutOutages(feed, redis, request, readiness, metrics);
+  } catch (err) {
+    await board.close();
     redis.disconnect();
-    process.stderr.write('streamfence board: stopped\n');
-    return 0;
+    throw err;
   }
-  const board = await startBoardServer({
-    hub,
-    metrics,
-    host: request.host,
-    port: request.port,
-    token: request.token,
-  });
-  process.stdout.write(
-    `streamfence board: following ${alertTopic} and ${actionTopic}; board at ${board.url}/\n`,
-  );
-
-  await untilStopSignal();
+  if (started === 'started') {
+    process.stdout.write(`streamfence board: following ${alertTopic} and ${actionTopic}\n`);
+    await untilStopSignal();
+  }
   await board.close();
   await feed.stop();
   redis.disconnect();

@@ -50,7 +50,18 @@ const page: {
   /** The server refused the token (or there was none): wait for the operator to type it. */
   locked: boolean;
   stream: AbortController | null;
-} = { data: null, fetchedAt: 0, timer: null, shelveTarget: null, marked: false, locked: false, stream: null };
+  /** The event stream is open (the header says "live" unless the board waits for Kafka/Redis). */
+  live: boolean;
+} = {
+  data: null,
+  fetchedAt: 0,
+  timer: null,
+  shelveTarget: null,
+  marked: false,
+  locked: false,
+  stream: null,
+  live: false,
+};
 
 function byId<T extends HTMLElement = HTMLElement>(id: string): T {
   return document.getElementById(id) as T;
@@ -557,12 +568,37 @@ function render(): void {
   fill('cleared', cleared, []);
   renderRate(data.rate);
   renderHealth(data.health);
+  renderWaiting(data.waiting || null);
   if (data.tokenRequired) showToken(false);
   document.title = (active.length ? '(' + active.length + ') ' : '') + 'streamfence board';
   if (focused) {
     const again = document.querySelector<HTMLElement>('[data-key="' + focused.replace(/"/g, '') + '"]');
     if (again) again.focus();
   }
+}
+
+/**
+ * A live board that cannot follow its topics yet says so above the alerts, with the retry line its
+ * terminal shows, and its header says "waiting for Kafka/Redis" instead of "live".
+ */
+function renderWaiting(waiting: string | null): void {
+  const box = byId('waiting');
+  box.hidden = waiting === null;
+  box.textContent =
+    waiting === null
+      ? ''
+      : 'Waiting for Kafka/Redis: ' + waiting + '. Alerts appear here once the board can read them.';
+  showLink();
+}
+
+/** The header's link state: the event stream, and whether the board waits for Kafka/Redis. */
+function showLink(): void {
+  // Without the stream its own states stand ("connecting…", "connection lost — retrying").
+  if (page.locked || !page.live) return;
+  const link = byId('link');
+  const waiting = page.data !== null && Boolean(page.data.waiting);
+  link.textContent = waiting ? 'waiting for Kafka/Redis' : 'live';
+  link.className = waiting ? 'link down' : 'link';
 }
 
 /** The board token typed in the header, as request headers (none when the field is empty). */
@@ -588,6 +624,7 @@ function showToken(ask: boolean): void {
 /** The server refused the token: stop asking it until the operator types one. */
 function lock(): void {
   page.locked = true;
+  page.live = false;
   if (page.stream) page.stream.abort();
   page.stream = null;
   byId('link').textContent = 'waiting for the board token';
@@ -632,6 +669,7 @@ function openStream(): void {
   const retry = (): void => {
     if (page.stream === control) page.stream = null;
     if (page.locked || control.signal.aborted) return;
+    page.live = false;
     link.textContent = 'connection lost — retrying';
     link.className = 'link down';
     setTimeout(openStream, 3000);
@@ -643,8 +681,8 @@ function openStream(): void {
         return;
       }
       if (!response.ok || !response.body) return retry();
-      link.textContent = 'live';
-      link.className = 'link';
+      page.live = true;
+      showLink();
       const reader = response.body.getReader();
       const decoder = new TextDecoder();
       let buffered = '';
@@ -656,7 +694,7 @@ function openStream(): void {
           buffered = lines.pop() || '';
           lines.forEach((line) => {
             const kind = line.startsWith('event: ') ? line.slice(7).trim() : '';
-            if (kind === 'alert' || kind === 'action' || kind === 'returned') soon();
+            if (kind === 'alert' || kind === 'action' || kind === 'returned' || kind === 'readiness') soon();
           });
           return next();
         });
