@@ -57,7 +57,7 @@ const SEPARATOR = '/';
 
 /** Maps a sensor id to its asset, with the rule's globs compiled once. */
 export class AssetNamer {
-  private readonly globs: { test: (s: string) => boolean; keep: number }[];
+  private readonly globs: { test: (sensor: string) => boolean; keep: number }[];
 
   constructor(private readonly rule: GroupRule) {
     this.globs = rule.globs.map((glob) => {
@@ -70,9 +70,9 @@ export class AssetNamer {
   /** The asset a sensor belongs to, or null when it belongs to none. */
   assetOf(sensor: string): string | null {
     const parts = sensor.split(SEPARATOR);
-    for (const g of this.globs) {
-      if (g.test(sensor))
-        return g.keep > 0 && parts.length > g.keep ? parts.slice(0, g.keep).join(SEPARATOR) : null;
+    for (const glob of this.globs) {
+      if (glob.test(sensor))
+        return glob.keep > 0 && parts.length > glob.keep ? parts.slice(0, glob.keep).join(SEPARATOR) : null;
     }
     const depth = this.rule.depth;
     if (depth === null || parts.length <= depth) return null;
@@ -92,22 +92,24 @@ export function groupAlerts(
 ): AlertGroup[] {
   const open = alerts
     .filter((a) => a.status !== 'cleared')
-    .map((a) => ({ a, t: Date.parse(a.since) }))
-    .sort((x, y) => x.t - y.t || (x.a.id < y.a.id ? -1 : x.a.id > y.a.id ? 1 : 0));
+    .map((alert) => ({ alert, sinceMs: Date.parse(alert.since) }))
+    .sort(
+      (x, y) => x.sinceMs - y.sinceMs || (x.alert.id < y.alert.id ? -1 : x.alert.id > y.alert.id ? 1 : 0),
+    );
   const latest = new Map<string, { group: AlertGroup; startMs: number }>();
   const all: AlertGroup[] = [];
-  for (const { a, t } of open) {
-    const asset = namer.assetOf(a.sensor);
+  for (const { alert, sinceMs } of open) {
+    const asset = namer.assetOf(alert.sensor);
     if (asset === null) continue;
-    const status = a.status === 'shelved' ? 'shelved' : 'active';
+    const status = alert.status === 'shelved' ? 'shelved' : 'active';
     const key = `${status}\u0000${asset}`;
     const current = latest.get(key);
-    if (current !== undefined && t - current.startMs <= windowMs) {
-      current.group.members.push(a.id);
+    if (current !== undefined && sinceMs - current.startMs <= windowMs) {
+      current.group.members.push(alert.id);
       continue;
     }
-    const group: AlertGroup = { id: a.id, asset, status, firstOut: a.id, members: [a.id] };
-    latest.set(key, { group, startMs: t });
+    const group: AlertGroup = { id: alert.id, asset, status, firstOut: alert.id, members: [alert.id] };
+    latest.set(key, { group, startMs: sinceMs });
     all.push(group);
   }
   return all.filter((g) => g.members.length > 1);
@@ -116,7 +118,7 @@ export function groupAlerts(
 /** Which group each grouped alert belongs to (alert id -> group). */
 export function groupIndex(groups: readonly AlertGroup[]): Map<string, AlertGroup> {
   const byAlert = new Map<string, AlertGroup>();
-  for (const g of groups) for (const id of g.members) byAlert.set(id, g);
+  for (const group of groups) for (const id of group.members) byAlert.set(id, group);
   return byAlert;
 }
 

@@ -52,16 +52,16 @@ const GAP = '  ';
 
 /** "2026-03-02 08:15:00Z" from an ISO time (UTC, so lines from any machine compare). */
 export function shortTime(iso: string): string {
-  const t = Date.parse(iso);
-  if (!Number.isFinite(t)) return iso;
-  return new Date(t)
+  const ms = Date.parse(iso);
+  if (!Number.isFinite(ms)) return iso;
+  return new Date(ms)
     .toISOString()
     .replace('T', ' ')
     .replace(/\.\d{3}Z$/, 'Z');
 }
 
-function paint(s: string, codes: string, style: LineStyle): string {
-  return style.color ? `${codes}${s}${ANSI.reset}` : s;
+function paint(text: string, codes: string, style: LineStyle): string {
+  return style.color ? `${codes}${text}${ANSI.reset}` : text;
 }
 
 /**
@@ -112,22 +112,24 @@ function compose(
 }
 
 /** The message without a leading repeat of the sensor name (the line shows it already). */
-function detailOf(ev: AlertEvent): string {
-  return ev.message.startsWith(`${ev.sensor} `) ? ev.message.slice(ev.sensor.length + 1) : ev.message;
+function detailOf(event: AlertEvent): string {
+  return event.message.startsWith(`${event.sensor} `)
+    ? event.message.slice(event.sensor.length + 1)
+    : event.message;
 }
 
 /** One terminal line for an alert event: time, severity mark, what happened, sensor, group tag, message. */
-export function eventLine(ev: AlertEvent, style: LineStyle, group: GroupMark | null = null): string {
-  const cleared = ev.state === 'cleared';
+export function eventLine(event: AlertEvent, style: LineStyle, group: GroupMark | null = null): string {
+  const cleared = event.state === 'cleared';
   return compose(
     {
-      time: shortTime(ev.ts),
-      mark: cleared ? CLEARED_MARK : SEVERITY_MARK[ev.severity],
-      markCodes: cleared ? ANSI.dim : ev.severity === 'critical' ? ANSI.bold + ANSI.red : ANSI.yellow,
-      what: WHAT[ev.state],
-      sensor: ev.sensor,
+      time: shortTime(event.ts),
+      mark: cleared ? CLEARED_MARK : SEVERITY_MARK[event.severity],
+      markCodes: cleared ? ANSI.dim : event.severity === 'critical' ? ANSI.bold + ANSI.red : ANSI.yellow,
+      what: WHAT[event.state],
+      sensor: event.sensor,
       group: group === null ? null : groupTag(group),
-      detail: style.wide === true ? ev.message : detailOf(ev),
+      detail: style.wide === true ? event.message : detailOf(event),
     },
     style,
   );

@@ -34,16 +34,16 @@ export class RateMeter {
 
   /** Counts a raise at event time `ts`. */
   record(ts: number): void {
-    const t = this.times;
+    const times = this.times;
     // Keep ascending order even if a raise arrives slightly out of order.
-    let i = t.length;
-    while (i > 0 && t[i - 1] > ts) i--;
-    t.splice(i, 0, ts);
+    let i = times.length;
+    while (i > 0 && times[i - 1] > ts) i--;
+    times.splice(i, 0, ts);
     // Bounded even when nobody reads the meter: nothing older than an hour before the newest raise.
-    const newest = t[t.length - 1];
+    const newest = times[times.length - 1];
     let drop = 0;
-    while (drop < t.length && t[drop] <= newest - HOUR) drop++;
-    if (drop > 0) t.splice(0, drop);
+    while (drop < times.length && times[drop] <= newest - HOUR) drop++;
+    if (drop > 0) times.splice(0, drop);
   }
 
   /** Raise times held (for tests of the bound). */
@@ -53,13 +53,13 @@ export class RateMeter {
 
   /** Raises in the hour before `now`, and whether that is a flood; drops older times. */
   read(now: number): RateReading {
-    const t = this.times;
+    const times = this.times;
     let drop = 0;
-    while (drop < t.length && t[drop] <= now - HOUR) drop++;
-    if (drop > 0) t.splice(0, drop);
+    while (drop < times.length && times[drop] <= now - HOUR) drop++;
+    if (drop > 0) times.splice(0, drop);
     let hour = 0;
     let ten = 0;
-    for (const x of t) {
+    for (const x of times) {
       if (x > now) continue; // not yet happened at `now`
       hour++;
       if (x > now - TEN_MIN) ten++;

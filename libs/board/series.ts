@@ -21,31 +21,33 @@ export class RecentSeries {
   ) {}
 
   /** Appends a point to the sensor's ring, evicting the least recently touched sensor when full. */
-  add(sensor: string, p: SeriesPoint): void {
-    let r = this.rings.get(sensor);
-    if (r === undefined) {
+  add(sensor: string, point: SeriesPoint): void {
+    let ring = this.rings.get(sensor);
+    if (ring === undefined) {
       if (this.rings.size >= this.maxSensors) {
         // Evict the sensor touched longest ago (Map keeps insertion order; we re-insert on touch).
         const oldest = this.rings.keys().next().value as string;
         this.rings.delete(oldest);
       }
-      r = { pts: [], pos: 0 };
+      ring = { pts: [], pos: 0 };
     } else {
       this.rings.delete(sensor);
     }
-    this.rings.set(sensor, r);
-    if (r.pts.length < this.perSensor) r.pts.push(p);
+    this.rings.set(sensor, ring);
+    if (ring.pts.length < this.perSensor) ring.pts.push(point);
     else {
-      r.pts[r.pos] = p;
-      r.pos = (r.pos + 1) % this.perSensor;
+      ring.pts[ring.pos] = point;
+      ring.pos = (ring.pos + 1) % this.perSensor;
     }
   }
 
   /** The sensor's points, oldest first. */
   get(sensor: string): SeriesPoint[] {
-    const r = this.rings.get(sensor);
-    if (r === undefined) return [];
-    return r.pts.length < this.perSensor ? [...r.pts] : [...r.pts.slice(r.pos), ...r.pts.slice(0, r.pos)];
+    const ring = this.rings.get(sensor);
+    if (ring === undefined) return [];
+    return ring.pts.length < this.perSensor
+      ? [...ring.pts]
+      : [...ring.pts.slice(ring.pos), ...ring.pts.slice(0, ring.pos)];
   }
 
   /** Sensors that have a ring. */

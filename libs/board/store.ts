@@ -88,51 +88,51 @@ export class BoardStore {
   }
 
   /** Apply one alert event; returns the alert as it now stands, or null for a replayed duplicate it ignored. */
-  applyEvent(ev: AlertEvent, now: number): BoardAlert | null {
+  applyEvent(event: AlertEvent, now: number): BoardAlert | null {
     const at = new Date(now).toISOString();
-    const prev = this.open.get(ev.id);
-    if (ev.state === 'cleared') {
-      const base = prev ?? this.cleared.find((a) => a.id === ev.id);
+    const prev = this.open.get(event.id);
+    if (event.state === 'cleared') {
+      const base = prev ?? this.cleared.find((a) => a.id === event.id);
       if (prev === undefined && base !== undefined) return base; // duplicate clear (replayed topic)
       const was = base ?? {
         ...blank(at),
         status: 'cleared' as const,
-        reasons: ev.reasons,
-        severity: ev.severity,
+        reasons: event.reasons,
+        severity: event.severity,
       };
       // A clear carries no reasons; keep the last known ones so the history says why it was raised.
       const done = compose(
-        { ...ev, reasons: was.reasons, severity: was.severity },
+        { ...event, reasons: was.reasons, severity: was.severity },
         { ...fieldsOf(was), status: 'cleared', shelvedUntil: null, changedAt: at },
       );
-      this.open.delete(ev.id);
+      this.open.delete(event.id);
       this.cleared.unshift(done);
       if (this.cleared.length > this.clearedKeep) this.cleared.length = this.clearedKeep;
       return done;
     }
     if (prev === undefined) {
-      if (this.cleared.some((a) => a.id === ev.id)) return null; // late duplicate of a cleared alert
-      const a = compose(ev, { ...blank(at), status: 'active' });
-      this.open.set(ev.id, a);
-      return a;
+      if (this.cleared.some((a) => a.id === event.id)) return null; // late duplicate of a cleared alert
+      const raised = compose(event, { ...blank(at), status: 'active' });
+      this.open.set(event.id, raised);
+      return raised;
     }
     // Escalation undoes an acknowledgement: the operator saw a milder alert than the one now standing.
-    const escalated = severityRank(ev.severity) > severityRank(prev.severity);
-    const next = compose(ev, { ...fieldsOf(prev), changedAt: at });
+    const escalated = severityRank(event.severity) > severityRank(prev.severity);
+    const next = compose(event, { ...fieldsOf(prev), changedAt: at });
     if (escalated) {
       next.acknowledged = false;
       next.acknowledgedBy = null;
       next.acknowledgedAt = null;
       next.laterAcknowledgements = [];
     }
-    this.open.set(ev.id, next);
+    this.open.set(event.id, next);
     return next;
   }
 
   /** Apply an operator action (already validated by checkAction, or replayed from the shared log). */
   applyAction(act: OperatorAction, now: number): ActionResult {
-    const a = this.open.get(act.id);
-    if (a === undefined) {
+    const alert = this.open.get(act.id);
+    if (alert === undefined) {
       if (this.cleared.some((c) => c.id === act.id)) {
         return {
           ok: false,
@@ -152,19 +152,19 @@ export class BoardStore {
       case 'acknowledge':
         // The first acknowledgement stands: a later one is shared and announced as an action and
         // listed on the alert, but never overwrites who acknowledged first and when.
-        if (a.acknowledged) {
-          const seen = a.laterAcknowledgements.some((l) => l.by === act.by && l.at === act.at);
-          if (seen || (a.acknowledgedBy === act.by && a.acknowledgedAt === act.at))
-            return { ok: true, alert: a };
-          next = change(a, {
-            laterAcknowledgements: [...a.laterAcknowledgements, { by: act.by, at: act.at }].slice(
+        if (alert.acknowledged) {
+          const seen = alert.laterAcknowledgements.some((l) => l.by === act.by && l.at === act.at);
+          if (seen || (alert.acknowledgedBy === act.by && alert.acknowledgedAt === act.at))
+            return { ok: true, alert: alert };
+          next = change(alert, {
+            laterAcknowledgements: [...alert.laterAcknowledgements, { by: act.by, at: act.at }].slice(
               -LATER_ACKS_KEPT,
             ),
             changedAt: at,
           });
           break;
         }
-        next = change(a, {
+        next = change(alert, {
           acknowledged: true,
           acknowledgedBy: act.by,
           acknowledgedAt: act.at,
@@ -177,9 +177,9 @@ export class BoardStore {
         }
         if (Date.parse(act.until) <= now) {
           // A replayed shelf that has already run out changes nothing.
-          return { ok: true, alert: a };
+          return { ok: true, alert: alert };
         }
-        next = change(a, {
+        next = change(alert, {
           status: 'shelved',
           shelvedUntil: act.until,
           shelveReason: act.reason,
@@ -189,10 +189,10 @@ export class BoardStore {
         break;
       }
       case 'unshelve':
-        if (a.status !== 'shelved') {
+        if (alert.status !== 'shelved') {
           return { ok: false, error: 'conflict', message: `alert ${act.id} is not shelved` };
         }
-        next = change(a, { status: 'active', shelvedUntil: null, changedAt: at });
+        next = change(alert, { status: 'active', shelvedUntil: null, changedAt: at });
         break;
     }
     this.open.set(act.id, next);
@@ -203,10 +203,14 @@ export class BoardStore {
   expireShelves(now: number): BoardAlert[] {
     const back: BoardAlert[] = [];
     const at = new Date(now).toISOString();
-    for (const a of this.open.values()) {
-      if (a.status === 'shelved' && a.shelvedUntil !== null && Date.parse(a.shelvedUntil) <= now) {
-        const next = change(a, { status: 'active', shelvedUntil: null, changedAt: at });
-        this.open.set(a.id, next);
+    for (const alert of this.open.values()) {
+      if (
+        alert.status === 'shelved' &&
+        alert.shelvedUntil !== null &&
+        Date.parse(alert.shelvedUntil) <= now
+      ) {
+        const next = change(alert, { status: 'active', shelvedUntil: null, changedAt: at });
+        this.open.set(alert.id, next);
         back.push(next);
       }
     }
@@ -222,7 +226,7 @@ export class BoardStore {
   list(): BoardAlert[] {
     const active: BoardAlert[] = [];
     const shelved: BoardAlert[] = [];
-    for (const a of this.open.values()) (a.status === 'shelved' ? shelved : active).push(a);
+    for (const alert of this.open.values()) (alert.status === 'shelved' ? shelved : active).push(alert);
     active.sort(
       (x, y) =>
         severityRank(y.severity) - severityRank(x.severity) ||
@@ -235,10 +239,10 @@ export class BoardStore {
 
   /** Sensors that currently have an alert on the board (open or recently cleared). */
   sensorsShown(): Set<string> {
-    const s = new Set<string>();
-    for (const a of this.open.values()) s.add(a.sensor);
-    for (const a of this.cleared) s.add(a.sensor);
-    return s;
+    const sensors = new Set<string>();
+    for (const alert of this.open.values()) sensors.add(alert.sensor);
+    for (const alert of this.cleared) sensors.add(alert.sensor);
+    return sensors;
   }
 
   /** Alerts currently open (active or shelved). */
@@ -253,61 +257,61 @@ type BoardFields = Omit<BoardAlert, keyof AlertEvent>;
  * Build a board alert with every field in one fixed order. Object spreads of these wide objects
  * were the board's main cost (V8 falls back to slow property stores); one literal shape keeps it fast.
  */
-function compose(ev: AlertEvent, f: BoardFields): BoardAlert {
+function compose(event: AlertEvent, fields: BoardFields): BoardAlert {
   return {
-    id: ev.id,
-    sensor: ev.sensor,
-    state: ev.state,
-    severity: ev.severity,
-    reasons: ev.reasons,
-    value: ev.value,
-    ts: ev.ts,
-    since: ev.since,
-    flaggedReadings: ev.flaggedReadings,
-    baseline: ev.baseline,
-    z: ev.z,
-    robustZ: ev.robustZ,
-    percentileRank: ev.percentileRank,
-    message: ev.message,
-    notice: ev.notice,
-    status: f.status,
-    acknowledged: f.acknowledged,
-    acknowledgedBy: f.acknowledgedBy,
-    acknowledgedAt: f.acknowledgedAt,
-    laterAcknowledgements: f.laterAcknowledgements,
-    shelvedUntil: f.shelvedUntil,
-    shelveReason: f.shelveReason,
-    shelvedBy: f.shelvedBy,
-    changedAt: f.changedAt,
+    id: event.id,
+    sensor: event.sensor,
+    state: event.state,
+    severity: event.severity,
+    reasons: event.reasons,
+    value: event.value,
+    ts: event.ts,
+    since: event.since,
+    flaggedReadings: event.flaggedReadings,
+    baseline: event.baseline,
+    z: event.z,
+    robustZ: event.robustZ,
+    percentileRank: event.percentileRank,
+    message: event.message,
+    notice: event.notice,
+    status: fields.status,
+    acknowledged: fields.acknowledged,
+    acknowledgedBy: fields.acknowledgedBy,
+    acknowledgedAt: fields.acknowledgedAt,
+    laterAcknowledgements: fields.laterAcknowledgements,
+    shelvedUntil: fields.shelvedUntil,
+    shelveReason: fields.shelveReason,
+    shelvedBy: fields.shelvedBy,
+    changedAt: fields.changedAt,
   };
 }
 
-function fieldsOf(a: BoardFields): BoardFields {
+function fieldsOf(alert: BoardFields): BoardFields {
   return {
-    status: a.status,
-    acknowledged: a.acknowledged,
-    acknowledgedBy: a.acknowledgedBy,
-    acknowledgedAt: a.acknowledgedAt,
-    laterAcknowledgements: a.laterAcknowledgements,
-    shelvedUntil: a.shelvedUntil,
-    shelveReason: a.shelveReason,
-    shelvedBy: a.shelvedBy,
-    changedAt: a.changedAt,
+    status: alert.status,
+    acknowledged: alert.acknowledged,
+    acknowledgedBy: alert.acknowledgedBy,
+    acknowledgedAt: alert.acknowledgedAt,
+    laterAcknowledgements: alert.laterAcknowledgements,
+    shelvedUntil: alert.shelvedUntil,
+    shelveReason: alert.shelveReason,
+    shelvedBy: alert.shelvedBy,
+    changedAt: alert.changedAt,
   };
 }
 
 /** A copy of `a` with some board fields changed. */
-function change(a: BoardAlert, f: Partial<BoardFields>): BoardAlert {
-  return compose(a, {
-    status: f.status ?? a.status,
-    acknowledged: f.acknowledged ?? a.acknowledged,
-    acknowledgedBy: f.acknowledgedBy !== undefined ? f.acknowledgedBy : a.acknowledgedBy,
-    acknowledgedAt: f.acknowledgedAt !== undefined ? f.acknowledgedAt : a.acknowledgedAt,
-    laterAcknowledgements: f.laterAcknowledgements ?? a.laterAcknowledgements,
-    shelvedUntil: f.shelvedUntil !== undefined ? f.shelvedUntil : a.shelvedUntil,
-    shelveReason: f.shelveReason !== undefined ? f.shelveReason : a.shelveReason,
-    shelvedBy: f.shelvedBy !== undefined ? f.shelvedBy : a.shelvedBy,
-    changedAt: f.changedAt ?? a.changedAt,
+function change(alert: BoardAlert, fields: Partial<BoardFields>): BoardAlert {
+  return compose(alert, {
+    status: fields.status ?? alert.status,
+    acknowledged: fields.acknowledged ?? alert.acknowledged,
+    acknowledgedBy: fields.acknowledgedBy !== undefined ? fields.acknowledgedBy : alert.acknowledgedBy,
+    acknowledgedAt: fields.acknowledgedAt !== undefined ? fields.acknowledgedAt : alert.acknowledgedAt,
+    laterAcknowledgements: fields.laterAcknowledgements ?? alert.laterAcknowledgements,
+    shelvedUntil: fields.shelvedUntil !== undefined ? fields.shelvedUntil : alert.shelvedUntil,
+    shelveReason: fields.shelveReason !== undefined ? fields.shelveReason : alert.shelveReason,
+    shelvedBy: fields.shelvedBy !== undefined ? fields.shelvedBy : alert.shelvedBy,
+    changedAt: fields.changedAt ?? alert.changedAt,
   });
 }
 
@@ -335,42 +339,43 @@ export function checkAction(kind: ActionKind, id: string, body: unknown, now: nu
   if (body !== undefined && (typeof body !== 'object' || body === null || Array.isArray(body))) {
     return { ok: false, message: 'the request body must be a JSON object' };
   }
-  const b = (body ?? {}) as Record<string, unknown>;
+  const fields = (body ?? {}) as Record<string, unknown>;
   const allowed = kind === 'shelve' ? ['by', 'reason', 'minutes'] : ['by'];
-  for (const k of Object.keys(b)) {
-    if (!allowed.includes(k))
-      return { ok: false, message: `unknown field "${k}"; allowed: ${allowed.join(', ')}` };
+  for (const key of Object.keys(fields)) {
+    if (!allowed.includes(key))
+      return { ok: false, message: `unknown field "${key}"; allowed: ${allowed.join(', ')}` };
   }
   let by = UNNAMED;
-  if (b.by !== undefined && b.by !== null) {
-    if (typeof b.by !== 'string') return { ok: false, message: '"by" must be the operator name as a string' };
-    const t = b.by.trim();
-    if (t.length > OPERATOR_NAME_MAX)
+  if (fields.by !== undefined && fields.by !== null) {
+    if (typeof fields.by !== 'string')
+      return { ok: false, message: '"by" must be the operator name as a string' };
+    const name = fields.by.trim();
+    if (name.length > OPERATOR_NAME_MAX)
       return { ok: false, message: `"by" must be at most ${OPERATOR_NAME_MAX} characters` };
-    if (t.length > 0) by = t;
+    if (name.length > 0) by = name;
   }
   const at = new Date(now).toISOString();
   if (kind !== 'shelve') return { ok: true, action: { kind, id, by, at } };
 
-  if (typeof b.reason !== 'string' || b.reason.trim().length === 0) {
+  if (typeof fields.reason !== 'string' || fields.reason.trim().length === 0) {
     return { ok: false, message: '"reason" is required to shelve: say why the alert can wait' };
   }
-  const reason = b.reason.trim();
+  const reason = fields.reason.trim();
   if (reason.length > SHELF_LIMITS.maxReasonChars) {
     return { ok: false, message: `"reason" must be at most ${SHELF_LIMITS.maxReasonChars} characters` };
   }
-  const m = b.minutes;
+  const minutes = fields.minutes;
   if (
-    typeof m !== 'number' ||
-    !Number.isFinite(m) ||
-    m < SHELF_LIMITS.minMinutes ||
-    m > SHELF_LIMITS.maxMinutes
+    typeof minutes !== 'number' ||
+    !Number.isFinite(minutes) ||
+    minutes < SHELF_LIMITS.minMinutes ||
+    minutes > SHELF_LIMITS.maxMinutes
   ) {
     return {
       ok: false,
       message: `"minutes" must be a number from ${SHELF_LIMITS.minMinutes} to ${SHELF_LIMITS.maxMinutes} (e.g. 15, 60 or 480)`,
     };
   }
-  const until = new Date(now + Math.round(m * 60_000)).toISOString();
+  const until = new Date(now + Math.round(minutes * 60_000)).toISOString();
   return { ok: true, action: { kind, id, by, at, reason, until } };
 }

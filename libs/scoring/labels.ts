@@ -51,8 +51,8 @@ export function splitCsvLine(line: string): string[] | null {
   }
 }
 
-function csvField(s: string): string {
-  return /[",\n\r]/.test(s) || s !== s.trim() ? `"${s.replace(/"/g, '""')}"` : s;
+function csvField(text: string): string {
+  return /[",\n\r]/.test(text) || text !== text.trim() ? `"${text.replace(/"/g, '""')}"` : text;
 }
 
 /**
@@ -74,29 +74,29 @@ export function parseLabelsCsv(text: string, source = 'labels'): Incident[] {
     if (fields === null) fail(lineNo, 'unbalanced double quotes');
     if (col === null) {
       const names = fields!.map((f) => f.trim().toLowerCase());
-      const c: Record<string, number> = {};
-      for (const n of [...REQUIRED, 'kind']) {
-        const at = names.indexOf(n);
-        if (at >= 0) c[n] = at;
+      const columnIndex: Record<string, number> = {};
+      for (const name of [...REQUIRED, 'kind']) {
+        const at = names.indexOf(name);
+        if (at >= 0) columnIndex[name] = at;
       }
-      const missing = REQUIRED.filter((n) => c[n] === undefined);
+      const missing = REQUIRED.filter((n) => columnIndex[n] === undefined);
       if (missing.length > 0) {
         fail(
           lineNo,
           `the header must name the columns sensor, start, end (and optionally kind); missing ${missing.join(', ')}`,
         );
       }
-      col = c;
+      col = columnIndex;
       return;
     }
     const get = (n: string): string => (col![n] === undefined ? '' : (fields![col![n]] ?? ''));
     const sensor = get('sensor');
     if (sensor === '') fail(lineNo, 'the sensor is empty');
     const times: number[] = [];
-    for (const n of ['start', 'end']) {
-      const t = parseTimestamp(get(n));
-      if (!t.ok) fail(lineNo, `${n}: ${t.detail}`);
-      else times.push(t.ts);
+    for (const name of ['start', 'end']) {
+      const parsed = parseTimestamp(get(name));
+      if (!parsed.ok) fail(lineNo, `${name}: ${parsed.detail}`);
+      else times.push(parsed.ts);
     }
     if (times[1] < times[0]) fail(lineNo, `end (${get('end')}) is before start (${get('start')})`);
     out.push({ sensor, start: times[0], end: times[1], kind: get('kind') });
@@ -115,13 +115,13 @@ export function formatLabelsCsv(
   labels: readonly { sensor: string; start: number; end: number; kind?: string }[],
 ): string {
   const rows = ['sensor,start,end,kind'];
-  for (const l of labels) {
+  for (const label of labels) {
     rows.push(
       [
-        csvField(l.sensor),
-        new Date(l.start).toISOString(),
-        new Date(l.end).toISOString(),
-        csvField(l.kind ?? ''),
+        csvField(label.sensor),
+        new Date(label.start).toISOString(),
+        new Date(label.end).toISOString(),
+        csvField(label.kind ?? ''),
       ].join(','),
     );
   }
@@ -153,11 +153,11 @@ export function labelWarnings(
   const out: string[] = [];
   if (absentCount > 0)
     out.push(
-      `${absentCount} labels name sensors that never appear in the data (${examples([...absent])}); they count as missed: check the sensor names in the labels file`,
+      `${absentCount === 1 ? '1 label names a sensor that never appears' : `${absentCount} labels name sensors that never appear`} in the data (${examples([...absent])}); they count as missed: check the sensor names in the labels file`,
     );
   if (outside.length > 0)
     out.push(
-      `${outside.length} labels lie outside the data's time span ${new Date(dataStart).toISOString()} to ${new Date(dataEnd).toISOString()} (${examples(outside.map((i) => `${i.sensor} ${new Date(i.start).toISOString()}`))}); they count as missed: check the labels' times and zone`,
+      `${outside.length === 1 ? '1 label lies' : `${outside.length} labels lie`} outside the data's time span ${new Date(dataStart).toISOString()} to ${new Date(dataEnd).toISOString()} (${examples(outside.map((i) => `${i.sensor} ${new Date(i.start).toISOString()}`))}); they count as missed: check the labels' times and zone`,
     );
   return out;
 }

@@ -128,10 +128,10 @@ export function worstWindow(times: readonly number[], width: number): number {
 /** Raise times per sensor, sorted. */
 function raisesBySensor(raised: readonly RaisedAlert[]): Map<string, number[]> {
   const alertsBy = new Map<string, number[]>();
-  for (const a of raised) {
-    let list = alertsBy.get(a.sensor);
-    if (list === undefined) alertsBy.set(a.sensor, (list = []));
-    list.push(a.ts);
+  for (const alert of raised) {
+    let list = alertsBy.get(alert.sensor);
+    if (list === undefined) alertsBy.set(alert.sensor, (list = []));
+    list.push(alert.ts);
   }
   for (const list of alertsBy.values()) list.sort((a, b) => a - b);
   return alertsBy;
@@ -165,10 +165,10 @@ export function score(
 
   // Alert times per sensor, sorted, for "any alert in [start, end + grace]".
   const alertsBy = new Map<string, number[]>();
-  for (const a of raised) {
-    let list = alertsBy.get(a.sensor);
-    if (list === undefined) alertsBy.set(a.sensor, (list = []));
-    list.push(a.ts);
+  for (const alert of raised) {
+    let list = alertsBy.get(alert.sensor);
+    if (list === undefined) alertsBy.set(alert.sensor, (list = []));
+    list.push(alert.ts);
   }
   for (const list of alertsBy.values()) list.sort((a, b) => a - b);
 
@@ -180,23 +180,23 @@ export function score(
     const at = list === undefined ? -1 : lastAtOrBefore(list, inc.end + grace);
     const hit = at >= 0 && list![at] >= inc.start;
     const kind = inc.kind === '' ? NO_KIND : inc.kind;
-    const k = (byKind[kind] ??= { incidents: 0, caught: 0, recall: null });
-    k.incidents++;
-    if (hit) k.caught++;
+    const kindScore = (byKind[kind] ??= { incidents: 0, caught: 0, recall: null });
+    kindScore.incidents++;
+    if (hit) kindScore.caught++;
     if (!exclude.has(kind)) {
       counted++;
       if (hit) caught++;
     }
   }
-  for (const k of Object.values(byKind)) k.recall = k.caught / k.incidents;
+  for (const kindScore of Object.values(byKind)) kindScore.recall = kindScore.caught / kindScore.incidents;
 
   const intervals = indexIncidents(incidents, grace);
   let trueRaised = 0;
-  for (const a of raised) {
-    const iv = intervals.get(a.sensor);
-    if (iv === undefined) continue;
-    const at = lastAtOrBefore(iv.starts, a.ts);
-    if (at >= 0 && iv.reach[at] >= a.ts) trueRaised++;
+  for (const alert of raised) {
+    const sensorIntervals = intervals.get(alert.sensor);
+    if (sensorIntervals === undefined) continue;
+    const at = lastAtOrBefore(sensorIntervals.starts, alert.ts);
+    if (at >= 0 && sensorIntervals.reach[at] >= alert.ts) trueRaised++;
   }
 
   const hours = Math.max(0, opts.dataEnd - opts.dataStart) / 3_600_000;

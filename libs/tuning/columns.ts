@@ -21,12 +21,12 @@ const QUALITY_CODE: Readonly<Record<DoubtfulQuality, number>> = { uncertain: 1, 
 const QUALITY_OF_CODE: readonly (DoubtfulQuality | undefined)[] = [undefined, 'uncertain', 'bad'];
 
 /** Reading i of the columns, as the engine takes it. */
-export function readingAt(c: ReadingColumns, i: number): Reading {
-  const quality = QUALITY_OF_CODE[c.quality[i]];
-  const sensor = c.names[c.sensor[i]];
+export function readingAt(columns: ReadingColumns, i: number): Reading {
+  const quality = QUALITY_OF_CODE[columns.quality[i]];
+  const sensor = columns.names[columns.sensor[i]];
   return quality === undefined
-    ? { sensor, ts: c.ts[i], value: c.value[i] }
-    : { sensor, ts: c.ts[i], value: c.value[i], quality };
+    ? { sensor, ts: columns.ts[i], value: columns.value[i] }
+    : { sensor, ts: columns.ts[i], value: columns.value[i], quality };
 }
 
 /** Grows typed arrays by doubling while readings are appended; `finish` copies them to shared memory. */
@@ -58,46 +58,44 @@ export class ColumnBuilder {
   }
 
   private grow(): void {
-    const n = this.ts.length * 2;
-    const s = new Uint32Array(n);
-    s.set(this.sensor);
-    const t = new Float64Array(n);
-    t.set(this.ts);
-    const v = new Float64Array(n);
-    v.set(this.value);
-    const q = new Uint8Array(n);
-    q.set(this.quality);
-    this.sensor = s;
-    this.ts = t;
-    this.value = v;
-    this.quality = q;
+    const size = this.ts.length * 2;
+    this.sensor = copyInto(new Uint32Array(size), this.sensor);
+    this.ts = copyInto(new Float64Array(size), this.ts);
+    this.value = copyInto(new Float64Array(size), this.value);
+    this.quality = copyInto(new Uint8Array(size), this.quality);
   }
 
   /** The columns, each on a SharedArrayBuffer of exactly `count` entries. */
   finish(): ReadingColumns {
-    const n = this.count;
-    const sensor = new Uint32Array(new SharedArrayBuffer(Math.max(1, n) * 4), 0, n);
-    sensor.set(this.sensor.subarray(0, n));
-    const ts = new Float64Array(new SharedArrayBuffer(Math.max(1, n) * 8), 0, n);
-    ts.set(this.ts.subarray(0, n));
-    const value = new Float64Array(new SharedArrayBuffer(Math.max(1, n) * 8), 0, n);
-    value.set(this.value.subarray(0, n));
-    const quality = new Uint8Array(new SharedArrayBuffer(Math.max(1, n)), 0, n);
-    quality.set(this.quality.subarray(0, n));
-    return { names: [...this.names], sensor, ts, value, quality, count: n };
+    const count = this.count;
+    const sensor = new Uint32Array(new SharedArrayBuffer(Math.max(1, count) * 4), 0, count);
+    sensor.set(this.sensor.subarray(0, count));
+    const ts = new Float64Array(new SharedArrayBuffer(Math.max(1, count) * 8), 0, count);
+    ts.set(this.ts.subarray(0, count));
+    const value = new Float64Array(new SharedArrayBuffer(Math.max(1, count) * 8), 0, count);
+    value.set(this.value.subarray(0, count));
+    const quality = new Uint8Array(new SharedArrayBuffer(Math.max(1, count)), 0, count);
+    quality.set(this.quality.subarray(0, count));
+    return { names: [...this.names], sensor, ts, value, quality, count };
   }
 }
 
 /** First and last reading time (the data span the alert rate is measured over). */
-export function spanOf(c: ReadingColumns): { first: number; last: number } {
+export function spanOf(columns: ReadingColumns): { first: number; last: number } {
   let first = Infinity;
   let last = -Infinity;
-  for (let i = 0; i < c.count; i++) {
-    const t = c.ts[i];
-    if (t < first) first = t;
-    if (t > last) last = t;
+  for (let i = 0; i < columns.count; i++) {
+    const ts = columns.ts[i];
+    if (ts < first) first = ts;
+    if (ts > last) last = ts;
   }
-  return c.count === 0 ? { first: 0, last: 0 } : { first, last };
+  return columns.count === 0 ? { first: 0, last: 0 } : { first, last };
+}
+
+/** `target` after copying `source` into its start. */
+function copyInto<T extends Uint32Array | Float64Array | Uint8Array>(target: T, source: T): T {
+  target.set(source);
+  return target;
 }
 
 /** Intervals sampled per sensor for {@link medianReadingInterval} (bounds its memory and time). */

@@ -151,6 +151,28 @@ function pointsForData(
   return expandGrid(spec, base.defaults, interval ?? undefined);
 }
 
+/**
+ * The console line saying which time-of-day profile every grid point keeps: the grid varies the
+ * judging thresholds only, never `profile`, `timeZone` or `profileDays` (a profile changes what the
+ * baseline is, not how strictly it is applied); compare profiles by tuning once per config
+ * (README "Daily profiles on history").
+ */
+export function profileNote(base: EngineConfig): string {
+  const d = base.defaults;
+  const own =
+    d.profile === 'daily'
+      ? `profile daily, timeZone ${d.timeZone}, profileDays ${d.profileDays}`
+      : 'profile none';
+  const overridden = base.sensors.filter((rule) =>
+    (['profile', 'timeZone', 'profileDays'] as const).some((key) => rule.overrides[key] !== undefined),
+  );
+  const rules =
+    overridden.length === 0
+      ? ''
+      : ` and the profile overrides of ${overridden.map((rule) => `"${rule.match}"`).join(', ')}`;
+  return `tune: every point keeps the config's profile setting (${own}${rules}); the grid does not vary profile, timeZone or profileDays: tune once per setting to compare them`;
+}
+
 /** Replay and score the labelled history with every grid point, recommend one and write the outputs. */
 export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   const stream = o.stream ?? process.stderr;
@@ -165,6 +187,7 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   // The output folder is made now, so a path that cannot take it fails before the grid runs.
   await prepareOutDir(o.out);
   o.onStart?.();
+  stream.write(`${profileNote(base)}\n`);
 
   const started = performance.now();
   const loaded = await loadInput(o, stream);
@@ -188,7 +211,7 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   const results = evaluations.map((e, index) => pointResult(index, points[index], e));
   const rec = recommend(results, budget);
   const warnings = labelWarnings(incidents, new Set(cols.names), first, last);
-  for (const w of warnings) stream.write(`tune: warning: ${w}\n`);
+  for (const w of warnings) stream.write(`streamfence tune: warning: ${w}\n`);
   const result = tuningResult({ o, loaded, interval, incidents, warnings, scoreOptions, budget, base, spec });
   result.points = results;
   result.pointCount = points.length;
@@ -209,7 +232,7 @@ export async function runTune(o: TuneOptions): Promise<TuneOutcome> {
   const seconds = (performance.now() - started) / 1000;
   for (const line of comparisonTable(result)) stream.write(`${line}\n`);
   const summary =
-    `tune: ${points.length} points x ${formatCount(cols.count)} readings in ${formatSeconds(seconds)} ` +
+    `streamfence tune: ${points.length} points x ${formatCount(cols.count)} readings in ${formatSeconds(seconds)} ` +
     `(${formatCount((points.length * cols.count) / Math.max(seconds, 1e-9))} readings/s, ${workers} workers); ` +
     `${recommendationText(result.recommended)}; wrote ${o.out}`;
   gridProgress.finish(summary);
@@ -325,7 +348,7 @@ export function comparisonTable(t: TuningResult): string[] {
   ]);
   const widths = head.map((h, c) => Math.max(h.length, ...body.map((r) => r[c].length)));
   const line = (cells: string[]) =>
-    `tune: ${cells
+    `streamfence tune: ${cells
       .map((x, c) => x.padEnd(widths[c]))
       .join('  ')
       .trimEnd()}`;

@@ -6,15 +6,21 @@
  * text, well within 15 s. Real Kafka and Redis (the harness), the built CLI as a child process.
  *
  * The caution banner (`streamfence <cmd> — NOTICE`) is the only other line a failing command may
- * print, and only when the failure is found after the command has started its work.
+ * print, and only when the failure is found after the command has started its work. `run` logs
+ * JSON (pino): its info entries are log, not lines for the user; its error entry's `msg` is the line.
+ * Options that do nothing, and labels that cannot count, are one warning line each, the command
+ * still running (exit 0).
+ *
+ * The rows run concurrently (at most MAX_CHILDREN child processes at a time): each uses its own
+ * output folder and names, and the closed port is shared (nothing ever listens there).
  */
-import { execFile } from 'node:child_process';
+import { execFile, spawn } from 'node:child_process';
 import { mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { createServer, type Server } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { gzipSync } from 'node:zlib';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { afterAll, beforeAll, describe, it } from 'vitest';
 import { bannerText } from '../../services/setup/args.js';
 import { createTopic, deleteTopics, kafkaBrokers, redisUrl, uniqueName } from '../harness/services.js';
 
@@ -30,8 +36,31 @@ interface Outcome {
   ms: number;
 }
 
+/**
+ * At most this many CLI children at once (the machine has 2 cores): more would only make each
+ * command slower, and a row's time is measured from its child's start, not from its wait here.
+ */
+const MAX_CHILDREN = 3;
+let running = 0;
+const waiting: (() => void)[] = [];
+
+async function withChildSlot<T>(work: () => Promise<T>): Promise<T> {
+  while (running >= MAX_CHILDREN) await new Promise<void>((resolve) => waiting.push(resolve));
+  running++;
+  try {
+    return await work();
+  } finally {
+    running--;
+    waiting.shift()?.();
+  }
+}
+
 /** Run the CLI with only the variables given (none of the harness's STREAMFENCE_* leak in). */
 function cli(args: string[], env: Record<string, string> = {}): Promise<Outcome> {
+  return withChildSlot(() => runCli(args, env));
+}
+
+function runCli(args: string[], env: Record<string, string>): Promise<Outcome> {
   const base = Object.fromEntries(
     Object.entries(process.env).filter(([k]) => !k.startsWith('STREAMFENCE_')),
   ) as Record<string, string>;
@@ -82,6 +111,11 @@ beforeAll(async () => {
   writeFileSync(p('empty.yaml'), '# nothing yet\n');
   writeFileSync(p('broken.yaml'), 'defaults:\n  fenceK: [1.5\n');
   writeFileSync(p('labels.csv'), 'sensor,start,end\nkiln-2/temp,2026-04-01T02:00:00Z,2026-04-01T02:30:00Z\n');
+  writeFileSync(
+    p('stray-labels.csv'),
+    'sensor,start,end\nkiln-2/temp,2026-04-01T02:00:00Z,2026-04-01T02:30:00Z\n' +
+      'kiln-9/flow,2026-04-01T02:00:00Z,2026-04-01T02:30:00Z\nkiln-2/temp,2026-05-01T02:00:00Z,2026-05-01T02:30:00Z\n',
+  );
   writeFileSync(p('a-file'), 'not a folder\n');
   writeFileSync(p('short-token'), 'tiny\n');
   mkdirSync(p('a-folder'));
@@ -104,6 +138,8 @@ type Row = [string, () => string[], () => Record<string, string>, string, () => 
 
 const none = () => ({});
 const brokers = () => kafkaBrokers().join(',');
+/** A port that is certainly taken: the shared Redis's. */
+const redisPort = () => new URL(redisUrl()).port || '6379';
 
 // One row per mistake; kept as a table (prettier would spread each row over many lines).
 // prettier-ignore
@@ -150,22 +186,34 @@ const ROWS: Row[] = [
   ['topics: more replicas than brokers', () => ['topics', 'create', '--brokers', brokers(), '--input-topic', missingTopic, '--replication-factor', '9'], none, 'ARGS_INVALID', () => /--replication-factor 9 is more than the 1 broker of the cluster/],
   // run, board, demo: argument mistakes (their outages are retried, not refused)
   ['run: metrics port out of range', () => ['run', '--brokers', brokers(), '--redis', redisUrl(), '--metrics-port', '70000'], none, 'ARGS_INVALID', () => /--metrics-port must be a TCP port from 1 to 65535, or 0 for any free port, got "70000"/],
+  ['run: metrics port in use', () => ['run', '--brokers', brokers(), '--redis', redisUrl(), '--metrics-port', redisPort()], none, 'PORT_IN_USE', () => new RegExp(`^streamfence: port ${redisPort()} on 0\\.0\\.0\\.0 is in use; choose another with --metrics-port`)],
+  ['run: missing input topic', () => ['run', '--brokers', brokers(), '--redis', redisUrl(), '--metrics-port', '0', '--input-topic', missingTopic, '--alert-topic', presentTopic, '--rejected-topic', presentTopic, '--group', uniqueName('first-hour-group'), '--state-prefix', uniqueName('first-hour-state')], none, 'NOT_FOUND', () => new RegExp(`topic "${missingTopic}" \\(--input-topic\\) does not exist; check the name or create it first`)],
+  ['run: empty config', () => ['run', '--brokers', brokers(), '--redis', redisUrl(), '--metrics-port', '0', '--config', p('empty.yaml')], none, 'CONFIG_INVALID', () => /empty\.yaml.*empty.*leave --config .* out for the built-in defaults/],
   ['run: negative checkpoint interval', () => ['run', '--brokers', brokers(), '--redis', redisUrl(), '--checkpoint-ms', '-5'], none, 'ARGS_INVALID', () => /--checkpoint-ms must be/],
   ['board: token on the command line', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--board-token', 'kiln-room-secret-0042'], none, 'ARGS_INVALID', () => /board token is a secret.*STREAMFENCE_BOARD_TOKEN.*--board-token-file/],
   ['board: token too short', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--board-token-file', p('short-token')], none, 'ARGS_INVALID', () => /4 characters; use at least 16/],
   ['board: missing alert topic', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--alert-topic', missingTopic, '--action-topic', presentTopic, '--port', '0'], none, 'NOT_FOUND', () => new RegExp(`"${missingTopic}" does not exist`)],
   ['board: missing action topic', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--alert-topic', presentTopic, '--action-topic', missingTopic, '--port', '0'], none, 'NOT_FOUND', () => new RegExp(`"${missingTopic}" does not exist`)],
-  ['board: port in use', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--alert-topic', presentTopic, '--action-topic', presentTopic, '--port', String(new URL(redisUrl()).port || 6379)], none, 'PORT_IN_USE', () => /^streamfence: port \d+ on 127\.0\.0\.1 is in use; choose another with --port/],
+  ['board: port in use', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--alert-topic', presentTopic, '--action-topic', presentTopic, '--port', redisPort()], none, 'PORT_IN_USE', () => /^streamfence: port \d+ on 127\.0\.0\.1 is in use; choose another with --port/],
   ['board: port out of range', () => ['board', '--brokers', brokers(), '--redis', redisUrl(), '--port', '70000'], none, 'ARGS_INVALID', () => /--port must be a TCP port/],
   ['demo: port out of range', () => ['demo', '--port', '-1'], none, 'ARGS_INVALID', () => /--port must be a TCP port .* got "-1"/],
+  ['demo: port in use', () => ['demo', '--port', redisPort()], none, 'PORT_IN_USE', () => new RegExp(`^streamfence: port ${redisPort()} on 127\\.0\\.0\\.1 is in use; choose another with --port`)],
 ];
 
-describe('a new user’s first hour: one line per mistake', () => {
-  it.each(ROWS)('%s', async (_what, args, env, code, culprit) => {
+/** The lines meant for the user: not the banner, and of `run`'s JSON log only its error entries' messages. */
+function userLines(stderr: string, cmd: string): string[] {
+  const lines = stderr.split('\n').filter((l) => l !== '' && `${l}\n` !== bannerText(cmd));
+  return lines.flatMap((line) => {
+    if (!line.startsWith('{')) return [line];
+    const entry = JSON.parse(line) as { level: string; msg: string };
+    return entry.level === 'error' || entry.level === 'fatal' ? [`streamfence: ${entry.msg}`] : [];
+  });
+}
+
+describe.concurrent('a new user’s first hour: one line per mistake', () => {
+  it.for(ROWS)('%s', async ([, args, env, code, culprit], { expect }) => {
     const r = await cli(args(), env());
-    const lines = r.stderr.split('\n').filter((l) => l !== '');
-    const cmd = args()[0];
-    const withoutBanner = lines.filter((l) => `${l}\n` !== bannerText(cmd));
+    const withoutBanner = userLines(r.stderr, args()[0]);
     expect(r.code, r.stderr).toBe(2);
     expect(withoutBanner, r.stderr).toHaveLength(1);
     const line = withoutBanner[0];
@@ -178,10 +226,10 @@ describe('a new user’s first hour: one line per mistake', () => {
   });
 });
 
-describe('every command alike', () => {
-  it.each(COMMANDS.flatMap((c) => [[c, '-h'] as const, [c, '--help'] as const]))(
+describe.concurrent('every command alike', () => {
+  it.for(COMMANDS.flatMap((c) => [[c, '-h'] as const, [c, '--help'] as const]))(
     '%s %s prints its help and exits 0',
-    async (cmd, flag) => {
+    async ([cmd, flag], { expect }) => {
       const r = await cli([cmd, flag]);
       expect(r.code, r.stderr).toBe(0);
       expect(r.stdout).toMatch(/Usage: streamfence/);
@@ -189,7 +237,7 @@ describe('every command alike', () => {
     },
   );
 
-  it('a gzip file without the .gz suffix is read by its content', async () => {
+  it('a gzip file without the .gz suffix is read by its content', async ({ expect }) => {
     const r = await cli(['replay', p('zipped.ndjson'), '--out', p('zipped-out')]);
     expect(r.code, r.stderr).toBe(0);
     const summary = JSON.parse(readFileSync(join(p('zipped-out'), 'summary.json'), 'utf8')) as {
@@ -199,9 +247,102 @@ describe('every command alike', () => {
     expect(summary).toMatchObject({ readings: 300, rejected: { total: 0 } });
   });
 
-  it('an option with no effect is named in one warning line, and the command still runs', async () => {
+  it('an option with no effect is named in one warning line, and the command still runs', async ({
+    expect,
+  }) => {
     const r = await cli(['replay', p('readings.ndjson'), '--out', p('w-out'), '--report-top', '3']);
     expect(r.code, r.stderr).toBe(0);
     expect(r.stderr).toContain('streamfence replay: warning: --report-top has no effect without --report');
+  });
+
+  it('replay --from/--to with a file input: one warning line naming both, and the whole file is read', async ({
+    expect,
+  }) => {
+    const r = await cli([
+      'replay',
+      p('readings.ndjson'),
+      '--out',
+      p('ft-out'),
+      '--from',
+      '2026-04-01T01:00:00Z',
+      '--to',
+      '2026-04-01T02:00:00Z',
+    ]);
+    expect(r.code, r.stderr).toBe(0);
+    const warnings = r.stderr.split('\n').filter((l) => l.includes('warning'));
+    expect(warnings).toEqual([
+      'streamfence replay: warning: --from, --to have no effect with a file input: only a kafka:// time range uses them',
+    ]);
+    const summary = JSON.parse(readFileSync(join(p('ft-out'), 'summary.json'), 'utf8')) as {
+      readings: number;
+    };
+    expect(summary.readings).toBe(300);
+  });
+
+  it('tune: labels naming an absent sensor or outside the data are warned about (console and tuning.json); the summary line gives the settings and the reason', async ({
+    expect,
+  }) => {
+    const r = await cli([
+      'tune',
+      p('readings.ndjson'),
+      '--labels',
+      p('stray-labels.csv'),
+      '--out',
+      p('tune-warn'),
+      '--grid',
+      'fenceK=1.5,3',
+    ]);
+    expect(r.code, r.stderr).toBe(0);
+    const warnings = r.stderr.split('\n').filter((l) => l.includes('warning'));
+    expect(warnings).toHaveLength(2);
+    expect(warnings[0]).toMatch(
+      /^streamfence tune: warning: 1 label names a sensor that never appears in the data \(kiln-9\/flow\); they count as missed: check the sensor names in the labels file$/,
+    );
+    expect(warnings[1]).toMatch(
+      /^streamfence tune: warning: 1 label lies outside the data's time span 2026-04-01T00:00:00\.000Z to 2026-04-01T04:59:00\.000Z \(kiln-2\/temp 2026-05-01T02:00:00\.000Z\); they count as missed: check the labels' times and zone$/,
+    );
+    const summary = r.stderr.split('\n').find((l) => / points x \d+ readings in /.test(l));
+    // The recommended point by its settings (not only "#0") and why it was chosen.
+    expect(summary).toMatch(/recommended #\d+ \(fenceK=(1\.5|3) outerK=\S+ zLimit=\S+ .*\): recall /);
+    expect(summary).toMatch(
+      /; 2 of 2 points are within the budget of 6 raised alerts\/hour.*; this one has /,
+    );
+    const tuning = JSON.parse(readFileSync(join(p('tune-warn'), 'tuning.json'), 'utf8')) as {
+      labels: { warnings: string[] };
+    };
+    expect(tuning.labels.warnings.map((w) => `streamfence tune: warning: ${w}`)).toEqual(warnings);
+  });
+
+  it('demo: with its default port 8080 taken it serves on a free port and says which', async ({ expect }) => {
+    // Taken by this test, or already by another program: either way the demo cannot have it.
+    const holder = createServer();
+    const held = await new Promise<boolean>((resolve) => {
+      holder.once('error', () => resolve(false));
+      holder.listen(8080, '127.0.0.1', () => resolve(true));
+    });
+    const base = Object.fromEntries(
+      Object.entries(process.env).filter(([k]) => !k.startsWith('STREAMFENCE_')),
+    );
+    const demo = spawn(process.execPath, [CLI, 'demo'], { env: base });
+    let out = '';
+    let err = '';
+    demo.stdout.on('data', (c) => (out += String(c)));
+    demo.stderr.on('data', (c) => (err += String(c)));
+    const exited = new Promise<number | null>((resolve) => demo.once('exit', (code) => resolve(code)));
+    try {
+      await expect
+        .poll(() => /board at http:\/\/127\.0\.0\.1:(\d+)\//.exec(out)?.[1], { timeout: 30_000 })
+        .toBeTruthy();
+      const port = /board at http:\/\/127\.0\.0\.1:(\d+)\//.exec(out)![1];
+      expect(port).not.toBe('8080');
+      expect(err).toContain(
+        `streamfence demo: port 8080 is in use; serving on free port ${port} instead (choose one with --port)\n`,
+      );
+      demo.kill('SIGINT');
+      expect(await exited).toBe(0);
+    } finally {
+      demo.kill('SIGKILL');
+      if (held) await new Promise<void>((r) => holder.close(() => r()));
+    }
   });
 });

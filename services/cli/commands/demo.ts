@@ -113,12 +113,7 @@ export async function main(argv: string[]): Promise<number> {
   });
   const metrics = createDemoMetrics(hub);
   feed = new DemoFeed(hub, { scenario, seed, speed, prerollMs, wallStart }, metrics.engine);
-  const t0 = performance.now();
-  const pre = feed.advanceTo(wallStart);
-  process.stderr.write(
-    `streamfence demo: ${feed.sensorCount} sensors, ${(prerollMs / 3_600_000).toFixed(1)} h of history pre-rolled (${pre} readings in ${Math.round(performance.now() - t0)} ms); plant time now runs ${speed}x\n`,
-  );
-
+  // The port first: one taken (or needing privileges) is refused before a second of pre-rolling.
   let board: Awaited<ReturnType<typeof startBoardServer>>;
   try {
     board = await startBoardServer({ hub, metrics, host, port, token });
@@ -132,6 +127,11 @@ export async function main(argv: string[]): Promise<number> {
       `streamfence demo: port ${DEFAULT_PORT} is in use; serving on free port ${new URL(board.url).port} instead (choose one with --port)\n`,
     );
   }
+  const t0 = performance.now();
+  const pre = feed.advanceTo(wallStart);
+  process.stderr.write(
+    `streamfence demo: ${feed.sensorCount} sensors, ${(prerollMs / 3_600_000).toFixed(1)} h of history pre-rolled (${pre} readings in ${Math.round(performance.now() - t0)} ms); plant time now runs ${speed}x\n`,
+  );
   process.stdout.write(`streamfence demo: board at ${board.url}/\n`);
 
   const pump = setInterval(() => feed.advanceTo(feed.plantTimeAt(Date.now())), 250);

@@ -14,8 +14,8 @@ describe('labelWarnings', () => {
       T0 + 24 * H,
     );
     expect(w).toHaveLength(2);
-    expect(w[0]).toMatch(/^1 labels name sensors that never appear in the data \(ghost\)/);
-    expect(w[1]).toMatch(/^1 labels lie outside the data's time span/);
+    expect(w[0]).toMatch(/^1 label names a sensor that never appears in the data \(ghost\)/);
+    expect(w[1]).toMatch(/^1 label lies outside the data's time span/);
   });
 
   it('is silent when every label fits the data', () => {

@@ -60,8 +60,12 @@ describe('simulate + tune', () => {
     expect(csv).toHaveLength(9);
     expect(csv.filter((l) => l.endsWith(',yes'))).toHaveLength(1);
     expect(readFileSync(p('out/report.html'), 'utf8')).toContain('<html');
+    // The grid leaves the profile as the config has it, and says so first.
     expect(sink.chunks.join('')).toMatch(
-      /^tune: 8 points x 34\.\dk readings .* recommended #\d+ \(fenceK=[^)]*\): recall .*within the budget/m,
+      /^tune: every point keeps the config's profile setting \(profile none\);/,
+    );
+    expect(sink.chunks.join('')).toMatch(
+      /^streamfence tune: 8 points x 34\.\dk readings .* recommended #\d+ \(fenceK=[^)]*\): recall .*within the budget/m,
     );
   });
 
