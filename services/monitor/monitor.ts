@@ -24,7 +24,8 @@ import kafkajs, {
   type Producer,
   type TopicMessages,
 } from 'kafkajs';
-import type { Redis } from 'ioredis';
+import { isClusterClient, type RedisClient } from '../connect/index.js';
+
 import { Engine } from '../../libs/engine/engine.js';
 import { DEFAULT_MAX_SENSORS, SensorBudget } from '../../libs/engine/sensor-budget.js';
 import type { EngineConfig } from '../../libs/config/config.js';
@@ -82,7 +83,7 @@ export interface MonitorSettings {
 /** What a Monitor is built from: clients (from services/connect), the engine config, settings, log and metrics. */
 export interface MonitorParts {
   kafka: Kafka;
-  redis: Redis;
+  redis: RedisClient;
   config: EngineConfig;
   settings: MonitorSettings;
   log: Logger;
@@ -158,6 +159,17 @@ interface Outbox {
 
 // Publish in slices so a long batch does not hold unsent events, and heartbeats keep flowing.
 const FLUSH_EVERY = 2_000;
+
+/** A URL naming the client's server (or a cluster's seeds), for wording outages without settings. */
+function redisUrlOf(redis: RedisClient): string {
+  if (isClusterClient(redis)) {
+    const seeds = redis.nodes().map((n) => `${n.options.host ?? '127.0.0.1'}:${n.options.port ?? 6379}`);
+    return `redis+cluster://${seeds.join(',') || '127.0.0.1:6379'}`;
+  }
+  const o = (redis as { options: { host?: string; port?: number } }).options;
+  return `redis://${o.host ?? '127.0.0.1'}:${o.port ?? 6379}`;
+}
+
 /** Alert and reject messages that may wait for Kafka's acknowledgement before a batch waits too. */
 const MAX_UNSENT = 20_000;
 
@@ -200,7 +212,7 @@ export class Monitor {
   private timer: NodeJS.Timeout | null = null;
 
   private readonly kafka: Kafka;
-  private readonly redis: Redis;
+  private readonly redis: RedisClient;
   private readonly config: EngineConfig;
   private readonly settings: MonitorSettings;
   private readonly log: Logger;
@@ -217,9 +229,7 @@ export class Monitor {
     this.metrics = metrics;
     this.redisWatch = new RedisErrorWatch(redis);
     this.kafkaSettings = parts.connection?.kafka ?? { brokers: ['(brokers)'] };
-    this.redisSettings = parts.connection?.redis ?? {
-      url: `redis://${redis.options.host ?? '127.0.0.1'}:${redis.options.port ?? 6379}`,
-    };
+    this.redisSettings = parts.connection?.redis ?? { url: redisUrlOf(redis) };
     this.startRefusal = parts.startRefusal ?? (() => null);
     this.store = new CheckpointStore(
       redis,
