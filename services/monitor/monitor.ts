@@ -750,6 +750,32 @@ export class Monitor {
     return w;
   }
 
+  /**
+   * A partition's first batch: when the fetch began elsewhere than the checkpoint, seek there and
+   * return true (the batch is dropped); otherwise the start is done.
+   */
+  private seekedToCheckpoint(w: PartitionWorker, first: number, topic: string, part: number): boolean {
+    if (first !== w.next && w.start === 'verify') {
+      // The fetch began elsewhere than our checkpoint (group offsets ahead of the Redis state, or
+      // the oldest message on a first start from `now`): go there.
+      this.log.info(
+        { partition: part, from: first.toString(), to: w.next.toString() },
+        'seeking to checkpoint',
+      );
+      this.consumer.seek({ topic, partition: part, offset: w.next.toString() });
+      w.start = 'seeked';
+      return true;
+    }
+    if (first > w.next && !w.rebuild) {
+      this.log.warn(
+        { partition: part, expected: w.next.toString(), got: first.toString() },
+        'readings after the checkpoint are gone from Kafka (retention?); continuing from the oldest available',
+      );
+    }
+    w.start = 'done';
+    return false;
+  }
+
   private async onBatch(p: EachBatchPayload): Promise<void> {
     const { batch, resolveOffset, heartbeat, isRunning, isStale } = p;
     if (this.stopping || batch.messages.length === 0 || isStale()) return;
@@ -758,27 +784,7 @@ export class Monitor {
     const w = this.workers.get(part) ?? (await this.claim(part, heartbeat));
     const msgs = batch.messages;
 
-    if (w.start !== 'done') {
-      const first = Number(msgs[0].offset);
-      if (first !== w.next && w.start === 'verify') {
-        // The fetch began elsewhere than our checkpoint (group offsets ahead of the Redis state, or
-        // the oldest message on a first start from `now`): go there.
-        this.log.info(
-          { partition: part, from: first.toString(), to: w.next.toString() },
-          'seeking to checkpoint',
-        );
-        this.consumer.seek({ topic: batch.topic, partition: part, offset: w.next.toString() });
-        w.start = 'seeked';
-        return;
-      }
-      if (first > w.next && !w.rebuild) {
-        this.log.warn(
-          { partition: part, expected: w.next.toString(), got: first.toString() },
-          'readings after the checkpoint are gone from Kafka (retention?); continuing from the oldest available',
-        );
-      }
-      w.start = 'done';
-    }
+    if (w.start !== 'done' && this.seekedToCheckpoint(w, Number(msgs[0].offset), batch.topic, part)) return;
     if (w.rebuild?.phase === 'locate' && (await this.locateRebuild(w, msgs, batch.topic))) return;
 
     const now = Date.now();
@@ -848,6 +854,19 @@ export class Monitor {
       }
     }
     if (lastOffset !== null) resolveOffset(lastOffset);
+    this.countReadings(accepted, rejected, doubtful);
+    this.flush();
+    if (this.unsent > MAX_UNSENT) await this.flushed();
+    this.metrics.partitionLag.set({ partition: String(part) }, Number(batch.highWatermark) - w.next);
+    if (w.sinceCheckpoint >= this.settings.checkpointReadings) await this.checkpoint(w, heartbeat);
+  }
+
+  /** A batch's readings into the metrics, once per batch: accepted by quality, and rejected. */
+  private countReadings(
+    accepted: number,
+    rejected: number,
+    doubtful: { uncertain: number; bad: number },
+  ): void {
     if (accepted) {
       this.metrics.readings.inc({ outcome: 'accepted' }, accepted);
       const good = accepted - doubtful.uncertain - doubtful.bad;
@@ -856,10 +875,6 @@ export class Monitor {
       if (doubtful.bad) this.metrics.readingQuality.inc({ quality: 'bad' }, doubtful.bad);
     }
     if (rejected) this.metrics.readings.inc({ outcome: 'rejected' }, rejected);
-    this.flush();
-    if (this.unsent > MAX_UNSENT) await this.flushed();
-    this.metrics.partitionLag.set({ partition: String(part) }, Number(batch.highWatermark) - w.next);
-    if (w.sinceCheckpoint >= this.settings.checkpointReadings) await this.checkpoint(w, heartbeat);
   }
 
   /**
