@@ -28,18 +28,20 @@ ENV_FILE="$STACK_DIR/env"
 STACK_SECURE=no
 STACK_WIPE=no
 STACK_BROKERS=1
+STACK_REDIS_CLUSTER=no
 parse_stack_args() {
   while (($# > 0)); do
     case "$1" in
       --secure) STACK_SECURE=yes ;;
       --wipe) STACK_WIPE=yes ;;
+      --redis-cluster) STACK_REDIS_CLUSTER=yes ;;
       --brokers=*) STACK_BROKERS="${1#--brokers=}" ;;
       --brokers)
         (($# > 1)) || die "--brokers needs a count: 1 or 3"
         STACK_BROKERS="$2"
         shift
         ;;
-      *) die "unknown argument '$1' (known: --secure, --wipe, --brokers 1|3)" ;;
+      *) die "unknown argument '$1' (known: --secure, --wipe, --brokers 1|3, --redis-cluster)" ;;
     esac
     shift
   done
@@ -47,6 +49,9 @@ parse_stack_args() {
     die "--brokers takes 1 or 3 (a three-voter quorum survives one broker down), got '$STACK_BROKERS'"
   if [[ "$STACK_SECURE" == yes && "$STACK_BROKERS" != 1 ]]; then
     die "--brokers 3 --secure is not supported: the secure stack has one broker; run the three-broker stack without --secure"
+  fi
+  if [[ "$STACK_SECURE" == yes && "$STACK_REDIS_CLUSTER" == yes ]]; then
+    die "--redis-cluster --secure is not supported: the secure stack has one TLS Redis; run the Redis Cluster without --secure"
   fi
   return 0
 }

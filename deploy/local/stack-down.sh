@@ -42,11 +42,15 @@ stop_pid_file Kafka "$KAFKA_PID_FILE" "$KAFKA_DIR/server.properties" 30
 source "$LOCAL_DIR/cluster.sh"
 stop_kafka_cluster
 stop_pid_file Redis "$REDIS_PID_FILE" redis-server 10
+# The Redis Cluster (--redis-cluster), likewise found by its pid files.
+source "$LOCAL_DIR/redis-cluster.sh"
+stop_redis_cluster
 rm -f "$ENV_FILE"
 
 if [[ "$STACK_WIPE" == yes ]]; then
   say "wiping $KAFKA_DIR and $REDIS_DIR"
   rm -rf "$KAFKA_DIR" "$REDIS_DIR"
   wipe_kafka_cluster
+  wipe_redis_cluster
 fi
 say "down"

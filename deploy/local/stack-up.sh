@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # Bring up the local stack for development and tests: a real Kafka (KRaft, one node or, with
-# --brokers 3, three; run from Maven Central jars) and Redis. Idempotent: a second run finds what is running and only re-checks it.
+# --brokers 3, three; run from Maven Central jars) and Redis, plus with --redis-cluster a
+# 3-primary, 3-replica Redis Cluster (deploy/local/redis-cluster.sh). Idempotent: a second run finds what is running and only re-checks it.
 # Writes the addresses to $STACK_DIR/env for the test harness. See DEVELOPERS.md "Local stack".
 set -euo pipefail
 source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
@@ -208,6 +209,13 @@ else
   start_kafka_cluster
 fi
 start_redis
+# With --redis-cluster the commands (STREAMFENCE_REDIS_URL) use the cluster; the test suite keeps its
+# single Redis (STREAMFENCE_TEST_REDIS_URL): tests that need a cluster start their own.
+REDIS_CLUSTER_URL=""
+if [[ "$STACK_REDIS_CLUSTER" == yes ]]; then
+  source "$LOCAL_DIR/redis-cluster.sh"
+  start_redis_cluster
+fi
 
 tmp_env="$ENV_FILE.tmp.$$"
 cat >"$tmp_env" <<ENV
@@ -215,18 +223,21 @@ cat >"$tmp_env" <<ENV
 STREAMFENCE_TEST_BROKERS=$KAFKA_BROKERS
 STREAMFENCE_TEST_REDIS_URL=$REDIS_URL
 STREAMFENCE_BROKERS=$KAFKA_BROKERS
-STREAMFENCE_REDIS_URL=$REDIS_URL
+STREAMFENCE_REDIS_URL=${REDIS_CLUSTER_URL:-$REDIS_URL}
 STREAMFENCE_STACK_KAFKA_OWNED=$KAFKA_OWNED
 STREAMFENCE_STACK_REDIS_OWNED=$REDIS_OWNED
 ENV
+if [[ -n "$REDIS_CLUSTER_URL" ]]; then
+  printf 'STREAMFENCE_STACK_REDIS_CLUSTER_URL=%s\n' "$REDIS_CLUSTER_URL" >>"$tmp_env"
+fi
 mv "$tmp_env" "$ENV_FILE"
 
 elapsed=$(awk -v s="$started_at" -v e="$(date +%s.%N)" 'BEGIN { printf "%.1f", e - s }')
 cat <<INFO
 stack: up in ${elapsed}s
   Kafka brokers : $KAFKA_BROKERS   (Kafka $KAFKA_VERSION, KRaft, $STACK_BROKERS node(s); topics are not auto-created)
-  Redis URL     : $REDIS_URL
+  Redis URL     : $REDIS_URL$([[ -n "$REDIS_CLUSTER_URL" ]] && printf '\n  Redis Cluster : %s   (3 primaries, 3 replicas; STREAMFENCE_REDIS_URL in the env file)' "$REDIS_CLUSTER_URL")
   env file      : $ENV_FILE   (set -a; . $ENV_FILE; set +a)
-  logs          : $([[ "$STACK_BROKERS" == 1 ]] && echo "$KAFKA_DIR/logs" || echo "$STACK_DIR/kafka-<n>/logs"), $REDIS_DIR (own Redis only), $STACK_DIR/logs
+  logs          : $([[ "$STACK_BROKERS" == 1 ]] && echo "$KAFKA_DIR/logs" || echo "$STACK_DIR/kafka-<n>/logs"), $REDIS_DIR (own Redis only), $([[ -n "$REDIS_CLUSTER_URL" ]] && echo "$STACK_DIR/redis-cluster/<port>, ")$STACK_DIR/logs
   stop          : npm run stack:down
 INFO

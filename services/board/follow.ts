@@ -5,7 +5,7 @@
  * With `untilEnd`, it stops once it has read up to the end offsets seen at start.
  */
 import { randomBytes } from 'node:crypto';
-import type { Consumer, Kafka } from 'kafkajs';
+import type { Admin, Consumer, Kafka } from 'kafkajs';
 import { StreamfenceError } from '../../libs/errors/index.js';
 
 export interface FollowMessage {
@@ -51,10 +51,17 @@ export interface Follower {
 }
 
 type PartKey = string;
-const pk = (t: string, p: number): PartKey => `${t}\u0000${p}`;
+const partKey = (t: string, p: number): PartKey => `${t}\u0000${p}`;
 
-export async function follow(o: FollowOptions): Promise<Follower> {
-  const admin = o.kafka.admin();
+/** Where a follower starts and what "caught up" means: per partition, the first and the end offset. */
+interface ReadRange {
+  start: Map<PartKey, bigint>;
+  end: Map<PartKey, bigint>;
+}
+
+/** The read range of every topic followed; a missing or hidden topic is a one-line error. */
+async function readRange(options: FollowOptions): Promise<ReadRange> {
+  const admin = options.kafka.admin();
   await admin.connect().catch((e: unknown) => {
     throw new StreamfenceError(
       'SERVICE_UNAVAILABLE',
@@ -62,76 +69,108 @@ export async function follow(o: FollowOptions): Promise<Follower> {
       { cause: e },
     );
   });
-  const start = new Map<PartKey, bigint>();
-  const end = new Map<PartKey, bigint>();
+  const range: ReadRange = { start: new Map(), end: new Map() };
   try {
     const existing = new Set(await admin.listTopics());
-    for (const t of o.topics) {
-      if (!existing.has(t)) {
-        // A topic the ACL hides is missing from the list too; asking for it by name tells the two
-        // apart (TOPIC_AUTHORIZATION_FAILED is thrown for the caller's refusal line).
-        await admin.fetchTopicMetadata({ topics: [t] }).catch((e: unknown) => {
-          if ((e as { type?: string }).type === 'TOPIC_AUTHORIZATION_FAILED') throw e;
-        });
-        throw new StreamfenceError(
-          'NOT_FOUND',
-          `Kafka topic "${t}" does not exist; check the topic name or create it first`,
-        );
-      }
-      const offs = await admin.fetchTopicOffsets(t);
-      for (const p of offs) {
-        start.set(pk(t, p.partition), BigInt(p.low));
-        end.set(pk(t, p.partition), BigInt(p.high));
-      }
-      if (o.sinceMs !== undefined && o.sinceMs !== null) {
-        for (const p of await admin.fetchTopicOffsetsByTimestamp(t, o.sinceMs)) {
-          // -1 means no message at or after the time: start at the end.
-          const off = BigInt(p.offset) < 0n ? end.get(pk(t, p.partition))! : BigInt(p.offset);
-          start.set(pk(t, p.partition), off);
-        }
-      }
-      for (const p of offs) {
-        const key = pk(t, p.partition);
-        const next = o.resumeAt?.(t, p.partition);
-        if (next === undefined || next <= start.get(key)!) continue;
-        // Past the end only if the topic was made again: then read it from its start.
-        if (next <= end.get(key)!) start.set(key, next);
-      }
+    for (const topic of options.topics) {
+      if (!existing.has(topic)) await refuseMissingTopic(admin, topic);
+      await addTopicRange(admin, topic, options, range);
     }
   } finally {
     await admin.disconnect();
   }
+  return range;
+}
+
+async function refuseMissingTopic(admin: Admin, topic: string): Promise<never> {
+  // A topic the ACL hides is missing from the list too; asking for it by name tells the two
+  // apart (TOPIC_AUTHORIZATION_FAILED is thrown for the caller's refusal line).
+  await admin.fetchTopicMetadata({ topics: [topic] }).catch((e: unknown) => {
+    if ((e as { type?: string }).type === 'TOPIC_AUTHORIZATION_FAILED') throw e;
+  });
+  throw new StreamfenceError(
+    'NOT_FOUND',
+    `Kafka topic "${topic}" does not exist; check the topic name or create it first`,
+  );
+}
+
+/** One topic's partitions into `range`: from retention's start, --since, or where a follower stopped. */
+async function addTopicRange(
+  admin: Admin,
+  topic: string,
+  options: FollowOptions,
+  range: ReadRange,
+): Promise<void> {
+  const { start, end } = range;
+  const offsets = await admin.fetchTopicOffsets(topic);
+  for (const part of offsets) {
+    start.set(partKey(topic, part.partition), BigInt(part.low));
+    end.set(partKey(topic, part.partition), BigInt(part.high));
+  }
+  if (options.sinceMs !== undefined && options.sinceMs !== null) {
+    for (const part of await admin.fetchTopicOffsetsByTimestamp(topic, options.sinceMs)) {
+      // -1 means no message at or after the time: start at the end.
+      const off = BigInt(part.offset) < 0n ? end.get(partKey(topic, part.partition))! : BigInt(part.offset);
+      start.set(partKey(topic, part.partition), off);
+    }
+  }
+  for (const part of offsets) {
+    const key = partKey(topic, part.partition);
+    const next = options.resumeAt?.(topic, part.partition);
+    if (next === undefined || next <= start.get(key)!) continue;
+    // Past the end only if the topic was made again: then read it from its start.
+    if (next <= end.get(key)!) start.set(key, next);
+  }
+}
+
+/** A promise with its settle functions; its rejection is marked handled. */
+function settleable(): { promise: Promise<void>; resolve: () => void; reject: (err: unknown) => void } {
+  let resolve!: () => void;
+  let reject!: (err: unknown) => void;
+  const promise = new Promise<void>((ok, fail) => {
+    resolve = ok;
+    reject = fail;
+  });
+  promise.catch(() => {});
+  return { promise, resolve, reject };
+}
+
+/** A consumer in a group of its own (never committed), so viewers never move each other's position. */
+function viewerConsumer(options: FollowOptions): Consumer {
+  return options.kafka.consumer({
+    groupId: `streamfence-${options.role}-view-${randomBytes(6).toString('hex')}`,
+    // Viewers read everything; a short session keeps an abandoned viewer's group from lingering.
+    sessionTimeout: 10_000,
+    heartbeatInterval: 3_000,
+    ...(options.maxWaitMs === undefined ? {} : { maxWaitTimeInMs: options.maxWaitMs }),
+  });
+}
+
+/**
+ * Follow `topics` as a viewer (see the module comment); resolves once the consumer joined its group,
+ * rejects with a one-line error when Kafka cannot be reached, a topic is missing or an ACL denies it.
+ */
+export async function follow(options: FollowOptions): Promise<Follower> {
+  const { start, end } = await readRange(options);
 
   const remaining = new Set<PartKey>();
-  for (const [k, e] of end) if (e > start.get(k)!) remaining.add(k);
+  for (const [key, endOffset] of end) if (endOffset > start.get(key)!) remaining.add(key);
   let caughtUp = false;
   const markCaughtUp = () => {
     if (caughtUp) return;
     caughtUp = true;
-    o.onCaughtUp?.();
+    options.onCaughtUp?.();
   };
 
-  let finish!: () => void;
-  let fail!: (err: unknown) => void;
-  const done = new Promise<void>((resolve, reject) => {
-    finish = resolve;
-    fail = reject;
-  });
-  // Marks the rejection handled: a caller that never awaits `done` must not crash the process.
-  done.catch(() => {});
+  // Its rejection is marked handled: a caller that never awaits `done` must not crash the process.
+  const { promise: done, resolve: finish, reject: fail } = settleable();
   if (remaining.size === 0) markCaughtUp();
-  if (o.untilEnd && remaining.size === 0) {
+  if (options.untilEnd && remaining.size === 0) {
     finish();
     return { done, stop: async () => {} };
   }
 
-  const consumer: Consumer = o.kafka.consumer({
-    groupId: `streamfence-${o.role}-view-${randomBytes(6).toString('hex')}`,
-    // Viewers read everything; a short session keeps an abandoned viewer's group from lingering.
-    sessionTimeout: 10_000,
-    heartbeatInterval: 3_000,
-    ...(o.maxWaitMs === undefined ? {} : { maxWaitTimeInMs: o.maxWaitMs }),
-  });
+  const consumer = viewerConsumer(options);
   let stopped = false;
   const stop = async () => {
     if (stopped) return;
@@ -141,18 +180,12 @@ export async function follow(o: FollowOptions): Promise<Follower> {
   };
   // kafkajs gives up on errors no retry can cure (a denied group or topic ACL) with a CRASH event
   // that does not restart; without watching for it a follower would wait for ever.
-  let joinedOk!: () => void;
-  let joinFailed!: (err: unknown) => void;
-  const joined = new Promise<void>((resolve, reject) => {
-    joinedOk = resolve;
-    joinFailed = reject;
-  });
-  joined.catch(() => {});
+  const { promise: joined, resolve: joinedOk, reject: joinFailed } = settleable();
   consumer.on(consumer.events.GROUP_JOIN, () => joinedOk());
   consumer.on(consumer.events.CRASH, (e) => {
     if (e.payload.restart) {
       // kafkajs restarts the consumer itself after its own wait (a broker gone, a timeout).
-      if (!stopped) o.onRestart?.(e.payload.error);
+      if (!stopped) options.onRestart?.(e.payload.error);
       return;
     }
     joinFailed(e.payload.error);
@@ -162,15 +195,15 @@ export async function follow(o: FollowOptions): Promise<Follower> {
   });
   try {
     await consumer.connect();
-    for (const t of o.topics) await consumer.subscribe({ topic: t, fromBeginning: true });
+    for (const t of options.topics) await consumer.subscribe({ topic: t, fromBeginning: true });
     await consumer.run({
       autoCommit: false,
       eachMessage: async ({ topic, partition, message }) => {
-        const k = pk(topic, partition);
-        const off = BigInt(message.offset);
-        if (off < (start.get(k) ?? 0n)) return; // before --since (a fetch that raced the seek)
+        const key = partKey(topic, partition);
+        const offset = BigInt(message.offset);
+        if (offset < (start.get(key) ?? 0n)) return; // before --since (a fetch that raced the seek)
         if (!stopped) {
-          await o.onMessage({
+          await options.onMessage({
             topic,
             partition,
             offset: message.offset,
@@ -179,17 +212,17 @@ export async function follow(o: FollowOptions): Promise<Follower> {
             timestamp: Number(message.timestamp),
           });
         }
-        if (remaining.has(k) && off + 1n >= end.get(k)!) {
-          remaining.delete(k);
+        if (remaining.has(key) && offset + 1n >= end.get(key)!) {
+          remaining.delete(key);
           if (remaining.size === 0) {
             markCaughtUp();
-            if (o.untilEnd) setImmediate(() => void stop());
+            if (options.untilEnd) setImmediate(() => void stop());
           }
         }
       },
     });
-    for (const [k, off] of start) {
-      const [topic, p] = k.split('\u0000');
+    for (const [key, off] of start) {
+      const [topic, p] = key.split('\u0000');
       if (off > 0n) consumer.seek({ topic, partition: Number(p), offset: off.toString() });
     }
   } catch (err) {

@@ -10,7 +10,7 @@
  */
 import { randomBytes } from 'node:crypto';
 import type { Kafka, Producer } from 'kafkajs';
-import type { Redis } from 'ioredis';
+import type { RedisClient } from '../connect/index.js';
 import type { OperatorAction } from '../../libs/board/store.js';
 import type { AlertEvent } from '../../libs/schema/alert-event.js';
 import { ALERT_STATES, isSeverity, type AlertState } from '../../libs/schema/vocabulary.js';
@@ -71,7 +71,7 @@ function parse(buf: Buffer | null): unknown {
 
 export interface LiveFeedOptions {
   kafka: Kafka;
-  redis: Redis;
+  redis: RedisClient;
   prefix: string;
   alertTopic: string;
   actionTopic: string;

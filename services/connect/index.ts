@@ -16,6 +16,7 @@ export {
   parseArgsOptions,
   readKafkaSettings,
   readRedisSettings,
+  redisTarget,
   type KafkaSettings,
   type OptionSpec,
   type OptionValues,
@@ -23,7 +24,16 @@ export {
   type SaslMechanism,
 } from './options.js';
 export { buildKafka, kafkaConfig, type KafkaClientOptions } from './kafka.js';
-export { buildRedis, connectRedis, redisOptions, type RedisClientOptions } from './redis.js';
+export {
+  buildRedis,
+  clusterOptions,
+  connectRedis,
+  isClusterClient,
+  redisOptions,
+  type RedisClient,
+  type RedisClientOptions,
+} from './redis.js';
+export { parseRedisUrl, redisAddresses, type RedisNode, type RedisTarget } from './redis-url.js';
 export {
   kafkaFailure,
   kafkaRefusal,

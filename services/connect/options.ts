@@ -13,6 +13,7 @@ import type { ParseArgsConfig } from 'node:util';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import { ENV } from '../config/env.js';
 import { readSecretFile } from './files.js';
+import { parseRedisUrl, redisAddresses, type RedisTarget } from './redis-url.js';
 
 /** One command-line option: its environment variable, default and help line. */
 export interface OptionSpec {
@@ -47,7 +48,10 @@ export const KAFKA_OPTIONS = {
 } as const satisfies Record<string, OptionSpec>;
 
 export const REDIS_OPTIONS = {
-  redis: { env: ENV.redisUrl, help: 'Redis URL (redis://host:port, rediss:// for TLS)' },
+  redis: {
+    env: ENV.redisUrl,
+    help: 'Redis URL (redis://host:port, rediss:// for TLS; redis+cluster://host:port,host:port for a Redis Cluster)',
+  },
   'redis-username': { env: ENV.redisUsername, help: 'Redis ACL user' },
   'redis-password-file': {
     env: ENV.redisPasswordFile,
@@ -71,7 +75,10 @@ export interface KafkaSettings {
   sasl?: { mechanism: SaslMechanism; username: string; password: string };
 }
 
-/** How to reach Redis: a redis:// or rediss:// URL plus ACL user, password and TLS files. */
+/**
+ * How to reach Redis: a redis://, rediss://, redis+cluster:// or rediss+cluster:// URL (see
+ * redis-url.ts) plus ACL user, password and TLS files.
+ */
 export interface RedisSettings {
   url: string;
   username?: string;
@@ -268,15 +275,13 @@ export function readRedisSettings(
       o.cmd,
     );
   }
-  let parsed: URL;
+  let parsed: RedisTarget;
   try {
-    parsed = new URL(url);
-  } catch {
-    throw invalid('the Redis URL is not a URL; use redis://host:port or rediss://host:port', o.cmd);
+    parsed = parseRedisUrl(url);
+  } catch (e) {
+    throw invalid((e as Error).message, o.cmd);
   }
-  if (parsed.protocol !== 'redis:' && parsed.protocol !== 'rediss:')
-    throw invalid(`the Redis URL scheme must be redis:// or rediss://, not ${parsed.protocol}//`, o.cmd);
-  if (typeof values.redis === 'string' && parsed.password !== '')
+  if (typeof values.redis === 'string' && parsed.password !== undefined)
     throw invalid(
       `do not put the Redis password in --redis (it shows in ps); set ${ENV.redisPassword} or --redis-password-file`,
       o.cmd,
@@ -285,9 +290,11 @@ export function readRedisSettings(
   const certFile = get('redis-cert-file');
   const keyFile = get('redis-key-file');
   const anyFile = caFile ?? certFile ?? keyFile;
-  if (parsed.protocol === 'redis:' && anyFile !== undefined)
+  if (!parsed.tls && anyFile !== undefined)
     throw invalid(
-      `a Redis TLS file is given (${anyFile}) but the URL is redis://; use rediss:// for TLS`,
+      parsed.cluster
+        ? `a Redis TLS file is given (${anyFile}) but the URL is redis+cluster://; use rediss+cluster:// for TLS`
+        : `a Redis TLS file is given (${anyFile}) but the URL is redis://; use rediss:// for TLS`,
       o.cmd,
     );
   if ((certFile === undefined) !== (keyFile === undefined))
@@ -313,12 +320,18 @@ export function describeKafka(s: KafkaSettings): Record<string, unknown> {
   };
 }
 
-/** What may be logged about a Redis connection: host:port, TLS and user, never a secret. */
+/** What may be logged about a Redis connection: host:port (each seed of a cluster), TLS and user, never a secret. */
 export function describeRedis(s: RedisSettings): Record<string, unknown> {
-  const u = new URL(s.url);
+  const t = parseRedisUrl(s.url);
   return {
-    redis: u.port ? `${u.hostname}:${u.port}` : u.hostname,
-    tls: u.protocol === 'rediss:',
-    user: s.username ?? (u.username ? decodeURIComponent(u.username) : null),
+    redis: redisAddresses(t),
+    tls: t.tls,
+    ...(t.cluster ? { cluster: true } : {}),
+    user: s.username ?? t.username ?? null,
   };
+}
+
+/** The parsed URL of the settings (validated by readRedisSettings, so it does not throw there). */
+export function redisTarget(s: RedisSettings): RedisTarget {
+  return parseRedisUrl(s.url);
 }

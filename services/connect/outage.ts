@@ -9,6 +9,7 @@
  */
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { KafkaSettings, RedisSettings } from './options.js';
+import { parseRedisUrl, redisAddresses } from './redis-url.js';
 import { kafkaRefusal, networkCause, redisRefusal, unreachableLine } from './refusals.js';
 
 /** The label values of `cause` on streamfence_backoff_total (a fixed, small set). */
@@ -114,8 +115,7 @@ export function kafkaOutage(err: unknown, s: KafkaSettings, what = 'connect'): O
  * earlier as the client's 'error' event: pass it as `socketError` (see RedisErrorWatch).
  */
 export function redisOutage(err: unknown, s: RedisSettings, socketError: unknown = null): Outage {
-  const u = new URL(s.url);
-  const at = `${u.hostname}:${u.port || 6379}`;
+  const at = redisAddresses(parseRedisUrl(s.url));
   for (const candidate of socketError === null ? [err] : [socketError, err]) {
     const refusal = redisRefusal(candidate, s);
     if (refusal !== null) return fromRefusal('redis', refusal);
@@ -130,7 +130,19 @@ export function redisOutage(err: unknown, s: RedisSettings, socketError: unknown
       line: unreachableLine('redis', at, 'no answer (timed out)'),
       refusal: null,
     };
-  if (/max retries per request|Connection is closed|Stream isn't writeable/i.test(reason))
+  // A cluster whose primary for the key's slot is gone until its replica is promoted.
+  if (/CLUSTERDOWN|TRYAGAIN|Too many Cluster redirections/i.test(reason))
+    return {
+      dependency: 'redis',
+      cause: 'connection',
+      line: unreachableLine('redis', at, 'cluster slot without a primary (failing over)'),
+      refusal: null,
+    };
+  if (
+    /max retries per request|Connection is closed|Stream isn't writeable|None of startup nodes|Failed to refresh slots cache/i.test(
+      reason,
+    )
+  )
     return {
       dependency: 'redis',
       cause: 'connection',
@@ -160,6 +172,10 @@ export class RedisErrorWatch {
 
   constructor(client: { on(event: string, listener: (arg: unknown) => void): unknown }) {
     client.on('error', (e) => {
+      this.last = e;
+    });
+    // A cluster client reports a node's socket error as 'node error' (its 'error' is cluster-wide).
+    client.on('node error', (e) => {
       this.last = e;
     });
     client.on('ready', () => {

@@ -4,11 +4,11 @@
  * topic, is a mistake waiting cannot fix, so it ends the command with one line naming the address
  * and the cause. Long-running commands retry instead and do not use these.
  */
-import type { Redis } from 'ioredis';
+
 import { StreamfenceError } from '../../libs/errors/index.js';
 import { buildKafka } from './kafka.js';
 import type { KafkaSettings, RedisSettings } from './options.js';
-import { buildRedis } from './redis.js';
+import { buildRedis, type RedisClient } from './redis.js';
 import { kafkaFailure, redisFailure, redisRefusal, redisUnreachable } from './refusals.js';
 
 /** Few retries: a refused port fails in about a second, a silent host within the connect timeouts. */
@@ -50,7 +50,7 @@ export async function checkKafka(
 }
 
 /** A connected Redis client that does not reconnect, or the one-line error for why it could not connect. */
-export async function connectRedisOnce(s: RedisSettings): Promise<Redis> {
+export async function connectRedisOnce(s: RedisSettings): Promise<RedisClient> {
   const redis = buildRedis(s, { once: true });
   // connect() rejects with "Connection is closed"; the socket's own error (ECONNREFUSED, ENOTFOUND)
   // arrives as an 'error' event first and names the real cause.

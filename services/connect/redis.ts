@@ -1,14 +1,24 @@
 /**
  * The ioredis client of every command, from RedisSettings: a URL plus ACL user, password and TLS
- * files. `rediss://` turns TLS on. Commands fail fast (no long offline queue): callers own the
- * retry policy, so an outage shows up as backoff in logs and metrics rather than silent queueing.
+ * files. `rediss://` turns TLS on; `redis+cluster://` (or `rediss+cluster://`) builds an ioredis
+ * Cluster from the seed nodes, with the same user, password, TLS and timeouts for every node it
+ * talks to. Commands fail fast (no long offline queue): callers own the retry policy, so an outage
+ * shows up as backoff in logs and metrics rather than silent queueing.
  */
 import { isIP } from 'node:net';
-import { Redis, type RedisOptions } from 'ioredis';
-import { StreamfenceError } from '../../libs/errors/index.js';
+import { Cluster, Redis, type ClusterOptions, type RedisOptions } from 'ioredis';
 import { readPem } from './files.js';
 import type { RedisSettings } from './options.js';
+import { parseRedisUrl, type RedisTarget } from './redis-url.js';
 import { redisFailure, redisRefusal } from './refusals.js';
+
+/** A client of one Redis server or of a Redis Cluster: both take the same commands and scripts. */
+export type RedisClient = Redis | Cluster;
+
+/** True for a Redis Cluster client (commands that address every node, such as SCAN, need to know). */
+export function isClusterClient(r: RedisClient): r is Cluster {
+  return r instanceof Cluster;
+}
 
 export interface RedisClientOptions {
   /** Per-command timeout; a paused server makes calls fail after this and the caller retries. */
@@ -20,41 +30,24 @@ export interface RedisClientOptions {
   once?: boolean;
 }
 
-/** The ioredis options for the settings (exported for tests). */
-export function redisOptions(s: RedisSettings, o: RedisClientOptions = {}): RedisOptions {
-  let u: URL;
-  try {
-    u = new URL(s.url);
-  } catch {
-    throw new StreamfenceError(
-      'ARGS_INVALID',
-      'the Redis URL is not a URL; use redis://host:port or rediss://host:port',
-    );
-  }
-  if (u.protocol !== 'redis:' && u.protocol !== 'rediss:') {
-    throw new StreamfenceError(
-      'ARGS_INVALID',
-      `the Redis URL scheme must be redis:// or rediss://, not ${u.protocol}//`,
-    );
-  }
+/** Reconnect forever with a capped delay; the caller's retries decide what waits. */
+const reconnectDelay = (times: number): number => Math.min(100 * 2 ** Math.min(times, 6), 3_000);
+
+/** The options every connection shares, one server's or each cluster node's (no host, port, db). */
+function connectionOptions(s: RedisSettings, t: RedisTarget, o: RedisClientOptions): RedisOptions {
   const opts: RedisOptions = {
-    host: u.hostname,
-    port: u.port ? Number(u.port) : 6379,
-    db: u.pathname.length > 1 ? Number(u.pathname.slice(1)) : 0,
-    username: s.username ?? (u.username ? decodeURIComponent(u.username) : undefined),
-    password: s.password ?? (u.password ? decodeURIComponent(u.password) : undefined),
+    username: s.username ?? t.username,
+    password: s.password ?? t.password,
     maxRetriesPerRequest: 1,
-    enableOfflineQueue: true,
     commandTimeout: o.commandTimeoutMs ?? 5_000,
     connectTimeout: 5_000,
-    lazyConnect: true,
-    // Reconnect forever with a capped delay; the caller's retries decide what waits.
-    retryStrategy: o.once === true ? () => null : (times) => Math.min(100 * 2 ** Math.min(times, 6), 3_000),
   };
-  if (u.protocol === 'rediss:') {
+  if (t.tls) {
+    const host = t.nodes[0].host;
     opts.tls = {
       // SNI takes host names only (node warns about an IP); the certificate is checked either way.
-      servername: isIP(u.hostname) ? undefined : u.hostname,
+      // A cluster's nodes share one certificate name in practice: the first seed's name is sent.
+      servername: isIP(host) ? undefined : host,
       ca: s.caFile ? readPem('Redis', s.caFile, 'CA') : undefined,
       cert: s.certFile ? readPem('Redis', s.certFile, 'certificate') : undefined,
       key: s.keyFile ? readPem('Redis', s.keyFile, 'key') : undefined,
@@ -63,9 +56,52 @@ export function redisOptions(s: RedisSettings, o: RedisClientOptions = {}): Redi
   return opts;
 }
 
+/** The ioredis options for a one-server URL (exported for tests; a cluster URL: clusterOptions). */
+export function redisOptions(s: RedisSettings, o: RedisClientOptions = {}): RedisOptions {
+  const t = parseRedisUrl(s.url);
+  return {
+    ...connectionOptions(s, t, o),
+    host: t.nodes[0].host,
+    port: t.nodes[0].port,
+    db: t.db,
+    enableOfflineQueue: true,
+    lazyConnect: true,
+    retryStrategy: o.once === true ? () => null : reconnectDelay,
+  };
+}
+
+/**
+ * The ioredis Cluster options for a cluster URL (exported for tests). A primary that dies answers
+ * nothing until its replica is promoted (cluster-node-timeout plus an election, seconds): commands
+ * to its slots fail meanwhile and the caller retries them, while the client re-reads the slot map
+ * every few seconds and on every MOVED answer, so it finds the new primary without a restart.
+ */
+export function clusterOptions(s: RedisSettings, o: RedisClientOptions = {}): ClusterOptions {
+  const t = parseRedisUrl(s.url);
+  return {
+    redisOptions: connectionOptions(s, t, o),
+    enableOfflineQueue: true,
+    lazyConnect: true,
+    clusterRetryStrategy: o.once === true ? () => null : reconnectDelay,
+    // A few quick tries within one call; longer outages are the caller's retries.
+    retryDelayOnFailover: 200,
+    retryDelayOnClusterDown: 200,
+    retryDelayOnTryAgain: 200,
+    maxRedirections: 8,
+    slotsRefreshTimeout: 2_000,
+    slotsRefreshInterval: 2_000,
+  };
+}
+
 /** The one way a command gets an ioredis client (not yet connected: call connect()). */
-export function buildRedis(s: RedisSettings, o: RedisClientOptions = {}): Redis {
-  const r = new Redis(redisOptions(s, o));
+export function buildRedis(s: RedisSettings, o: RedisClientOptions = {}): RedisClient {
+  const t = parseRedisUrl(s.url);
+  const r = t.cluster
+    ? new Cluster(
+        t.nodes.map((n) => ({ host: n.host, port: n.port })),
+        clusterOptions(s, o),
+      )
+    : new Redis(redisOptions(s, o));
   // Errors are reported by the calls that fail; without a listener ioredis prints them itself.
   r.on('error', () => {});
   return r;
@@ -80,7 +116,7 @@ export function buildRedis(s: RedisSettings, o: RedisClientOptions = {}): Redis 
  * so nothing keeps reconnecting in the background. For long-running commands (the client keeps
  * reconnecting once started); one-shot commands use connectRedisOnce.
  */
-export async function connectRedis(redis: Redis, s: RedisSettings): Promise<void> {
+export async function connectRedis(redis: RedisClient, s: RedisSettings): Promise<void> {
   let last: unknown;
   const keep = (e: unknown) => {
     last = e;

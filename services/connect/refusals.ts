@@ -5,18 +5,29 @@
  */
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { KafkaSettings, RedisSettings } from './options.js';
+import { parseRedisUrl, redisAddresses } from './redis-url.js';
 
-/** The error and its causes (kafkajs wraps the real one in retries; node in `cause`). */
+/**
+ * The error and its causes (kafkajs wraps the real one in retries; node in `cause`; an ioredis
+ * Cluster that reached no node in `lastNodeError`).
+ */
 function chain(err: unknown): { name: string; message: string; type?: string; code?: string }[] {
   const out: { name: string; message: string; type?: string; code?: string }[] = [];
   let e = err as
-    (Error & { cause?: unknown; originalError?: unknown; type?: string; code?: string }) | undefined;
+    | (Error & {
+        cause?: unknown;
+        originalError?: unknown;
+        lastNodeError?: unknown;
+        type?: string;
+        code?: string;
+      })
+    | undefined;
   for (let i = 0; e && i < 6; i++) {
     out.push({ name: String(e.name ?? ''), message: String(e.message ?? e), type: e.type, code: e.code });
     // kafkajs reports per-topic failures (e.g. of createTopics) as an aggregate.
     const inner = (e as { errors?: unknown[] }).errors;
     if (Array.isArray(inner)) for (const x of inner.slice(0, 5)) out.push(...chain(x));
-    e = (e.originalError ?? e.cause) as typeof e;
+    e = (e.originalError ?? e.cause ?? e.lastNodeError) as typeof e;
   }
   // Innermost first: the original cause words the reason best.
   return out.reverse();
@@ -75,9 +86,9 @@ export function kafkaRefusal(err: unknown, s: KafkaSettings, what = 'connect'): 
 /** A typed refusal for a Redis failure, or null when the cause is not one of the known refusals. */
 export function redisRefusal(err: unknown, s: RedisSettings): StreamfenceError | null {
   const all = chain(err);
-  const u = new URL(s.url);
-  const at = `${u.hostname}:${u.port || 6379}`;
-  const user = s.username ?? (u.username ? decodeURIComponent(u.username) : 'default');
+  const t = parseRedisUrl(s.url);
+  const at = redisAddresses(t);
+  const user = s.username ?? t.username ?? 'default';
   if (all.some((e) => /WRONGPASS|NOAUTH/.test(e.message)))
     return new StreamfenceError(
       'AUTH_FAILED',
@@ -95,13 +106,15 @@ export function redisRefusal(err: unknown, s: RedisSettings): StreamfenceError |
       'TLS_FAILED',
       `redis: TLS handshake with ${at} failed: ${tls.message}; check --redis-ca-file and the server's certificate`,
     );
-  if (u.protocol === 'rediss:' && all.some((e) => TLS_DROPPED.test(e.message)))
+  if (t.tls && all.some((e) => TLS_DROPPED.test(e.message)))
     return new StreamfenceError(
       'TLS_FAILED',
       `redis: ${at} ended the connection during the TLS handshake; check that this port serves TLS or use a redis:// URL`,
     );
+  // A cluster client reports every unreachable seed as a closed connection: no TLS guess there.
   if (
-    u.protocol === 'redis:' &&
+    !t.tls &&
+    !t.cluster &&
     networkCause(err) === null &&
     all.some((e) => /Connection is closed|ECONNRESET|socket hang up/i.test(e.message))
   )
@@ -158,15 +171,26 @@ export function kafkaUnreachable(err: unknown, s: KafkaSettings): StreamfenceErr
 
 /** SERVICE_UNAVAILABLE for a Redis that cannot be reached at all, or null for other failures. */
 export function redisUnreachable(err: unknown, s: RedisSettings): StreamfenceError | null {
-  const n = networkCause(err);
+  const n = networkCause(err) ?? clusterUnreachable(err, s);
   if (n === null) return null;
-  const u = new URL(s.url);
-  const at = n.address ?? `${u.hostname}:${u.port || 6379}`;
+  const at = n.address ?? redisAddresses(parseRedisUrl(s.url));
   return new StreamfenceError(
     'SERVICE_UNAVAILABLE',
     `${unreachableLine('redis', at, n.cause)}; check --redis (or STREAMFENCE_REDIS_URL) and that Redis is running there`,
     { cause: err },
   );
+}
+
+/**
+ * A Redis Cluster client that reached none of its seeds says only that ("None of startup nodes is
+ * available", "Failed to refresh slots cache"): the node's own socket error is not passed on.
+ */
+function clusterUnreachable(err: unknown, s: RedisSettings): { cause: string; address: null } | null {
+  if (!parseRedisUrl(s.url).cluster) return null;
+  const all = chain(err);
+  return all.some((e) => /None of startup nodes is available|Failed to refresh slots cache/i.test(e.message))
+    ? { cause: 'no cluster seed node answered', address: null }
+    : null;
 }
 
 /**
@@ -190,13 +214,12 @@ export function kafkaFailure(err: unknown, s: KafkaSettings, what = 'connect'): 
 /** The same for Redis. */
 export function redisFailure(err: unknown, s: RedisSettings): StreamfenceError {
   if (err instanceof StreamfenceError) return err;
-  const u = new URL(s.url);
   return (
     redisUnreachable(err, s) ??
     redisRefusal(err, s) ??
     new StreamfenceError(
       'SERVICE_UNAVAILABLE',
-      `redis ${u.hostname}:${u.port || 6379}: could not connect (${kafkaReason(err)}); check --redis and the server's state`,
+      `redis ${redisAddresses(parseRedisUrl(s.url))}: could not connect (${kafkaReason(err)}); check --redis and the server's state`,
       { cause: err },
     )
   );

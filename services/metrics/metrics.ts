@@ -143,9 +143,20 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
   const registry = new Registry();
   if (opts.defaultMetrics !== false) collectProcessMetrics(registry);
   const registers = [registry];
+  // Spread in this order: the registry lists the metrics in the order they were made.
   return {
     registry,
     ...createEngineMetrics(registry),
+    ...partitionMetrics(registers),
+    backoff: createBackoffCounter(registry),
+    ...checkpointMetrics(registers),
+    ...capacityMetrics(registers),
+  };
+}
+
+/** Per input partition: checkpoint time, how far behind the readings are, idle time and lag. */
+function partitionMetrics(registers: Registry[]) {
+  return {
     checkpointDuration: new Histogram({
       name: 'streamfence_checkpoint_duration_seconds',
       help: 'Time to write one partition checkpoint (dirty sensor states plus offset) to Redis.',
@@ -170,7 +181,12 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
       labelNames: ['partition'],
       registers,
     }),
-    backoff: createBackoffCounter(registry),
+  };
+}
+
+/** Checkpoint results, state rebuilds and the history they need. */
+function checkpointMetrics(registers: Registry[]) {
+  return {
     checkpoints: new Counter({
       name: 'streamfence_checkpoints_total',
       help: 'Partition checkpoints, by result (written; fenced: the partition now belongs to another monitor; owner_gone: Redis lost the partition keys; rolled_back: Redis went back to an older checkpoint; both rewrite the state in full).',
@@ -204,6 +220,12 @@ export function createMetrics(opts: { defaultMetrics?: boolean } = {}): Metrics 
       help: "Seconds by which the input topic's retention.ms is shorter than the history a state rebuild needs (0 when long enough or not readable).",
       registers,
     }),
+  };
+}
+
+/** What this monitor holds: partitions, sensors against the limit, evictions, readiness. */
+function capacityMetrics(registers: Registry[]) {
+  return {
     assignedPartitions: new Gauge({
       name: 'streamfence_assigned_partitions',
       help: 'Input partitions this monitor currently owns.',

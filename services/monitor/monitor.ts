@@ -24,7 +24,8 @@ import kafkajs, {
   type Producer,
   type TopicMessages,
 } from 'kafkajs';
-import type { Redis } from 'ioredis';
+import { isClusterClient, type RedisClient } from '../connect/index.js';
+
 import { Engine } from '../../libs/engine/engine.js';
 import { DEFAULT_MAX_SENSORS, SensorBudget } from '../../libs/engine/sensor-budget.js';
 import type { EngineConfig } from '../../libs/config/config.js';
@@ -82,7 +83,7 @@ export interface MonitorSettings {
 /** What a Monitor is built from: clients (from services/connect), the engine config, settings, log and metrics. */
 export interface MonitorParts {
   kafka: Kafka;
-  redis: Redis;
+  redis: RedisClient;
   config: EngineConfig;
   settings: MonitorSettings;
   log: Logger;
@@ -158,6 +159,17 @@ interface Outbox {
 
 // Publish in slices so a long batch does not hold unsent events, and heartbeats keep flowing.
 const FLUSH_EVERY = 2_000;
+
+/** A URL naming the client's server (or a cluster's seeds), for wording outages without settings. */
+function redisUrlOf(redis: RedisClient): string {
+  if (isClusterClient(redis)) {
+    const seeds = redis.nodes().map((n) => `${n.options.host ?? '127.0.0.1'}:${n.options.port ?? 6379}`);
+    return `redis+cluster://${seeds.join(',') || '127.0.0.1:6379'}`;
+  }
+  const o = (redis as { options: { host?: string; port?: number } }).options;
+  return `redis://${o.host ?? '127.0.0.1'}:${o.port ?? 6379}`;
+}
+
 /** Alert and reject messages that may wait for Kafka's acknowledgement before a batch waits too. */
 const MAX_UNSENT = 20_000;
 
@@ -202,7 +214,7 @@ export class Monitor {
   private timer: NodeJS.Timeout | null = null;
 
   private readonly kafka: Kafka;
-  private readonly redis: Redis;
+  private readonly redis: RedisClient;
   private readonly config: EngineConfig;
   private readonly settings: MonitorSettings;
   private readonly log: Logger;
@@ -219,9 +231,7 @@ export class Monitor {
     this.metrics = metrics;
     this.redisWatch = new RedisErrorWatch(redis);
     this.kafkaSettings = parts.connection?.kafka ?? { brokers: ['(brokers)'] };
-    this.redisSettings = parts.connection?.redis ?? {
-      url: `redis://${redis.options.host ?? '127.0.0.1'}:${redis.options.port ?? 6379}`,
-    };
+    this.redisSettings = parts.connection?.redis ?? { url: redisUrlOf(redis) };
     this.startRefusal = parts.startRefusal ?? (() => null);
     this.store = new CheckpointStore(
       redis,
@@ -747,6 +757,32 @@ export class Monitor {
     return w;
   }
 
+  /**
+   * A partition's first batch: when the fetch began elsewhere than the checkpoint, seek there and
+   * return true (the batch is dropped); otherwise the start is done.
+   */
+  private seekedToCheckpoint(w: PartitionWorker, first: number, topic: string, part: number): boolean {
+    if (first !== w.next && w.start === 'verify') {
+      // The fetch began elsewhere than our checkpoint (group offsets ahead of the Redis state, or
+      // the oldest message on a first start from `now`): go there.
+      this.log.info(
+        { partition: part, from: first.toString(), to: w.next.toString() },
+        'seeking to checkpoint',
+      );
+      this.consumer.seek({ topic, partition: part, offset: w.next.toString() });
+      w.start = 'seeked';
+      return true;
+    }
+    if (first > w.next && !w.rebuild) {
+      this.log.warn(
+        { partition: part, expected: w.next.toString(), got: first.toString() },
+        'readings after the checkpoint are gone from Kafka (retention?); continuing from the oldest available',
+      );
+    }
+    w.start = 'done';
+    return false;
+  }
+
   private async onBatch(p: EachBatchPayload): Promise<void> {
     const { batch, resolveOffset, heartbeat, isRunning, isStale } = p;
     if (this.stopping || batch.messages.length === 0 || isStale()) return;
@@ -755,27 +791,7 @@ export class Monitor {
     const w = this.workers.get(part) ?? (await this.claim(part, heartbeat));
     const msgs = batch.messages;
 
-    if (w.start !== 'done') {
-      const first = Number(msgs[0].offset);
-      if (first !== w.next && w.start === 'verify') {
-        // The fetch began elsewhere than our checkpoint (group offsets ahead of the Redis state, or
-        // the oldest message on a first start from `now`): go there.
-        this.log.info(
-          { partition: part, from: first.toString(), to: w.next.toString() },
-          'seeking to checkpoint',
-        );
-        this.consumer.seek({ topic: batch.topic, partition: part, offset: w.next.toString() });
-        w.start = 'seeked';
-        return;
-      }
-      if (first > w.next && !w.rebuild) {
-        this.log.warn(
-          { partition: part, expected: w.next.toString(), got: first.toString() },
-          'readings after the checkpoint are gone from Kafka (retention?); continuing from the oldest available',
-        );
-      }
-      w.start = 'done';
-    }
+    if (w.start !== 'done' && this.seekedToCheckpoint(w, Number(msgs[0].offset), batch.topic, part)) return;
     if (w.rebuild?.phase === 'locate' && (await this.locateRebuild(w, msgs, batch.topic))) return;
 
     const now = Date.now();
@@ -845,6 +861,19 @@ export class Monitor {
       }
     }
     if (lastOffset !== null) resolveOffset(lastOffset);
+    this.countReadings(accepted, rejected, doubtful);
+    this.flush();
+    if (this.unsent > MAX_UNSENT) await this.flushed();
+    this.metrics.partitionLag.set({ partition: String(part) }, Number(batch.highWatermark) - w.next);
+    if (w.sinceCheckpoint >= this.settings.checkpointReadings) await this.checkpoint(w, heartbeat);
+  }
+
+  /** A batch's readings into the metrics, once per batch: accepted by quality, and rejected. */
+  private countReadings(
+    accepted: number,
+    rejected: number,
+    doubtful: { uncertain: number; bad: number },
+  ): void {
     if (accepted) {
       this.metrics.readings.inc({ outcome: 'accepted' }, accepted);
       const good = accepted - doubtful.uncertain - doubtful.bad;
@@ -853,10 +882,6 @@ export class Monitor {
       if (doubtful.bad) this.metrics.readingQuality.inc({ quality: 'bad' }, doubtful.bad);
     }
     if (rejected) this.metrics.readings.inc({ outcome: 'rejected' }, rejected);
-    this.flush();
-    if (this.unsent > MAX_UNSENT) await this.flushed();
-    this.metrics.partitionLag.set({ partition: String(part) }, Number(batch.highWatermark) - w.next);
-    if (w.sinceCheckpoint >= this.settings.checkpointReadings) await this.checkpoint(w, heartbeat);
   }
 
   /**

@@ -10,7 +10,7 @@
  * writes): writing only the sensors changed since would leave the others at their older state
  * beside a newer offset, so the caller writes everything again instead.
  */
-import type { Redis } from 'ioredis';
+import type { RedisClient } from '../connect/index.js';
 import { partitionKeys, type PartitionKeys } from './keys.js';
 
 const CLAIM_LUA = `
@@ -64,7 +64,7 @@ if redis.call('GET', KEYS[3]) == ARGV[1] then redis.call('DEL', KEYS[3]) return 
 return 0
 `;
 
-interface ScriptedRedis extends Redis {
+type ScriptedRedis = RedisClient & {
   sfClaimBuffer(
     state: string,
     offset: string,
@@ -74,7 +74,7 @@ interface ScriptedRedis extends Redis {
   sfSave(state: string, offset: string, owner: string, ...args: (string | Buffer)[]): Promise<number>;
   sfRelease(state: string, offset: string, owner: string, token: string): Promise<number>;
   sfRetake(state: string, offset: string, owner: string, token: string): Promise<number>;
-}
+};
 
 /** What a save did (see CheckpointStore.save). */
 export type SaveResult = 'written' | 'fenced' | 'owner_gone' | 'rolled_back';
@@ -95,7 +95,7 @@ export class CheckpointStore {
   private readonly r: ScriptedRedis;
 
   constructor(
-    redis: Redis,
+    redis: RedisClient,
     readonly prefix: string,
     readonly group: string,
     readonly topic: string,

@@ -18,7 +18,7 @@ import {
   type KafkaSettings,
   type RedisSettings,
 } from '../../connect/index.js';
-import type { Redis } from 'ioredis';
+import type { RedisClient } from '../../connect/index.js';
 import type { GroupRule } from '../../../libs/board/groups.js';
 import { MIN_BOARD_TOKEN_LENGTH, boardTokenFor, readBoardToken, refuseTokenFlag } from '../../board/auth.js';
 import { BoardHub } from '../../board/hub.js';
@@ -161,7 +161,7 @@ function noteRetry(metrics: LiveBoardMetrics, outage: Outage, delayMs: number | 
  */
 async function startFeedWaitingOutOutages(
   feed: LiveFeed,
-  redis: Redis,
+  redis: RedisClient,
   request: BoardRequest,
   readiness: BoardReadiness,
   metrics: LiveBoardMetrics,

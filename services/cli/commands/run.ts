@@ -14,10 +14,11 @@ import {
   describeRedis,
   kafkaRefusal,
   redisRefusal,
+  redisTarget,
   type KafkaSettings,
+  type RedisClient,
   type RedisSettings,
 } from '../../connect/index.js';
-import type { Redis } from 'ioredis';
 import { createLogger, type Logger } from '../../log.js';
 import { startMetricsServer } from '../../metrics/http.js';
 import { createMetrics, type Metrics } from '../../metrics/metrics.js';
@@ -40,7 +41,7 @@ export function startRefusal(
     const refused = dependency === 'redis' ? redisRefusal(err, redis) : kafkaRefusal(err, kafka, what);
     if (refused === null) return null;
     if (refused.code !== 'TLS_FAILED') return refused;
-    const tls = dependency === 'redis' ? redis.url.startsWith('rediss:') : kafka.tls === true;
+    const tls = dependency === 'redis' ? redisTarget(redis).tls : kafka.tls === true;
     return tls ? refused : null;
   };
 }
@@ -65,7 +66,7 @@ const RUN_HELP = [
 /** The monitor with its clients, built from the parsed options (nothing connects yet). */
 interface MonitorParts {
   monitor: Monitor;
-  redis: Redis;
+  redis: RedisClient;
 }
 
 function buildMonitor(options: MonitorOptions, log: Logger, metrics: Metrics): MonitorParts {

@@ -11,6 +11,7 @@ import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { logLevel, type Kafka } from 'kafkajs';
 import type { Redis } from 'ioredis';
+import type { RedisClient } from '../../../services/connect/index.js';
 import { afterAll, expect } from 'vitest';
 import { parseConfigText, type EngineConfig } from '../../../libs/config/config.js';
 import { Engine } from '../../../libs/engine/engine.js';
@@ -371,7 +372,7 @@ export const quietKafka = () => logLevel.NOTHING;
 
 /** Waits until the Redis checkpoints of every partition reach the topic's end offsets. */
 export async function waitCheckpointedToEnd(
-  redis: Redis,
+  redis: RedisClient,
   prefix: string,
   group: string,
   topic: string,
@@ -399,7 +400,7 @@ export async function waitCheckpointedToEnd(
 
 /** sensor -> lifetime readings, from the checkpoints in Redis. */
 export async function storedSeen(
-  redis: Redis,
+  redis: RedisClient,
   prefix: string,
   group: string,
   topic: string,
@@ -429,7 +430,7 @@ export const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 
 /** Where a monitor keeps its state: the Redis it checkpoints to, its prefix, group and input topic. */
 export interface StateLocation {
-  redis: Redis;
+  redis: RedisClient;
   prefix: string;
   group: string;
   topic: string;
