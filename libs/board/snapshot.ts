@@ -1,11 +1,13 @@
 /**
  * What the board page gets from `GET /api/board` in one response: the alerts, the rate meter, the
+ * alert-system health figures, the
  * recent readings of the charted sensors and the two clocks. BoardHub.snapshot() builds it; the
  * page script (services/board/page/browser/board.ts) is type-checked against it.
  */
 import type { RateReading } from './rate.js';
 import type { BoardAlert } from './store.js';
 import type { AlertGroup } from './groups.js';
+import type { BoardHealth } from './health.js';
 
 /** One recent reading on a card's chart: [event time (epoch ms), value, 1 if flagged else 0]. */
 export type SnapshotPoint = [number, number, number];
@@ -20,6 +22,8 @@ export interface BoardSnapshot {
   /** ISO-8601 plant clock (event time "now": the rate meter and relative times). */
   plantNow: string;
   rate: RateReading;
+  /** Alert-system health figures of the last day of plant time, with their verdicts (libs/board/health.ts). */
+  health: BoardHealth;
   alerts: BoardAlert[];
   /** Groups of two or more open alerts of one asset (libs/board/groups.ts), first-out first. */
   groups: AlertGroup[];

@@ -21,6 +21,7 @@ import {
   type GroupRule,
 } from '../../libs/board/groups.js';
 import { RecentSeries, type SeriesPoint } from '../../libs/board/series.js';
+import { HealthWindow } from '../../libs/board/health.js';
 import type { AlertEvent } from '../../libs/schema/alert-event.js';
 
 export type HubMessage =
@@ -69,11 +70,14 @@ export class BoardHub {
 
   readonly groupRule: GroupRule;
   private readonly assets: AssetNamer;
+  /** The alert-system health figures of the last day of plant time (libs/board/health.ts). */
+  readonly health: HealthWindow;
 
   constructor(readonly opts: HubOptions) {
     this.store = new BoardStore({ clearedKeep: opts.clearedKeep });
     this.groupRule = opts.groupRule ?? DEFAULT_GROUP_RULE;
     this.assets = new AssetNamer(this.groupRule);
+    this.health = new HealthWindow(opts.clock.plant());
   }
 
   /** The groups among the open alerts now (computed from the list, so always in step with it). */
@@ -101,6 +105,7 @@ export class BoardHub {
   applyEvent(ev: AlertEvent): void {
     this.counts.events++;
     if (ev.state === 'raised') this.rate.record(Date.parse(ev.since));
+    this.health.record(ev);
     const a = this.store.applyEvent(ev, this.clock.wall());
     if (a !== null) this.emit({ type: 'alert', alert: a });
   }
@@ -202,6 +207,7 @@ export class BoardHub {
       wallNow: new Date(this.clock.wall()).toISOString(),
       plantNow: new Date(this.clock.plant()).toISOString(),
       rate: this.rateNow(),
+      health: this.health.read(this.clock.plant()),
       alerts,
       groups: this.groups(alerts),
       grouping: {

@@ -199,6 +199,8 @@ export class Monitor {
   private startFailure: StreamfenceError | null = null;
   /** Kafka failed since the last heartbeat or batch: not ready. */
   private kafkaDown = false;
+  /** Kafka calls of ours being retried now (their backoff logs the lines; see noteKafkaClientError). */
+  private kafkaRetries = 0;
   /** Consumer restarts since it last joined (their wait grows). */
   private consumerRestarts = 0;
   /** Waits a stop request cuts short (backoff while starting). */
@@ -538,7 +540,9 @@ export class Monitor {
     namespace: string;
     log: { message?: unknown; broker?: unknown; error?: unknown };
   }): void {
-    if (this.stopping || entry.namespace !== 'Connection') return;
+    // While a call of ours is retried, its backoff logs the one line per attempt; the client's
+    // own reconnects inside that call would repeat it.
+    if (this.stopping || this.kafkaRetries > 0 || entry.namespace !== 'Connection') return;
     const broker = typeof entry.log.broker === 'string' ? entry.log.broker : null;
     const settings = broker === null ? this.kafkaSettings : { ...this.kafkaSettings, brokers: [broker] };
     const outage = kafkaOutage(kafkaLogError(entry.log), settings, this.readWhat);
@@ -653,6 +657,7 @@ export class Monitor {
         throw refusal ?? err;
       }
     };
+    if (dependency === 'kafka') this.kafkaRetries++;
     return withBackoff(attempt, {
       onRetry: (n, delayMs, err) => this.noteRetry(this.describe(dependency, err, what), delayMs, n),
       final: (err) => err instanceof StreamfenceError,
@@ -660,6 +665,8 @@ export class Monitor {
       giveUp: () => this.stopping && (!this.started || Date.now() > this.stopGiveUpAt),
       sleep: (ms) => this.pause(ms),
       ...extra,
+    }).finally(() => {
+      if (dependency === 'kafka') this.kafkaRetries--;
     });
   }
 

@@ -32,6 +32,7 @@ export const BOARD_HTML = `<!doctype html>
   </div>
 </header>
 <section id="rate" class="rate" aria-label="Alert rate"></section>
+<section id="health" class="health" aria-label="Alert-system health" hidden></section>
 <div id="flood" class="flood" role="alert" hidden></div>
 <div id="waiting" class="waiting" role="status" hidden></div>
 <div id="message" class="message" role="status" aria-live="polite"></div>

@@ -84,4 +84,15 @@ dialog fieldset label { display: inline-block; margin-right: 1rem; }
 .first-out-tag { font-weight: 700; font-size: .8rem; letter-spacing: .06em; padding: .05rem .45rem; border-radius: 3px; background: var(--ink); color: var(--panel); }
 .member { border-top: 1px solid var(--line); padding-top: .4rem; display: grid; gap: .25rem; }
 .member .msg { font-size: .9rem; }
+.health { display: flex; flex-wrap: wrap; gap: .3rem 1rem; align-items: center; padding: .35rem 1rem; background: var(--panel); border-bottom: 1px solid var(--line); font-size: .85rem; }
+.health h2 { font-size: .85rem; margin: 0; text-transform: uppercase; letter-spacing: .06em; color: var(--muted); }
+.health .kpis { list-style: none; margin: 0; padding: 0; display: flex; flex-wrap: wrap; gap: .3rem .9rem; }
+.kpi { display: inline-flex; align-items: center; gap: .3rem; }
+.kpi svg { width: .85rem; height: .85rem; }
+.kpi b { font-variant-numeric: tabular-nums; }
+.kpi.met svg { color: var(--ok); }
+.kpi.not-met { color: var(--crit); }
+.kpi.not-judged svg { color: var(--muted); }
+.kpi .verdict-words { font-size: .75rem; color: var(--muted); }
+.kpi.not-met .verdict-words { color: var(--crit); font-weight: 700; letter-spacing: .04em; }
 `;

@@ -152,13 +152,13 @@ export async function produceStamped(kafka: Kafka, topic: string, readings: Read
 export async function readTopic(
   topic: string,
   kafka: Kafka = kafkaClient(),
-): Promise<{ key: string | null; value: Buffer | null; partition: number }[]> {
+): Promise<{ key: string | null; value: Buffer | null; partition: number; timestamp: number }[]> {
   const admin = kafka.admin();
   await admin.connect();
   const ends = await admin.fetchTopicOffsets(topic);
   await admin.disconnect();
   const remaining = new Map(ends.map((e) => [e.partition, BigInt(e.high)]));
-  const out: { key: string | null; value: Buffer | null; partition: number }[] = [];
+  const out: { key: string | null; value: Buffer | null; partition: number; timestamp: number }[] = [];
   const done = () => [...remaining.entries()].every(([, high]) => high <= 0n);
   if (done()) return out;
   const consumer = kafka.consumer({ groupId: uniqueName('reader') });
@@ -168,7 +168,12 @@ export async function readTopic(
     const timer = setTimeout(() => reject(new Error(`timed out reading ${topic}`)), 60_000);
     void consumer.run({
       eachMessage: async ({ partition, message }) => {
-        out.push({ key: message.key?.toString() ?? null, value: message.value, partition });
+        out.push({
+          key: message.key?.toString() ?? null,
+          value: message.value,
+          partition,
+          timestamp: Number(message.timestamp),
+        });
         const high = remaining.get(partition)!;
         if (BigInt(message.offset) + 1n >= high) remaining.set(partition, 0n);
         if (done()) {
@@ -369,6 +374,25 @@ export function spawnMonitor(a: MonitorArgs): MonitorProc {
 }
 
 export const quietKafka = () => logLevel.NOTHING;
+
+/**
+ * Runs a deploy/local script (stack-up.sh, stack-down.sh) with extra env, for a test that starts
+ * servers of its own in a stack folder of its own; rejects with the script's stderr on failure.
+ */
+export function runStackScript(script: string, env: NodeJS.ProcessEnv, args: string[] = []): Promise<void> {
+  return new Promise((resolve, reject) => {
+    const child = spawn('bash', [path.join(REPO_ROOT, 'deploy/local', script), ...args], {
+      env: { ...process.env, ...env },
+      stdio: ['ignore', 'ignore', 'pipe'],
+    });
+    let err = '';
+    child.stderr!.on('data', (d: Buffer) => (err += d.toString()));
+    child.on('error', reject);
+    child.on('exit', (code) =>
+      code === 0 ? resolve() : reject(new Error(`${script} exited ${code}: ${err}`)),
+    );
+  });
+}
 
 /** Waits until the Redis checkpoints of every partition reach the topic's end offsets. */
 export async function waitCheckpointedToEnd(

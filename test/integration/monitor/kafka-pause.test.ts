@@ -4,7 +4,6 @@
  * than the consumer session. The monitor backs off, counts it, rejoins when the broker is back, and
  * its state and alerts are exact.
  */
-import { spawn } from 'node:child_process';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
@@ -12,33 +11,18 @@ import { Kafka, logLevel } from 'kafkajs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { redisUrl } from '../../harness/services.js';
 import {
-  REPO_ROOT,
   expectExactState,
   freePort,
   expectNoLostAlerts,
   generateReadings,
   produceReadings,
+  runStackScript,
   sleep,
   testConfig,
   useMonitorBed,
   waitCheckpointedToEnd,
   writeTestConfig,
 } from './helpers.js';
-
-function runScript(script: string, env: NodeJS.ProcessEnv, args: string[] = []): Promise<void> {
-  return new Promise((resolve, reject) => {
-    const child = spawn('bash', [path.join(REPO_ROOT, 'deploy/local', script), ...args], {
-      env: { ...process.env, ...env },
-      stdio: ['ignore', 'ignore', 'pipe'],
-    });
-    let err = '';
-    child.stderr!.on('data', (d: Buffer) => (err += d.toString()));
-    child.on('error', reject);
-    child.on('exit', (code) =>
-      code === 0 ? resolve() : reject(new Error(`${script} exited ${code}: ${err}`)),
-    );
-  });
-}
 
 describe('streamfence run: Kafka outage', () => {
   const stackDir = mkdtempSync(path.join(tmpdir(), 'sf-kafka-pause-'));
@@ -55,7 +39,7 @@ describe('streamfence run: Kafka outage', () => {
       STREAMFENCE_KAFKA_CONTROLLER_PORT: String(await freePort()),
       STREAMFENCE_REDIS_URL: redisUrl(),
     };
-    await runScript('stack-up.sh', env);
+    await runStackScript('stack-up.sh', env);
     brokerPid = Number(readFileSync(path.join(stackDir, 'kafka', 'kafka.pid'), 'utf8').trim());
     kafka = new Kafka({
       clientId: 'kafka-pause-test',
@@ -66,7 +50,7 @@ describe('streamfence run: Kafka outage', () => {
 
   afterAll(async () => {
     if (brokerPid > 0) process.kill(brokerPid, 'SIGCONT');
-    await runScript('stack-down.sh', env, ['--wipe']).catch(() => undefined);
+    await runStackScript('stack-down.sh', env, ['--wipe']).catch(() => undefined);
     rmSync(stackDir, { recursive: true, force: true });
   }, 60_000);
 

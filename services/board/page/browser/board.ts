@@ -10,6 +10,7 @@ import type { BoardSnapshot } from '../../../../libs/board/snapshot.js';
 import type { BoardAlert } from '../../../../libs/board/store.js';
 import type { RateReading } from '../../../../libs/board/rate.js';
 import type { AlertGroup } from '../../../../libs/board/groups.js';
+import type { BoardHealth, HealthFigure } from '../../../../libs/board/health.js';
 
 type ActionName = 'acknowledge' | 'shelve' | 'unshelve';
 type BadgeKind = 'warning' | 'critical' | 'cleared';
@@ -494,6 +495,57 @@ function renderRate(rate: RateReading): void {
     : '';
 }
 
+/** A verdict's shape: a ticked square (met), a crossed circle (not met), a bar (not judged). */
+function verdictShape(verdict: HealthFigure['verdict']): SVGElement {
+  const icon = svg('svg', { viewBox: '0 0 12 12', 'aria-hidden': 'true', focusable: 'false' });
+  const line = { fill: 'none', stroke: 'currentColor', 'stroke-width': 1.6 };
+  if (verdict === 'met') {
+    icon.appendChild(svg('rect', { x: 1, y: 1, width: 10, height: 10, rx: 1.5, ...line }));
+    icon.appendChild(svg('path', { d: 'M3 6.2 5.1 8.3 9 3.8', ...line }));
+  } else if (verdict === 'not-met') {
+    icon.appendChild(svg('circle', { cx: 6, cy: 6, r: 5, ...line }));
+    icon.appendChild(svg('path', { d: 'M3.8 3.8 8.2 8.2M8.2 3.8 3.8 8.2', ...line }));
+  } else icon.appendChild(svg('path', { d: 'M2.5 6H9.5', ...line }));
+  return icon;
+}
+
+/** The compact alert-system health strip: each figure with its verdict; the target on hover. */
+function renderHealth(health: BoardHealth | undefined): void {
+  const box = byId('health');
+  if (!health) {
+    box.hidden = true;
+    return;
+  }
+  box.hidden = false;
+  const span = health.hours >= 23.99 ? 'last 24 h' : 'since the board started, ' + fmt(health.hours) + ' h';
+  const chips = health.figures.map((figure) => {
+    const words = figure.verdict === 'met' ? 'met' : figure.verdict === 'not-met' ? 'NOT MET' : 'not judged';
+    return el(
+      'li',
+      {
+        cls: 'kpi ' + figure.verdict,
+        'data-figure': figure.figure,
+        title: figure.target ? 'target: ' + figure.target : 'no target set',
+      },
+      [
+        verdictShape(figure.verdict),
+        figure.label + ' ',
+        el('b', { text: figure.shown }),
+        el('span', { cls: 'verdict-words', text: words }),
+      ],
+    );
+  });
+  box.replaceChildren(
+    el('h2', { text: 'Alert-system health' }),
+    el('span', {
+      cls: 'muted',
+      text:
+        span + ' · ' + health.raised + ' raised · ' + health.met + ' of ' + health.judged + ' targets met',
+    }),
+    el('ul', { cls: 'kpis' }, chips),
+  );
+}
+
 function render(): void {
   const data = page.data;
   if (!data) return;
@@ -515,6 +567,7 @@ function render(): void {
   fill('shelved', shelved, groups);
   fill('cleared', cleared, []);
   renderRate(data.rate);
+  renderHealth(data.health);
   renderWaiting(data.waiting || null);
   if (data.tokenRequired) showToken(false);
   document.title = (active.length ? '(' + active.length + ') ' : '') + 'streamfence board';
