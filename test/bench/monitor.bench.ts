@@ -14,7 +14,7 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { Session } from 'node:inspector/promises';
-import { createServer } from 'node:net';
+import { freePort, privateRedis } from './private-redis.js';
 import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -68,44 +68,6 @@ const SCALING_PER_SENSOR = 60;
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 const brokers = () => (process.env.STREAMFENCE_TEST_BROKERS ?? '127.0.0.1:9092').split(',');
 const name = (p: string) => `bench-${p}-${process.pid}-${Date.now().toString(36)}`;
-
-async function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = createServer();
-    s.once('error', reject);
-    s.listen(0, '127.0.0.1', () => {
-      const port = (s.address() as { port: number }).port;
-      s.close(() => resolve(port));
-    });
-  });
-}
-
-async function privateRedis(): Promise<{ url: string; proc: ChildProcess }> {
-  const port = await freePort();
-  const proc = spawn(
-    'redis-server',
-    ['--port', String(port), '--bind', '127.0.0.1', '--save', '', '--appendonly', 'no'],
-    {
-      stdio: 'ignore',
-    },
-  );
-  const url = `redis://127.0.0.1:${port}`;
-  for (let i = 0; ; i++) {
-    const r = new Redis(url, { lazyConnect: true, maxRetriesPerRequest: 0, retryStrategy: () => null });
-    r.on('error', () => {});
-    try {
-      await r.connect();
-      await r.ping();
-      r.disconnect();
-      break;
-    } catch (e) {
-      r.disconnect();
-      if (i > 50) throw e;
-      await sleep(100);
-    }
-  }
-  return { url, proc };
-}
 
 async function totalCommands(r: Redis): Promise<{ total: number; byCommand: Record<string, number> }> {
   const info = await r.info('commandstats');

@@ -12,10 +12,8 @@
  *    at the measured count and at 10,000 sensors, from which the 10,000-sensor rebuild is
  *    estimated (see `target` in the result). STREAMFENCE_BENCH_REBUILD_HOURS shortens the span.
  */
-import { spawn, type ChildProcess } from 'node:child_process';
-import { createServer } from 'node:net';
+import { privateRedis } from './private-redis.js';
 import { Kafka, logLevel, type Consumer } from 'kafkajs';
-import { Redis } from 'ioredis';
 import pino from 'pino';
 import { defaultConfig } from '../../libs/config/config.js';
 import { historyNeeded } from '../../libs/config/history-span.js';
@@ -113,40 +111,6 @@ async function produceHistory(
   await Promise.all(inFlight);
   await producer.disconnect();
   return count;
-}
-
-async function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const s = createServer();
-    s.once('error', reject);
-    s.listen(0, '127.0.0.1', () => {
-      const port = (s.address() as { port: number }).port;
-      s.close(() => resolve(port));
-    });
-  });
-}
-
-/** A private, memory-only redis-server: the rebuild's final checkpoint writes every sensor. */
-async function privateRedis(): Promise<{ url: string; proc: ChildProcess }> {
-  const port = await freePort();
-  const proc = spawn('redis-server', ['--port', String(port), '--bind', '127.0.0.1', '--save', ''], {
-    stdio: 'ignore',
-  });
-  const url = `redis://127.0.0.1:${port}`;
-  for (let i = 0; ; i++) {
-    const r = new Redis(url, { lazyConnect: true, maxRetriesPerRequest: 0, retryStrategy: () => null });
-    r.on('error', () => {});
-    try {
-      await r.connect();
-      await r.ping();
-      r.disconnect();
-      return { url, proc };
-    } catch (e) {
-      r.disconnect();
-      if (i > 50) throw e;
-      await sleep(100);
-    }
-  }
 }
 
 /**
