@@ -1,7 +1,8 @@
 /**
  * A broker leader dies under a running monitor, on a real three-broker KRaft cluster that this file
  * starts for itself (deploy/local/stack-up.sh --brokers 3 in a stack folder of its own, on ports
- * 39092-39094 with controllers on 49092-49094, inside the range coord.md gives this work; the shared
+ * 24092-24094 with controllers on 24192-24194, below Linux's ephemeral port range (32768-60999), so
+ * no client socket can hold one; the shared
  * broker is untouched). Topics: replication factor 3, min.insync.replicas 2.
  *  1. The leader of the busiest input partition is SIGKILLed mid-stream and restarted later.
  *  2. The leader of the alert partition with the most events is SIGKILLed mid-stream and restarted
@@ -39,8 +40,8 @@ import {
   type MonitorProc,
 } from './helpers.js';
 
-const KAFKA_PORT = Number(process.env.STREAMFENCE_TEST_FAILOVER_KAFKA_PORT ?? 39092);
-const CONTROLLER_PORT = Number(process.env.STREAMFENCE_TEST_FAILOVER_CONTROLLER_PORT ?? 49092);
+const KAFKA_PORT = Number(process.env.STREAMFENCE_TEST_FAILOVER_KAFKA_PORT ?? 24092);
+const CONTROLLER_PORT = Number(process.env.STREAMFENCE_TEST_FAILOVER_CONTROLLER_PORT ?? 24192);
 const BROKERS = [0, 1, 2].map((i) => `127.0.0.1:${KAFKA_PORT + i}`);
 const INPUT_PARTITIONS = 6;
 /** Several alert partitions: one send of the monitor then goes to several brokers. */

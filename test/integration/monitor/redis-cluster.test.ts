@@ -9,7 +9,7 @@
  * the monitor then finds an older offset than it wrote and writes its exact state in full, so the
  * check holds either way. `inspect` reads every sensor back by scanning every primary, and
  * stack-up run again brings the killed node back as a replica.
- * Ports 37021-37026 and bus ports 47021-47026 (inside the range coord.md gives this work).
+ * Ports 21021-21026 and bus ports 31021-31026 (port + 10000), below Linux's ephemeral port range (32768-60999).
  */
 import { execFile } from 'node:child_process';
 import { promisify } from 'node:util';
@@ -36,7 +36,7 @@ import {
   writeTestConfig,
 } from './helpers.js';
 
-const BASE_PORT = Number(process.env.STREAMFENCE_TEST_REDIS_CLUSTER_PORT ?? 37021);
+const BASE_PORT = Number(process.env.STREAMFENCE_TEST_REDIS_CLUSTER_PORT ?? 21021);
 const PARTITIONS = 4;
 const run = promisify(execFile);
 
