@@ -39,6 +39,11 @@ export interface FollowOptions {
   resumeAt?: (topic: string, partition: number) => bigint | undefined;
   /** Called when the consumer failed and kafkajs restarts it on its own (an outage that may end). */
   onRestart?: (err: unknown) => void;
+  /**
+   * Called after each fetch the brokers answered: the follower really reads (a group joined with a
+   * topic ACL taken away fails at its first fetch instead).
+   */
+  onFetched?: () => void;
 }
 
 export interface Follower {
@@ -182,6 +187,9 @@ export async function follow(options: FollowOptions): Promise<Follower> {
   // that does not restart; without watching for it a follower would wait for ever.
   const { promise: joined, resolve: joinedOk, reject: joinFailed } = settleable();
   consumer.on(consumer.events.GROUP_JOIN, () => joinedOk());
+  consumer.on(consumer.events.FETCH, () => {
+    if (!stopped) options.onFetched?.();
+  });
   consumer.on(consumer.events.CRASH, (e) => {
     if (e.payload.restart) {
       // kafkajs restarts the consumer itself after its own wait (a broker gone, a timeout).

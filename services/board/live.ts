@@ -14,8 +14,8 @@ import type { RedisClient } from '../connect/index.js';
 import type { OperatorAction } from '../../libs/board/store.js';
 import type { AlertEvent } from '../../libs/schema/alert-event.js';
 import { ALERT_STATES, isSeverity, type AlertState } from '../../libs/schema/vocabulary.js';
-import { backoffDelay } from '../monitor/backoff.js';
-import { follow, type Follower, type FollowMessage } from './follow.js';
+import type { FollowMessage } from './follow.js';
+import { ResumingFollower } from './resume.js';
 import type { BoardHub } from './hub.js';
 
 export const actionsKey = (prefix: string): string => `${prefix}:board:actions`;
@@ -30,8 +30,17 @@ export interface ActionMessage {
 }
 
 const MAX_PENDING = 10_000;
-/** A follower that ran this long before failing counts as having recovered (the wait starts short). */
-const HEALTHY_MS = 60_000;
+
+/** Sharing an operator action failed: which dependency refused it, and the client's error. */
+export class ShareFailure extends Error {
+  constructor(
+    readonly dependency: 'kafka' | 'redis',
+    readonly error: unknown,
+  ) {
+    super(`${dependency} refused the operator action`);
+    this.name = 'ShareFailure';
+  }
+}
 
 /** Minimal shape check of an alert event from the topic; anything else is skipped. */
 export function asAlertEvent(v: unknown): AlertEvent | null {
@@ -84,22 +93,16 @@ export interface LiveFeedOptions {
    * the Kafka client retries on its own (a broker gone) comes here too, with a null delay.
    */
   onRetry?: (err: unknown, delayMs: number | null, attempt: number) => void;
+  /** Called when the follower follows its topics again after a retry (the board is ready again). */
+  onFollowing?: () => void;
 }
 
 export class LiveFeed {
   readonly origin = randomBytes(8).toString('hex');
   private producer: Producer | null = null;
-  private follower: Follower | null = null;
+  private follower: ResumingFollower | null = null;
   /** Actions whose alert this board has not seen yet (from Redis at start, or from another board). */
   private readonly pending = new Map<string, OperatorAction[]>();
-  /** The next offset to read per topic and partition, so a replacement follower goes on from there. */
-  private readonly positions = new Map<string, bigint>();
-  private stopping = false;
-  /** Attempts to follow again since the follower last ran for HEALTHY_MS. */
-  private attempts = 0;
-  private wakeRetry: (() => void) | null = null;
-  /** Resolves when the recovery loop after a follower failure has ended (tests, stop). */
-  private recovery: Promise<void> = Promise.resolve();
   skipped = 0;
 
   constructor(
@@ -119,64 +122,16 @@ export class LiveFeed {
     }
     this.producer = this.o.kafka.producer({ allowAutoTopicCreation: false });
     await this.producer.connect();
-    this.watch(await this.followTopics());
-  }
-
-  private followTopics(): Promise<Follower> {
-    return follow({
+    this.follower = new ResumingFollower({
       kafka: this.o.kafka,
       topics: [this.o.alertTopic, this.o.actionTopic],
       sinceMs: this.o.sinceMs,
       role: 'board',
-      resumeAt: (topic, partition) => this.positions.get(`${topic}|${partition}`),
-      onRestart: (err) => this.o.onRetry?.(err, null, 0),
-      onMessage: (m) => {
-        this.positions.set(`${m.topic}|${m.partition}`, BigInt(m.offset) + 1n);
-        this.onMessage(m);
-      },
+      onRetry: (err, delayMs, attempt) => this.o.onRetry?.(err, delayMs, attempt),
+      onFollowing: () => this.o.onFollowing?.(),
+      onMessage: (m) => this.onMessage(m),
     });
-  }
-
-  /** Once started, a follower that fails is replaced after a logged, counted, growing wait. */
-  private watch(follower: Follower): void {
-    this.follower = follower;
-    const since = Date.now();
-    follower.done.catch((err: unknown) => {
-      if (this.stopping) return;
-      // A follower that joins and then fails at its first fetch (a topic ACL taken away) keeps the
-      // wait growing; one that ran a while starts again from the shortest wait.
-      if (Date.now() - since > HEALTHY_MS) this.attempts = 0;
-      this.recovery = this.followAgain(err);
-    });
-  }
-
-  private async followAgain(firstErr: unknown): Promise<void> {
-    let err = firstErr;
-    while (!this.stopping) {
-      const attempt = ++this.attempts;
-      const delayMs = backoffDelay(attempt, 1_000);
-      this.o.onRetry?.(err, delayMs, attempt);
-      await new Promise<void>((resolve) => {
-        const timer = setTimeout(resolve, delayMs);
-        this.wakeRetry = () => {
-          clearTimeout(timer);
-          resolve();
-        };
-      });
-      this.wakeRetry = null;
-      if (this.stopping) return;
-      try {
-        const follower = await this.followTopics();
-        if (this.stopping) {
-          await follower.stop();
-          return;
-        }
-        this.watch(follower);
-        return;
-      } catch (e) {
-        err = e;
-      }
-    }
+    await this.follower.start();
   }
 
   private remember(act: OperatorAction): void {
@@ -227,11 +182,15 @@ export class LiveFeed {
   async share(act: OperatorAction): Promise<void> {
     const field = `${act.id}|${act.kind === 'acknowledge' ? 'ack' : 'shelf'}`;
     const alert = this.hub.store.get(act.id);
-    if (act.kind === 'acknowledge' && alert?.acknowledged === true) {
-      // The first acknowledgement stays the durable one; a later one is recorded on the topic.
-      await this.o.redis.hsetnx(actionsKey(this.o.prefix), field, JSON.stringify(act));
-    } else {
-      await this.o.redis.hset(actionsKey(this.o.prefix), field, JSON.stringify(act));
+    try {
+      if (act.kind === 'acknowledge' && alert?.acknowledged === true) {
+        // The first acknowledgement stays the durable one; a later one is recorded on the topic.
+        await this.o.redis.hsetnx(actionsKey(this.o.prefix), field, JSON.stringify(act));
+      } else {
+        await this.o.redis.hset(actionsKey(this.o.prefix), field, JSON.stringify(act));
+      }
+    } catch (err) {
+      throw new ShareFailure('redis', err);
     }
     const msg: ActionMessage = {
       kind: 'streamfence.operator-action',
@@ -239,17 +198,18 @@ export class LiveFeed {
       action: act,
       ...(alert === undefined ? {} : { sensor: alert.sensor }),
     };
-    await this.producer!.send({
-      topic: this.o.actionTopic,
-      acks: -1,
-      messages: [{ key: act.id, value: JSON.stringify(msg) }],
-    });
+    try {
+      await this.producer!.send({
+        topic: this.o.actionTopic,
+        acks: -1,
+        messages: [{ key: act.id, value: JSON.stringify(msg) }],
+      });
+    } catch (err) {
+      throw new ShareFailure('kafka', err);
+    }
   }
 
   async stop(): Promise<void> {
-    this.stopping = true;
-    this.wakeRetry?.();
-    await this.recovery;
     await this.follower?.stop();
     await this.producer?.disconnect().catch(() => {});
   }

@@ -7,6 +7,7 @@ import { createServer, type IncomingMessage, type Server, type ServerResponse } 
 import type { AddressInfo } from 'node:net';
 import type { ActionKind } from '../../libs/board/store.js';
 import { NOTICE } from '../../libs/schema/notice.js';
+import { isStreamfenceError } from '../../libs/errors/index.js';
 import { listenFailure } from '../setup/listen-errors.js';
 import { authorized } from './auth.js';
 import type { BoardReadiness, BoardReadinessState } from './readiness.js';
@@ -139,10 +140,19 @@ async function handleAction(
     return fail(res, 400, 'bad_request', 'the id in the path is not valid URL encoding');
   }
   const kind = route[3] as ActionKind;
-  const result =
-    route[1] === 'groups'
-      ? await context.hub.actOnGroup(kind, id, body)
-      : await context.hub.act(kind, id, body);
+  let result: Awaited<ReturnType<BoardHub['act']>> | Awaited<ReturnType<BoardHub['actOnGroup']>>;
+  try {
+    result =
+      route[1] === 'groups'
+        ? await context.hub.actOnGroup(kind, id, body)
+        : await context.hub.act(kind, id, body);
+  } catch (err) {
+    // Kafka or Redis refused to record it (the live board words it, logs and counts it): the
+    // operator may try again, so 503 with that one line, never the client library's text.
+    if (isStreamfenceError(err) && err.code === 'SERVICE_UNAVAILABLE')
+      return fail(res, 503, 'unavailable', err.message);
+    throw err;
+  }
   if (!result.ok) {
     const code = result.status === 404 ? 'not_found' : result.status === 409 ? 'conflict' : 'bad_request';
     return fail(res, result.status, code, result.message);

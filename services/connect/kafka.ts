@@ -5,7 +5,17 @@
  * reports failures through its own one-line messages (services/connect/outage.ts), never through
  * kafkajs' text, which repeats every retry in several JSON lines.
  */
-import { Kafka, logLevel, type KafkaConfig, type SASLOptions, type LogEntry } from 'kafkajs';
+import net from 'node:net';
+import tls from 'node:tls';
+import {
+  Kafka,
+  logLevel,
+  type ISocketFactory,
+  type KafkaConfig,
+  type SASLOptions,
+  type LogEntry,
+} from 'kafkajs';
+import { noteKafkaAnswered } from './answered.js';
 import { readPem } from './files.js';
 import type { KafkaSettings } from './options.js';
 import type { Logger } from '../log.js';
@@ -42,6 +52,7 @@ export function kafkaConfig(s: KafkaSettings, o: KafkaClientOptions): KafkaConfi
       log.debug({ kafkajs: entry.namespace, ...pickSafe(rest) }, String(message));
     },
   };
+  cfg.socketFactory = answerNotingSocketFactory;
   if (s.tls || s.caFile || s.certFile) {
     cfg.ssl = {
       rejectUnauthorized: true,
@@ -56,6 +67,24 @@ export function kafkaConfig(s: KafkaSettings, o: KafkaClientOptions): KafkaConfi
   }
   return cfg;
 }
+
+/**
+ * kafkajs' own socket factory (net or tls, keep-alive), plus a note of each broker address that
+ * answers with a Kafka response: a TLS listener fed plain text never does, so a broker that had
+ * answered and then closes is a connection lost, not a TLS hint (see answered.ts).
+ */
+const answerNotingSocketFactory: ISocketFactory = ({ host, port, ssl, onConnect }) => {
+  const socket = ssl
+    ? tls.connect({ host, port, ...(net.isIP(host) ? {} : { servername: host }), ...ssl }, onConnect)
+    : net.connect({ host, port }, onConnect);
+  socket.setKeepAlive(true, 60_000);
+  // A Kafka response starts with its 4-byte size, whose first byte is 0 below 16 MiB; a TLS
+  // listener fed plain text may send a TLS alert record (first byte 0x15) before it closes.
+  socket.once('data', (chunk: Buffer) => {
+    if (chunk.length > 0 && chunk[0] === 0) noteKafkaAnswered(`${host}:${port}`);
+  });
+  return socket;
+};
 
 /** kafkajs log extras are plain values (broker, groupId, error text); keep only scalars. */
 function pickSafe(o: Record<string, unknown>): Record<string, unknown> {

@@ -10,10 +10,25 @@
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { KafkaSettings, RedisSettings } from './options.js';
 import { parseRedisUrl, redisAddresses } from './redis-url.js';
-import { kafkaRefusal, networkCause, redisRefusal, unreachableLine } from './refusals.js';
+import {
+  kafkaConnectionLost,
+  kafkaRefusal,
+  networkCause,
+  redisRefusal,
+  unreachableLine,
+} from './refusals.js';
+import { kafkaAnswered } from './answered.js';
 
 /** The label values of `cause` on streamfence_backoff_total (a fixed, small set). */
-export const OUTAGE_CAUSES = ['connection', 'timeout', 'auth', 'tls', 'acl', 'other'] as const;
+export const OUTAGE_CAUSES = [
+  'connection',
+  'disconnected',
+  'timeout',
+  'auth',
+  'tls',
+  'acl',
+  'other',
+] as const;
 /** One of OUTAGE_CAUSES. */
 export type OutageCause = (typeof OUTAGE_CAUSES)[number];
 
@@ -34,7 +49,7 @@ const REFUSAL_CAUSE: Partial<Record<string, OutageCause>> = {
 };
 
 function fromRefusal(dependency: 'kafka' | 'redis', refusal: StreamfenceError): Outage {
-  // "closed the connection" (plain text to a TLS port, or a server going down) may be an outage
+  // "closed the connection" (plain text to a TLS port, or a broker never heard from yet) may be an outage
   // that ends: it is retried, worded as the hint it is. A failed handshake, a wrong password or
   // an ACL denial is not.
   const final = !(refusal.code === 'TLS_FAILED' && /closed the connection/.test(refusal.message));
@@ -93,12 +108,26 @@ export function kafkaLogError(log: { message?: unknown; error?: unknown }): Erro
 }
 
 /** A failed Kafka call (`what`: the operation, for ACL wording). */
-export function kafkaOutage(err: unknown, s: KafkaSettings, what = 'connect'): Outage {
-  const refusal = kafkaRefusal(err, s, what);
+export function kafkaOutage(
+  err: unknown,
+  s: KafkaSettings,
+  what = 'connect',
+  answered: ReadonlySet<string> = kafkaAnswered,
+): Outage {
+  const refusal = kafkaRefusal(err, s, what, answered);
   if (refusal !== null) return fromRefusal('kafka', refusal);
   const at = s.brokers.join(',');
   const network = networkOutage('kafka', err, at);
   if (network !== null) return network;
+  // A broker that had answered and then closed the connection went away (not a TLS listener).
+  const lost = kafkaConnectionLost(err, s, answered);
+  if (lost !== null)
+    return {
+      dependency: 'kafka',
+      cause: 'disconnected',
+      line: unreachableLine('kafka', lost, 'connection lost'),
+      refusal: null,
+    };
   const reason = shortReason(err);
   const timeout = /timed? ?out/i.test(reason);
   return {

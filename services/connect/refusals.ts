@@ -6,13 +6,24 @@
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { KafkaSettings, RedisSettings } from './options.js';
 import { parseRedisUrl, redisAddresses } from './redis-url.js';
+import { kafkaAnswered } from './answered.js';
+
+/** One error of a failure's chain, as the classifiers below read it. */
+interface ChainLink {
+  name: string;
+  message: string;
+  type?: string;
+  code?: string;
+  /** The broker a kafkajs connection error names, "host:port". */
+  broker?: string;
+}
 
 /**
  * The error and its causes (kafkajs wraps the real one in retries; node in `cause`; an ioredis
  * Cluster that reached no node in `lastNodeError`).
  */
-function chain(err: unknown): { name: string; message: string; type?: string; code?: string }[] {
-  const out: { name: string; message: string; type?: string; code?: string }[] = [];
+function chain(err: unknown): ChainLink[] {
+  const out: ChainLink[] = [];
   let e = err as
     | (Error & {
         cause?: unknown;
@@ -20,10 +31,18 @@ function chain(err: unknown): { name: string; message: string; type?: string; co
         lastNodeError?: unknown;
         type?: string;
         code?: string;
+        broker?: string;
       })
     | undefined;
   for (let i = 0; e && i < 6; i++) {
-    out.push({ name: String(e.name ?? ''), message: String(e.message ?? e), type: e.type, code: e.code });
+    out.push({
+      name: String(e.name ?? ''),
+      message: String(e.message ?? e),
+      type: e.type,
+      code: e.code,
+      // kafkajs names the broker of a connection error ("host:port").
+      broker: typeof e.broker === 'string' ? e.broker : undefined,
+    });
     // kafkajs reports per-topic failures (e.g. of createTopics) as an aggregate.
     const inner = (e as { errors?: unknown[] }).errors;
     if (Array.isArray(inner)) for (const x of inner.slice(0, 5)) out.push(...chain(x));
@@ -40,8 +59,41 @@ const TLS_WORDS = /certificate|self[- ]signed|unable to verify|CERT_|SSL routine
  */
 const TLS_DROPPED = /before secure TLS connection was established/i;
 
+/** Node's and kafkajs' words for a connection the peer closed or reset. */
+const CLOSED_WORDS = /Closed connection|ECONNRESET|socket hang up|EPIPE/i;
+
+/**
+ * Whether the broker the failure names (or, when it names none, any of the brokers) had answered
+ * this process before (see answered.ts).
+ */
+function answeredBefore(all: ChainLink[], s: KafkaSettings, answered: ReadonlySet<string>): boolean {
+  const named = all.map((e) => e.broker).filter((b): b is string => b !== undefined);
+  return (named.length > 0 ? named : s.brokers).some((address) => answered.has(address));
+}
+
+/**
+ * A broker that had answered this process before closed or reset the connection: it went away
+ * (a restart, a crash, a failover), which waiting may fix. Returns its address ("host:port"), or
+ * null when the failure is not that (at start-up the same words mean a listener expecting TLS).
+ */
+export function kafkaConnectionLost(
+  err: unknown,
+  s: KafkaSettings,
+  answered: ReadonlySet<string> = kafkaAnswered,
+): string | null {
+  const all = chain(err);
+  if (!all.some((e) => CLOSED_WORDS.test(e.message) || CLOSED_WORDS.test(e.code ?? ''))) return null;
+  const named = all.map((e) => e.broker).filter((b): b is string => b !== undefined);
+  return (named.length > 0 ? named : s.brokers).find((address) => answered.has(address)) ?? null;
+}
+
 /** A typed refusal for a Kafka failure, or null when the cause is not one of the known refusals. */
-export function kafkaRefusal(err: unknown, s: KafkaSettings, what = 'connect'): StreamfenceError | null {
+export function kafkaRefusal(
+  err: unknown,
+  s: KafkaSettings,
+  what = 'connect',
+  answered: ReadonlySet<string> = kafkaAnswered,
+): StreamfenceError | null {
   const all = chain(err);
   const at = s.brokers.join(',');
   if (all.some((e) => e.name === 'KafkaJSSASLAuthenticationError')) {
@@ -69,6 +121,8 @@ export function kafkaRefusal(err: unknown, s: KafkaSettings, what = 'connect'): 
       `kafka: TLS handshake with ${at} failed: ${tls.message}; check --kafka-ca-file and the broker's certificate`,
     );
   }
+  // A broker that had answered before and now closes went away: a connection lost, no TLS hint.
+  if (answeredBefore(all, s, answered)) return null;
   if (s.tls && all.some((e) => TLS_DROPPED.test(e.message)))
     return new StreamfenceError(
       'TLS_FAILED',
@@ -158,8 +212,13 @@ export function unreachableLine(dependency: 'kafka' | 'redis', address: string, 
 }
 
 /** SERVICE_UNAVAILABLE for a Kafka that cannot be reached at all, or null for other failures. */
-export function kafkaUnreachable(err: unknown, s: KafkaSettings): StreamfenceError | null {
-  const n = networkCause(err);
+export function kafkaUnreachable(
+  err: unknown,
+  s: KafkaSettings,
+  answered: ReadonlySet<string> = kafkaAnswered,
+): StreamfenceError | null {
+  const lost = kafkaConnectionLost(err, s, answered);
+  const n = networkCause(err) ?? (lost === null ? null : { cause: 'connection lost', address: lost });
   if (n === null) return null;
   const at = n.address ?? s.brokers.join(',');
   return new StreamfenceError(

@@ -22,6 +22,8 @@ export interface BoardMetrics {
 export interface LiveBoardMetrics extends BoardMetrics {
   /** One per logged retry line (start-up and running), as `run` counts its own. */
   backoff: Counter<'dependency' | 'cause'>;
+  /** Operator actions Kafka or Redis refused to record (each answered 503 and logged). */
+  actionFailures: Counter<'dependency' | 'cause'>;
 }
 
 /** A demo's metrics: the board's, plus the engine metrics its simulated plant is counted in. */
@@ -32,7 +34,13 @@ export interface DemoMetrics extends BoardMetrics {
 /** The metrics of `streamfence board`: the board's figures and the retries after Kafka or Redis failed. */
 export function createBoardMetrics(hub: BoardHub): LiveBoardMetrics {
   const { registry } = boardFigures(hub);
-  return { registry, backoff: createBackoffCounter(registry) };
+  const actionFailures = new Counter({
+    name: 'streamfence_board_action_failures_total',
+    help: 'Operator actions not taken because Kafka or Redis refused them (answered 503), by dependency and cause',
+    labelNames: ['dependency', 'cause'],
+    registers: [registry],
+  });
+  return { registry, backoff: createBackoffCounter(registry), actionFailures };
 }
 
 /** Alerts by status, events and actions applied, the rate meter (board and demo alike). */

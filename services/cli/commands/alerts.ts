@@ -18,6 +18,8 @@ import { isSeverity, SEVERITIES, type Severity } from '../../../libs/schema/voca
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { ENV } from '../../config/env.js';
 import { follow } from '../../board/follow.js';
+import { ResumingFollower, type ResumingFollowOptions } from '../../board/resume.js';
+import { kafkaOutage, retryLine } from '../../connect/outage.js';
 import {
   KAFKA_OPTIONS,
   buildKafka,
@@ -348,6 +350,29 @@ async function untilDoneOrStopped(
   }
 }
 
+/**
+ * Following (not --once): a follower that fails once started (an ACL taken away, a topic deleted,
+ * a broker gone) is an outage that may end, as for the board: one line per attempt naming the
+ * dependency and the cause, then it goes on from the offsets it had reached. Never an exit.
+ */
+async function startResumingFollower(
+  options: Omit<ResumingFollowOptions, 'onRetry' | 'onFollowing'>,
+  kafkaSettings: KafkaSettings,
+  readWhat: string,
+): Promise<ResumingFollower> {
+  const follower = new ResumingFollower({
+    ...options,
+    onRetry: (err, delayMs) =>
+      process.stderr.write(
+        `streamfence alerts: ${retryLine(kafkaOutage(err, kafkaSettings, readWhat), delayMs)}\n`,
+      ),
+    onFollowing: () =>
+      process.stderr.write(`streamfence alerts: following ${options.topics.join(' and ')} again\n`),
+  });
+  await follower.start();
+  return follower;
+}
+
 export async function main(argv: string[]): Promise<number> {
   const args = parseCommandArgs(
     CMD,
@@ -383,20 +408,22 @@ export async function main(argv: string[]): Promise<number> {
   }, REORDER_MS).unref();
 
   const readWhat = `read ${topics.length > 1 ? 'topics' : 'topic'} ${topics.join(' and ')}`;
+  const followOptions = {
+    kafka,
+    topics,
+    sinceMs: request.sinceMs,
+    role: 'alerts',
+    maxWaitMs: FETCH_WAIT_MS,
+    onCaughtUp: () => {
+      caughtUp = true;
+      if (!once) printer.flush();
+    },
+    onMessage: messageHandler(request, printer, tagger),
+  };
   try {
-    const follower = await follow({
-      kafka,
-      topics,
-      sinceMs: request.sinceMs,
-      untilEnd: once,
-      role: 'alerts',
-      maxWaitMs: FETCH_WAIT_MS,
-      onCaughtUp: () => {
-        caughtUp = true;
-        if (!once) printer.flush();
-      },
-      onMessage: messageHandler(request, printer, tagger),
-    });
+    const follower = once
+      ? await follow({ ...followOptions, untilEnd: true })
+      : await startResumingFollower(followOptions, kafkaSettings, readWhat);
     await untilDoneOrStopped(follower, printer);
   } catch (err) {
     throw kafkaRefusal(err, kafkaSettings, readWhat) ?? err;

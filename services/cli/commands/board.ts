@@ -23,7 +23,8 @@ import type { GroupRule } from '../../../libs/board/groups.js';
 import { MIN_BOARD_TOKEN_LENGTH, boardTokenFor, readBoardToken, refuseTokenFlag } from '../../board/auth.js';
 import { BoardHub } from '../../board/hub.js';
 import { GROUP_ARG_OPTIONS, GROUP_HELP, readGroupRule } from '../../board/group-options.js';
-import { LiveFeed } from '../../board/live.js';
+import { LiveFeed, ShareFailure } from '../../board/live.js';
+import type { OperatorAction } from '../../../libs/board/store.js';
 import { createBoardMetrics, type LiveBoardMetrics } from '../../metrics/board-metrics.js';
 import { BoardReadiness } from '../../board/readiness.js';
 import { startBoardServer, type RunningBoard } from '../../board/server.js';
@@ -152,6 +153,48 @@ function noteRetry(metrics: LiveBoardMetrics, outage: Outage, delayMs: number | 
   return line;
 }
 
+/** What an operator action is called in the line the operator reads. */
+const ACTION_WORDS: Record<OperatorAction['kind'], string> = {
+  acknowledge: 'acknowledgement',
+  shelve: 'shelve',
+  unshelve: 'unshelve',
+};
+
+/**
+ * Shares an operator action. When Redis or Kafka refuses it, logs one line, counts it and throws
+ * the line the operator sees with the 503 (the dependency, the cause, "try again"), never the
+ * client library's text. Redis first: when only Kafka refused, the action is kept (a board
+ * starting reads it) but other open boards have not heard of it.
+ */
+async function shareOrRefuse(
+  feed: LiveFeed,
+  action: OperatorAction,
+  request: BoardRequest,
+  metrics: LiveBoardMetrics,
+  redisWatch: RedisErrorWatch,
+): Promise<void> {
+  try {
+    await feed.share(action);
+  } catch (err) {
+    if (!(err instanceof ShareFailure)) throw err;
+    const outage =
+      err.dependency === 'redis'
+        ? redisOutage(err.error, request.redisSettings, redisWatch.lastError)
+        : kafkaOutage(err.error, request.kafkaSettings, `write topic ${request.actionTopic}`);
+    metrics.actionFailures.inc({ dependency: outage.dependency, cause: outage.cause });
+    process.stderr.write(
+      `streamfence board: ${action.kind} of alert ${action.id} not taken: ${outage.line}\n`,
+    );
+    const what = ACTION_WORDS[action.kind];
+    throw new StreamfenceError(
+      'SERVICE_UNAVAILABLE',
+      err.dependency === 'redis'
+        ? `${what} not recorded: ${outage.line}; try again in a moment`
+        : `${what} not shared with the other boards: ${outage.line}; try again in a moment`,
+    );
+  }
+}
+
 /**
  * Starts the feed, waiting out an unreachable Kafka or Redis as an outage that may end (as `run`
  * does): one line per attempt, retried until it answers or a stop signal comes; the board (already
@@ -233,13 +276,17 @@ export async function main(argv: string[]): Promise<number> {
 
   printBanner(CMD);
   const redis = buildRedis(request.redisSettings);
+  const actionRedisWatch = new RedisErrorWatch(redis);
   const kafka = buildKafka(request.kafkaSettings, { clientId: 'streamfence-board', retries: 2 });
   let feed: LiveFeed | null = null;
+  // Served before Kafka and Redis answer (the page says what it waits for; /readyz 503 until then),
+  // so a port in use is refused at once and a service manager sees the board alive while it waits.
+  const readiness = new BoardReadiness();
   const hub = new BoardHub({
     mode: 'live',
     groupRule: request.groupRule,
     clock: { wall: () => Date.now(), plant: () => Date.now() },
-    share: (action) => feed!.share(action),
+    share: (action) => shareOrRefuse(feed!, action, request, metrics, actionRedisWatch),
   });
   const metrics = createBoardMetrics(hub);
   feed = new LiveFeed(hub, {
@@ -251,12 +298,11 @@ export async function main(argv: string[]): Promise<number> {
     sinceMs: request.sinceMs,
     onSkip: (why) => process.stderr.write(`streamfence board: ${why}\n`),
     // Once running, a refusal too is waited out (an ACL may be granted again): never a crash loop.
+    // Not ready meanwhile (/readyz 503 with the line); ready again once it follows its topics.
     onRetry: (err, delayMs) =>
-      noteRetry(metrics, kafkaOutage(err, request.kafkaSettings, readWhat(request)), delayMs),
+      readiness.wait(noteRetry(metrics, kafkaOutage(err, request.kafkaSettings, readWhat(request)), delayMs)),
+    onFollowing: () => readiness.markReady(),
   });
-  // Served before Kafka and Redis answer (the page says what it waits for; /readyz 503 until then),
-  // so a port in use is refused at once and a service manager sees the board alive while it waits.
-  const readiness = new BoardReadiness();
   let board: RunningBoard;
   try {
     board = await startBoardServer({

@@ -3,8 +3,10 @@
  * topics on the secured stack; a DENY ACL on its alert topic (literal, this test's topic only, so no
  * other test is touched) makes its follower fail while running. The board then logs one backoff line
  * per attempt, naming the dependency and the cause, counts each in `streamfence_backoff_total` on its
- * /metrics, keeps serving (no exit, no crash loop, no stack trace, no secret), and once the ACL is
- * gone follows again from where it stopped: a new alert event shows, the old one is not doubled.
+ * /metrics, keeps serving (no exit, no crash loop, no stack trace, no secret) while /readyz answers
+ * 503 with the retry line, and once the ACL is gone follows again from where it stopped (/readyz
+ * 200): a new alert event shows, the old one is not doubled. Then a DENY on writing the action
+ * topic: an acknowledgement is answered 503 with the refusal's one line, logged and counted.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
 import { readFileSync } from 'node:fs';
@@ -62,6 +64,7 @@ describe('board on the secured stack: a read ACL taken away after start', () => 
     operation: AclOperationTypes.READ,
     permissionType: AclPermissionTypes.DENY,
   };
+  const denyWrite = { ...deny, resourceName: actionTopic, operation: AclOperationTypes.WRITE };
   let board: ChildProcess | null = null;
   const adminKafka = () =>
     buildKafka(readKafkaSettings({}, stack.admin, { cmd: 'test' }), { clientId: 'sf-test' });
@@ -95,7 +98,7 @@ describe('board on the secured stack: a read ACL taken away after start', () => 
       await new Promise((r) => board!.once('exit', r));
     }
     await withAdmin(async (admin) => {
-      await admin.deleteAcls({ filters: [deny] }).catch(() => {});
+      await admin.deleteAcls({ filters: [deny, denyWrite] }).catch(() => {});
       await admin.deleteTopics({ topics: [alertTopic, actionTopic] }).catch(() => {});
     });
     const redis = buildRedis(readRedisSettings({}, stack.admin, { cmd: 'test', required: true }));
@@ -149,9 +152,16 @@ describe('board on the secured stack: a read ACL taken away after start', () => 
     // lines logged by now (a retry may land between the scrape and this read).
     expect(counted).toBeGreaterThanOrEqual(2);
     expect(counted).toBeLessThanOrEqual(retryLines().length);
-    // Still serving what it had, still running.
+    // Still serving what it had, still running, but not ready: /readyz says what it waits for.
     expect(await alertIds()).toEqual([`first-${id}`]);
     expect(board.exitCode).toBeNull();
+    const notReady = await fetch(`${url}/readyz`);
+    expect(notReady.status).toBe(503);
+    expect(((await notReady.json()) as { waiting: string }).waiting).toMatch(
+      new RegExp(
+        `^kafka: not authorised to read ${alertTopic} and ${actionTopic} \\(topic ACL\\) .*; retrying in `,
+      ),
+    );
 
     await withAdmin((admin) => admin.deleteAcls({ filters: [deny] }));
     await publish(alertEvent(`second-${id}`));
@@ -163,11 +173,33 @@ describe('board on the secured stack: a read ACL taken away after start', () => 
     );
     // Followed on from where it stopped: the first event was not read (and applied) again.
     expect(events).toBe(2);
+    await expect.poll(async () => (await fetch(`${url}/readyz`)).status, { timeout: 30_000 }).toBe(200);
+
+    // An acknowledgement Kafka refuses (the operator may no longer write the action topic): 503
+    // with the one line, logged and counted, no client library text.
+    await withAdmin((admin) => admin.createAcls({ acl: [denyWrite] }));
+    const ack = await fetch(`${url}/api/alerts/second-${id}/acknowledge`, {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify({ by: 'Ossian Marl' }),
+    });
+    expect(ack.status).toBe(503);
+    const refusal = `kafka: not authorised to write topic ${actionTopic} (topic ACL) for user operator; grant the ACL or use another user`;
+    expect(await ack.json()).toEqual({
+      error: 'unavailable',
+      message: `acknowledgement not shared with the other boards: ${refusal}; try again in a moment`,
+    });
+    expect(log).toContain(`streamfence board: acknowledge of alert second-${id} not taken: ${refusal}\n`);
+    expect(await (await fetch(`${url}/metrics`)).text()).toMatch(
+      /^streamfence_board_action_failures_total\{dependency="kafka",cause="acl"\} 1$/m,
+    );
+    await withAdmin((admin) => admin.deleteAcls({ filters: [denyWrite] }));
 
     board.kill('SIGTERM');
     await new Promise((r) => board!.once('exit', r));
     expect(board.exitCode).toBe(0);
     expect(log).not.toContain('    at ');
+    expect(log).not.toMatch(/KafkaJS|TOPIC_AUTHORIZATION_FAILED/);
     for (const name of Object.keys(stack.raw).filter((n) => n.endsWith('PASSWORD_FILE')))
       expect(log).not.toContain(readFileSync(stack.raw[name], 'utf8').trim());
   }, 240_000);

@@ -4,6 +4,12 @@
  */
 import { describe, expect, it } from 'vitest';
 import { kafkaLogError, kafkaOutage, redisOutage, retryLine } from '../../../services/connect/outage.js';
+import {
+  kafkaConnectionLost,
+  kafkaFailure,
+  kafkaRefusal,
+  kafkaUnreachable,
+} from '../../../services/connect/refusals.js';
 
 const refused = Object.assign(new Error('connect ECONNREFUSED 127.0.0.1:6399'), { code: 'ECONNREFUSED' });
 
@@ -82,5 +88,64 @@ describe('outage lines', () => {
       'kafka: not authorised to read topic sf-in-a in group other-a (group ACL) for user monitor; grant the ACL or use another user',
     );
     expect(kafkaLogError({ message: 'Connection timeout' }).message).toBe('Connection timeout');
+  });
+});
+
+describe('a broker that closes the connection: TLS hint at start-up, connection lost later', () => {
+  // kafkajs' error when the peer closes a connection (KafkaJSConnectionClosedError names the broker).
+  const closed = Object.assign(new Error('Closed connection'), {
+    name: 'KafkaJSConnectionClosedError',
+    broker: '127.0.0.1:20001',
+  });
+  const settings = { brokers: ['127.0.0.1:20001'] };
+
+  it('never answered this process: the TLS/SASL hint (a refusal the caller may retry)', () => {
+    const outage = kafkaOutage(closed, settings, 'connect', new Set());
+    expect(outage.cause).toBe('tls');
+    expect(outage.line).toBe(
+      'kafka: 127.0.0.1:20001 closed the connection without answering; if its listener expects TLS or SASL, set --kafka-tls and the SASL options',
+    );
+    expect(kafkaConnectionLost(closed, settings, new Set())).toBeNull();
+  });
+
+  it('had answered before: "connection lost", cause disconnected, no TLS words', () => {
+    const answered = new Set(['127.0.0.1:20001']);
+    const outage = kafkaOutage(closed, settings, 'connect', answered);
+    expect(outage).toMatchObject({ dependency: 'kafka', cause: 'disconnected', refusal: null });
+    expect(retryLine(outage, 2_000)).toBe('kafka 127.0.0.1:20001: connection lost; retrying in 2 s');
+    expect(kafkaRefusal(closed, settings, 'connect', answered)).toBeNull();
+    expect(kafkaFailure(closed, settings).message).toMatch(/TLS or SASL/); // this process: never answered
+    expect(kafkaUnreachable(closed, settings, answered)?.message).toMatch(
+      /^kafka 127\.0\.0\.1:20001: connection lost; check --brokers/,
+    );
+  });
+
+  it('judges by the broker the error names, else by the brokers given', () => {
+    const reset = Object.assign(new Error('Connection error: read ECONNRESET'), { code: 'ECONNRESET' });
+    // No broker named: any of the given brokers that answered counts.
+    expect(kafkaConnectionLost(reset, { brokers: ['a:1', 'b:2'] }, new Set(['b:2']))).toBe('b:2');
+    // The named broker never answered (another one did): still the start-up hint.
+    const other = { ...closed, broker: 'c:3', message: 'Closed connection', name: closed.name };
+    expect(kafkaConnectionLost(other, { brokers: ['b:2', 'c:3'] }, new Set(['b:2']))).toBeNull();
+    // An error that is not a closed connection is not a lost one.
+    const refusedNow = new Error('Connection error: connect ECONNREFUSED 127.0.0.1:20001');
+    expect(kafkaConnectionLost(refusedNow, settings, new Set(['127.0.0.1:20001']))).toBeNull();
+    expect(kafkaOutage(refusedNow, settings, 'connect', new Set(['127.0.0.1:20001'])).cause).toBe(
+      'connection',
+    );
+  });
+
+  it('a TLS handshake dropped by a broker that had answered over TLS is a connection lost too', () => {
+    const droppedNow = Object.assign(
+      new Error('Client network socket disconnected before secure TLS connection was established'),
+      { code: 'ECONNRESET', broker: '127.0.0.1:20001' },
+    );
+    const outage = kafkaOutage(
+      droppedNow,
+      { ...settings, tls: true },
+      'connect',
+      new Set(['127.0.0.1:20001']),
+    );
+    expect(outage).toMatchObject({ cause: 'disconnected', refusal: null });
   });
 });
