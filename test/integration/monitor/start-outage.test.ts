@@ -4,14 +4,14 @@
  * client's own reconnects repeated beside them; a Redis that appears later is used at once; a
  * SIGTERM while still starting (before the group is joined) stops cleanly with exit 0 and says there
  * was nothing to checkpoint. Real Kafka (the harness), a real redis-server the test starts on a port
- * of its own (i15's range in coord.md), the built CLI.
+ * of its own (23540-23541, below Linux's ephemeral range 32768-60999), the built CLI.
  */
 import { afterAll, describe, expect, it } from 'vitest';
 import { killOwnRedis, startOwnRedis, type OwnRedis } from '../../harness/own-redis.js';
 import { useMonitorBed, writeTestConfig } from './helpers.js';
 
-const DEAD_KAFKA_PORT = 38_140;
-const LATE_REDIS_PORT = 38_141;
+const DEAD_KAFKA_PORT = 23_540;
+const LATE_REDIS_PORT = 23_541;
 
 interface LogEntry {
   level: string;
