@@ -4,7 +4,8 @@
  *    bare kafkajs consumer reading the same topic in the same run; both timed first to last message;
  *    on ISO-8601 and on epoch-millisecond timestamps, PASSES passes each, the median reported;
  *  - where the time goes: a CPU profile of the monitor's throughput pass, self time per area
- *    (STREAMFENCE_BENCH_CPU_PROFILE=<dir> also writes the .cpuprofile files);
+ *    (STREAMFENCE_BENCH_CPU_PROFILE=<dir> also writes the .cpuprofile files), and the share of the
+ *    timed wall time spent inside checkpoints (batches wait meanwhile);
  *  - scaling: aggregate readings/s of 1 and of 2 monitor processes (the built CLI) in one group on
  *    one topic, and each process's peak RSS;
  *  - Redis commands per 1,000 readings: INFO commandstats delta on a private redis-server;
@@ -309,6 +310,8 @@ interface ThroughputPass {
   monitorCpuUsPerReading: number;
   /** Bare CPU per message over monitor CPU per reading: the ratio with the machine's sharing taken out. */
   cpuRatioToBare: number;
+  /** Share of the monitor's timed wall time spent inside checkpoints (no batch runs meanwhile). */
+  checkpointWallShare: number;
 }
 
 /** The monitor in this process on `topic` from its start, timed from the first to the last reading counted. */
@@ -321,7 +324,14 @@ async function monitorPass(
   log: ReturnType<typeof createLogger>,
   profiler: Profiler | null,
   profileFile: string | null,
-): Promise<{ ms: number; cpuUs: number; prefix: string; group: string; profile: CpuProfile | null }> {
+): Promise<{
+  ms: number;
+  cpuUs: number;
+  checkpointMs: number;
+  prefix: string;
+  group: string;
+  profile: CpuProfile | null;
+}> {
   const config: EngineConfig = parseConfigText(BENCH_CONFIG, 'bench');
   const prefix = name('sf');
   const group = name('g');
@@ -335,6 +345,7 @@ async function monitorPass(
     log,
     metrics,
   });
+  const checkpointClock = timeCheckpoints(mon);
   await mon.start();
   let first = 0;
   let cpu0 = process.cpuUsage();
@@ -343,6 +354,7 @@ async function monitorPass(
     if (n > 0 && first === 0) {
       first = performance.now();
       cpu0 = process.cpuUsage();
+      checkpointClock.reset();
       await profiler?.start();
     }
     if (n >= total) break;
@@ -350,10 +362,31 @@ async function monitorPass(
   }
   const ms = performance.now() - first;
   const cpuUs = cpuSince(cpu0);
+  const checkpointMs = checkpointClock.ms();
   const profile = profiler ? await profiler.stop(profileFile) : null;
   await mon.stop();
   redis.disconnect();
-  return { ms, cpuUs, prefix, group, profile };
+  return { ms, cpuUs, checkpointMs, prefix, group, profile };
+}
+
+/**
+ * Wall time spent inside the monitor's checkpoints (flush wait, encode, Redis save, offset commit),
+ * during which no batch is processed (they share the partition lock). Measured by wrapping the
+ * private method: the bench's view only, the monitor is unchanged.
+ */
+function timeCheckpoints(mon: Monitor): { reset: () => void; ms: () => number } {
+  const target = mon as unknown as { checkpoint: (...args: unknown[]) => Promise<boolean> };
+  const original = target.checkpoint.bind(mon);
+  let spent = 0;
+  target.checkpoint = async (...args: unknown[]) => {
+    const t0 = performance.now();
+    try {
+      return await original(...args);
+    } finally {
+      spent += performance.now() - t0;
+    }
+  };
+  return { reset: () => (spent = 0), ms: () => spent };
 }
 
 /** The engine alone (parse + judge, no Kafka, no Redis): the ceiling the monitor can reach. */
@@ -414,6 +447,7 @@ async function throughput(
         bareCpuUsPerReading: Number(bareCpu.toFixed(2)),
         monitorCpuUsPerReading: Number(monCpu.toFixed(2)),
         cpuRatioToBare: Number((bareCpu / monCpu).toFixed(3)),
+        checkpointWallShare: Number((run.checkpointMs / run.ms).toFixed(3)),
       });
       if (pass === 0) {
         const perCommand: Record<string, number> = {};
@@ -443,6 +477,7 @@ async function throughput(
         bareCpuUsPerReading: Number(med('bareCpuUsPerReading').toFixed(2)),
         monitorCpuUsPerReading: Number(med('monitorCpuUsPerReading').toFixed(2)),
         cpuRatioToBare: Number(med('cpuRatioToBare').toFixed(3)),
+        checkpointWallShare: Number(med('checkpointWallShare').toFixed(3)),
       },
       profileSelfTimePercent: areas,
       redis: redisFigures,
