@@ -16,7 +16,7 @@ import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { Session } from 'node:inspector/promises';
 import { freePort, privateRedis } from './private-redis.js';
-import { tmpdir } from 'node:os';
+import { loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { Kafka, logLevel, type Consumer } from 'kafkajs';
@@ -130,6 +130,8 @@ function isoWithOffset(epoch: number, offsetMin: number): string {
   const mm = String(abs % 60).padStart(2, '0');
   return `${local}${sign}${hh}:${mm}`;
 }
+
+const round1 = (x: number) => Math.round(x * 10) / 10;
 
 const median = (xs: number[]): number => {
   const s = [...xs].sort((a, b) => a - b);
@@ -687,10 +689,18 @@ export async function run(): Promise<Record<string, unknown>> {
   const config: EngineConfig = parseConfigText(BENCH_CONFIG, 'bench');
   const redis = buildRedis({ url });
   try {
+    // The machine is shared: each section says how busy it was (1-minute load average, 2 cores).
+    const loaded = async (section: () => Promise<Record<string, unknown>>) => {
+      const before = loadavg()[0];
+      const figures = await section();
+      return { ...figures, loadAverage: { start: round1(before), end: round1(loadavg()[0]) } };
+    };
     if (SECTIONS.has('throughput'))
       for (const form of TS_FORMS)
-        out[`throughput_${form}`] = await throughput(kafka, mkKafka, url, probe, alertTopic, form, log);
-    if (SECTIONS.has('scaling')) out.scaling = await scaling(kafka, url, alertTopic);
+        out[`throughput_${form}`] = await loaded(() =>
+          throughput(kafka, mkKafka, url, probe, alertTopic, form, log),
+        );
+    if (SECTIONS.has('scaling')) out.scaling = await loaded(() => scaling(kafka, url, alertTopic));
     const prefix = name('sf');
     const group = name('g');
     if (SECTIONS.has('restart')) {
