@@ -45,7 +45,8 @@ export class AuditSample<T> {
     if (this.members.size >= this.size) {
       if (hash >= this.maxHash) return undefined;
       let worst = '';
-      for (const [sensor, member] of this.members) if (member.hash === this.maxHash) worst = sensor;
+      for (const [heldSensor, heldMember] of this.members)
+        if (heldMember.hash === this.maxHash) worst = heldSensor;
       this.members.delete(worst);
     }
     const data = this.make(sensor);
