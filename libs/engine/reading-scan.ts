@@ -143,8 +143,12 @@ function keyIndex(text: string, start: number, end: number): number {
   return -1;
 }
 
-/** The fields of a reading object in the common form, or null when JSON.parse must decide. */
-export function scanReadingObject(text: string): ScannedFields | null {
+/**
+ * The fields of a reading object in the common form, or null when JSON.parse must decide.
+ * `withSensor` false (the Kafka message key names the sensor): the `sensor` field is still checked
+ * as JSON but not copied out, and comes back undefined; whether the scan accepts is unchanged.
+ */
+export function scanReadingObject(text: string, withSensor = true): ScannedFields | null {
   const length = text.length;
   if (text.charCodeAt(0) !== OPEN || text.charCodeAt(length - 1) !== CLOSE) return null;
   let sensor: string | number | undefined;
@@ -169,7 +173,8 @@ export function scanReadingObject(text: string): ScannedFields | null {
     if (text.charCodeAt(position) === QUOTE) {
       const end = stringEnd(text, position + 1);
       if (end < 0) return null;
-      field = text.slice(position + 1, end);
+      // A string never read (the key supplies the sensor) is not copied.
+      field = key === 0 && !withSensor ? '' : text.slice(position + 1, end);
       position = end + 1;
     } else {
       const end = numberEnd(text, position);
@@ -178,7 +183,7 @@ export function scanReadingObject(text: string): ScannedFields | null {
       field = numberValue(text, position, end);
       position = end;
     }
-    if (key === 0) sensor = field;
+    if (key === 0) sensor = withSensor ? field : undefined;
     else if (key === 1) ts = field;
     else if (key === 2) value = field;
     else quality = field;
