@@ -143,8 +143,12 @@ function keyIndex(s: string, start: number, end: number): number {
   return -1;
 }
 
-/** The fields of a reading object in the common form, or null when JSON.parse must decide. */
-export function scanReadingObject(s: string): ScannedFields | null {
+/**
+ * The fields of a reading object in the common form, or null when JSON.parse must decide.
+ * `withSensor` false (the Kafka message key names the sensor): the `sensor` field is still checked
+ * as JSON but not copied out, and comes back undefined; whether the scan accepts is unchanged.
+ */
+export function scanReadingObject(s: string, withSensor = true): ScannedFields | null {
   const n = s.length;
   if (s.charCodeAt(0) !== OPEN || s.charCodeAt(n - 1) !== CLOSE) return null;
   let sensor: string | number | undefined;
@@ -168,7 +172,8 @@ export function scanReadingObject(s: string): ScannedFields | null {
     if (s.charCodeAt(i) === QUOTE) {
       const end = stringEnd(s, i + 1);
       if (end < 0) return null;
-      field = s.slice(i + 1, end);
+      // A string never read (the key supplies the sensor) is not copied.
+      field = key === 0 && !withSensor ? '' : s.slice(i + 1, end);
       i = end + 1;
     } else {
       const end = numberEnd(s, i);
@@ -177,7 +182,7 @@ export function scanReadingObject(s: string): ScannedFields | null {
       field = numberValue(s, i, end);
       i = end;
     }
-    if (key === 0) sensor = field;
+    if (key === 0) sensor = withSensor ? field : undefined;
     else if (key === 1) ts = field;
     else if (key === 2) value = field;
     else quality = field;
