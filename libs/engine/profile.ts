@@ -158,9 +158,9 @@ export class DailyProfile {
 
   /** Readings held in closed entries (all slots). */
   get heldReadings(): number {
-    let n = 0;
-    for (const slot of this.slots) for (const entry of slot) n += entry.moments.n;
-    return n;
+    let total = 0;
+    for (const slot of this.slots) for (const entry of slot) total += entry.moments.n;
+    return total;
   }
 
   private build(minSamples: number): ProfileBaseline | null {
