@@ -16,8 +16,6 @@ import type { Moments } from '../stats/moments.js';
 
 /** Slots of a daily profile: the local hours of the day. */
 export const HOURS_PER_DAY = 24;
-/** Bytes of an entry's fixed head: day, n, mean, m2, firstTs and lastTs, each a double. */
-const HEAD_BYTES = 48;
 const EMPTY_BYTES = new Uint8Array(0);
 
 /** One local day's readings in one hourly slot, decoded. */

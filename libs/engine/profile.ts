@@ -14,7 +14,13 @@
  * unprofiled sensor would be.
  */
 import { addValue, emptyMoments, mergeMoments, sampleStdDev, type Moments } from '../stats/moments.js';
-import { compressToBins, FrozenDigest, OpenDigest, roundForStorage, type OpenDigestSnapshot } from '../stats/digest.js';
+import {
+  compressToBins,
+  FrozenDigest,
+  OpenDigest,
+  roundForStorage,
+  type OpenDigestSnapshot,
+} from '../stats/digest.js';
 import { LocalClock, type LocalSlot } from './local-time.js';
 import { HOURS_PER_DAY, ProfileSlots, type ProfileEntry } from './profile-slots.js';
 import { SKETCH } from './sketch-params.js';
@@ -68,9 +74,9 @@ function clockFor(zone: string): LocalClock {
  */
 export class DailyProfile {
   private readonly clock: LocalClock;
-  /** Local day and hour of the open entry; -1 before the first reading. */
+  /** Local day (days since 1970-01-01 of the local date) of the open entry; -1 before the first reading. */
   openDay = -1;
-  /** Absolute hour (ts / 1 h) of the open slot; -1 before the first reading. */
+  /** Local hour (0-23) of the open entry; -1 before the first reading. */
   openHour = -1;
   /** Digest of the open hour's readings (not in any baseline yet). */
   open = new OpenDigest(SKETCH.profileBins, SKETCH.openCap);

@@ -12,8 +12,9 @@ export const DEFAULT_MAX_SENSORS = 50_000;
 /**
  * Places in the limit one sensor with `profile: daily` takes: its heap after 8 days
  * (`profileDays` 7, one reading a minute) measured by `npm run bench -- profile` on 2026-12-03
- * was about 90 KB, and about 103 KB at one reading every 10 s (the profile's part does not grow
- * with the rate: each slot entry keeps at most 48 centroids), so three budgets of 40 KiB cover it.
+ * was about 88 KB (61 KB of it the profile); at one reading every 10 s about 98 KB (derived: the
+ * window's 37.1 KB plus the profile's part, which does not grow with the rate since each slot
+ * entry keeps at most 48 centroids), so three budgets of 40 KiB cover it.
  */
 export const PROFILED_SENSOR_WEIGHT = 3;
 
