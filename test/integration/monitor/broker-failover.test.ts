@@ -8,7 +8,8 @@
  *  2. The leader of the alert partition with the most events is SIGKILLed mid-stream and restarted
  *     later.
  * Each time the monitor keeps going in the same process, every sensor's `seen` is exact, no alert
- * event is lost or invented against the in-process reference (replay's engine), the Kafka backoff is
+ * event is lost or invented against the in-process reference (replay's engine) and each sensor's
+ * come in the reference's order, the Kafka backoff is
  * counted, and the pause (SIGKILL to the monitor's next progress) is printed for README.
  *
  * The readings are produced as a plant gateway should: acks from all in-sync replicas, the
@@ -44,7 +45,10 @@ const KAFKA_PORT = Number(process.env.STREAMFENCE_TEST_FAILOVER_KAFKA_PORT ?? 24
 const CONTROLLER_PORT = Number(process.env.STREAMFENCE_TEST_FAILOVER_CONTROLLER_PORT ?? 24192);
 const BROKERS = [0, 1, 2].map((i) => `127.0.0.1:${KAFKA_PORT + i}`);
 const INPUT_PARTITIONS = 6;
-/** Several alert partitions: one send of the monitor then goes to several brokers. */
+/**
+ * Several alert partitions on different leaders: the monitor publishes to several brokers at once
+ * (one request per partition, see services/monitor/partition-sends.ts).
+ */
 const ALERT_PARTITIONS = 3;
 const SENSORS = 20;
 const PER_SENSOR = 900;
@@ -318,6 +322,7 @@ describe('streamfence run: a broker leader dies (three brokers, replication 3, m
     await expectExactState(bed, readings, config);
     const checked = await expectNoLostAlerts(bed.alertTopic, readings, config, {
       onlyReferenceEvents: true,
+      inOrder: true,
       kafka,
     });
     expect(checked).toBeGreaterThan(0);
