@@ -10,7 +10,9 @@
  *    partition the dead broker led, with the longest gap between appends there in the 5 s before
  *    the kill (the figure's resolution: alerts are raised every few hundred milliseconds);
  * then restarts the broker and waits until every replica is in sync again. The machine's load
- * average is reported with each run. Runs: STREAMFENCE_BENCH_FAILOVER_RUNS (default 3). Ports
+ * average is reported with each run, and the monitor's log lines between the kill and the resume
+ * (what it waited on). Runs: STREAMFENCE_BENCH_FAILOVER_RUNS (default 3); the monitor's
+ * --session-timeout-ms: STREAMFENCE_BENCH_FAILOVER_SESSION_MS (default: the monitor's). Ports
  * (all below Linux's ephemeral range): STREAMFENCE_BENCH_FAILOVER_PORT (default 20592: brokers
  * 20592-20594, controllers 20692-20694, Redis 20600).
  */
@@ -40,6 +42,10 @@ function repoRoot(dir: string): string {
 const REPO = repoRoot(HERE);
 const CLI = join(REPO, 'dist/services/cli/main.js');
 const RUNS = Number(process.env.STREAMFENCE_BENCH_FAILOVER_RUNS ?? 3);
+/** The monitor's --session-timeout-ms (STREAMFENCE_BENCH_FAILOVER_SESSION_MS); unset: its default. */
+const SESSION_TIMEOUT_MS = process.env.STREAMFENCE_BENCH_FAILOVER_SESSION_MS
+  ? Number(process.env.STREAMFENCE_BENCH_FAILOVER_SESSION_MS)
+  : null;
 const BASE_PORT = Number(process.env.STREAMFENCE_BENCH_FAILOVER_PORT ?? 20592);
 const BROKERS = [0, 1, 2].map((i) => `127.0.0.1:${BASE_PORT + i}`);
 const REDIS_PORT = BASE_PORT + 8;
@@ -74,7 +80,7 @@ function stackScript(script: string, env: NodeJS.ProcessEnv, args: string[]): Pr
 /** The spawned monitor and its parsed JSON log lines. */
 interface MonitorChild {
   child: ChildProcess;
-  entries: { time: number; msg: string; partition?: number; offset?: string }[];
+  entries: { time: number; level: number; msg: string; partition?: number; offset?: string }[];
 }
 
 function spawnMonitor(names: Names, configFile: string): MonitorChild {
@@ -87,6 +93,7 @@ function spawnMonitor(names: Names, configFile: string): MonitorChild {
       ...['--input-topic', names.input, '--alert-topic', names.alerts, '--rejected-topic', names.rejected],
       ...['--group', names.group, '--config', configFile, '--metrics-port', '0'],
       ...['--checkpoint-ms', '200', '--log-level', 'debug', '--start-from', 'earliest'],
+      ...(SESSION_TIMEOUT_MS === null ? [] : ['--session-timeout-ms', String(SESSION_TIMEOUT_MS)]),
     ],
     { stdio: ['ignore', 'ignore', 'pipe'] },
   );
@@ -98,7 +105,13 @@ function spawnMonitor(names: Names, configFile: string): MonitorChild {
     buffered = lines.pop() ?? '';
     for (const line of lines) {
       try {
-        const o = JSON.parse(line) as { time: string; msg: string; partition?: number; offset?: string };
+        const o = JSON.parse(line) as {
+          time: string;
+          level: number;
+          msg: string;
+          partition?: number;
+          offset?: string;
+        };
         entries.push({ ...o, time: Date.parse(o.time) });
       } catch {
         // not a JSON line (the banner)
@@ -131,7 +144,7 @@ interface Names {
   prefix: string;
 }
 
-/** Readings of `sensors` invented sensors from step `from`, one a second each, with spikes that raise and clear alerts. */
+/** Step `step` of `sensors` invented sensors (a reading a second each in event time), with spikes that raise and clear alerts. */
 function readingsAt(step: number, sensors: number, rnd: () => number): Reading[] {
   const t0 = Date.UTC(2026, 4, 2, 6, 0, 0);
   return Array.from({ length: sensors }, (_, i) => {
@@ -146,24 +159,22 @@ function readingsAt(step: number, sensors: number, rnd: () => number): Reading[]
   });
 }
 
-/** Streams readings per partition, each partition on its own, until `stop` is set. */
+/**
+ * Streams readings per partition, each partition on its own (its sensors' readings in step order,
+ * CHUNK per send, GAP_MS apart), until `stop` is set.
+ */
 function streamUntil(gateway: KafkaGateway, stop: { done: boolean }): Promise<void> {
-  const rnd = mulberry32(17);
-  const byPartition = new Map<number, Reading[]>();
-  let step = 0;
-  const refill = () => {
-    for (const r of readingsAt(step++, SENSORS, rnd)) {
-      const p = gateway.partitionOf(r.sensor);
-      byPartition.set(p, [...(byPartition.get(p) ?? []), r]);
-    }
-  };
   const partitions = new Set(readingsAt(0, SENSORS, mulberry32(1)).map((r) => gateway.partitionOf(r.sensor)));
   return Promise.all(
     [...partitions].map(async (partition) => {
-      while (!stop.done) {
-        while ((byPartition.get(partition)?.length ?? 0) < CHUNK) refill();
-        const list = byPartition.get(partition)!;
-        await gateway.sendUntilAcknowledged(partition, list.splice(0, CHUNK));
+      const rnd = mulberry32(17 + partition);
+      const queue: Reading[] = [];
+      for (let step = 0; !stop.done;) {
+        while (queue.length < CHUNK)
+          queue.push(
+            ...readingsAt(step++, SENSORS, rnd).filter((r) => gateway.partitionOf(r.sensor) === partition),
+          );
+        await gateway.sendUntilAcknowledged(partition, queue.splice(0, CHUNK));
         await sleep(GAP_MS);
       }
     }),
@@ -224,6 +235,22 @@ interface RunResult {
   longestProducerSendMs: number;
   failedProducerSends: number;
   loadAverage1m: number;
+  /** The monitor's log lines from the kill to the resume, by message (what it waited on). */
+  monitorAfterKill: Record<string, number>;
+}
+
+/**
+ * The monitor's log lines between two times, counted by message (cut to 90 characters); debug
+ * lines too (the Kafka client's own retries are logged there), checkpoints left out.
+ */
+function linesBetween(mon: MonitorChild, from: number, to: number): Record<string, number> {
+  const counts: Record<string, number> = {};
+  for (const e of mon.entries)
+    if (e.msg !== 'checkpoint' && e.time >= from && e.time <= to) {
+      const msg = String(e.msg).slice(0, 90);
+      counts[msg] = (counts[msg] ?? 0) + 1;
+    }
+  return counts;
 }
 
 /** Waits until each alert partition holds at least `count` events (judging is live). */
@@ -347,6 +374,7 @@ async function oneRun(stack: Stack, run: number): Promise<RunResult> {
       longestProducerSendMs: gateway.longestSendMs,
       failedProducerSends: gateway.failures.length,
       loadAverage1m: Math.round(loadAverage1m * 10) / 10,
+      monitorAfterKill: linesBetween(mon, killedAt, resumedAt),
     };
   } finally {
     stop.done = true;
@@ -419,7 +447,7 @@ export async function run(): Promise<Record<string, unknown>> {
   }
   const alerts = runs.flatMap((r) => (r.alertPauseMs === null ? [] : [r.alertPauseMs]));
   return {
-    setup: `3 brokers (replication 3, min.insync.replicas 2, broker defaults), ${INPUT_PARTITIONS} input / ${ALERT_PARTITIONS} alert partitions, ${SENSORS} sensors, about ${Math.round((INPUT_PARTITIONS * CHUNK * 1000) / GAP_MS)} readings/s offered, monitor checkpoints every 200 ms`,
+    setup: `3 brokers (replication 3, min.insync.replicas 2, broker defaults), ${INPUT_PARTITIONS} input / ${ALERT_PARTITIONS} alert partitions, ${SENSORS} sensors, about ${Math.round((INPUT_PARTITIONS * CHUNK * 1000) / GAP_MS)} readings/s offered, monitor checkpoints every 200 ms, --session-timeout-ms ${SESSION_TIMEOUT_MS ?? 'default (30000)'}`,
     inputPauseMs: spread(runs.map((r) => r.inputPauseMs)),
     alertPauseMs: spread(alerts),
     runs,
