@@ -11,10 +11,10 @@ export class ByteWriter {
   private view = new DataView(this.buf.buffer);
   private pos = 0;
 
-  private ensure(n: number): void {
-    if (this.pos + n <= this.buf.length) return;
+  private ensure(extra: number): void {
+    if (this.pos + extra <= this.buf.length) return;
     let size = this.buf.length * 2;
-    while (size < this.pos + n) size *= 2;
+    while (size < this.pos + extra) size *= 2;
     const next = new Uint8Array(size);
     next.set(this.buf.subarray(0, this.pos));
     this.buf = next;
@@ -80,8 +80,8 @@ export class ByteReader {
     this.view = new DataView(buf.buffer, buf.byteOffset, buf.byteLength);
   }
 
-  private need(n: number): void {
-    if (this.pos + n > this.buf.length) throw new RangeError('state ends early');
+  private need(byteCount: number): void {
+    if (this.pos + byteCount > this.buf.length) throw new RangeError('state ends early');
   }
 
   /** Reads one byte. */
@@ -121,10 +121,10 @@ export class ByteReader {
 
   /** Reads length-prefixed UTF-8 text. */
   str(): string {
-    const n = this.uvar();
-    this.need(n);
-    const text = dec.decode(this.buf.subarray(this.pos, this.pos + n));
-    this.pos += n;
+    const length = this.uvar();
+    this.need(length);
+    const text = dec.decode(this.buf.subarray(this.pos, this.pos + length));
+    this.pos += length;
     return text;
   }
 

@@ -238,7 +238,7 @@ function readProfile(input: ByteReader): ProfileSnapshot | null {
   for (let hour = 0; hour < 24; hour++) {
     const length = input.uvar();
     const slot: ProfileEntry[] = [];
-    for (let k = 0; k < length; k++) {
+    for (let bucket = 0; bucket < length; bucket++) {
       const day = input.f64();
       const moments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
       const firstTs = input.f64();
@@ -333,9 +333,12 @@ export function decodeSensorState(
     if (!input.done)
       throw new StreamfenceError('STATE_CORRUPT', `sensor state for "${sensor}" has trailing bytes`);
     return state;
-  } catch (e) {
-    if (e instanceof StreamfenceError) throw e;
-    throw new StreamfenceError('STATE_CORRUPT', `sensor state could not be decoded: ${(e as Error).message}`);
+  } catch (error) {
+    if (error instanceof StreamfenceError) throw error;
+    throw new StreamfenceError(
+      'STATE_CORRUPT',
+      `sensor state could not be decoded: ${(error as Error).message}`,
+    );
   }
 }
 
@@ -358,7 +361,7 @@ function readWindow(input: ByteReader): WindowSnapshot {
   for (let i = 0; i < buffer.length; i++) buffer[i] = input.f64();
   const closedCount = input.uvar();
   const closed: ClosedBucket[] = [];
-  for (let k = 0; k < closedCount; k++) closed.push(readClosedBucket(input));
+  for (let bucket = 0; bucket < closedCount; bucket++) closed.push(readClosedBucket(input));
   return {
     windowMs,
     buckets,
