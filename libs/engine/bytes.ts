@@ -66,6 +66,13 @@ export class ByteWriter {
     this.pos += encoded.length;
   }
 
+  /** Writes bytes as they are (no length: the reader must know where they end). */
+  raw(bytes: Uint8Array): void {
+    this.ensure(bytes.length);
+    this.buf.set(bytes, this.pos);
+    this.pos += bytes.length;
+  }
+
   /** A copy of what has been written. */
   bytes(): Uint8Array {
     return this.buf.slice(0, this.pos);
@@ -126,6 +133,17 @@ export class ByteReader {
     const text = dec.decode(this.buf.subarray(this.pos, this.pos + length));
     this.pos += length;
     return text;
+  }
+
+  /** Bytes read so far (where the next read starts). */
+  get offset(): number {
+    return this.pos;
+  }
+
+  /** A copy of the bytes from `start` to `end` (offsets as `offset` gives them). */
+  copy(start: number, end: number): Uint8Array {
+    if (start < 0 || end > this.buf.length || start > end) throw new RangeError('state ends early');
+    return this.buf.slice(start, end);
   }
 
   /** True when every byte has been read. */
