@@ -49,9 +49,7 @@ export default tseslint.config(
   {
     // Names that say what they hold (DEVELOPERS.md, Conventions): one- and two-letter names only in
     // one-expression lambdas, i/j loop counters and type parameters. `ts` is the reading's own field.
-    // The t-digest, exact-quantile and daily-profile modules are still to be renamed.
     files: ['libs/**/*.ts'],
-    ignores: ['libs/stats/digest.ts', 'libs/stats/quantiles.ts', 'libs/engine/profile.ts'],
     plugins: { local: { rules: { 'short-names': shortNames } } },
     rules: {
       'local/short-names': ['error', { allow: ['ts', 'id', 'ms', 'q1', 'q3', 'to', 'at', 'of', 'by', 'up'] }],

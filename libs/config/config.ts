@@ -27,7 +27,6 @@ export function defaultConfig(): EngineConfig {
   return { defaults: { ...DEFAULT_SETTINGS }, sensors: [] };
 }
 
-/** Parse config text (YAML is a superset of JSON, so one parser reads both). */
 /**
  * A YAML parse failure as "line L, column C: problem": the parser's own first line ends in a bare
  * "at line L, column C:" that introduces a code excerpt, which a one-line message cannot show.
