@@ -6,7 +6,8 @@ import type { Fences } from './judge.js';
 import { isReason, SEVERITIES, type Reason } from '../schema/vocabulary.js';
 import { newLifecycle, type LifecycleState } from './lifecycle.js';
 import { SensorWindow, type Baseline, type ClosedBucket, type WindowSnapshot } from './window.js';
-import { DailyProfile, type ProfileEntry, type ProfileSnapshot } from './profile.js';
+import { DailyProfile, type ProfileSnapshot } from './profile.js';
+import { ProfileSlots } from './profile-slots.js';
 
 /**
  * An alert about the sensor itself rather than a judged reading (its readings of doubtful
@@ -157,30 +158,10 @@ function writeWindow(out: ByteWriter, window: SensorWindow): void {
   }
 }
 
-function writeCentroidList(out: ByteWriter, means: Float64Array, counts: Float64Array): void {
-  // Stored means were rounded by roundForStorage: the first as a double, then single-precision steps.
-  out.uvar(means.length);
-  for (let i = 0; i < means.length; i++) {
-    if (i === 0) out.f64(means[0]);
-    else out.f32(means[i] - means[i - 1]);
-    out.uvar(counts[i]);
-  }
-}
-
-function readCentroidList(input: ByteReader): { means: Float64Array; counts: Float64Array } {
-  const length = input.uvar();
-  const means = new Float64Array(length);
-  const counts = new Float64Array(length);
-  for (let i = 0; i < length; i++) {
-    means[i] = i === 0 ? input.f64() : means[i - 1] + input.f32();
-    counts[i] = input.uvar();
-  }
-  return { means, counts };
-}
-
 /**
  * The profile section: 0 for none, else 1, zone, depth, the open entry (as the window's open
- * bucket) and per slot its entries (day as a step from the previous, timestamps, moments, centroids).
+ * bucket) and per slot its entry count and entries (day, moments, first and last time as doubles;
+ * centroids as the first mean, then single-precision steps, each with its integer count).
  */
 function writeProfile(out: ByteWriter, profile: DailyProfile | null): void {
   out.u8(profile ? 1 : 0);
@@ -202,18 +183,8 @@ function writeProfile(out: ByteWriter, profile: DailyProfile | null): void {
   }
   out.uvar(open.buffer.length);
   for (let i = 0; i < open.buffer.length; i++) out.f64(open.buffer[i]);
-  for (const slot of profile.slots) {
-    out.uvar(slot.length);
-    for (const entry of slot) {
-      out.f64(entry.day);
-      out.f64(entry.moments.n);
-      out.f64(entry.moments.mean);
-      out.f64(entry.moments.m2);
-      out.f64(entry.firstTs);
-      out.f64(entry.lastTs);
-      writeCentroidList(out, entry.centroids.means, entry.centroids.counts);
-    }
-  }
+  // Held as these very bytes (profile-slots.ts).
+  profile.closed.write(out);
 }
 
 function readProfile(input: ByteReader): ProfileSnapshot | null {
@@ -234,19 +205,7 @@ function readProfile(input: ByteReader): ProfileSnapshot | null {
   }
   const buffer = new Float64Array(input.uvar());
   for (let i = 0; i < buffer.length; i++) buffer[i] = input.f64();
-  const slots: ProfileEntry[][] = [];
-  for (let hour = 0; hour < 24; hour++) {
-    const length = input.uvar();
-    const slot: ProfileEntry[] = [];
-    for (let k = 0; k < length; k++) {
-      const day = input.f64();
-      const moments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
-      const firstTs = input.f64();
-      const lastTs = input.f64();
-      slot.push({ day, moments, firstTs, lastTs, centroids: readCentroidList(input) });
-    }
-    slots.push(slot);
-  }
+  const slots = ProfileSlots.read(input);
   return {
     zone,
     profileDays,
@@ -333,9 +292,12 @@ export function decodeSensorState(
     if (!input.done)
       throw new StreamfenceError('STATE_CORRUPT', `sensor state for "${sensor}" has trailing bytes`);
     return state;
-  } catch (e) {
-    if (e instanceof StreamfenceError) throw e;
-    throw new StreamfenceError('STATE_CORRUPT', `sensor state could not be decoded: ${(e as Error).message}`);
+  } catch (error) {
+    if (error instanceof StreamfenceError) throw error;
+    throw new StreamfenceError(
+      'STATE_CORRUPT',
+      `sensor state could not be decoded: ${(error as Error).message}`,
+    );
   }
 }
 
@@ -358,7 +320,7 @@ function readWindow(input: ByteReader): WindowSnapshot {
   for (let i = 0; i < buffer.length; i++) buffer[i] = input.f64();
   const closedCount = input.uvar();
   const closed: ClosedBucket[] = [];
-  for (let k = 0; k < closedCount; k++) closed.push(readClosedBucket(input));
+  for (let bucket = 0; bucket < closedCount; bucket++) closed.push(readClosedBucket(input));
   return {
     windowMs,
     buckets,
