@@ -8,6 +8,8 @@ import { newLifecycle, type LifecycleState } from './lifecycle.js';
 import { SensorWindow, type Baseline, type ClosedBucket, type WindowSnapshot } from './window.js';
 import { DailyProfile, type ProfileSnapshot } from './profile.js';
 import { ProfileSlots } from './profile-slots.js';
+import type { Moments } from '../stats/moments.js';
+import type { OpenDigestSnapshot } from '../stats/digest.js';
 
 /**
  * An alert about the sensor itself rather than a judged reading (its readings of doubtful
@@ -121,17 +123,23 @@ function readCondition(input: ByteReader): ConditionAlert | null {
   return { id: input.str(), raisedTs: input.f64(), readings: input.uvar() };
 }
 
-function writeWindow(out: ByteWriter, window: SensorWindow): void {
-  out.f64(window.windowMs);
-  out.uvar(window.buckets);
-  out.f64(window.newestTs);
-  out.f64(window.openIndex);
-  out.f64(window.openMoments.n);
-  out.f64(window.openMoments.mean);
-  out.f64(window.openMoments.m2);
-  out.f64(window.openFirstTs);
-  out.f64(window.openLastTs);
-  const open = window.open.snapshot();
+/**
+ * An open bucket (the window's, or the profile's open entry): its moments, first and last reading
+ * time as doubles, then its centroids (mean as a double, count as an integer) and its unmerged
+ * buffer. The window and the profile write the same layout, so one pair of functions keeps it.
+ */
+function writeOpenBucket(
+  out: ByteWriter,
+  moments: Moments,
+  firstTs: number,
+  lastTs: number,
+  open: OpenDigestSnapshot,
+): void {
+  out.f64(moments.n);
+  out.f64(moments.mean);
+  out.f64(moments.m2);
+  out.f64(firstTs);
+  out.f64(lastTs);
   out.uvar(open.means.length);
   for (let i = 0; i < open.means.length; i++) {
     out.f64(open.means[i]);
@@ -139,6 +147,36 @@ function writeWindow(out: ByteWriter, window: SensorWindow): void {
   }
   out.uvar(open.buffer.length);
   for (let i = 0; i < open.buffer.length; i++) out.f64(open.buffer[i]);
+}
+
+/** The open bucket `writeOpenBucket` wrote, in the fields both snapshots name alike. */
+function readOpenBucket(input: ByteReader): {
+  openMoments: Moments;
+  openFirstTs: number;
+  openLastTs: number;
+  open: OpenDigestSnapshot;
+} {
+  const openMoments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
+  const openFirstTs = input.f64();
+  const openLastTs = input.f64();
+  const centroidCount = input.uvar();
+  const means = new Float64Array(centroidCount);
+  const counts = new Float64Array(centroidCount);
+  for (let i = 0; i < centroidCount; i++) {
+    means[i] = input.f64();
+    counts[i] = input.uvar();
+  }
+  const buffer = new Float64Array(input.uvar());
+  for (let i = 0; i < buffer.length; i++) buffer[i] = input.f64();
+  return { openMoments, openFirstTs, openLastTs, open: { means, counts, buffer } };
+}
+
+function writeWindow(out: ByteWriter, window: SensorWindow): void {
+  out.f64(window.windowMs);
+  out.uvar(window.buckets);
+  out.f64(window.newestTs);
+  out.f64(window.openIndex);
+  writeOpenBucket(out, window.openMoments, window.openFirstTs, window.openLastTs, window.open.snapshot());
   out.uvar(window.closed.length);
   for (const bucket of window.closed) {
     out.f64(bucket.index);
@@ -170,19 +208,7 @@ function writeProfile(out: ByteWriter, profile: DailyProfile | null): void {
   out.uvar(profile.profileDays);
   out.f64(profile.openDay);
   out.f64(profile.openHour);
-  out.f64(profile.openMoments.n);
-  out.f64(profile.openMoments.mean);
-  out.f64(profile.openMoments.m2);
-  out.f64(profile.openFirstTs);
-  out.f64(profile.openLastTs);
-  const open = profile.open.snapshot();
-  out.uvar(open.means.length);
-  for (let i = 0; i < open.means.length; i++) {
-    out.f64(open.means[i]);
-    out.uvar(open.counts[i]);
-  }
-  out.uvar(open.buffer.length);
-  for (let i = 0; i < open.buffer.length; i++) out.f64(open.buffer[i]);
+  writeOpenBucket(out, profile.openMoments, profile.openFirstTs, profile.openLastTs, profile.open.snapshot());
   // Held as these very bytes (profile-slots.ts).
   profile.closed.write(out);
 }
@@ -193,28 +219,14 @@ function readProfile(input: ByteReader): ProfileSnapshot | null {
   const profileDays = input.uvar();
   const openDay = input.f64();
   const openHour = input.f64();
-  const openMoments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
-  const openFirstTs = input.f64();
-  const openLastTs = input.f64();
-  const centroidCount = input.uvar();
-  const means = new Float64Array(centroidCount);
-  const counts = new Float64Array(centroidCount);
-  for (let i = 0; i < centroidCount; i++) {
-    means[i] = input.f64();
-    counts[i] = input.uvar();
-  }
-  const buffer = new Float64Array(input.uvar());
-  for (let i = 0; i < buffer.length; i++) buffer[i] = input.f64();
+  const openBucket = readOpenBucket(input);
   const slots = ProfileSlots.read(input);
   return {
     zone,
     profileDays,
     openDay,
     openHour,
-    openMoments,
-    openFirstTs,
-    openLastTs,
-    open: { means, counts, buffer },
+    ...openBucket,
     slots,
   };
 }
@@ -306,18 +318,7 @@ function readWindow(input: ByteReader): WindowSnapshot {
   const buckets = input.uvar();
   const newestTs = input.f64();
   const openIndex = input.f64();
-  const openMoments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
-  const openFirstTs = input.f64();
-  const openLastTs = input.f64();
-  const centroidCount = input.uvar();
-  const means = new Float64Array(centroidCount);
-  const counts = new Float64Array(centroidCount);
-  for (let i = 0; i < centroidCount; i++) {
-    means[i] = input.f64();
-    counts[i] = input.uvar();
-  }
-  const buffer = new Float64Array(input.uvar());
-  for (let i = 0; i < buffer.length; i++) buffer[i] = input.f64();
+  const openBucket = readOpenBucket(input);
   const closedCount = input.uvar();
   const closed: ClosedBucket[] = [];
   for (let bucket = 0; bucket < closedCount; bucket++) closed.push(readClosedBucket(input));
@@ -326,10 +327,7 @@ function readWindow(input: ByteReader): WindowSnapshot {
     buckets,
     newestTs,
     openIndex,
-    openMoments,
-    openFirstTs,
-    openLastTs,
-    open: { means, counts, buffer },
+    ...openBucket,
     closed,
   };
 }
