@@ -329,6 +329,11 @@ export class Monitor {
       this.readWhat,
     );
     if (this.stopping) return;
+    // Joining can take up to the group's rebalance timeout (other members must rejoin first).
+    this.log.info(
+      { group: this.settings.group, topic: this.settings.inputTopic },
+      `joining group ${this.settings.group}`,
+    );
     await this.consumer.run({
       autoCommit: false,
       eachBatchAutoResolve: false,
