@@ -10,7 +10,8 @@
  * Each message's partition is the one kafkajs's DefaultPartitioner picks for its key (murmur2, as
  * the Java client), set explicitly so the producer and this split cannot disagree.
  */
-import { Partitioners, type Message, type PartitionMetadata } from 'kafkajs';
+import { Partitioners, type Message } from 'kafkajs';
+import { partitionMetadataFor } from '../connect/partition-metadata.js';
 
 /** The messages of one topic partition, in the order they were queued: one produce request. */
 export interface PartitionSend {
@@ -23,18 +24,6 @@ export interface PartitionSend {
 // the caller), so one shared instance is deterministic.
 const defaultPartitioner = Partitioners.DefaultPartitioner();
 
-/** Metadata for a topic of `count` partitions, as the partitioner reads it (only the count matters for keys). */
-function metadataOf(count: number): PartitionMetadata[] {
-  return Array.from({ length: count }, (_, partitionId) => ({
-    partitionId,
-    leader: 0,
-    partitionErrorCode: 0,
-    replicas: [0],
-    isr: [0],
-    offlineReplicas: [],
-  }));
-}
-
 /**
  * Groups messages by the partition each goes to (its `partition` if set, else kafkajs's
  * DefaultPartitioner on its key over `partitions` partitions), keeping their order within each
@@ -44,7 +33,7 @@ function metadataOf(count: number): PartitionMetadata[] {
 export function partitionSends(topic: string, partitions: number, messages: Message[]): PartitionSend[] {
   if (!Number.isInteger(partitions) || partitions < 1)
     throw new Error(`topic ${topic}: partition count ${partitions} is not a positive integer`);
-  const partitionMetadata = metadataOf(partitions);
+  const partitionMetadata = partitionMetadataFor(partitions);
   const byPartition = new Map<number, Message[]>();
   for (const message of messages) {
     if (message.partition === undefined && (message.key === null || message.key === undefined))

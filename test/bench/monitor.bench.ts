@@ -12,6 +12,7 @@
  *  - restart: time for a fresh monitor to take over 10,000 sensors' checkpoints and catch up;
  *  - latency: reading-to-alert (alert received minus reading time) at a steady 5,000 readings/s.
  */
+import { createTopicsWithLeaders } from '../../services/connect/topics.js';
 import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { Session } from 'node:inspector/promises';
@@ -414,10 +415,7 @@ async function throughput(
   const topic = name(`in-${form}`);
   const admin = kafka.admin();
   await admin.connect();
-  await admin.createTopics({
-    waitForLeaders: true,
-    topics: [{ topic, numPartitions: PARTITIONS, replicationFactor: 1 }],
-  });
+  await createTopicsWithLeaders(admin, [{ topic, numPartitions: PARTITIONS, replicationFactor: 1 }]);
   try {
     const msgs = readings(SENSORS, PER_SENSOR, Date.UTC(2026, 4, 1), 1, form);
     await produce(kafka, topic, msgs);
@@ -635,10 +633,7 @@ async function scaling(kafka: Kafka, redisUrl: string, alertTopic: string): Prom
       for (const processes of [1, 2]) {
         const topic = name(`scale-${processes}`);
         topics.push(topic);
-        await admin.createTopics({
-          waitForLeaders: true,
-          topics: [{ topic, numPartitions: PARTITIONS, replicationFactor: 1 }],
-        });
+        await createTopicsWithLeaders(admin, [{ topic, numPartitions: PARTITIONS, replicationFactor: 1 }]);
         await produce(kafka, topic, msgs);
         runs.push({
           pass,
@@ -676,14 +671,14 @@ export async function run(): Promise<Record<string, unknown>> {
   const alertTopic = name('alerts');
   const latTopic = name('lat-in');
   const latAlerts = name('lat-alerts');
-  await admin.createTopics({
-    waitForLeaders: true,
-    topics: [topic, alertTopic, latTopic, latAlerts].map((t) => ({
+  await createTopicsWithLeaders(
+    admin,
+    [topic, alertTopic, latTopic, latAlerts].map((t) => ({
       topic: t,
       numPartitions: PARTITIONS,
       replicationFactor: 1,
     })),
-  });
+  );
   const out: Record<string, unknown> = { passes: PASSES };
   const probe = new Redis(url);
   const config: EngineConfig = parseConfigText(BENCH_CONFIG, 'bench');
