@@ -1,6 +1,7 @@
 // @ts-check
 import js from '@eslint/js';
 import tseslint from 'typescript-eslint';
+import { shortNames } from './eslint/short-names.js';
 
 export default tseslint.config(
   { ignores: ['dist/**', 'dist-bench/**', 'node_modules/**', '.cache/**', '.stack/**', 'test-artifacts/**'] },
@@ -43,6 +44,15 @@ export default tseslint.config(
           ],
         },
       ],
+    },
+  },
+  {
+    // Names that say what they hold (DEVELOPERS.md, Conventions): one- and two-letter names only in
+    // one-expression lambdas, i/j loop counters and type parameters. `ts` is the reading's own field.
+    files: ['libs/**/*.ts'],
+    plugins: { local: { rules: { 'short-names': shortNames } } },
+    rules: {
+      'local/short-names': ['error', { allow: ['ts', 'id', 'ms', 'q1', 'q3', 'to', 'at', 'of', 'by', 'up'] }],
     },
   },
   {

@@ -36,9 +36,9 @@ export class RateMeter {
   record(ts: number): void {
     const times = this.times;
     // Keep ascending order even if a raise arrives slightly out of order.
-    let i = times.length;
-    while (i > 0 && times[i - 1] > ts) i--;
-    times.splice(i, 0, ts);
+    let insertAt = times.length;
+    while (insertAt > 0 && times[insertAt - 1] > ts) insertAt--;
+    times.splice(insertAt, 0, ts);
     // Bounded even when nobody reads the meter: nothing older than an hour before the newest raise.
     const newest = times[times.length - 1];
     let drop = 0;
@@ -59,10 +59,10 @@ export class RateMeter {
     if (drop > 0) times.splice(0, drop);
     let hour = 0;
     let ten = 0;
-    for (const x of times) {
-      if (x > now) continue; // not yet happened at `now`
+    for (const raisedAt of times) {
+      if (raisedAt > now) continue; // not yet happened at `now`
       hour++;
-      if (x > now - TEN_MIN) ten++;
+      if (raisedAt > now - TEN_MIN) ten++;
     }
     return {
       last10Min: ten,

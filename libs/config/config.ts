@@ -27,7 +27,6 @@ export function defaultConfig(): EngineConfig {
   return { defaults: { ...DEFAULT_SETTINGS }, sensors: [] };
 }
 
-/** Parse config text (YAML is a superset of JSON, so one parser reads both). */
 /**
  * A YAML parse failure as "line L, column C: problem": the parser's own first line ends in a bare
  * "at line L, column C:" that introduces a code excerpt, which a one-line message cannot show.
@@ -69,11 +68,11 @@ export function validateConfig(raw: unknown, source = 'config'): EngineConfig {
     );
   }
   const top = raw as Record<string, unknown>;
-  for (const k of Object.keys(top)) {
-    if (k !== 'defaults' && k !== 'sensors') {
+  for (const key of Object.keys(top)) {
+    if (key !== 'defaults' && key !== 'sensors') {
       throw new StreamfenceError(
         'CONFIG_UNKNOWN_KEY',
-        `${source}: unknown top-level key "${k}"; allowed: defaults, sensors`,
+        `${source}: unknown top-level key "${key}"; allowed: defaults, sensors`,
       );
     }
   }
@@ -94,8 +93,8 @@ export function validateConfig(raw: unknown, source = 'config'): EngineConfig {
         `${source}: "sensors" must be a list of { match: "<glob>", ...overrides }`,
       );
     }
-    top.sensors.forEach((entry, i) => {
-      const where = `${source}: sensors[${i}]`;
+    top.sensors.forEach((entry, index) => {
+      const where = `${source}: sensors[${index}]`;
       if (typeof entry !== 'object' || entry === null || Array.isArray(entry)) {
         throw new StreamfenceError('CONFIG_INVALID', `${where} must be an object with a "match" glob`);
       }
@@ -142,14 +141,14 @@ function parseSettings(raw: unknown, where: string, isOverride: boolean): Parsed
     throw new StreamfenceError('CONFIG_INVALID', `${where} must be an object of settings`);
   }
   const out: Record<string, unknown> = {};
-  for (const [k, v] of Object.entries(raw as Record<string, unknown>)) {
-    if (!(SETTING_KEYS as string[]).includes(k)) {
+  for (const [key, value] of Object.entries(raw as Record<string, unknown>)) {
+    if (!(SETTING_KEYS as string[]).includes(key)) {
       throw new StreamfenceError(
         'CONFIG_UNKNOWN_KEY',
-        `${where}: unknown key "${k}"; allowed: ${isOverride ? 'match, ' : ''}${SETTING_KEYS.join(', ')}`,
+        `${where}: unknown key "${key}"; allowed: ${isOverride ? 'match, ' : ''}${SETTING_KEYS.join(', ')}`,
       );
     }
-    out[k] = parseOne(k as keyof SensorSettings, v, where);
+    out[key] = parseOne(key as keyof SensorSettings, value, where);
   }
   return out as Parsed;
 }
@@ -280,7 +279,7 @@ function checkContradictions(settings: SensorSettings, where: string): void {
 
 /** Resolves the effective settings of a sensor id: the first matching rule wins over defaults. */
 export class SettingsResolver {
-  private readonly matchers: { test: (s: string) => boolean; settings: SensorSettings }[];
+  private readonly matchers: { test: (sensor: string) => boolean; settings: SensorSettings }[];
   constructor(readonly config: EngineConfig) {
     this.matchers = config.sensors.map((r) => ({
       test: picomatch(r.match, { dot: true }),

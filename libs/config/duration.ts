@@ -15,13 +15,13 @@ export function parseDuration(raw: unknown): number | null {
 
 /** The shortest exact way to write `ms` in the largest unit that divides it (`86400000` → `1d`). */
 export function formatDuration(ms: number): string {
-  for (const [u, f] of [
+  for (const [unit, unitMs] of [
     ['d', 86_400_000],
     ['h', 3_600_000],
     ['m', 60_000],
     ['s', 1000],
   ] as const) {
-    if (ms >= f && ms % f === 0) return `${ms / f}${u}`;
+    if (ms >= unitMs && ms % unitMs === 0) return `${ms / unitMs}${unit}`;
   }
   return `${ms}ms`;
 }

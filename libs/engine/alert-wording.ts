@@ -9,11 +9,11 @@ import { REASON_WORDS, type Reason } from '../schema/vocabulary.js';
  * A number as an alert message writes it: 4 significant digits, exponent form when very large or
  * small, `n/a` for none.
  */
-export function fmt(x: number | null, digits = 4): string {
-  if (x === null || !Number.isFinite(x)) return 'n/a';
-  const magnitude = Math.abs(x);
-  if (magnitude !== 0 && (magnitude >= 1e6 || magnitude < 1e-3)) return x.toExponential(2);
-  return String(Number(x.toPrecision(digits)));
+export function fmt(value: number | null, digits = 4): string {
+  if (value === null || !Number.isFinite(value)) return 'n/a';
+  const magnitude = Math.abs(value);
+  if (magnitude !== 0 && (magnitude >= 1e6 || magnitude < 1e-3)) return value.toExponential(2);
+  return String(Number(value.toPrecision(digits)));
 }
 
 /** The reasons in plain words (REASON_WORDS), comma-separated. */
@@ -85,11 +85,11 @@ type QualityMessageInput = Pick<
 };
 
 /** The sentence of a bad_quality alert: how many doubtful readings, the newest, and what it means. */
-export function qualityMessage(e: QualityMessageInput): string {
-  if (e.state === 'cleared') {
-    return `${e.sensor} sends good readings again: ${fmt(e.value)} at ${e.ts}; its readings had been of doubtful quality since ${e.since} (${e.flaggedReadings} of them).`;
+export function qualityMessage(input: QualityMessageInput): string {
+  if (input.state === 'cleared') {
+    return `${input.sensor} sends good readings again: ${fmt(input.value)} at ${input.ts}; its readings had been of doubtful quality since ${input.since} (${input.flaggedReadings} of them).`;
   }
-  return `${e.sensor} is ${REASON_WORDS.bad_quality} (warning): ${e.run} in a row, the newest ${e.quality}, ${fmt(e.value)} at ${e.ts}; they are neither judged nor learned until good readings return; since ${e.since}.`;
+  return `${input.sensor} is ${REASON_WORDS.bad_quality} (warning): ${input.run} in a row, the newest ${input.quality}, ${fmt(input.value)} at ${input.ts}; they are neither judged nor learned until good readings return; since ${input.since}.`;
 }
 
 /** A span of event time in plain words: "45 s", "25 min", "3 h 5 min", "2 d 4 h". */
@@ -112,9 +112,9 @@ type StaleMessageInput = Pick<AlertEvent, 'sensor' | 'state' | 'value' | 'ts' | 
 };
 
 /** The sentence of a stale alert: how long the sensor has been silent and what it last said. */
-export function staleMessage(e: StaleMessageInput): string {
-  if (e.state === 'cleared') {
-    return `${e.sensor} reports again: ${fmt(e.value)} at ${e.ts}; it had been silent since ${e.since}.`;
+export function staleMessage(input: StaleMessageInput): string {
+  if (input.state === 'cleared') {
+    return `${input.sensor} reports again: ${fmt(input.value)} at ${input.ts}; it had been silent since ${input.since}.`;
   }
-  return `${e.sensor} is ${REASON_WORDS.stale} (warning): no reading for ${silenceWords(e.silentMs)}; last ${fmt(e.value)} at ${e.lastTs}.`;
+  return `${input.sensor} is ${REASON_WORDS.stale} (warning): no reading for ${silenceWords(input.silentMs)}; last ${fmt(input.value)} at ${input.lastTs}.`;
 }

@@ -11,10 +11,10 @@ export class ByteWriter {
   private view = new DataView(this.buf.buffer);
   private pos = 0;
 
-  private ensure(n: number): void {
-    if (this.pos + n <= this.buf.length) return;
+  private ensure(extra: number): void {
+    if (this.pos + extra <= this.buf.length) return;
     let size = this.buf.length * 2;
-    while (size < this.pos + n) size *= 2;
+    while (size < this.pos + extra) size *= 2;
     const next = new Uint8Array(size);
     next.set(this.buf.subarray(0, this.pos));
     this.buf = next;
@@ -66,6 +66,13 @@ export class ByteWriter {
     this.pos += encoded.length;
   }
 
+  /** Writes bytes as they are (no length: the reader must know where they end). */
+  raw(bytes: Uint8Array): void {
+    this.ensure(bytes.length);
+    this.buf.set(bytes, this.pos);
+    this.pos += bytes.length;
+  }
+
   /** A copy of what has been written. */
   bytes(): Uint8Array {
     return this.buf.slice(0, this.pos);
@@ -80,8 +87,8 @@ export class ByteReader {
     this.view = new DataView(buf.buffer, buf.byteOffset, buf.byteLength);
   }
 
-  private need(n: number): void {
-    if (this.pos + n > this.buf.length) throw new RangeError('state ends early');
+  private need(byteCount: number): void {
+    if (this.pos + byteCount > this.buf.length) throw new RangeError('state ends early');
   }
 
   /** Reads one byte. */
@@ -121,11 +128,22 @@ export class ByteReader {
 
   /** Reads length-prefixed UTF-8 text. */
   str(): string {
-    const n = this.uvar();
-    this.need(n);
-    const text = dec.decode(this.buf.subarray(this.pos, this.pos + n));
-    this.pos += n;
+    const length = this.uvar();
+    this.need(length);
+    const text = dec.decode(this.buf.subarray(this.pos, this.pos + length));
+    this.pos += length;
     return text;
+  }
+
+  /** Bytes read so far (where the next read starts). */
+  get offset(): number {
+    return this.pos;
+  }
+
+  /** A copy of the bytes from `start` to `end` (offsets as `offset` gives them). */
+  copy(start: number, end: number): Uint8Array {
+    if (start < 0 || end > this.buf.length || start > end) throw new RangeError('state ends early');
+    return this.buf.slice(start, end);
   }
 
   /** True when every byte has been read. */

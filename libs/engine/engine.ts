@@ -15,7 +15,7 @@ import { alertId } from './alert-id.js';
 import { alertMessage, qualityMessage, staleMessage } from './alert-wording.js';
 import { DeadlineHeap } from './deadline-heap.js';
 import type { DoubtfulQuality, Quality, Reading } from './reading.js';
-import type { SensorBudget } from './sensor-budget.js';
+import { PROFILED_SENSOR_WEIGHT, sensorWeight, type SensorBudget } from './sensor-budget.js';
 import { decodeSensorState, encodeSensorState, SensorState, type ConditionAlert } from './sensor-state.js';
 import type { ProfileBaseline } from './profile.js';
 import { hourSpan } from './local-time.js';
@@ -67,6 +67,11 @@ export function newCounters(): EngineCounters {
 const iso = (ts: number): string => new Date(ts).toISOString();
 
 /** "for 03:00-04:00 on the last 7 days" (the zone named when it is not UTC). */
+/** Places a held sensor takes in the sensor limit (by whether it holds a profile). */
+function weightOf(state: SensorState): number {
+  return sensorWeight(state.profile !== null);
+}
+
 function profileSpan(profiled: ProfileBaseline, zone: string): string {
   const where = zone === 'UTC' ? '' : ` ${zone} time`;
   return `for ${hourSpan(profiled.hour)}${where} on the last ${profiled.days} days`;
@@ -139,15 +144,16 @@ export class Engine {
     let state = this.states.get(reading.sensor);
     const isNew = state === undefined;
     if (state === undefined) {
-      if (!this.admit()) {
+      const settings = this.resolver.resolve(reading.sensor);
+      if (!this.admit(sensorWeight(settings.profile === 'daily'))) {
         return {
           accepted: false,
           reason: 'sensor_limit',
-          detail: `sensor "${reading.sensor}" is new, and state is already held for the limit of ${this.budget!.limit} sensors (raise --max-sensors, or find the producer that puts changing values into sensor ids)`,
+          detail: `sensor "${reading.sensor}" is new, and state is already held for the limit of ${this.budget!.limit} sensors (a profiled one counts ${PROFILED_SENSOR_WEIGHT}; raise --max-sensors, or find the producer that puts changing values into sensor ids)`,
           events: NO_EVENTS,
         };
       }
-      state = new SensorState(reading.sensor, this.resolver.resolve(reading.sensor));
+      state = new SensorState(reading.sensor, settings);
       this.states.set(reading.sensor, state);
     }
     const settings = state.settings;
@@ -511,7 +517,9 @@ export class Engine {
   restore(bytes: Uint8Array, partition = 0): SensorState {
     const state = decodeSensorState(bytes, (sensor) => this.resolver.resolve(sensor));
     // Restored state is never refused (that would lose it); it counts against the budget all the same.
-    if (!this.states.has(state.sensor)) this.budget?.add(1);
+    const replaced = this.states.get(state.sensor);
+    if (replaced !== undefined) this.budget?.release(weightOf(replaced));
+    this.budget?.add(weightOf(state));
     this.states.set(state.sensor, state);
     const newest = state.window.newestTs;
     if (newest > this.watermark) this.watermark = newest;
@@ -526,21 +534,26 @@ export class Engine {
 
   /** Drop a sensor's in-memory state (e.g. when its partition is revoked). */
   forget(sensor: string): void {
-    if (this.states.delete(sensor)) this.budget?.release();
+    const state = this.states.get(sensor);
+    if (state === undefined) return;
+    this.states.delete(sensor);
+    this.budget?.release(weightOf(state));
   }
 
   /** Give back this engine's share of the budget (its partition is dropped as a whole). */
   releaseAll(): void {
-    this.budget?.release(this.states.size);
+    let places = 0;
+    for (const state of this.states.values()) places += weightOf(state);
+    this.budget?.release(places);
     this.states.clear();
     this.clocks.clear();
   }
 
-  /** Room for one more sensor: from the budget, or after evicting this engine's idle sensors. */
-  private admit(): boolean {
-    if (this.budget === null || this.budget.tryTake()) return true;
+  /** Room for one more sensor of `weight`: from the budget, or after evicting this engine's idle sensors. */
+  private admit(weight: number): boolean {
+    if (this.budget === null || this.budget.tryTake(weight)) return true;
     if (this.watermark <= this.sweptAt) return false;
-    return this.evictIdle() > 0 && this.budget.tryTake();
+    return this.evictIdle() > 0 && this.budget.tryTake(weight);
   }
 
   /**
@@ -552,6 +565,7 @@ export class Engine {
   evictIdle(): number {
     this.sweptAt = this.watermark;
     let evicted = 0;
+    let places = 0;
     for (const [sensor, state] of this.states) {
       if (state.life.active !== null || state.qualityAlert !== null || state.staleAlert !== null) continue;
       // A profiled sensor keeps its days of history (a silent day must not wipe its profile).
@@ -563,8 +577,9 @@ export class Engine {
       this.states.delete(sensor);
       this.evicted.push(sensor);
       evicted++;
+      places += weightOf(state);
     }
-    this.budget?.release(evicted);
+    this.budget?.release(places);
     this.evictedTotal += evicted;
     return evicted;
   }

@@ -17,25 +17,25 @@ const DIGIT_0 = 48;
 const MS_PER_MINUTE = 60_000;
 const MS_PER_DAY = 86_400_000;
 
-/** Value 0..9 of the digit at `i`, or -1 when it is not an ASCII digit. */
-function digitAt(text: string, i: number): number {
-  const digit = text.charCodeAt(i) - DIGIT_0;
+/** Value 0..9 of the digit at `position`, or -1 when it is not an ASCII digit. */
+function digitAt(text: string, position: number): number {
+  const digit = text.charCodeAt(position) - DIGIT_0;
   return digit >= 0 && digit <= 9 ? digit : -1;
 }
 
-/** Two digits at `i` as a number, or -1. */
-function twoDigits(text: string, i: number): number {
-  const hi = digitAt(text, i);
-  const lo = digitAt(text, i + 1);
-  return hi < 0 || lo < 0 ? -1 : hi * 10 + lo;
+/** Two digits at `position` as a number, or -1. */
+function twoDigits(text: string, position: number): number {
+  const tens = digitAt(text, position);
+  const units = digitAt(text, position + 1);
+  return tens < 0 || units < 0 ? -1 : tens * 10 + units;
 }
 
 /** Days from 1970-01-01 to a proleptic Gregorian date (month 1..12). */
 export function daysFromCivil(year: number, month: number, day: number): number {
   // Shift the year to start in March so that the leap day is the last day of the shifted year.
-  const y = month <= 2 ? year - 1 : year;
-  const era = Math.floor(y / 400);
-  const yearOfEra = y - era * 400;
+  const marchYear = month <= 2 ? year - 1 : year;
+  const era = Math.floor(marchYear / 400);
+  const yearOfEra = marchYear - era * 400;
   const shiftedMonth = month > 2 ? month - 3 : month + 9;
   const dayOfYear = Math.floor((153 * shiftedMonth + 2) / 5) + day - 1;
   const dayOfEra = yearOfEra * 365 + Math.floor(yearOfEra / 4) - Math.floor(yearOfEra / 100) + dayOfYear;
@@ -53,14 +53,14 @@ export function daysInMonth(year: number, month: number): number {
  * expected trimmed.
  */
 export function parseIsoTime(text: string): number | IsoFailure {
-  const n = text.length;
+  const length = text.length;
   // Shortest form: YYYY-MM-DDThh:mmZ (17 characters).
-  if (n < 17) return 'structure';
-  const y0 = digitAt(text, 0);
-  const y1 = digitAt(text, 1);
-  const y2 = digitAt(text, 2);
-  const y3 = digitAt(text, 3);
-  if (y0 < 0 || y1 < 0 || y2 < 0 || y3 < 0) return 'structure';
+  if (length < 17) return 'structure';
+  const yearThousands = digitAt(text, 0);
+  const yearHundreds = digitAt(text, 1);
+  const yearTens = digitAt(text, 2);
+  const yearUnits = digitAt(text, 3);
+  if (yearThousands < 0 || yearHundreds < 0 || yearTens < 0 || yearUnits < 0) return 'structure';
   const month = twoDigits(text, 5);
   const day = twoDigits(text, 8);
   const sep = text.charCodeAt(10);
@@ -78,54 +78,54 @@ export function parseIsoTime(text: string): number | IsoFailure {
   ) {
     return 'structure';
   }
-  let i = 16;
+  let cursor = 16;
   let second = 0;
   let millis = 0;
   let fractionNonZero = false;
-  if (text.charCodeAt(i) === 58) {
-    second = twoDigits(text, i + 1);
+  if (text.charCodeAt(cursor) === 58) {
+    second = twoDigits(text, cursor + 1);
     if (second < 0) return 'structure';
-    i += 3;
-    if (text.charCodeAt(i) === 46) {
+    cursor += 3;
+    if (text.charCodeAt(cursor) === 46) {
       // Fraction: 1 to 9 digits; the first three are milliseconds, the rest are truncated.
-      i++;
-      const start = i;
+      cursor++;
+      const start = cursor;
       let scale = 100;
-      while (i < n) {
-        const digit = digitAt(text, i);
+      while (cursor < length) {
+        const digit = digitAt(text, cursor);
         if (digit < 0) break;
         if (digit !== 0) fractionNonZero = true;
         if (scale >= 1) {
           millis += digit * scale;
           scale /= 10;
         }
-        i++;
+        cursor++;
       }
-      const digits = i - start;
+      const digits = cursor - start;
       if (digits < 1 || digits > 9) return 'structure';
     }
   }
   // Zone.
   let offsetMinutes = 0;
-  const zone = text.charCodeAt(i);
+  const zone = text.charCodeAt(cursor);
   if (zone === 90 || zone === 122) {
     // Z z
-    if (i + 1 !== n) return 'structure';
+    if (cursor + 1 !== length) return 'structure';
   } else if (zone === 43 || zone === 45) {
     // + -
-    const offHour = twoDigits(text, i + 1);
+    const offHour = twoDigits(text, cursor + 1);
     if (offHour < 0) return 'structure';
-    let j = i + 3;
-    if (text.charCodeAt(j) === 58) j++;
-    const offMinute = twoDigits(text, j);
-    if (offMinute < 0 || j + 2 !== n) return 'structure';
+    let minuteAt = cursor + 3;
+    if (text.charCodeAt(minuteAt) === 58) minuteAt++;
+    const offMinute = twoDigits(text, minuteAt);
+    if (offMinute < 0 || minuteAt + 2 !== length) return 'structure';
     if (offHour > 23 || offMinute > 59) return 'value';
     offsetMinutes = (zone === 43 ? 1 : -1) * (offHour * 60 + offMinute);
   } else {
     return 'structure';
   }
 
-  const year = y0 * 1000 + y1 * 100 + y2 * 10 + y3;
+  const year = yearThousands * 1000 + yearHundreds * 100 + yearTens * 10 + yearUnits;
   if (month < 1 || month > 12 || day < 1 || day > daysInMonth(year, month)) return 'value';
   if (minute > 59 || second > 59) return 'value';
   if (hour > 24 || (hour === 24 && (minute !== 0 || second !== 0 || fractionNonZero))) return 'value';
@@ -137,17 +137,17 @@ export function parseIsoTime(text: string): number | IsoFailure {
   );
 }
 
-/** True when `s` is a decimal number of milliseconds: optional '-', digits, optional '.digits'. */
+/** True when `text` is a decimal number of milliseconds: optional '-', digits, optional '.digits'. */
 export function isEpochText(text: string): boolean {
-  const n = text.length;
-  let i = text.charCodeAt(0) === 45 ? 1 : 0;
-  const intStart = i;
-  while (i < n && digitAt(text, i) >= 0) i++;
-  if (i === intStart) return false;
-  if (i === n) return true;
-  if (text.charCodeAt(i) !== 46) return false;
-  i++;
-  const fracStart = i;
-  while (i < n && digitAt(text, i) >= 0) i++;
-  return i > fracStart && i === n;
+  const length = text.length;
+  let cursor = text.charCodeAt(0) === 45 ? 1 : 0;
+  const intStart = cursor;
+  while (cursor < length && digitAt(text, cursor) >= 0) cursor++;
+  if (cursor === intStart) return false;
+  if (cursor === length) return true;
+  if (text.charCodeAt(cursor) !== 46) return false;
+  cursor++;
+  const fracStart = cursor;
+  while (cursor < length && digitAt(text, cursor) >= 0) cursor++;
+  return cursor > fracStart && cursor === length;
 }

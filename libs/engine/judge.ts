@@ -127,11 +127,11 @@ export function judge(
   let zSev: Severity | null = null;
   let zReason: Reason = 'z_high';
   if (baseline.stdDev > 0) {
-    const z = (value - baseline.mean) / baseline.stdDev;
-    if (high && z > settings.zLimit) {
-      zSev = z > settings.zCritical ? 'critical' : 'warning';
-    } else if (low && z < -settings.zLimit) {
-      zSev = z < -settings.zCritical ? 'critical' : 'warning';
+    const zValue = (value - baseline.mean) / baseline.stdDev;
+    if (high && zValue > settings.zLimit) {
+      zSev = zValue > settings.zCritical ? 'critical' : 'warning';
+    } else if (low && zValue < -settings.zLimit) {
+      zSev = zValue < -settings.zCritical ? 'critical' : 'warning';
       zReason = 'z_low';
     }
   }
@@ -198,8 +198,8 @@ export function settled(
   const insideFence =
     baseline.iqr === 0 || ((!high || value <= fences.upper - band) && (!low || value >= fences.lower + band));
   const limit = settings.zLimit - margin;
-  const z = baseline.stdDev > 0 ? (value - baseline.mean) / baseline.stdDev : 0;
-  const insideZ = (!high || z <= limit) && (!low || z >= -limit);
+  const zValue = baseline.stdDev > 0 ? (value - baseline.mean) / baseline.stdDev : 0;
+  const insideZ = (!high || zValue <= limit) && (!low || zValue >= -limit);
   switch (settings.trigger) {
     case 'fence':
       return insideFence;

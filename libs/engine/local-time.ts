@@ -95,6 +95,6 @@ export class LocalClock {
 
 /** "03:00-04:00": a local hour as the alert message writes it. */
 export function hourSpan(hour: number): string {
-  const two = (n: number) => String(n).padStart(2, '0');
-  return `${two(hour)}:00-${two((hour + 1) % 24 === 0 ? 24 : hour + 1)}:00`;
+  const twoDigits = (value: number) => String(value).padStart(2, '0');
+  return `${twoDigits(hour)}:00-${twoDigits((hour + 1) % 24 === 0 ? 24 : hour + 1)}:00`;
 }

@@ -1,7 +1,7 @@
 /**
  * The time-of-day profile of one sensor (`profile: daily`): its readings sorted into the 24 hourly
  * slots of local time (`timeZone`), one compact digest per slot and local day, kept for the last
- * `profileDays` days.
+ * `profileDays` days (held as their stored bytes, see profile-slots.ts).
  *
  * Baseline definition: a reading in local hour h of local day D is judged against slot h on days
  * D - profileDays .. D - 1 (never today, so a reading is never judged against itself). The day
@@ -19,24 +19,17 @@ import {
   FrozenDigest,
   OpenDigest,
   roundForStorage,
-  type Centroids,
   type OpenDigestSnapshot,
 } from '../stats/digest.js';
 import { LocalClock, type LocalSlot } from './local-time.js';
+import { HOURS_PER_DAY, ProfileSlots, type ProfileEntry } from './profile-slots.js';
 import { SKETCH } from './sketch-params.js';
 import type { Baseline } from './window.js';
 
 /** Days of history a profiled slot needs before it judges (or profileDays, when smaller). */
 export const PROFILE_WARM_DAYS = 3;
 
-/** One local day's readings in one hourly slot. */
-export interface ProfileEntry {
-  day: number;
-  moments: Moments;
-  firstTs: number;
-  lastTs: number;
-  centroids: Centroids;
-}
+export type { ProfileEntry } from './profile-slots.js';
 
 /** A baseline from a slot of the profile, with the local hour and the days it covers. */
 export interface ProfileBaseline extends Baseline {
@@ -55,8 +48,8 @@ export interface ProfileSnapshot {
   openFirstTs: number;
   openLastTs: number;
   open: OpenDigestSnapshot;
-  /** 24 lists of closed entries, oldest day first. */
-  slots: ProfileEntry[][];
+  /** The closed entries of the 24 slots. */
+  slots: ProfileSlots;
 }
 
 const clocks = new Map<string, LocalClock>();
@@ -81,9 +74,9 @@ function clockFor(zone: string): LocalClock {
  */
 export class DailyProfile {
   private readonly clock: LocalClock;
-  /** Local day and hour of the open entry; -1 before the first reading. */
+  /** Local day (days since 1970-01-01 of the local date) of the open entry; -1 before the first reading. */
   openDay = -1;
-  /** Absolute hour (ts / 1 h) of the open slot; -1 before the first reading. */
+  /** Local hour (0-23) of the open entry; -1 before the first reading. */
   openHour = -1;
   /** Digest of the open hour's readings (not in any baseline yet). */
   open = new OpenDigest(SKETCH.profileBins, SKETCH.openCap);
@@ -94,7 +87,7 @@ export class DailyProfile {
   /** Time of the open hour's newest reading. */
   openLastTs = 0;
   /** Closed hours per local hour of the day (0-23), oldest first. */
-  slots: ProfileEntry[][] = Array.from({ length: 24 }, () => []);
+  closed = new ProfileSlots();
   private cached: { minSamples: number; baseline: ProfileBaseline | null } | null = null;
 
   constructor(
@@ -114,7 +107,7 @@ export class DailyProfile {
     profile.openFirstTs = saved.openFirstTs;
     profile.openLastTs = saved.openLastTs;
     profile.open = OpenDigest.restore(saved.open, SKETCH.profileBins, SKETCH.openCap);
-    profile.slots = saved.slots;
+    profile.closed = saved.slots;
     return profile;
   }
 
@@ -126,7 +119,8 @@ export class DailyProfile {
   advance(ts: number): LocalSlot | null {
     const slot = this.clock.slotOf(ts);
     if (slot.day === this.openDay && slot.hour === this.openHour) return slot;
-    if (this.openDay >= 0 && slot.day * 24 + slot.hour < this.openDay * 24 + this.openHour) return null;
+    const behind = slot.day * HOURS_PER_DAY + slot.hour < this.openDay * HOURS_PER_DAY + this.openHour;
+    if (this.openDay >= 0 && behind) return null;
     this.close();
     if (slot.day !== this.openDay) this.expire(slot.day);
     this.openDay = slot.day;
@@ -158,15 +152,17 @@ export class DailyProfile {
 
   /** Readings held in closed entries (all slots). */
   get heldReadings(): number {
-    let n = 0;
-    for (const slot of this.slots) for (const entry of slot) n += entry.moments.n;
-    return n;
+    return this.closed.heldReadings;
+  }
+
+  /** Every slot's closed entries, decoded, oldest first (for inspection; a copy). */
+  get slots(): ProfileEntry[][] {
+    return this.closed.allEntries();
   }
 
   private build(minSamples: number): ProfileBaseline | null {
     if (this.openHour < 0) return null;
-    const from = this.openDay - this.profileDays;
-    const entries = this.slots[this.openHour].filter((e) => e.day >= from && e.day < this.openDay);
+    const entries = this.closed.entriesOf(this.openHour, this.openDay - this.profileDays, this.openDay);
     if (entries.length < Math.min(PROFILE_WARM_DAYS, this.profileDays)) return null;
     let moments = emptyMoments();
     let first = Infinity;
@@ -179,7 +175,7 @@ export class DailyProfile {
     if (moments.n < minSamples) return null;
     const digest = new FrozenDigest(
       compressToBins(
-        entries.map((e) => e.centroids),
+        entries.map((entry) => entry.centroids),
         SKETCH.baselineBins,
       ),
     );
@@ -203,7 +199,7 @@ export class DailyProfile {
 
   private close(): void {
     if (this.openMoments.n === 0) return;
-    this.slots[this.openHour].push({
+    this.closed.append(this.openHour, {
       day: this.openDay,
       moments: this.openMoments,
       firstTs: this.openFirstTs,
@@ -216,12 +212,6 @@ export class DailyProfile {
 
   /** Drop entries older than any baseline from `day` on can use. */
   private expire(day: number): void {
-    const oldest = day - this.profileDays;
-    for (let hour = 0; hour < 24; hour++) {
-      const slot = this.slots[hour];
-      let expired = 0;
-      while (expired < slot.length && slot[expired].day < oldest) expired++;
-      if (expired > 0) this.slots[hour] = slot.slice(expired);
-    }
+    this.closed.dropBefore(day - this.profileDays);
   }
 }

@@ -28,47 +28,47 @@ const DOT = 46;
 const DIGIT_0 = 48;
 const DIGIT_9 = 57;
 
-const isDigit = (c: number) => c >= DIGIT_0 && c <= DIGIT_9;
+const isDigit = (code: number) => code >= DIGIT_0 && code <= DIGIT_9;
 
-function skipSpaces(s: string, i: number): number {
-  while (s.charCodeAt(i) === SPACE) i++;
-  return i;
+function skipSpaces(text: string, position: number): number {
+  while (text.charCodeAt(position) === SPACE) position++;
+  return position;
 }
 
 /** End (exclusive) of a JSON string body starting after its opening quote, or -1 when it needs JSON.parse. */
-function stringEnd(s: string, i: number): number {
-  const n = s.length;
-  for (; i < n; i++) {
-    const c = s.charCodeAt(i);
-    if (c === QUOTE) return i;
+function stringEnd(text: string, position: number): number {
+  const length = text.length;
+  for (; position < length; position++) {
+    const code = text.charCodeAt(position);
+    if (code === QUOTE) return position;
     // Escapes need decoding and raw control characters are invalid JSON: leave both to JSON.parse.
-    if (c === BACKSLASH || c < SPACE) return -1;
+    if (code === BACKSLASH || code < SPACE) return -1;
   }
   return -1;
 }
 
-/** End (exclusive) of a JSON number (RFC 8259 grammar) starting at `i`, or -1. */
-function numberEnd(s: string, i: number): number {
-  if (s.charCodeAt(i) === MINUS) i++;
-  const c0 = s.charCodeAt(i);
-  if (c0 === DIGIT_0) i++;
-  else if (isDigit(c0)) while (isDigit(s.charCodeAt(i))) i++;
+/** End (exclusive) of a JSON number (RFC 8259 grammar) starting at `position`, or -1. */
+function numberEnd(text: string, position: number): number {
+  if (text.charCodeAt(position) === MINUS) position++;
+  const first = text.charCodeAt(position);
+  if (first === DIGIT_0) position++;
+  else if (isDigit(first)) while (isDigit(text.charCodeAt(position))) position++;
   else return -1;
-  if (s.charCodeAt(i) === DOT) {
-    i++;
-    if (!isDigit(s.charCodeAt(i))) return -1;
-    while (isDigit(s.charCodeAt(i))) i++;
+  if (text.charCodeAt(position) === DOT) {
+    position++;
+    if (!isDigit(text.charCodeAt(position))) return -1;
+    while (isDigit(text.charCodeAt(position))) position++;
   }
-  const e = s.charCodeAt(i);
-  if (e === 101 || e === 69) {
+  const exponentMark = text.charCodeAt(position);
+  if (exponentMark === 101 || exponentMark === 69) {
     // e E
-    i++;
-    const sign = s.charCodeAt(i);
-    if (sign === 43 || sign === MINUS) i++;
-    if (!isDigit(s.charCodeAt(i))) return -1;
-    while (isDigit(s.charCodeAt(i))) i++;
+    position++;
+    const sign = text.charCodeAt(position);
+    if (sign === 43 || sign === MINUS) position++;
+    if (!isDigit(text.charCodeAt(position))) return -1;
+    while (isDigit(text.charCodeAt(position))) position++;
   }
-  return i;
+  return position;
 }
 
 const POW10 = [
@@ -77,114 +77,120 @@ const POW10 = [
 ];
 
 /**
- * The double nearest to the JSON number text s[start, end). Plain decimals of at most 15
+ * The double nearest to the JSON number text[start, end). Plain decimals of at most 15
  * significant digits and 22 fraction digits are an exact integer divided by an exact power of
  * ten, which IEEE division rounds correctly (Clinger 1990, "How to read floating point numbers
  * accurately", the fast path); anything else goes to Number().
  */
-function numberValue(s: string, start: number, end: number): number {
-  let i = start;
-  const negative = s.charCodeAt(i) === MINUS;
-  if (negative) i++;
+function numberValue(text: string, start: number, end: number): number {
+  let position = start;
+  const negative = text.charCodeAt(position) === MINUS;
+  if (negative) position++;
   let mantissa = 0;
   let digits = 0;
   let fractionDigits = 0;
   let inFraction = false;
-  for (; i < end; i++) {
-    const c = s.charCodeAt(i);
-    if (c === DOT) {
+  for (; position < end; position++) {
+    const code = text.charCodeAt(position);
+    if (code === DOT) {
       inFraction = true;
       continue;
     }
-    if (!isDigit(c)) return Number(s.slice(start, end));
-    mantissa = mantissa * 10 + (c - DIGIT_0);
+    if (!isDigit(code)) return Number(text.slice(start, end));
+    mantissa = mantissa * 10 + (code - DIGIT_0);
     if (mantissa !== 0) digits++;
     if (inFraction) fractionDigits++;
   }
-  if (digits > 15 || fractionDigits > 22) return Number(s.slice(start, end));
+  if (digits > 15 || fractionDigits > 22) return Number(text.slice(start, end));
   const magnitude = mantissa / POW10[fractionDigits];
   return negative ? -magnitude : magnitude;
 }
 
-/** Which key the key text s[start, end) is: 0 sensor, 1 ts, 2 value, 3 quality, -1 another. */
-function keyIndex(s: string, start: number, end: number): number {
+/** Which key the key text[start, end) is: 0 sensor, 1 ts, 2 value, 3 quality, -1 another. */
+function keyIndex(text: string, start: number, end: number): number {
   const len = end - start;
-  if (len === 2) return s.charCodeAt(start) === 116 && s.charCodeAt(start + 1) === 115 ? 1 : -1;
+  if (len === 2) return text.charCodeAt(start) === 116 && text.charCodeAt(start + 1) === 115 ? 1 : -1;
   if (len === 5) {
-    return s.charCodeAt(start) === 118 && // v
-      s.charCodeAt(start + 1) === 97 && // a
-      s.charCodeAt(start + 2) === 108 && // l
-      s.charCodeAt(start + 3) === 117 && // u
-      s.charCodeAt(start + 4) === 101 // e
+    return text.charCodeAt(start) === 118 && // v
+      text.charCodeAt(start + 1) === 97 && // a
+      text.charCodeAt(start + 2) === 108 && // l
+      text.charCodeAt(start + 3) === 117 && // u
+      text.charCodeAt(start + 4) === 101 // e
       ? 2
       : -1;
   }
   if (len === 6) {
-    return s.charCodeAt(start) === 115 && // s
-      s.charCodeAt(start + 1) === 101 && // e
-      s.charCodeAt(start + 2) === 110 && // n
-      s.charCodeAt(start + 3) === 115 && // s
-      s.charCodeAt(start + 4) === 111 && // o
-      s.charCodeAt(start + 5) === 114 // r
+    return text.charCodeAt(start) === 115 && // s
+      text.charCodeAt(start + 1) === 101 && // e
+      text.charCodeAt(start + 2) === 110 && // n
+      text.charCodeAt(start + 3) === 115 && // s
+      text.charCodeAt(start + 4) === 111 && // o
+      text.charCodeAt(start + 5) === 114 // r
       ? 0
       : -1;
   }
   if (len === 7) {
-    return s.charCodeAt(start) === 113 && // q
-      s.charCodeAt(start + 1) === 117 && // u
-      s.charCodeAt(start + 2) === 97 && // a
-      s.charCodeAt(start + 3) === 108 && // l
-      s.charCodeAt(start + 4) === 105 && // i
-      s.charCodeAt(start + 5) === 116 && // t
-      s.charCodeAt(start + 6) === 121 // y
+    return text.charCodeAt(start) === 113 && // q
+      text.charCodeAt(start + 1) === 117 && // u
+      text.charCodeAt(start + 2) === 97 && // a
+      text.charCodeAt(start + 3) === 108 && // l
+      text.charCodeAt(start + 4) === 105 && // i
+      text.charCodeAt(start + 5) === 116 && // t
+      text.charCodeAt(start + 6) === 121 // y
       ? 3
       : -1;
   }
   return -1;
 }
 
-/** The fields of a reading object in the common form, or null when JSON.parse must decide. */
-export function scanReadingObject(s: string): ScannedFields | null {
-  const n = s.length;
-  if (s.charCodeAt(0) !== OPEN || s.charCodeAt(n - 1) !== CLOSE) return null;
+/**
+ * The fields of a reading object in the common form, or null when JSON.parse must decide.
+ * `withSensor` false (the Kafka message key names the sensor): the `sensor` field is still checked
+ * as JSON but not copied out, and comes back undefined; whether the scan accepts is unchanged.
+ */
+export function scanReadingObject(text: string, withSensor = true): ScannedFields | null {
+  const length = text.length;
+  if (text.charCodeAt(0) !== OPEN || text.charCodeAt(length - 1) !== CLOSE) return null;
   let sensor: string | number | undefined;
   let ts: string | number | undefined;
   let value: string | number | undefined;
   let quality: string | number | undefined;
   let seen = 0;
-  let i = skipSpaces(s, 1);
-  if (s.charCodeAt(i) === CLOSE) return i === n - 1 ? { sensor, ts, value, quality } : null;
+  let position = skipSpaces(text, 1);
+  if (text.charCodeAt(position) === CLOSE)
+    return position === length - 1 ? { sensor, ts, value, quality } : null;
   for (;;) {
-    if (s.charCodeAt(i) !== QUOTE) return null;
-    const keyEnd = stringEnd(s, i + 1);
+    if (text.charCodeAt(position) !== QUOTE) return null;
+    const keyEnd = stringEnd(text, position + 1);
     if (keyEnd < 0) return null;
-    const key = keyIndex(s, i + 1, keyEnd);
+    const key = keyIndex(text, position + 1, keyEnd);
     if (key < 0 || (seen & (1 << key)) !== 0) return null;
     seen |= 1 << key;
-    i = skipSpaces(s, keyEnd + 1);
-    if (s.charCodeAt(i) !== COLON) return null;
-    i = skipSpaces(s, i + 1);
+    position = skipSpaces(text, keyEnd + 1);
+    if (text.charCodeAt(position) !== COLON) return null;
+    position = skipSpaces(text, position + 1);
     let field: string | number;
-    if (s.charCodeAt(i) === QUOTE) {
-      const end = stringEnd(s, i + 1);
+    if (text.charCodeAt(position) === QUOTE) {
+      const end = stringEnd(text, position + 1);
       if (end < 0) return null;
-      field = s.slice(i + 1, end);
-      i = end + 1;
+      // A string never read (the key supplies the sensor) is not copied.
+      field = key === 0 && !withSensor ? '' : text.slice(position + 1, end);
+      position = end + 1;
     } else {
-      const end = numberEnd(s, i);
+      const end = numberEnd(text, position);
       if (end < 0) return null;
       // Correctly rounded to the nearest double, as JSON.parse does.
-      field = numberValue(s, i, end);
-      i = end;
+      field = numberValue(text, position, end);
+      position = end;
     }
-    if (key === 0) sensor = field;
+    if (key === 0) sensor = withSensor ? field : undefined;
     else if (key === 1) ts = field;
     else if (key === 2) value = field;
     else quality = field;
-    i = skipSpaces(s, i);
-    const c = s.charCodeAt(i);
-    if (c === CLOSE) return i === n - 1 ? { sensor, ts, value, quality } : null;
-    if (c !== COMMA) return null;
-    i = skipSpaces(s, i + 1);
+    position = skipSpaces(text, position);
+    const code = text.charCodeAt(position);
+    if (code === CLOSE) return position === length - 1 ? { sensor, ts, value, quality } : null;
+    if (code !== COMMA) return null;
+    position = skipSpaces(text, position + 1);
   }
 }

@@ -6,7 +6,10 @@ import type { Fences } from './judge.js';
 import { isReason, SEVERITIES, type Reason } from '../schema/vocabulary.js';
 import { newLifecycle, type LifecycleState } from './lifecycle.js';
 import { SensorWindow, type Baseline, type ClosedBucket, type WindowSnapshot } from './window.js';
-import { DailyProfile, type ProfileEntry, type ProfileSnapshot } from './profile.js';
+import { DailyProfile, type ProfileSnapshot } from './profile.js';
+import { ProfileSlots } from './profile-slots.js';
+import type { Moments } from '../stats/moments.js';
+import type { OpenDigestSnapshot } from '../stats/digest.js';
 
 /**
  * An alert about the sensor itself rather than a judged reading (its readings of doubtful
@@ -120,17 +123,23 @@ function readCondition(input: ByteReader): ConditionAlert | null {
   return { id: input.str(), raisedTs: input.f64(), readings: input.uvar() };
 }
 
-function writeWindow(out: ByteWriter, window: SensorWindow): void {
-  out.f64(window.windowMs);
-  out.uvar(window.buckets);
-  out.f64(window.newestTs);
-  out.f64(window.openIndex);
-  out.f64(window.openMoments.n);
-  out.f64(window.openMoments.mean);
-  out.f64(window.openMoments.m2);
-  out.f64(window.openFirstTs);
-  out.f64(window.openLastTs);
-  const open = window.open.snapshot();
+/**
+ * An open bucket (the window's, or the profile's open entry): its moments, first and last reading
+ * time as doubles, then its centroids (mean as a double, count as an integer) and its unmerged
+ * buffer. The window and the profile write the same layout, so one pair of functions keeps it.
+ */
+function writeOpenBucket(
+  out: ByteWriter,
+  moments: Moments,
+  firstTs: number,
+  lastTs: number,
+  open: OpenDigestSnapshot,
+): void {
+  out.f64(moments.n);
+  out.f64(moments.mean);
+  out.f64(moments.m2);
+  out.f64(firstTs);
+  out.f64(lastTs);
   out.uvar(open.means.length);
   for (let i = 0; i < open.means.length; i++) {
     out.f64(open.means[i]);
@@ -138,6 +147,36 @@ function writeWindow(out: ByteWriter, window: SensorWindow): void {
   }
   out.uvar(open.buffer.length);
   for (let i = 0; i < open.buffer.length; i++) out.f64(open.buffer[i]);
+}
+
+/** The open bucket `writeOpenBucket` wrote, in the fields both snapshots name alike. */
+function readOpenBucket(input: ByteReader): {
+  openMoments: Moments;
+  openFirstTs: number;
+  openLastTs: number;
+  open: OpenDigestSnapshot;
+} {
+  const openMoments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
+  const openFirstTs = input.f64();
+  const openLastTs = input.f64();
+  const centroidCount = input.uvar();
+  const means = new Float64Array(centroidCount);
+  const counts = new Float64Array(centroidCount);
+  for (let i = 0; i < centroidCount; i++) {
+    means[i] = input.f64();
+    counts[i] = input.uvar();
+  }
+  const buffer = new Float64Array(input.uvar());
+  for (let i = 0; i < buffer.length; i++) buffer[i] = input.f64();
+  return { openMoments, openFirstTs, openLastTs, open: { means, counts, buffer } };
+}
+
+function writeWindow(out: ByteWriter, window: SensorWindow): void {
+  out.f64(window.windowMs);
+  out.uvar(window.buckets);
+  out.f64(window.newestTs);
+  out.f64(window.openIndex);
+  writeOpenBucket(out, window.openMoments, window.openFirstTs, window.openLastTs, window.open.snapshot());
   out.uvar(window.closed.length);
   for (const bucket of window.closed) {
     out.f64(bucket.index);
@@ -157,30 +196,10 @@ function writeWindow(out: ByteWriter, window: SensorWindow): void {
   }
 }
 
-function writeCentroidList(out: ByteWriter, means: Float64Array, counts: Float64Array): void {
-  // Stored means were rounded by roundForStorage: the first as a double, then single-precision steps.
-  out.uvar(means.length);
-  for (let i = 0; i < means.length; i++) {
-    if (i === 0) out.f64(means[0]);
-    else out.f32(means[i] - means[i - 1]);
-    out.uvar(counts[i]);
-  }
-}
-
-function readCentroidList(input: ByteReader): { means: Float64Array; counts: Float64Array } {
-  const length = input.uvar();
-  const means = new Float64Array(length);
-  const counts = new Float64Array(length);
-  for (let i = 0; i < length; i++) {
-    means[i] = i === 0 ? input.f64() : means[i - 1] + input.f32();
-    counts[i] = input.uvar();
-  }
-  return { means, counts };
-}
-
 /**
  * The profile section: 0 for none, else 1, zone, depth, the open entry (as the window's open
- * bucket) and per slot its entries (day as a step from the previous, timestamps, moments, centroids).
+ * bucket) and per slot its entry count and entries (day, moments, first and last time as doubles;
+ * centroids as the first mean, then single-precision steps, each with its integer count).
  */
 function writeProfile(out: ByteWriter, profile: DailyProfile | null): void {
   out.u8(profile ? 1 : 0);
@@ -189,31 +208,9 @@ function writeProfile(out: ByteWriter, profile: DailyProfile | null): void {
   out.uvar(profile.profileDays);
   out.f64(profile.openDay);
   out.f64(profile.openHour);
-  out.f64(profile.openMoments.n);
-  out.f64(profile.openMoments.mean);
-  out.f64(profile.openMoments.m2);
-  out.f64(profile.openFirstTs);
-  out.f64(profile.openLastTs);
-  const open = profile.open.snapshot();
-  out.uvar(open.means.length);
-  for (let i = 0; i < open.means.length; i++) {
-    out.f64(open.means[i]);
-    out.uvar(open.counts[i]);
-  }
-  out.uvar(open.buffer.length);
-  for (let i = 0; i < open.buffer.length; i++) out.f64(open.buffer[i]);
-  for (const slot of profile.slots) {
-    out.uvar(slot.length);
-    for (const entry of slot) {
-      out.f64(entry.day);
-      out.f64(entry.moments.n);
-      out.f64(entry.moments.mean);
-      out.f64(entry.moments.m2);
-      out.f64(entry.firstTs);
-      out.f64(entry.lastTs);
-      writeCentroidList(out, entry.centroids.means, entry.centroids.counts);
-    }
-  }
+  writeOpenBucket(out, profile.openMoments, profile.openFirstTs, profile.openLastTs, profile.open.snapshot());
+  // Held as these very bytes (profile-slots.ts).
+  profile.closed.write(out);
 }
 
 function readProfile(input: ByteReader): ProfileSnapshot | null {
@@ -222,40 +219,14 @@ function readProfile(input: ByteReader): ProfileSnapshot | null {
   const profileDays = input.uvar();
   const openDay = input.f64();
   const openHour = input.f64();
-  const openMoments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
-  const openFirstTs = input.f64();
-  const openLastTs = input.f64();
-  const centroidCount = input.uvar();
-  const means = new Float64Array(centroidCount);
-  const counts = new Float64Array(centroidCount);
-  for (let i = 0; i < centroidCount; i++) {
-    means[i] = input.f64();
-    counts[i] = input.uvar();
-  }
-  const buffer = new Float64Array(input.uvar());
-  for (let i = 0; i < buffer.length; i++) buffer[i] = input.f64();
-  const slots: ProfileEntry[][] = [];
-  for (let hour = 0; hour < 24; hour++) {
-    const length = input.uvar();
-    const slot: ProfileEntry[] = [];
-    for (let k = 0; k < length; k++) {
-      const day = input.f64();
-      const moments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
-      const firstTs = input.f64();
-      const lastTs = input.f64();
-      slot.push({ day, moments, firstTs, lastTs, centroids: readCentroidList(input) });
-    }
-    slots.push(slot);
-  }
+  const openBucket = readOpenBucket(input);
+  const slots = ProfileSlots.read(input);
   return {
     zone,
     profileDays,
     openDay,
     openHour,
-    openMoments,
-    openFirstTs,
-    openLastTs,
-    open: { means, counts, buffer },
+    ...openBucket,
     slots,
   };
 }
@@ -333,9 +304,12 @@ export function decodeSensorState(
     if (!input.done)
       throw new StreamfenceError('STATE_CORRUPT', `sensor state for "${sensor}" has trailing bytes`);
     return state;
-  } catch (e) {
-    if (e instanceof StreamfenceError) throw e;
-    throw new StreamfenceError('STATE_CORRUPT', `sensor state could not be decoded: ${(e as Error).message}`);
+  } catch (error) {
+    if (error instanceof StreamfenceError) throw error;
+    throw new StreamfenceError(
+      'STATE_CORRUPT',
+      `sensor state could not be decoded: ${(error as Error).message}`,
+    );
   }
 }
 
@@ -344,30 +318,16 @@ function readWindow(input: ByteReader): WindowSnapshot {
   const buckets = input.uvar();
   const newestTs = input.f64();
   const openIndex = input.f64();
-  const openMoments = { n: input.f64(), mean: input.f64(), m2: input.f64() };
-  const openFirstTs = input.f64();
-  const openLastTs = input.f64();
-  const centroidCount = input.uvar();
-  const means = new Float64Array(centroidCount);
-  const counts = new Float64Array(centroidCount);
-  for (let i = 0; i < centroidCount; i++) {
-    means[i] = input.f64();
-    counts[i] = input.uvar();
-  }
-  const buffer = new Float64Array(input.uvar());
-  for (let i = 0; i < buffer.length; i++) buffer[i] = input.f64();
+  const openBucket = readOpenBucket(input);
   const closedCount = input.uvar();
   const closed: ClosedBucket[] = [];
-  for (let k = 0; k < closedCount; k++) closed.push(readClosedBucket(input));
+  for (let bucket = 0; bucket < closedCount; bucket++) closed.push(readClosedBucket(input));
   return {
     windowMs,
     buckets,
     newestTs,
     openIndex,
-    openMoments,
-    openFirstTs,
-    openLastTs,
-    open: { means, counts, buffer },
+    ...openBucket,
     closed,
   };
 }

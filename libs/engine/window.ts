@@ -31,7 +31,7 @@ export interface ClosedBucket {
   centroids: PackedCentroids;
 }
 
-/** Summary of the closed buckets; rebuilt at each roll. */
+/** Summary of the closed buckets; built at the first baseline() call after a roll. */
 export interface Baseline {
   digest: FrozenDigest;
   count: number;
@@ -89,6 +89,8 @@ export class SensorWindow {
   /** Newest event time seen (for lateness). */
   newestTs = -1;
   private cached: Baseline | null = null;
+  /** True when buckets changed since `cached` was built (built at the next baseline() call). */
+  private stale = false;
 
   constructor(
     readonly windowMs: number,
@@ -113,7 +115,7 @@ export class SensorWindow {
     window.openLastTs = saved.openLastTs;
     window.open = OpenDigest.restore(saved.open, openBins(buckets), SKETCH.openCap);
     window.closed = saved.closed;
-    window.rebuildBaseline();
+    window.stale = true;
     return window;
   }
 
@@ -146,8 +148,13 @@ export class SensorWindow {
     this.open.push(value);
   }
 
-  /** The baseline readings are judged against: closed buckets only; null before the first roll. */
+  /**
+   * The baseline readings are judged against: closed buckets only; null before the first roll.
+   * Built when first asked for after a roll: a profiled sensor judged by its profile never asks,
+   * so it never pays for the merge.
+   */
   baseline(): Baseline | null {
+    if (this.stale) this.rebuildBaseline();
     return this.cached;
   }
 
@@ -168,11 +175,13 @@ export class SensorWindow {
     let expired = 0;
     while (expired < this.closed.length && this.closed[expired].index < oldest) expired++;
     if (expired > 0) this.closed.splice(0, expired);
-    this.rebuildBaseline();
+    this.cached = null;
+    this.stale = true;
   }
 
   /** Recompute the cached baseline from the closed buckets (also used after restoring state). */
   rebuildBaseline(): void {
+    this.stale = false;
     if (this.closed.length === 0) {
       this.cached = null;
       return;

@@ -45,6 +45,6 @@ export class StreamfenceError extends Error {
 }
 
 /** True for a StreamfenceError (any code). */
-export function isStreamfenceError(e: unknown): e is StreamfenceError {
-  return e instanceof StreamfenceError;
+export function isStreamfenceError(error: unknown): error is StreamfenceError {
+  return error instanceof StreamfenceError;
 }

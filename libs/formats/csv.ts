@@ -39,44 +39,44 @@ export function splitCsvLine(line: string, limit = Number.MAX_SAFE_INTEGER): str
     }
     return out;
   }
-  let i = 0;
-  const n = line.length;
+  let cursor = 0;
+  const length = line.length;
   while (out.length < limit) {
-    if (i < n && line.charCodeAt(i) === 34) {
+    if (cursor < length && line.charCodeAt(cursor) === 34) {
       // Quoted field: doubled quotes are one quote; text after the closing quote up to the comma is kept.
       let field = '';
-      let j = i + 1;
+      let scan = cursor + 1;
       for (;;) {
-        const quote = line.indexOf('"', j);
+        const quote = line.indexOf('"', scan);
         if (quote < 0) {
-          field += line.slice(j);
-          j = n;
+          field += line.slice(scan);
+          scan = length;
           break;
         }
-        field += line.slice(j, quote);
+        field += line.slice(scan, quote);
         if (line.charCodeAt(quote + 1) === 34) {
           field += '"';
-          j = quote + 2;
+          scan = quote + 2;
         } else {
-          j = quote + 1;
+          scan = quote + 1;
           break;
         }
       }
-      const comma = line.indexOf(',', j);
+      const comma = line.indexOf(',', scan);
       if (comma < 0) {
-        out.push(field + line.slice(j));
+        out.push(field + line.slice(scan));
         break;
       }
-      out.push(field + line.slice(j, comma));
-      i = comma + 1;
+      out.push(field + line.slice(scan, comma));
+      cursor = comma + 1;
     } else {
-      const comma = line.indexOf(',', i);
+      const comma = line.indexOf(',', cursor);
       if (comma < 0) {
-        out.push(line.slice(i));
+        out.push(line.slice(cursor));
         break;
       }
-      out.push(line.slice(i, comma));
-      i = comma + 1;
+      out.push(line.slice(cursor, comma));
+      cursor = comma + 1;
     }
   }
   return out;

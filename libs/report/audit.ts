@@ -12,12 +12,12 @@ import { quantileType7, rankRangeError } from '../stats/quantiles.js';
 
 /** Sample choice: 32-bit FNV-1a of the sensor id (stable across runs and machines). */
 export function sensorHash(id: string): number {
-  let h = 0x811c9dc5;
+  let hash = 0x811c9dc5;
   for (let i = 0; i < id.length; i++) {
-    h ^= id.charCodeAt(i);
-    h = Math.imul(h, 0x01000193) >>> 0;
+    hash ^= id.charCodeAt(i);
+    hash = Math.imul(hash, 0x01000193) >>> 0;
   }
-  return h >>> 0;
+  return hash >>> 0;
 }
 
 /**
@@ -45,7 +45,8 @@ export class AuditSample<T> {
     if (this.members.size >= this.size) {
       if (hash >= this.maxHash) return undefined;
       let worst = '';
-      for (const [k, v] of this.members) if (v.hash === this.maxHash) worst = k;
+      for (const [heldSensor, heldMember] of this.members)
+        if (heldMember.hash === this.maxHash) worst = heldSensor;
       this.members.delete(worst);
     }
     const data = this.make(sensor);
@@ -94,21 +95,22 @@ export class BucketMirror {
   /** Drop buckets older than the window, as the engine does at each roll. */
   prune(openIndex: number, bucketCount: number): void {
     const oldest = openIndex - bucketCount;
-    for (const [i, b] of this.buckets) {
-      if (i < oldest) {
-        this.held -= b.length;
-        this.buckets.delete(i);
+    for (const [bucketIndex, bucket] of this.buckets) {
+      if (bucketIndex < oldest) {
+        this.held -= bucket.length;
+        this.buckets.delete(bucketIndex);
       }
     }
   }
 
   /** Sorted union of the given buckets' readings. */
   sortedUnion(indexes: readonly number[]): Float64Array {
-    let n = 0;
-    for (const i of indexes) n += this.buckets.get(i)?.length ?? 0;
-    const out = new Float64Array(n);
-    let k = 0;
-    for (const i of indexes) for (const value of this.buckets.get(i) ?? []) out[k++] = value;
+    let total = 0;
+    for (const bucketIndex of indexes) total += this.buckets.get(bucketIndex)?.length ?? 0;
+    const out = new Float64Array(total);
+    let filled = 0;
+    for (const bucketIndex of indexes)
+      for (const value of this.buckets.get(bucketIndex) ?? []) out[filled++] = value;
     return out.sort();
   }
 }
@@ -140,10 +142,16 @@ export interface AuditRow {
   q3: QuantileCheck;
 }
 
-/** Compare the digest's `p`-quantile with the exact one of the same sorted readings. */
-export function checkQuantile(sorted: Float64Array, p: number, digest: number): QuantileCheck {
-  const exact = quantileType7(sorted, p);
-  return { p, digest, exact, diff: digest - exact, rankError: rankRangeError(sorted, digest, p, true) };
+/** Compare the digest's `probability`-quantile with the exact one of the same sorted readings. */
+export function checkQuantile(sorted: Float64Array, probability: number, digest: number): QuantileCheck {
+  const exact = quantileType7(sorted, probability);
+  return {
+    p: probability,
+    digest,
+    exact,
+    diff: digest - exact,
+    rankError: rankRangeError(sorted, digest, probability, true),
+  };
 }
 
 /** The audit row of one sensor from its sorted baseline readings and the digest's quartiles. */

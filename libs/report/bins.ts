@@ -75,29 +75,29 @@ export class AdaptiveBins {
 
   /** Add a value at ts (counts toward count/min/max). */
   add(ts: number, value: number): void {
-    const p = this.slotFor(ts);
-    this.addAt(p, value);
+    const position = this.slotFor(ts);
+    this.addAt(position, value);
   }
 
-  private addAt(p: number, value: number): void {
-    if (this.count[p] === 0) {
-      this.min[p] = value;
-      this.max[p] = value;
+  private addAt(position: number, value: number): void {
+    if (this.count[position] === 0) {
+      this.min[position] = value;
+      this.max[position] = value;
     } else {
-      if (value < this.min[p]) this.min[p] = value;
-      if (value > this.max[p]) this.max[p] = value;
+      if (value < this.min[position]) this.min[position] = value;
+      if (value > this.max[position]) this.max[position] = value;
     }
-    this.count[p]++;
+    this.count[position]++;
   }
 
   /** Sample a "last" channel at ts (does not count as a value). NaN samples are ignored. */
   sample(ts: number, channel: number, value: number): void {
     if (Number.isNaN(value)) return;
-    const p = this.slotFor(ts);
+    const position = this.slotFor(ts);
     const channelTimes = this.lastTs[channel];
-    if (Number.isNaN(this.lastVal[channel][p]) || ts >= channelTimes[p]) {
-      this.lastVal[channel][p] = value;
-      channelTimes[p] = ts;
+    if (Number.isNaN(this.lastVal[channel][position]) || ts >= channelTimes[position]) {
+      this.lastVal[channel][position] = value;
+      channelTimes[position] = ts;
     }
   }
 
@@ -106,34 +106,34 @@ export class AdaptiveBins {
    * replay). `samples[c]` goes to channel c; NaN samples are skipped.
    */
   addSampled(ts: number, value: number, samples: ArrayLike<number>): void {
-    const p = this.slotFor(ts);
-    this.addAt(p, value);
+    const position = this.slotFor(ts);
+    this.addAt(position, value);
     for (let channel = 0; channel < this.lastVal.length; channel++) {
       const sampled = samples[channel];
-      if (Number.isNaN(sampled) || ts < this.lastTs[channel][p]) continue;
-      this.lastVal[channel][p] = sampled;
-      this.lastTs[channel][p] = ts;
+      if (Number.isNaN(sampled) || ts < this.lastTs[channel][position]) continue;
+      this.lastVal[channel][position] = sampled;
+      this.lastTs[channel][position] = ts;
     }
   }
 
   /** Add to a "sum" channel at ts. */
   addSum(ts: number, channel: number, amount = 1): void {
-    const p = this.slotFor(ts);
-    this.sums[channel][p] += amount;
+    const position = this.slotFor(ts);
+    this.sums[channel][position] += amount;
   }
 
   /** Index of a named channel, for the hot path. */
   lastChannel(name: string): number {
-    const i = this.lastNames.indexOf(name);
-    if (i < 0) throw new RangeError(`no last channel ${name}`);
-    return i;
+    const channel = this.lastNames.indexOf(name);
+    if (channel < 0) throw new RangeError(`no last channel ${name}`);
+    return channel;
   }
 
   /** Position of a named sum channel; throws RangeError for an unknown name. */
   sumChannel(name: string): number {
-    const i = this.sumNames.indexOf(name);
-    if (i < 0) throw new RangeError(`no sum channel ${name}`);
-    return i;
+    const channel = this.sumNames.indexOf(name);
+    if (channel < 0) throw new RangeError(`no sum channel ${name}`);
+    return channel;
   }
 
   /** Time covered by the slots in use: [from, to). */
@@ -147,25 +147,25 @@ export class AdaptiveBins {
     const out: Bin[] = [];
     if (this.empty) return out;
     for (let slot = this.lo; slot <= this.hi; slot++) {
-      const p = slot - this.base;
+      const position = slot - this.base;
       const last: Record<string, number> = {};
-      let any = this.count[p] > 0;
-      this.lastNames.forEach((n, channel) => {
-        last[n] = this.lastVal[channel][p];
-        if (!Number.isNaN(last[n])) any = true;
+      let any = this.count[position] > 0;
+      this.lastNames.forEach((name, channel) => {
+        last[name] = this.lastVal[channel][position];
+        if (!Number.isNaN(last[name])) any = true;
       });
       const sum: Record<string, number> = {};
-      this.sumNames.forEach((n, channel) => {
-        sum[n] = this.sums[channel][p];
-        if (sum[n] !== 0) any = true;
+      this.sumNames.forEach((name, channel) => {
+        sum[name] = this.sums[channel][position];
+        if (sum[name] !== 0) any = true;
       });
       if (!any) continue;
-      const has = this.count[p] > 0;
+      const has = this.count[position] > 0;
       out.push({
         start: slot * this.widthMs,
-        count: this.count[p],
-        min: has ? this.min[p] : NaN,
-        max: has ? this.max[p] : NaN,
+        count: this.count[position],
+        min: has ? this.min[position] : NaN,
+        max: has ? this.max[position] : NaN,
         last,
         sum,
       });
@@ -188,16 +188,16 @@ export class AdaptiveBins {
       if (slot > this.hi) this.hi = slot;
       return slot - this.base;
     }
-    let lo = Math.min(this.lo, slot);
-    let hi = Math.max(this.hi, slot);
-    while (hi - lo >= this.slots) {
+    let lowSlot = Math.min(this.lo, slot);
+    let highSlot = Math.max(this.hi, slot);
+    while (highSlot - lowSlot >= this.slots) {
       this.coarsen();
       slot = Math.floor(ts / this.widthMs);
-      lo = Math.min(this.lo, slot);
-      hi = Math.max(this.hi, slot);
+      lowSlot = Math.min(this.lo, slot);
+      highSlot = Math.max(this.hi, slot);
     }
     // Growing backwards puts the data at the end so the next earlier readings fit without moving.
-    const newBase = slot < this.lo ? hi - this.slots + 1 : lo;
+    const newBase = slot < this.lo ? highSlot - this.slots + 1 : lowSlot;
     this.rebase(newBase);
     if (slot < this.lo) this.lo = slot;
     if (slot > this.hi) this.hi = slot;
@@ -230,11 +230,11 @@ export class AdaptiveBins {
     for (let slot = oldLo; slot <= oldHi; slot++) {
       const from = slot - oldBase;
       const to = Math.floor(slot / 2) - this.base;
-      const n = this.count[from];
+      const binCount = this.count[from];
       const binMin = this.min[from];
       const binMax = this.max[from];
       this.count[from] = 0;
-      this.mergeInto(to, n, binMin, binMax);
+      this.mergeInto(to, binCount, binMin, binMax);
       for (let channel = 0; channel < nLast; channel++) {
         const vals = this.lastVal[channel];
         const tss = this.lastTs[channel];
@@ -256,16 +256,16 @@ export class AdaptiveBins {
     }
   }
 
-  private mergeInto(p: number, n: number, binMin: number, binMax: number): void {
-    if (n === 0) return;
-    if (this.count[p] === 0) {
-      this.min[p] = binMin;
-      this.max[p] = binMax;
+  private mergeInto(position: number, binCount: number, binMin: number, binMax: number): void {
+    if (binCount === 0) return;
+    if (this.count[position] === 0) {
+      this.min[position] = binMin;
+      this.max[position] = binMax;
     } else {
-      if (binMin < this.min[p]) this.min[p] = binMin;
-      if (binMax > this.max[p]) this.max[p] = binMax;
+      if (binMin < this.min[position]) this.min[position] = binMin;
+      if (binMax > this.max[position]) this.max[position] = binMax;
     }
-    this.count[p] += n;
+    this.count[position] += binCount;
   }
 
   /** Move the data so array position 0 holds absolute slot newBase. */

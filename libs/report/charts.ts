@@ -73,29 +73,31 @@ export function sensorChart(input: SensorChartInput): string {
   for (const bin of bins) values.push(bin.min, bin.max, bin.last.lower, bin.last.upper);
   for (const marker of input.markers) values.push(marker.value);
   const [vLo, vHi] = valueDomain(values);
-  const x = linearScale(from, to, frame.left, frame.width - frame.right);
-  const y = linearScale(vLo, vHi, frame.height - frame.bottom, frame.top);
+  const xScale = linearScale(from, to, frame.left, frame.width - frame.right);
+  const yScale = linearScale(vLo, vHi, frame.height - frame.bottom, frame.top);
   const { ticks, label: tLabel } = timeTicks(from, to);
   const clip = `clip-${safeId(input.key)}`;
-  const mid = (b: Bin): number => x(b.start + input.widthMs / 2);
+  const mid = (b: Bin): number => xScale(b.start + input.widthMs / 2);
   const band = (lo: string, hi: string): string =>
-    bandPath(bins.map((b) => [mid(b), y(b.last[lo]), y(b.last[hi])] as const));
+    bandPath(bins.map((b) => [mid(b), yScale(b.last[lo]), yScale(b.last[hi])] as const));
   // A bin whose readings are all equal still gets a visible 1.5 px band.
   const readings = bandPath(
     bins.map((bin) => {
       if (bin.count === 0) return [mid(bin), NaN, NaN] as const;
-      const lo = y(bin.min);
-      const hi = y(bin.max);
-      return lo - hi < 1.5 ? ([mid(bin), lo + 0.75, hi - 0.75] as const) : ([mid(bin), lo, hi] as const);
+      const lowY = yScale(bin.min);
+      const highY = yScale(bin.max);
+      return lowY - highY < 1.5
+        ? ([mid(bin), lowY + 0.75, highY - 0.75] as const)
+        : ([mid(bin), lowY, highY] as const);
     }),
   );
-  const median = linePath(bins.map((b) => [mid(b), y(b.last.median)] as const));
+  const median = linePath(bins.map((b) => [mid(b), yScale(b.last.median)] as const));
   const marks = input.markers
     .map((marker) => {
       const shape = markerShape(marker);
       const cls = `mark ${marker.state} ${marker.severity}`;
       const title = `${marker.state} ${marker.severity} ${new Date(marker.ts).toISOString()} value ${fmtNum(marker.value)}`;
-      return `<path class="${cls}" d="${markerPath(shape, x(marker.ts), y(marker.value))}"><title>${esc(title)}</title></path>`;
+      return `<path class="${cls}" d="${markerPath(shape, xScale(marker.ts), yScale(marker.value))}"><title>${esc(title)}</title></path>`;
     })
     .join('');
   return [
@@ -103,8 +105,8 @@ export function sensorChart(input: SensorChartInput): string {
     `<defs><clipPath id="${clip}"><rect x="${frame.left}" y="${frame.top}" width="${frame.width - frame.left - frame.right}" height="${frame.height - frame.top - frame.bottom}"/></clipPath></defs>`,
     axes(
       frame,
-      { ticks, scale: x, label: tLabel, title: 'event time (UTC)' },
-      { ticks: niceTicks(vLo, vHi), scale: y, label: fmtNum, title: 'value' },
+      { ticks, scale: xScale, label: tLabel, title: 'event time (UTC)' },
+      { ticks: niceTicks(vLo, vHi), scale: yScale, label: fmtNum, title: 'value' },
     ),
     `<g clip-path="url(#${clip})">`,
     `<path class="fence-outer" d="${band('lowerOuter', 'upperOuter')}"/>`,
@@ -137,34 +139,34 @@ export function rateChart(input: RateChartInput): string {
   const from = input.bars[0].start;
   const to = input.bars[input.bars.length - 1].end;
   const top = Math.max(...input.bars.map((b) => b.maxPerHour), input.budgetPerHour) * 1.15 || 1;
-  const x = linearScale(from, to, frame.left, frame.width - frame.right);
-  const y = linearScale(0, top, frame.height - frame.bottom, frame.top);
+  const xScale = linearScale(from, to, frame.left, frame.width - frame.right);
+  const yScale = linearScale(0, top, frame.height - frame.bottom, frame.top);
   const { ticks, label: tLabel } = timeTicks(from, to);
   const bars = input.bars
     .map((bar) => {
       if (bar.maxPerHour === 0) return '';
       const over = bar.maxPerHour > input.budgetPerHour ? ' over' : '';
-      const py = y(bar.maxPerHour);
-      const barWidth = Math.max(1, x(bar.end) - x(bar.start) - 0.5);
+      const barTop = yScale(bar.maxPerHour);
+      const barWidth = Math.max(1, xScale(bar.end) - xScale(bar.start) - 0.5);
       const hours = (bar.end - bar.start) / HOUR_MS;
       const text =
         hours === 1
           ? `${new Date(bar.start).toISOString()}: ${bar.total} raised in this hour`
           : `${new Date(bar.start).toISOString()} (${fmtNum(hours)} h): ${bar.total} raised, busiest hour ${bar.maxPerHour}`;
-      return `<rect class="bar${over}" x="${coord(x(bar.start))}" y="${coord(py)}" width="${coord(barWidth)}" height="${coord(y(0) - py)}"><title>${esc(text)}</title></rect>`;
+      return `<rect class="bar${over}" x="${coord(xScale(bar.start))}" y="${coord(barTop)}" width="${coord(barWidth)}" height="${coord(yScale(0) - barTop)}"><title>${esc(text)}</title></rect>`;
     })
     .join('');
   const line = (level: number, cls: string, text: string): string => {
     if (level > top) return '';
-    const py = coord(y(level));
-    return `<line class="${cls}" x1="${frame.left}" x2="${frame.width - frame.right}" y1="${py}" y2="${py}"/><text class="line-label" x="${frame.width - frame.right - 4}" y="${coord(y(level) - 4)}" text-anchor="end">${esc(text)}</text>`;
+    const lineY = coord(yScale(level));
+    return `<line class="${cls}" x1="${frame.left}" x2="${frame.width - frame.right}" y1="${lineY}" y2="${lineY}"/><text class="line-label" x="${frame.width - frame.right - 4}" y="${coord(yScale(level) - 4)}" text-anchor="end">${esc(text)}</text>`;
   };
   return [
     svgOpen(frame, 'chart rate-chart', label),
     axes(
       frame,
-      { ticks, scale: x, label: tLabel, title: 'event time (UTC)' },
-      { ticks: niceTicks(0, top), scale: y, label: fmtNum, title: 'raised per clock hour' },
+      { ticks, scale: xScale, label: tLabel, title: 'event time (UTC)' },
+      { ticks: niceTicks(0, top), scale: yScale, label: fmtNum, title: 'raised per clock hour' },
     ),
     bars,
     line(input.budgetPerHour, 'budget', `budget ${fmtNum(input.budgetPerHour)}/h`),
@@ -193,37 +195,41 @@ export function tuneScatter(points: readonly ScatterPoint[], budgetPerHour: numb
   if (rated.length === 0)
     return `${svgOpen(chartFrame, 'chart tune-chart', label)}<text x="20" y="40">no grid points with a recall</text></svg>`;
   const positive = rated.map((p) => p.alertsPerHour).filter((v) => v > 0);
-  const lo = Math.min(...positive, budgetPerHour) / 2 || 0.01;
-  const hi = Math.max(...positive, budgetPerHour) * 2 || 10;
-  const x = logScale(lo, hi, chartFrame.left, chartFrame.width - chartFrame.right);
-  const y = linearScale(0, 1, chartFrame.height - chartFrame.bottom, chartFrame.top);
+  const lowRate = Math.min(...positive, budgetPerHour) / 2 || 0.01;
+  const highRate = Math.max(...positive, budgetPerHour) * 2 || 10;
+  const xScale = logScale(lowRate, highRate, chartFrame.left, chartFrame.width - chartFrame.right);
+  const yScale = linearScale(0, 1, chartFrame.height - chartFrame.bottom, chartFrame.top);
   const decades: number[] = [];
-  for (let exponent = Math.floor(Math.log10(lo)); exponent <= Math.ceil(Math.log10(hi)); exponent++)
+  for (
+    let exponent = Math.floor(Math.log10(lowRate));
+    exponent <= Math.ceil(Math.log10(highRate));
+    exponent++
+  )
     decades.push(10 ** exponent);
   const dots = rated
-    .map((p) => {
-      const prec = p.precision ?? 0;
+    .map((point) => {
+      const prec = point.precision ?? 0;
       const radius = 3 + 7 * prec;
-      const cls = p.recommended ? 'pt recommended' : 'pt';
-      const px = x(Math.max(p.alertsPerHour, lo));
-      const py = y(p.recall as number);
-      const title = `${p.label}: ${fmtNum(p.alertsPerHour)} alerts/h, recall ${fmtNum(p.recall as number)}, precision ${p.precision === null ? 'n/a' : fmtNum(prec)}`;
-      const ring = p.recommended
-        ? `<circle class="ring" cx="${coord(px)}" cy="${coord(py)}" r="${coord(radius + 5)}"/><text class="line-label" x="${coord(px + radius + 8)}" y="${coord(py - radius - 4)}">recommended</text>`
+      const cls = point.recommended ? 'pt recommended' : 'pt';
+      const pointX = xScale(Math.max(point.alertsPerHour, lowRate));
+      const pointY = yScale(point.recall as number);
+      const title = `${point.label}: ${fmtNum(point.alertsPerHour)} alerts/h, recall ${fmtNum(point.recall as number)}, precision ${point.precision === null ? 'n/a' : fmtNum(prec)}`;
+      const ring = point.recommended
+        ? `<circle class="ring" cx="${coord(pointX)}" cy="${coord(pointY)}" r="${coord(radius + 5)}"/><text class="line-label" x="${coord(pointX + radius + 8)}" y="${coord(pointY - radius - 4)}">recommended</text>`
         : '';
-      return `<circle class="${cls}" cx="${coord(px)}" cy="${coord(py)}" r="${coord(radius)}" fill-opacity="${coord(0.25 + 0.65 * prec)}"><title>${esc(title)}</title></circle>${ring}`;
+      return `<circle class="${cls}" cx="${coord(pointX)}" cy="${coord(pointY)}" r="${coord(radius)}" fill-opacity="${coord(0.25 + 0.65 * prec)}"><title>${esc(title)}</title></circle>${ring}`;
     })
     .join('');
-  const budgetX = coord(x(budgetPerHour));
+  const budgetX = coord(xScale(budgetPerHour));
   return [
     svgOpen(chartFrame, 'chart tune-chart', label),
     axes(
       chartFrame,
-      { ticks: decades, scale: x, label: fmtNum, title: 'alerts per hour (log)' },
-      { ticks: [0, 0.25, 0.5, 0.75, 1], scale: y, label: fmtNum, title: 'recall' },
+      { ticks: decades, scale: xScale, label: fmtNum, title: 'alerts per hour (log)' },
+      { ticks: [0, 0.25, 0.5, 0.75, 1], scale: yScale, label: fmtNum, title: 'recall' },
     ),
     `<line class="budget" x1="${budgetX}" x2="${budgetX}" y1="${chartFrame.top}" y2="${chartFrame.height - chartFrame.bottom}"/>`,
-    `<text class="line-label" x="${coord(x(budgetPerHour) + 4)}" y="${chartFrame.top + 12}">budget ${fmtNum(budgetPerHour)}/h</text>`,
+    `<text class="line-label" x="${coord(xScale(budgetPerHour) + 4)}" y="${chartFrame.top + 12}">budget ${fmtNum(budgetPerHour)}/h</text>`,
     dots,
     '</svg>',
   ].join('');

@@ -16,7 +16,7 @@ export function esc(text: unknown): string {
 }
 
 /** A finite number formatted for SVG coordinates (2 decimals is sub-pixel; NaN never reaches the page). */
-export function coord(n: number): string {
-  if (!Number.isFinite(n)) return '0';
-  return (Math.round(n * 100) / 100).toString();
+export function coord(value: number): string {
+  if (!Number.isFinite(value)) return '0';
+  return (Math.round(value * 100) / 100).toString();
 }

@@ -29,8 +29,8 @@ const count = (n: number, one: string, many: string): string => `${n} ${n === 1 
 
 /** The health table's rows for a set of figures, in a fixed order (what the section shows). */
 export function healthRows(kpis: AlertKpis): HealthRow[] {
-  const s = kpis.settings;
-  const floodMinutes = fmtNum(s.floodWindowMs / 60_000);
+  const settings = kpis.settings;
+  const floodMinutes = fmtNum(settings.floodWindowMs / 60_000);
   const row = (label: string, figure: string, value: number | null, shown: string): HealthRow => ({
     label,
     figure,
@@ -70,31 +70,31 @@ export function healthRows(kpis: AlertKpis): HealthRow[] {
       `${kpis.worst10min}`,
     ),
     row(
-      `${floodMinutes}-minute periods in flood (more than ${s.floodLimit} raised)`,
+      `${floodMinutes}-minute periods in flood (more than ${settings.floodLimit} raised)`,
       'flood.share',
       kpis.flood.share,
       `${kpis.flood.floodPeriods} of ${kpis.flood.periods} (${percent(kpis.flood.share)})`,
     ),
     row(
-      `Chattering sensors (${s.chatterRaises} or more raises within ${fmtNum(s.chatterWindowMs / 1000)} s)`,
+      `Chattering sensors (${settings.chatterRaises} or more raises within ${fmtNum(settings.chatterWindowMs / 1000)} s)`,
       'chattering.sensors',
       kpis.chattering.sensors,
       `${count(kpis.chattering.sensors, 'sensor', 'sensors')} (${count(kpis.chattering.raises, 'raise', 'raises')})`,
     ),
     row(
-      `Fleeting alerts (cleared within ${fmtNum(s.fleetingMs / 1000)} s of the raise)`,
+      `Fleeting alerts (cleared within ${fmtNum(settings.fleetingMs / 1000)} s of the raise)`,
       'fleeting',
       kpis.fleeting,
       `${kpis.fleeting}`,
     ),
     row(
-      `Stale alerts (active longer than ${fmtNum(s.staleMs / 3_600_000)} h)`,
+      `Stale alerts (active longer than ${fmtNum(settings.staleMs / 3_600_000)} h)`,
       'stale.count',
       kpis.stale.count,
       `${kpis.stale.count}`,
     ),
     row(
-      `Share of all raises from the ${s.topN} most frequent sensors`,
+      `Share of all raises from the ${settings.topN} most frequent sensors`,
       'top.share',
       kpis.top.share,
       percent(kpis.top.share),
@@ -137,13 +137,13 @@ export function healthSection(kpis: AlertKpis): string {
   const rows = healthRows(kpis);
   const judged = rows.filter((r) => r.verdict !== 'not-judged');
   const missed = judged.filter((r) => r.verdict === 'not-met');
-  const lines = rows.map((r): Cell[] => {
-    const target = targetFor(r.figure);
+  const lines = rows.map((row): Cell[] => {
+    const target = targetFor(row.figure);
     return [
-      r.label,
-      r.shown,
+      row.label,
+      row.shown,
       target === undefined ? 'no target set' : target.text,
-      { html: verdictMarker(r.verdict) },
+      { html: verdictMarker(row.verdict) },
       target === undefined ? null : (KPI_SOURCE_NAMES[target.source] ?? target.source),
     ];
   });

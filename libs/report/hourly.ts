@@ -55,15 +55,15 @@ export function hourBars(counts: HourlyCounts, from: number, to: number, maxBars
   const hours = lastHour - firstHour + 1;
   const perBar = Math.ceil(hours / maxBars);
   const bars: HourBar[] = [];
-  for (let h = firstHour; h <= lastHour; h += perBar) {
-    const endHour = Math.min(h + perBar, lastHour + 1);
-    bars.push({ start: h * HOUR_MS, end: endHour * HOUR_MS, total: 0, maxPerHour: 0 });
+  for (let hour = firstHour; hour <= lastHour; hour += perBar) {
+    const endHour = Math.min(hour + perBar, lastHour + 1);
+    bars.push({ start: hour * HOUR_MS, end: endHour * HOUR_MS, total: 0, maxPerHour: 0 });
   }
-  for (const [hour, n] of counts.entries()) {
+  for (const [hour, count] of counts.entries()) {
     if (hour < firstHour || hour > lastHour) continue;
     const bar = bars[Math.floor((hour - firstHour) / perBar)];
-    bar.total += n;
-    if (n > bar.maxPerHour) bar.maxPerHour = n;
+    bar.total += count;
+    if (count > bar.maxPerHour) bar.maxPerHour = count;
   }
   return bars;
 }

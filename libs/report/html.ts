@@ -81,11 +81,11 @@ export type Cell = string | number | null | { html: string } | { num: number | n
 export function table(
   head: readonly string[],
   rows: readonly (readonly Cell[])[],
-  opts: { pick?: (i: number) => boolean; numeric?: readonly number[] } = {},
+  opts: { pick?: (column: number) => boolean; numeric?: readonly number[] } = {},
 ): string {
   const numeric = new Set(opts.numeric ?? []);
-  const cell = (content: Cell, i: number, tag: 'td' | 'th'): string => {
-    const cls = numeric.has(i) ? ' class="n"' : '';
+  const cell = (content: Cell, column: number, tag: 'td' | 'th'): string => {
+    const cls = numeric.has(column) ? ' class="n"' : '';
     return `<${tag}${cls}>${renderCell(content)}</${tag}>`;
   };
   const headRow = `<tr>${head.map((h, i) => cell(h, i, 'th')).join('')}</tr>`;
@@ -108,7 +108,7 @@ function renderCell(content: Cell): string {
 }
 
 /** Integers with thin grouping; other numbers as given. */
-export function fmtCount(n: number): string {
-  if (!Number.isInteger(n)) return String(n);
-  return n.toLocaleString('en-US');
+export function fmtCount(count: number): string {
+  if (!Number.isInteger(count)) return String(count);
+  return count.toLocaleString('en-US');
 }

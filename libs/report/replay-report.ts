@@ -200,10 +200,10 @@ function limitsNote(collected: ReportCollector): string {
   return `<p class="note">Bounded collection: ${options.binsPerSensor} time bins per sensor (bin width doubles as the span grows; each bin keeps the minimum and maximum reading, so single spikes stay visible, and the last baseline median and fences of the bin), at most ${options.maxChartSensors} charted sensors${untracked}, at most ${options.maxMarkersPerSensor} alert markers per sensor.</p>`;
 }
 
-function renderAudit(a: AuditResult): string {
+function renderAudit(audit: AuditResult): string {
   // Seven significant digits: enough to see the digest-vs-exact difference on ordinary plant values.
   const num = (v: number): Cell => (Number.isFinite(v) ? Number(v.toPrecision(7)).toString() : null);
-  const rows = a.rows.map((r): Cell[] => [
+  const rows = audit.rows.map((r): Cell[] => [
     r.sensor,
     r.count,
     ...(['q1', 'median', 'q3'] as const).flatMap((k) => [
@@ -212,21 +212,21 @@ function renderAudit(a: AuditResult): string {
       `${(r[k].rankError * 100).toFixed(3)} pp`,
     ]),
   ]);
-  const worst = a.rows.reduce(
+  const worst = audit.rows.reduce(
     (m, r) => Math.max(m, Math.abs(r.q1.rankError), Math.abs(r.median.rankError), Math.abs(r.q3.rankError)),
     0,
   );
   const skipped =
-    a.skipped.length === 0
+    audit.skipped.length === 0
       ? ''
       : table(
           ['sensor not compared', 'why'],
-          a.skipped.map((s) => [s.sensor, s.reason]),
+          audit.skipped.map((s) => [s.sensor, s.reason]),
         );
   return [
     '<h2>Sketch audit</h2>',
-    `<p>Baseline quartiles from the digest against exact quartiles of exactly the readings in the closed window buckets (${esc(a.convention)}). Largest rank error: ${esc((worst * 100).toFixed(3))} percentile points over ${a.rows.length} sensors.</p>`,
-    a.rows.length === 0
+    `<p>Baseline quartiles from the digest against exact quartiles of exactly the readings in the closed window buckets (${esc(audit.convention)}). Largest rank error: ${esc((worst * 100).toFixed(3))} percentile points over ${audit.rows.length} sensors.</p>`,
+    audit.rows.length === 0
       ? '<p>No sensor could be compared.</p>'
       : table(
           [

@@ -19,19 +19,30 @@ export interface Frame {
 export const DEFAULT_FRAME: Frame = { width: 960, height: 280, left: 64, right: 16, top: 14, bottom: 34 };
 
 /** Maps a data value to an SVG coordinate. */
-export type Scale = (v: number) => number;
+export type Scale = (value: number) => number;
 
-/** The linear map from [d0, d1] to [r0, r1] (a zero-width domain maps as if it were 1 wide). */
-export function linearScale(d0: number, d1: number, r0: number, r1: number): Scale {
-  const span = d1 - d0 || 1;
-  return (v) => r0 + ((v - d0) / span) * (r1 - r0);
+/** The linear map from [domainStart, domainEnd] to [rangeStart, rangeEnd] (a zero-width domain maps as if it were 1 wide). */
+export function linearScale(
+  domainStart: number,
+  domainEnd: number,
+  rangeStart: number,
+  rangeEnd: number,
+): Scale {
+  const span = domainEnd - domainStart || 1;
+  return (v) => rangeStart + ((v - domainStart) / span) * (rangeEnd - rangeStart);
 }
 
 /** Log10 scale; values <= 0 are drawn at the lower end. */
-export function logScale(d0: number, d1: number, r0: number, r1: number): Scale {
-  const l0 = Math.log10(d0);
-  const span = Math.log10(d1) - l0 || 1;
-  return (v) => (v <= 0 ? r0 : r0 + ((Math.log10(v) - l0) / span) * (r1 - r0));
+export function logScale(
+  domainStart: number,
+  domainEnd: number,
+  rangeStart: number,
+  rangeEnd: number,
+): Scale {
+  const logStart = Math.log10(domainStart);
+  const span = Math.log10(domainEnd) - logStart || 1;
+  return (v) =>
+    v <= 0 ? rangeStart : rangeStart + ((Math.log10(v) - logStart) / span) * (rangeEnd - rangeStart);
 }
 
 /** About `count` round tick values covering [min, max] (steps of 1, 2 or 5 times a power of ten). */
@@ -42,24 +53,24 @@ export function niceTicks(min: number, max: number, count = 5): number[] {
   const mag = 10 ** Math.floor(Math.log10(raw));
   const step = [1, 2, 5, 10].map((m) => m * mag).find((s) => s >= raw) ?? 10 * mag;
   const out: number[] = [];
-  for (let v = Math.ceil(min / step) * step; v <= max + step * 1e-9; v += step)
-    out.push(Math.abs(v) < step * 1e-9 ? 0 : v);
+  for (let tick = Math.ceil(min / step) * step; tick <= max + step * 1e-9; tick += step)
+    out.push(Math.abs(tick) < step * 1e-9 ? 0 : tick);
   return out;
 }
 
 /** Padded value domain [lo, hi] for a set of values (ignores non-finite ones). */
 export function valueDomain(values: Iterable<number>, pad = 0.06): [number, number] {
-  let lo = Infinity;
-  let hi = -Infinity;
-  for (const v of values) {
-    if (!Number.isFinite(v)) continue;
-    if (v < lo) lo = v;
-    if (v > hi) hi = v;
+  let low = Infinity;
+  let high = -Infinity;
+  for (const value of values) {
+    if (!Number.isFinite(value)) continue;
+    if (value < low) low = value;
+    if (value > high) high = value;
   }
-  if (lo > hi) return [0, 1];
-  if (lo === hi) return [lo - 1, hi + 1];
-  const p = (hi - lo) * pad;
-  return [lo - p, hi + p];
+  if (low > high) return [0, 1];
+  if (low === high) return [low - 1, high + 1];
+  const padding = (high - low) * pad;
+  return [low - padding, high + padding];
 }
 
 const TIME_STEPS = [
@@ -90,7 +101,7 @@ export function timeTicks(
   const raw = (to - from) / Math.max(1, count);
   const step = TIME_STEPS.find((s) => s >= raw) ?? TIME_STEPS[TIME_STEPS.length - 1];
   const ticks: number[] = [];
-  for (let t = Math.ceil(from / step) * step; t <= to; t += step) ticks.push(t);
+  for (let tick = Math.ceil(from / step) * step; tick <= to; tick += step) ticks.push(tick);
   const label = (ts: number): string => {
     const iso = new Date(ts).toISOString();
     if (step >= 86_400_000) return iso.slice(0, 10);
@@ -111,40 +122,46 @@ export function fmtNum(value: number): string {
 /** Axes, grid lines and labels for a plot area; the caller draws the data inside. */
 export function axes(
   frame: Frame,
-  x: { ticks: number[]; scale: Scale; label: (v: number) => string; title?: string },
-  y: { ticks: number[]; scale: Scale; label: (v: number) => string; title?: string },
+  xAxis: { ticks: number[]; scale: Scale; label: (value: number) => string; title?: string },
+  yAxis: { ticks: number[]; scale: Scale; label: (value: number) => string; title?: string },
 ): string {
   const parts: string[] = [];
-  const x0 = frame.left;
-  const x1 = frame.width - frame.right;
-  const y0 = frame.height - frame.bottom;
-  const y1 = frame.top;
-  for (const t of y.ticks) {
-    const py = y.scale(t);
-    if (py < y1 - 0.5 || py > y0 + 0.5) continue;
-    parts.push(`<line class="grid" x1="${x0}" x2="${x1}" y1="${coord(py)}" y2="${coord(py)}"/>`);
+  const plotLeft = frame.left;
+  const plotRight = frame.width - frame.right;
+  const plotBottom = frame.height - frame.bottom;
+  const plotTop = frame.top;
+  for (const tick of yAxis.ticks) {
+    const tickY = yAxis.scale(tick);
+    if (tickY < plotTop - 0.5 || tickY > plotBottom + 0.5) continue;
     parts.push(
-      `<text class="tick" x="${x0 - 6}" y="${coord(py + 4)}" text-anchor="end">${esc(y.label(t))}</text>`,
+      `<line class="grid" x1="${plotLeft}" x2="${plotRight}" y1="${coord(tickY)}" y2="${coord(tickY)}"/>`,
+    );
+    parts.push(
+      `<text class="tick" x="${plotLeft - 6}" y="${coord(tickY + 4)}" text-anchor="end">${esc(yAxis.label(tick))}</text>`,
     );
   }
-  for (const t of x.ticks) {
-    const px = x.scale(t);
-    if (px < x0 - 0.5 || px > x1 + 0.5) continue;
-    parts.push(`<line class="grid" x1="${coord(px)}" x2="${coord(px)}" y1="${y1}" y2="${y0}"/>`);
+  for (const tick of xAxis.ticks) {
+    const tickX = xAxis.scale(tick);
+    if (tickX < plotLeft - 0.5 || tickX > plotRight + 0.5) continue;
+    parts.push(
+      `<line class="grid" x1="${coord(tickX)}" x2="${coord(tickX)}" y1="${plotTop}" y2="${plotBottom}"/>`,
+    );
     // A label centred on the right edge would be cut off by the frame.
-    if (px > frame.width - 36) continue;
+    if (tickX > frame.width - 36) continue;
     parts.push(
-      `<text class="tick" x="${coord(px)}" y="${y0 + 16}" text-anchor="middle">${esc(x.label(t))}</text>`,
+      `<text class="tick" x="${coord(tickX)}" y="${plotBottom + 16}" text-anchor="middle">${esc(xAxis.label(tick))}</text>`,
     );
   }
-  parts.push(`<rect class="frame" x="${x0}" y="${y1}" width="${x1 - x0}" height="${y0 - y1}"/>`);
-  if (x.title)
+  parts.push(
+    `<rect class="frame" x="${plotLeft}" y="${plotTop}" width="${plotRight - plotLeft}" height="${plotBottom - plotTop}"/>`,
+  );
+  if (xAxis.title)
     parts.push(
-      `<text class="axis-title" x="${x1}" y="${frame.height - 2}" text-anchor="end">${esc(x.title)}</text>`,
+      `<text class="axis-title" x="${plotRight}" y="${frame.height - 2}" text-anchor="end">${esc(xAxis.title)}</text>`,
     );
-  if (y.title) {
+  if (yAxis.title) {
     parts.push(
-      `<text class="axis-title" transform="translate(12 ${y1 + (y0 - y1) / 2}) rotate(-90)" text-anchor="middle">${esc(y.title)}</text>`,
+      `<text class="axis-title" transform="translate(12 ${plotTop + (plotBottom - plotTop) / 2}) rotate(-90)" text-anchor="middle">${esc(yAxis.title)}</text>`,
     );
   }
   return parts.join('');
@@ -154,12 +171,12 @@ export function axes(
 export function linePath(points: readonly (readonly [number, number])[]): string {
   let path = '';
   let pen = false;
-  for (const [px, py] of points) {
-    if (!Number.isFinite(px) || !Number.isFinite(py)) {
+  for (const [pointX, pointY] of points) {
+    if (!Number.isFinite(pointX) || !Number.isFinite(pointY)) {
       pen = false;
       continue;
     }
-    path += `${pen ? 'L' : 'M'}${coord(px)} ${coord(py)}`;
+    path += `${pen ? 'L' : 'M'}${coord(pointX)} ${coord(pointY)}`;
     pen = true;
   }
   return path;
@@ -179,8 +196,8 @@ export function bandPath(points: readonly (readonly [number, number, number])[])
     path += `M${up.join('L')}L${down.join('L')}Z`;
     run = [];
   };
-  for (const p of points) {
-    if (p.every(Number.isFinite)) run.push(p);
+  for (const point of points) {
+    if (point.every(Number.isFinite)) run.push(point);
     else flush();
   }
   flush();
@@ -190,19 +207,19 @@ export function bandPath(points: readonly (readonly [number, number, number])[])
 /** Marker shapes: severity is told by shape as well as colour. */
 export function markerPath(
   shape: 'triangle' | 'diamond' | 'circle' | 'dot',
-  px: number,
-  py: number,
+  centreX: number,
+  centreY: number,
   radius = 5,
 ): string {
-  const x = coord(px);
+  const xText = coord(centreX);
   switch (shape) {
     case 'triangle':
-      return `M${x} ${coord(py - radius)}L${coord(px + radius)} ${coord(py + radius * 0.8)}L${coord(px - radius)} ${coord(py + radius * 0.8)}Z`;
+      return `M${xText} ${coord(centreY - radius)}L${coord(centreX + radius)} ${coord(centreY + radius * 0.8)}L${coord(centreX - radius)} ${coord(centreY + radius * 0.8)}Z`;
     case 'diamond':
-      return `M${x} ${coord(py - radius * 1.2)}L${coord(px + radius)} ${coord(py)}L${x} ${coord(py + radius * 1.2)}L${coord(px - radius)} ${coord(py)}Z`;
+      return `M${xText} ${coord(centreY - radius * 1.2)}L${coord(centreX + radius)} ${coord(centreY)}L${xText} ${coord(centreY + radius * 1.2)}L${coord(centreX - radius)} ${coord(centreY)}Z`;
     case 'circle':
-      return `M${coord(px - radius)} ${coord(py)}a${radius} ${radius} 0 1 0 ${2 * radius} 0a${radius} ${radius} 0 1 0 ${-2 * radius} 0Z`;
+      return `M${coord(centreX - radius)} ${coord(centreY)}a${radius} ${radius} 0 1 0 ${2 * radius} 0a${radius} ${radius} 0 1 0 ${-2 * radius} 0Z`;
     case 'dot':
-      return `M${coord(px - 2)} ${coord(py)}a2 2 0 1 0 4 0a2 2 0 1 0 -4 0Z`;
+      return `M${coord(centreX - 2)} ${coord(centreY)}a2 2 0 1 0 4 0a2 2 0 1 0 -4 0Z`;
   }
 }

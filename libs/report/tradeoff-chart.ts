@@ -21,29 +21,29 @@ export interface TradeoffPoint {
 }
 
 /** The marker of one point: square for a flood, dot otherwise; hollow when over the budget. */
-function marker(point: TradeoffPoint, px: number, py: number): string {
+function marker(point: TradeoffPoint, pointX: number, pointY: number): string {
   const cls = `pt${point.withinBudget ? '' : ' over'}${point.recommended ? ' recommended' : ''}`;
   const title = `<title>${esc(
     `${point.label}: ${fmtNum(point.alertsPerCaught as number)} raised per caught incident, recall ${fmtNum(point.recall as number)}` +
       `${point.flood ? ', flood' : ''}${point.withinBudget ? '' : ', over the budget'}`,
   )}</title>`;
   if (point.flood)
-    return `<rect class="${cls}" x="${coord(px - 5)}" y="${coord(py - 5)}" width="10" height="10">${title}</rect>`;
-  return `<circle class="${cls}" cx="${coord(px)}" cy="${coord(py)}" r="5">${title}</circle>`;
+    return `<rect class="${cls}" x="${coord(pointX - 5)}" y="${coord(pointY - 5)}" width="10" height="10">${title}</rect>`;
+  return `<circle class="${cls}" cx="${coord(pointX)}" cy="${coord(pointY)}" r="5">${title}</circle>`;
 }
 
 /** The ring and label of the recommended point, the box and label of the recall-first pick. */
-function picks(point: TradeoffPoint, px: number, py: number): string {
+function picks(point: TradeoffPoint, pointX: number, pointY: number): string {
   const parts: string[] = [];
   if (point.recommended)
     parts.push(
-      `<circle class="ring" cx="${coord(px)}" cy="${coord(py)}" r="10"/>`,
-      `<text class="line-label" x="${coord(px + 13)}" y="${coord(py - 10)}">recommended</text>`,
+      `<circle class="ring" cx="${coord(pointX)}" cy="${coord(pointY)}" r="10"/>`,
+      `<text class="line-label" x="${coord(pointX + 13)}" y="${coord(pointY - 10)}">recommended</text>`,
     );
   if (point.recallFirst)
     parts.push(
-      `<rect class="pick-box" x="${coord(px - 9)}" y="${coord(py - 9)}" width="18" height="18"/>`,
-      `<text class="line-label" x="${coord(px + 13)}" y="${coord(py + 18)}">recall-first pick</text>`,
+      `<rect class="pick-box" x="${coord(pointX - 9)}" y="${coord(pointY - 9)}" width="18" height="18"/>`,
+      `<text class="line-label" x="${coord(pointX + 13)}" y="${coord(pointY + 18)}">recall-first pick</text>`,
     );
   return parts.join('');
 }
@@ -58,31 +58,31 @@ export function tradeoffChart(points: readonly TradeoffPoint[], frame?: Frame): 
   );
   if (drawn.length === 0) return `${open}<text x="20" y="40">no grid point caught an incident</text></svg>`;
   const most = Math.max(...drawn.map((p) => p.alertsPerCaught as number));
-  const hi = Math.max(2, most * 1.08);
-  const x = linearScale(1, hi, chartFrame.left, chartFrame.width - chartFrame.right);
+  const highCost = Math.max(2, most * 1.08);
+  const xScale = linearScale(1, highCost, chartFrame.left, chartFrame.width - chartFrame.right);
   const lowest = Math.min(...drawn.map((p) => p.recall as number));
-  const lo = Math.max(0, Math.floor(lowest * 10) / 10 - 0.05);
-  const y = linearScale(lo, 1, chartFrame.height - chartFrame.bottom, chartFrame.top);
+  const lowRecall = Math.max(0, Math.floor(lowest * 10) / 10 - 0.05);
+  const yScale = linearScale(lowRecall, 1, chartFrame.height - chartFrame.bottom, chartFrame.top);
   // Picks last, so their rings sit on top of the other dots.
   const order = [...drawn].sort(
     (a, b) => Number(a.recommended || a.recallFirst) - Number(b.recommended || b.recallFirst),
   );
-  const body = order.map((p) => {
-    const px = x(Math.max(1, p.alertsPerCaught as number));
-    const py = y(p.recall as number);
-    return marker(p, px, py) + picks(p, px, py);
+  const body = order.map((point) => {
+    const pointX = xScale(Math.max(1, point.alertsPerCaught as number));
+    const pointY = yScale(point.recall as number);
+    return marker(point, pointX, pointY) + picks(point, pointX, pointY);
   });
   return [
     open,
     axes(
       chartFrame,
       {
-        ticks: niceTicks(1, hi, 6),
-        scale: x,
+        ticks: niceTicks(1, highCost, 6),
+        scale: xScale,
         label: fmtNum,
         title: 'raised alerts per caught incident (1 = one each)',
       },
-      { ticks: niceTicks(lo, 1, 5), scale: y, label: fmtNum, title: 'recall' },
+      { ticks: niceTicks(lowRecall, 1, 5), scale: yScale, label: fmtNum, title: 'recall' },
     ),
     body.join(''),
     '</svg>',

@@ -49,49 +49,52 @@ export function tuneComparisonChart(
       counts: runs.map((r) => r.countsByKind[k] ?? { incidents: 0, caught: 0 }),
     })),
   ];
-  const x0 = PLOT.left;
-  const x1 = WIDTH - PLOT.right;
+  const plotLeft = PLOT.left;
+  const plotRight = WIDTH - PLOT.right;
   const yBase = HEIGHT - PLOT.bottom;
-  const y = linearScale(0, 1, yBase, PLOT.top);
-  const groupWidth = (x1 - x0) / groups.length;
+  const yScale = linearScale(0, 1, yBase, PLOT.top);
+  const groupWidth = (plotRight - plotLeft) / groups.length;
   const barWidth = Math.min(34, groupWidth * 0.36);
   const parts: string[] = [
     `<svg xmlns="http://www.w3.org/2000/svg" width="${WIDTH}" height="${HEIGHT}" viewBox="0 0 ${WIDTH} ${HEIGHT}" role="img" aria-label="${esc(`${opts.title}: recall by fault kind, ${runs[0].label} against ${runs[1].label}`)}" font-family="sans-serif" font-size="12">`,
     `<defs><pattern id="run-1-hatch" width="6" height="6" patternUnits="userSpaceOnUse" patternTransform="rotate(45)"><rect width="6" height="6" fill="#d9e6f0"/><line x1="0" y1="0" x2="0" y2="6" stroke="#5b7f9c" stroke-width="2"/></pattern></defs>`,
     `<rect width="${WIDTH}" height="${HEIGHT}" fill="#ffffff"/>`,
-    `<text x="${x0}" y="22" font-size="15" font-weight="bold">${esc(opts.title)}</text>`,
+    `<text x="${plotLeft}" y="22" font-size="15" font-weight="bold">${esc(opts.title)}</text>`,
   ];
-  runs.forEach((run, i) => {
-    const ly = 44 + i * 20;
+  runs.forEach((run, runIndex) => {
+    const legendY = 44 + runIndex * 20;
     parts.push(
-      `<rect x="${x0}" y="${ly - 11}" width="22" height="13" fill="${FILLS[i]}" stroke="#1d4f73"/>`,
-      `<text x="${x0 + 30}" y="${ly}">${esc(`${run.label}: recall ${pct(run.recall)} (${run.caught} of ${run.incidents}), precision ${pct(run.precision)}, ${run.alertsPerHour.toFixed(2)} raised alerts/h (budget ${fmtNum(opts.budgetPerHour)}/h)`)}</text>`,
+      `<rect x="${plotLeft}" y="${legendY - 11}" width="22" height="13" fill="${FILLS[runIndex]}" stroke="#1d4f73"/>`,
+      `<text x="${plotLeft + 30}" y="${legendY}">${esc(`${run.label}: recall ${pct(run.recall)} (${run.caught} of ${run.incidents}), precision ${pct(run.precision)}, ${run.alertsPerHour.toFixed(2)} raised alerts/h (budget ${fmtNum(opts.budgetPerHour)}/h)`)}</text>`,
     );
   });
   for (const tick of [0, 0.25, 0.5, 0.75, 1]) {
     parts.push(
-      `<line x1="${x0}" x2="${x1}" y1="${coord(y(tick))}" y2="${coord(y(tick))}" stroke="${tick === 0 ? '#333' : '#ddd'}"/>`,
-      `<text x="${x0 - 6}" y="${coord(y(tick) + 4)}" text-anchor="end">${tick * 100} %</text>`,
+      `<line x1="${plotLeft}" x2="${plotRight}" y1="${coord(yScale(tick))}" y2="${coord(yScale(tick))}" stroke="${tick === 0 ? '#333' : '#ddd'}"/>`,
+      `<text x="${plotLeft - 6}" y="${coord(yScale(tick) + 4)}" text-anchor="end">${tick * 100} %</text>`,
     );
   }
   parts.push(
     `<text transform="translate(16 ${coord((PLOT.top + yBase) / 2)}) rotate(-90)" text-anchor="middle">recall (caught / incidents)</text>`,
   );
-  groups.forEach((group, g) => {
-    const centre = x0 + groupWidth * (g + 0.5);
-    group.counts.forEach((c, i) => {
-      const share = c.incidents === 0 ? 0 : c.caught / c.incidents;
-      const left = centre + (i === 0 ? -barWidth - 2 : 2);
-      const top = y(share);
+  groups.forEach((group, groupIndex) => {
+    const centre = plotLeft + groupWidth * (groupIndex + 0.5);
+    group.counts.forEach((count, runIndex) => {
+      const share = count.incidents === 0 ? 0 : count.caught / count.incidents;
+      const left = centre + (runIndex === 0 ? -barWidth - 2 : 2);
+      const top = yScale(share);
       parts.push(
-        `<rect x="${coord(left)}" y="${coord(top)}" width="${coord(barWidth)}" height="${coord(yBase - top)}" fill="${FILLS[i]}" stroke="#1d4f73"><title>${esc(`${runs[i].label}, ${group.name}: ${c.caught} of ${c.incidents}`)}</title></rect>`,
-        `<text x="${coord(left + barWidth / 2)}" y="${coord(top - 4)}" text-anchor="middle" font-size="10">${c.caught}/${c.incidents}</text>`,
+        `<rect x="${coord(left)}" y="${coord(top)}" width="${coord(barWidth)}" height="${coord(yBase - top)}" fill="${FILLS[runIndex]}" stroke="#1d4f73"><title>${esc(`${runs[runIndex].label}, ${group.name}: ${count.caught} of ${count.incidents}`)}</title></rect>`,
+        `<text x="${coord(left + barWidth / 2)}" y="${coord(top - 4)}" text-anchor="middle" font-size="10">${count.caught}/${count.incidents}</text>`,
       );
     });
     parts.push(
       `<text x="${coord(centre)}" y="${yBase + 18}" text-anchor="middle"${group.name === 'all' ? ' font-weight="bold"' : ''}>${esc(group.name)}</text>`,
     );
   });
-  parts.push(`<text x="${x0}" y="${HEIGHT - 12}" font-size="10" fill="#444">${esc(NOTICE)}</text>`, '</svg>');
+  parts.push(
+    `<text x="${plotLeft}" y="${HEIGHT - 12}" font-size="10" fill="#444">${esc(NOTICE)}</text>`,
+    '</svg>',
+  );
   return `${parts.join('\n')}\n`;
 }

@@ -132,25 +132,33 @@ function pointsTable(ctx: ReportContext): string {
         points[a].alertsPerHour - points[b].alertsPerHour,
     );
   const noiseHead = ctx.noise ? ['raised per caught', 'repeats per caught', 'chattering raises'] : [];
-  const rows = order.map((i) => {
-    const p = points[i];
+  const rows = order.map((index) => {
+    const point = points[index];
     const noise: Cell[] = ctx.noise
-      ? [ratio(p.alertsPerCaught), ratio(p.raisesPerCaught), p.chatteringRaises ?? null]
+      ? [ratio(point.alertsPerCaught), ratio(point.raisesPerCaught), point.chatteringRaises ?? null]
       : [];
     return [
-      ...settingKeys.map((k): Cell => (p.settings[k] === undefined ? null : settingText(k, p.settings[k]))),
-      pct(p.recall),
-      pct(p.precision),
-      fmtNum(p.alertsPerHour),
-      p.worst10min ?? null,
-      p.flood === undefined ? null : p.flood ? 'flood' : 'no',
+      ...settingKeys.map((k): Cell =>
+        point.settings[k] === undefined ? null : settingText(k, point.settings[k]),
+      ),
+      pct(point.recall),
+      pct(point.precision),
+      fmtNum(point.alertsPerHour),
+      point.worst10min ?? null,
+      point.flood === undefined ? null : point.flood ? 'flood' : 'no',
       ...noise,
-      ...kinds.map((k) => pct(p.recallByKind?.[k])),
+      ...kinds.map((k) => pct(point.recallByKind?.[k])),
     ];
   });
-  const k0 = settingKeys.length;
-  const numeric = [k0, k0 + 1, k0 + 2, k0 + 3, ...noiseHead.map((_, j) => k0 + 5 + j)];
-  for (let j = 0; j < kinds.length; j++) numeric.push(k0 + 5 + noiseHead.length + j);
+  const metricsStart = settingKeys.length;
+  const numeric = [
+    metricsStart,
+    metricsStart + 1,
+    metricsStart + 2,
+    metricsStart + 3,
+    ...noiseHead.map((_, j) => metricsStart + 5 + j),
+  ];
+  for (let j = 0; j < kinds.length; j++) numeric.push(metricsStart + 5 + noiseHead.length + j);
   return table(
     [
       ...settingKeys,

@@ -19,7 +19,7 @@ export interface InputRecord {
 /** Hooks a feature plugs into a replay with (the report, the audit); all optional. */
 export interface ReplayObserver {
   /** Every valid reading handed to the engine, with its outcome (a `late` outcome is also reported to onReject). */
-  onReading?(r: Reading, outcome: ProcessOutcome, engine: Engine): void;
+  onReading?(reading: Reading, outcome: ProcessOutcome, engine: Engine): void;
   /** Every rejected line: parse rejects and engine `late` rejects, in input order. */
   onReject?(rec: InputRecord | { line: number; raw: string }, reason: string, detail: string): void;
   /** Once, after the last record, before summary.json is written. */

@@ -20,34 +20,34 @@ const REQUIRED = ['sensor', 'start', 'end'] as const;
 /** Split one CSV line; double-quoted fields may hold commas and "" for a quote. Null when quotes are unbalanced. */
 export function splitCsvLine(line: string): string[] | null {
   const out: string[] = [];
-  let i = 0;
+  let cursor = 0;
   for (;;) {
-    if (line[i] === '"') {
+    if (line[cursor] === '"') {
       let field = '';
-      i++;
+      cursor++;
       for (;;) {
-        if (i >= line.length) return null;
-        if (line[i] === '"') {
-          if (line[i + 1] === '"') {
+        if (cursor >= line.length) return null;
+        if (line[cursor] === '"') {
+          if (line[cursor + 1] === '"') {
             field += '"';
-            i += 2;
+            cursor += 2;
             continue;
           }
-          i++;
+          cursor++;
           break;
         }
-        field += line[i++];
+        field += line[cursor++];
       }
       out.push(field);
-      if (i < line.length && line[i] !== ',') return null;
+      if (cursor < line.length && line[cursor] !== ',') return null;
     } else {
-      const comma = line.indexOf(',', i);
+      const comma = line.indexOf(',', cursor);
       const stop = comma < 0 ? line.length : comma;
-      out.push(line.slice(i, stop).trim());
-      i = stop;
+      out.push(line.slice(cursor, stop).trim());
+      cursor = stop;
     }
-    if (i >= line.length) return out;
-    i++; // past the comma
+    if (cursor >= line.length) return out;
+    cursor++; // past the comma
   }
 }
 
@@ -66,9 +66,9 @@ export function parseLabelsCsv(text: string, source = 'labels'): Incident[] {
   const lines = text.split(/\r?\n/);
   let col: Record<string, number> | null = null;
   const out: Incident[] = [];
-  lines.forEach((raw, i) => {
-    const lineNo = i + 1;
-    const line = i === 0 ? raw.replace(/^\uFEFF/, '') : raw;
+  lines.forEach((raw, index) => {
+    const lineNo = index + 1;
+    const line = index === 0 ? raw.replace(/^\uFEFF/, '') : raw;
     if (line.trim() === '') return;
     const fields = splitCsvLine(line);
     if (fields === null) fail(lineNo, 'unbalanced double quotes');
@@ -142,11 +142,11 @@ export function labelWarnings(
   const absent = new Set<string>();
   let absentCount = 0;
   const outside: Incident[] = [];
-  for (const i of incidents) {
-    if (!sensors.has(i.sensor)) {
+  for (const incident of incidents) {
+    if (!sensors.has(incident.sensor)) {
       absentCount++;
-      absent.add(i.sensor);
-    } else if (i.end < dataStart || i.start > dataEnd) outside.push(i);
+      absent.add(incident.sensor);
+    } else if (incident.end < dataStart || incident.start > dataEnd) outside.push(incident);
   }
   const examples = (names: string[]): string =>
     names.slice(0, 3).join(', ') + (names.length > 3 ? `, and ${names.length - 3} more` : '');

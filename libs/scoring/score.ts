@@ -66,49 +66,49 @@ interface SensorIntervals {
 }
 
 function indexIncidents(incidents: readonly Incident[], grace: number): Map<string, SensorIntervals> {
-  const by = new Map<string, { start: number; stop: number }[]>();
-  for (const i of incidents) {
-    let list = by.get(i.sensor);
-    if (list === undefined) by.set(i.sensor, (list = []));
-    list.push({ start: i.start, stop: i.end + grace });
+  const bySensor = new Map<string, { start: number; stop: number }[]>();
+  for (const incident of incidents) {
+    let list = bySensor.get(incident.sensor);
+    if (list === undefined) bySensor.set(incident.sensor, (list = []));
+    list.push({ start: incident.start, stop: incident.end + grace });
   }
   const out = new Map<string, SensorIntervals>();
-  for (const [sensor, list] of by) {
+  for (const [sensor, list] of bySensor) {
     list.sort((a, b) => a.start - b.start);
     const reach: number[] = [];
     let max = -Infinity;
-    for (const x of list) reach.push((max = Math.max(max, x.stop)));
+    for (const interval of list) reach.push((max = Math.max(max, interval.stop)));
     out.set(sensor, { starts: list.map((x) => x.start), reach });
   }
   return out;
 }
 
-/** Index of the last element <= x in a sorted array, or -1. */
-function lastAtOrBefore(sorted: readonly number[], x: number): number {
-  let lo = 0;
-  let hi = sorted.length - 1;
+/** Index of the last element <= bound in a sorted array, or -1. */
+function lastAtOrBefore(sorted: readonly number[], bound: number): number {
+  let low = 0;
+  let high = sorted.length - 1;
   let ans = -1;
-  while (lo <= hi) {
-    const mid = (lo + hi) >> 1;
-    if (sorted[mid] <= x) {
+  while (low <= high) {
+    const mid = (low + high) >> 1;
+    if (sorted[mid] <= bound) {
       ans = mid;
-      lo = mid + 1;
-    } else hi = mid - 1;
+      low = mid + 1;
+    } else high = mid - 1;
   }
   return ans;
 }
 
-/** Index of the last element < x in a sorted array, or -1. */
-function lastBefore(sorted: readonly number[], x: number): number {
-  let lo = 0;
-  let hi = sorted.length - 1;
+/** Index of the last element < bound in a sorted array, or -1. */
+function lastBefore(sorted: readonly number[], bound: number): number {
+  let low = 0;
+  let high = sorted.length - 1;
   let ans = -1;
-  while (lo <= hi) {
-    const mid = (lo + hi) >> 1;
-    if (sorted[mid] < x) {
+  while (low <= high) {
+    const mid = (low + high) >> 1;
+    if (sorted[mid] < bound) {
       ans = mid;
-      lo = mid + 1;
-    } else hi = mid - 1;
+      low = mid + 1;
+    } else high = mid - 1;
   }
   return ans;
 }
@@ -117,10 +117,10 @@ function lastBefore(sorted: readonly number[], x: number): number {
 export function worstWindow(times: readonly number[], width: number): number {
   const ts = [...times].sort((a, b) => a - b);
   let best = 0;
-  let lo = 0;
-  for (let hi = 0; hi < ts.length; hi++) {
-    while (ts[hi] - ts[lo] >= width) lo++;
-    best = Math.max(best, hi - lo + 1);
+  let first = 0;
+  for (let last = 0; last < ts.length; last++) {
+    while (ts[last] - ts[first] >= width) first++;
+    best = Math.max(best, last - first + 1);
   }
   return best;
 }

@@ -108,8 +108,8 @@ export function planFaults(
       kind === 'spike'
         ? rng.int(1, 3)
         : Math.max(len.minSlots, Math.round(rng.uniform(len.ms[0], len.ms[1]) / opts.intervalMs));
-    const [lo, hi] = KIND_SIZE[kind];
-    const size = rng.uniform(lo, hi);
+    const [minSize, maxSize] = KIND_SIZE[kind];
+    const size = rng.uniform(minSize, maxSize);
     const coin = rng.next() < 0.5 ? -1 : 1;
     const sign = opts.oneSided === 'high' ? 1 : opts.oneSided === 'low' ? -1 : coin;
     const endSlot = slot + slots - 1;

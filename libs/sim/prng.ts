@@ -12,20 +12,20 @@ export class Prng {
 
   /** Uniform in [0, 1). */
   next(): number {
-    let t = (this.state = (this.state + 0x6d2b79f5) >>> 0);
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+    let mixed = (this.state = (this.state + 0x6d2b79f5) >>> 0);
+    mixed = Math.imul(mixed ^ (mixed >>> 15), mixed | 1);
+    mixed ^= mixed + Math.imul(mixed ^ (mixed >>> 7), mixed | 61);
+    return ((mixed ^ (mixed >>> 14)) >>> 0) / 4294967296;
   }
 
-  /** Uniform real number in [lo, hi). */
-  uniform(lo: number, hi: number): number {
-    return lo + (hi - lo) * this.next();
+  /** Uniform real number in [low, high). */
+  uniform(low: number, high: number): number {
+    return low + (high - low) * this.next();
   }
 
-  /** Whole number in [lo, hi]. */
-  int(lo: number, hi: number): number {
-    return lo + Math.floor(this.next() * (hi - lo + 1));
+  /** Whole number in [low, high]. */
+  int(low: number, high: number): number {
+    return low + Math.floor(this.next() * (high - low + 1));
   }
 
   /** Standard normal (Box-Muller; the second value of each pair is kept for the next call). */
@@ -35,22 +35,22 @@ export class Prng {
       this.spare = null;
       return spare;
     }
-    let u = 0;
-    while (u === 0) u = this.next();
-    const v = this.next();
-    const r = Math.sqrt(-2 * Math.log(u));
-    this.spare = r * Math.sin(2 * Math.PI * v);
-    return r * Math.cos(2 * Math.PI * v);
+    let uniformRadius = 0;
+    while (uniformRadius === 0) uniformRadius = this.next();
+    const uniformAngle = this.next();
+    const radius = Math.sqrt(-2 * Math.log(uniformRadius));
+    this.spare = radius * Math.sin(2 * Math.PI * uniformAngle);
+    return radius * Math.cos(2 * Math.PI * uniformAngle);
   }
 
   /** One item, chosen with probability proportional to its weight. */
   pick<T>(items: readonly T[], weights: readonly number[]): T {
     let total = 0;
     for (const weight of weights) total += weight;
-    let x = this.next() * total;
+    let remaining = this.next() * total;
     for (let i = 0; i < items.length; i++) {
-      x -= weights[i];
-      if (x < 0) return items[i];
+      remaining -= weights[i];
+      if (remaining < 0) return items[i];
     }
     return items[items.length - 1];
   }
@@ -58,14 +58,14 @@ export class Prng {
 
 /** Derive an independent 32-bit seed for a named sub-stream (FNV-1a over the name, mixed with the seed). */
 export function subSeed(seed: number, name: string): number {
-  let h = (0x811c9dc5 ^ (seed >>> 0)) >>> 0;
+  let hash = (0x811c9dc5 ^ (seed >>> 0)) >>> 0;
   for (let i = 0; i < name.length; i++) {
-    h ^= name.charCodeAt(i);
-    h = Math.imul(h, 0x01000193) >>> 0;
+    hash ^= name.charCodeAt(i);
+    hash = Math.imul(hash, 0x01000193) >>> 0;
   }
   // Final avalanche so nearby seeds give unrelated streams.
-  h ^= h >>> 16;
-  h = Math.imul(h, 0x85ebca6b) >>> 0;
-  h ^= h >>> 13;
-  return h >>> 0;
+  hash ^= hash >>> 16;
+  hash = Math.imul(hash, 0x85ebca6b) >>> 0;
+  hash ^= hash >>> 13;
+  return hash >>> 0;
 }

@@ -74,8 +74,9 @@ export interface ScenarioDef {
   defaults: Record<string, unknown>;
 }
 
-type S = Partial<SensorTemplate> & Pick<SensorTemplate, 'name' | 'unit' | 'description' | 'base' | 'noise'>;
-const sensor = (s: S): SensorTemplate => ({
+type SensorSketch = Partial<SensorTemplate> &
+  Pick<SensorTemplate, 'name' | 'unit' | 'description' | 'base' | 'noise'>;
+const sensor = (s: SensorSketch): SensorTemplate => ({
   daily: 0,
   loadGain: 0,
   loadLagMin: 0,
@@ -554,12 +555,12 @@ export function sensorsPerUnit(def: ScenarioDef): number {
  * sizes are multiples of it so a fault means the same thing on a thermometer and an ammeter.
  * `withinHour` leaves the daily cycle out: the spread at one time of day.
  */
-export function typicalSpread(t: SensorTemplate, withinHour = false): number {
-  const lagShrink = t.loadLagMin > 0 ? 0.6 : 1;
-  const load = t.loadGain * lagShrink;
-  const daily = withinHour ? 0 : (t.daily * t.daily) / 2;
-  const sd = Math.sqrt(t.noise * t.noise + load * load + daily);
-  return t.shape === 'lognormal' ? t.base * sd : sd;
+export function typicalSpread(template: SensorTemplate, withinHour = false): number {
+  const lagShrink = template.loadLagMin > 0 ? 0.6 : 1;
+  const load = template.loadGain * lagShrink;
+  const daily = withinHour ? 0 : (template.daily * template.daily) / 2;
+  const spread = Math.sqrt(template.noise * template.noise + load * load + daily);
+  return template.shape === 'lognormal' ? template.base * spread : spread;
 }
 
 /**
@@ -567,6 +568,6 @@ export function typicalSpread(t: SensorTemplate, withinHour = false): number {
  * amplitude is at least 3 spreads of one hour (a margin chosen here, so the shifted level stands
  * out of the hour's normal readings) and it is two-sided (a one-sided sensor's faults only push its bad way).
  */
-export function hasStrongDailyCycle(t: SensorTemplate): boolean {
-  return t.direction === 'both' && Math.abs(t.daily) >= 3 * typicalSpread(t, true);
+export function hasStrongDailyCycle(template: SensorTemplate): boolean {
+  return template.direction === 'both' && Math.abs(template.daily) >= 3 * typicalSpread(template, true);
 }

@@ -6,7 +6,7 @@
  * q(1 - q) bound) is kept as the reference design the accuracy tests and the bench compare with.
  *
  * - The open (filling) bucket appends readings to a small buffer; when the buffer is full it is
- *   sorted and merged into the bucket's centroids under the t-digest size bound. This is far
+ *   sorted and merged into the bucket's centroids (`compressToBins`). This is far
  *   cheaper per reading than inserting into a tree, and it is deterministic.
  * - Closed buckets and the merged baseline are frozen centroid lists (sorted means and counts): a
  *   union of digests' centroids is itself a valid digest, and a frozen list is a few typed arrays
@@ -27,7 +27,7 @@ export const EMPTY_CENTROIDS: Centroids = { means: new Float64Array(0), counts: 
 /** The number of values the centroids stand for. */
 export function totalCount(centroids: Centroids): number {
   let total = 0;
-  for (let i = 0; i < centroids.counts.length; i++) total += centroids.counts[i];
+  for (let index = 0; index < centroids.counts.length; index++) total += centroids.counts[index];
   return total;
 }
 
@@ -43,12 +43,12 @@ let scratchCounts = new Float64Array(1024);
  * 4 * n * delta * q * (1 - q) (at least 1), so the tails stay fine-grained and the middle coarse.
  */
 export function compressCentroids(parts: readonly Centroids[], delta: number): Centroids {
-  const k = parts.length;
+  const partCount = parts.length;
   let len = 0;
   let total = 0;
-  for (let p = 0; p < k; p++) {
-    len += parts[p].means.length;
-    total += totalCount(parts[p]);
+  for (let part = 0; part < partCount; part++) {
+    len += parts[part].means.length;
+    total += totalCount(parts[part]);
   }
   if (len === 0) return EMPTY_CENTROIDS;
   if (scratchMeans.length < len) {
@@ -57,46 +57,46 @@ export function compressCentroids(parts: readonly Centroids[], delta: number): C
   }
   const outMeans = scratchMeans;
   const outCounts = scratchCounts;
-  const pos = new Int32Array(k);
+  const positions = new Int32Array(partCount);
   const scale = 4 * total * delta;
   let out = 0;
-  let curMean = 0;
-  let curCount = 0;
+  let currentMean = 0;
+  let currentCount = 0;
   let before = 0;
   for (let taken = 0; taken < len; taken++) {
-    // The part whose next centroid has the smallest mean (k is at most a few dozen).
+    // The part whose next centroid has the smallest mean (partCount is at most a few dozen).
     let best = -1;
     let bestMean = Infinity;
-    for (let p = 0; p < k; p++) {
-      const i = pos[p];
-      const means = parts[p].means;
-      if (i < means.length && (best < 0 || means[i] < bestMean)) {
-        best = p;
-        bestMean = means[i];
+    for (let part = 0; part < partCount; part++) {
+      const index = positions[part];
+      const means = parts[part].means;
+      if (index < means.length && (best < 0 || means[index] < bestMean)) {
+        best = part;
+        bestMean = means[index];
       }
     }
-    const count = parts[best].counts[pos[best]++];
+    const count = parts[best].counts[positions[best]++];
     if (taken === 0) {
-      curMean = bestMean;
-      curCount = count;
+      currentMean = bestMean;
+      currentCount = count;
       continue;
     }
-    const merged = curCount + count;
+    const merged = currentCount + count;
     const quantile = (before + merged / 2) / total;
     const bound = Math.max(1, Math.floor(scale * quantile * (1 - quantile)));
     if (merged <= bound) {
-      curMean += ((bestMean - curMean) * count) / merged;
-      curCount = merged;
+      currentMean += ((bestMean - currentMean) * count) / merged;
+      currentCount = merged;
     } else {
-      outMeans[out] = curMean;
-      outCounts[out++] = curCount;
-      before += curCount;
-      curMean = bestMean;
-      curCount = count;
+      outMeans[out] = currentMean;
+      outCounts[out++] = currentCount;
+      before += currentCount;
+      currentMean = bestMean;
+      currentCount = count;
     }
   }
-  outMeans[out] = curMean;
-  outCounts[out++] = curCount;
+  outMeans[out] = currentMean;
+  outCounts[out++] = currentCount;
   return { means: outMeans.slice(0, out), counts: outCounts.slice(0, out) };
 }
 
@@ -111,9 +111,9 @@ export function compressToBins(parts: readonly Centroids[], bins: number): Centr
   const partCount = parts.length;
   let len = 0;
   let total = 0;
-  for (let p = 0; p < partCount; p++) {
-    len += parts[p].means.length;
-    total += totalCount(parts[p]);
+  for (let part = 0; part < partCount; part++) {
+    len += parts[part].means.length;
+    total += totalCount(parts[part]);
   }
   if (len === 0) return EMPTY_CENTROIDS;
   if (scratchMeans.length < len) {
@@ -132,11 +132,11 @@ export function compressToBins(parts: readonly Centroids[], bins: number): Centr
   for (let taken = 0; taken < len; taken++) {
     let best = -1;
     let bestMean = Infinity;
-    for (let p = 0; p < partCount; p++) {
-      const index = positions[p];
-      const means = parts[p].means;
+    for (let part = 0; part < partCount; part++) {
+      const index = positions[part];
+      const means = parts[part].means;
       if (index < means.length && (best < 0 || means[index] < bestMean)) {
-        best = p;
+        best = part;
         bestMean = means[index];
       }
     }
@@ -184,11 +184,11 @@ export function packCentroids(centroids: Centroids): PackedCentroids {
   const store = new ArrayBuffer(length * 8);
   const steps = new Float32Array(store, 0, length);
   const counts = new Uint32Array(store, length * 4, length);
-  for (let i = 0; i < length; i++) counts[i] = centroids.counts[i];
+  for (let index = 0; index < length; index++) counts[index] = centroids.counts[index];
   let previous = length > 0 ? centroids.means[0] : 0;
-  for (let i = 1; i < length; i++) {
-    steps[i] = Math.max(0, Math.fround(centroids.means[i] - previous));
-    previous += steps[i];
+  for (let index = 1; index < length; index++) {
+    steps[index] = Math.max(0, Math.fround(centroids.means[index] - previous));
+    previous += steps[index];
   }
   return { first: length > 0 ? centroids.means[0] : 0, steps, counts };
 }
@@ -198,7 +198,7 @@ export function unpackCentroids(packed: PackedCentroids): Centroids {
   const length = packed.steps.length;
   const means = new Float64Array(length);
   if (length > 0) means[0] = packed.first;
-  for (let i = 1; i < length; i++) means[i] = means[i - 1] + packed.steps[i];
+  for (let index = 1; index < length; index++) means[index] = means[index - 1] + packed.steps[index];
   return { means, counts: Float64Array.from(packed.counts) };
 }
 
@@ -220,12 +220,12 @@ export class FrozenDigest {
     // Counts are not kept: the mid-point ranks are all that queries need.
     this.means = centroids.means;
     this.mid = new Float64Array(centroids.means.length);
-    let cum = 0;
-    for (let i = 0; i < centroids.means.length; i++) {
-      this.mid[i] = cum + centroids.counts[i] / 2;
-      cum += centroids.counts[i];
+    let cumulative = 0;
+    for (let index = 0; index < centroids.means.length; index++) {
+      this.mid[index] = cumulative + centroids.counts[index] / 2;
+      cumulative += centroids.counts[index];
     }
-    this.total = cum;
+    this.total = cumulative;
   }
 
   /** Number of centroids. */
@@ -233,44 +233,47 @@ export class FrozenDigest {
     return this.means.length;
   }
 
-  /** Value at quantile p in [0, 1]; NaN when empty. */
-  quantile(p: number): number {
+  /** Value at quantile `probability` in [0, 1]; NaN when empty. */
+  quantile(probability: number): number {
     const means = this.means;
     const len = means.length;
     if (len === 0) return NaN;
-    const target = this.total * p;
+    const target = this.total * probability;
     const mid = this.mid;
     if (target <= mid[0]) return means[0];
     if (target >= mid[len - 1]) return means[len - 1];
-    // Largest i with mid[i] <= target.
-    let lo = 0;
-    let hi = len - 1;
-    while (lo < hi) {
-      const j = (lo + hi + 1) >>> 1;
-      if (mid[j] <= target) lo = j;
-      else hi = j - 1;
+    // Largest index with mid[index] <= target.
+    let low = 0;
+    let high = len - 1;
+    while (low < high) {
+      const middle = (low + high + 1) >>> 1;
+      if (mid[middle] <= target) low = middle;
+      else high = middle - 1;
     }
-    if (mid[lo] === target || lo === len - 1) return means[lo];
-    return means[lo] + ((target - mid[lo]) * (means[lo + 1] - means[lo])) / (mid[lo + 1] - mid[lo]);
+    if (mid[low] === target || low === len - 1) return means[low];
+    return means[low] + ((target - mid[low]) * (means[low + 1] - means[low])) / (mid[low + 1] - mid[low]);
   }
 
-  /** Share of the baseline below x, in [0, 1]; NaN when empty. */
-  rank(x: number): number {
+  /** Share of the baseline below value, in [0, 1]; NaN when empty. */
+  rank(value: number): number {
     const means = this.means;
     const len = means.length;
     if (len === 0) return NaN;
-    if (x < means[0]) return 0;
-    if (x > means[len - 1]) return 1;
-    let lo = 0;
-    let hi = len - 1;
-    while (lo < hi) {
-      const j = (lo + hi + 1) >>> 1;
-      if (means[j] <= x) lo = j;
-      else hi = j - 1;
+    if (value < means[0]) return 0;
+    if (value > means[len - 1]) return 1;
+    let low = 0;
+    let high = len - 1;
+    while (low < high) {
+      const middle = (low + high + 1) >>> 1;
+      if (means[middle] <= value) low = middle;
+      else high = middle - 1;
     }
     const mid = this.mid;
-    if (means[lo] === x || lo === len - 1) return mid[lo] / this.total;
-    return (mid[lo] + ((x - means[lo]) * (mid[lo + 1] - mid[lo])) / (means[lo + 1] - means[lo])) / this.total;
+    if (means[low] === value || low === len - 1) return mid[low] / this.total;
+    return (
+      (mid[low] + ((value - means[low]) * (mid[low + 1] - mid[low])) / (means[low + 1] - means[low])) /
+      this.total
+    );
   }
 }
 
@@ -292,61 +295,69 @@ export interface OpenDigestSnapshot {
  * run stay identical.
  */
 export class OpenDigest {
-  private c: Centroids = EMPTY_CENTROIDS;
-  private readonly buf: Float64Array;
-  private bufLen = 0;
+  private current: Centroids = EMPTY_CENTROIDS;
+  private readonly buffer: Float64Array;
+  private bufferedCount = 0;
 
   constructor(
     readonly bins: number,
     readonly bufferSize: number,
   ) {
-    this.buf = new Float64Array(bufferSize);
+    this.buffer = new Float64Array(bufferSize);
   }
 
   /** Adds a value; the buffer is merged into the centroids when full. */
-  push(x: number): void {
-    this.buf[this.bufLen++] = x;
-    if (this.bufLen === this.buf.length) this.flush();
+  push(value: number): void {
+    this.buffer[this.bufferedCount++] = value;
+    if (this.bufferedCount === this.buffer.length) this.flush();
   }
 
   /** Centroids plus buffered readings. */
   get size(): number {
-    return this.c.means.length + this.bufLen;
+    return this.current.means.length + this.bufferedCount;
   }
 
   /** All readings so far as one sorted, compressed centroid list (merges the buffer first). */
   centroids(): Centroids {
     this.flush();
-    return this.c;
+    return this.current;
   }
 
   private flush(): void {
-    const n = this.bufLen;
-    if (n === 0) return;
-    const vals = this.buf.subarray(0, n).sort();
-    this.bufLen = 0;
-    if (ones.length < n) ones = new Float64Array(n).fill(1);
-    this.c = compressToBins([this.c, { means: vals, counts: ones.subarray(0, n) }], this.bins);
+    const buffered = this.bufferedCount;
+    if (buffered === 0) return;
+    const sorted = this.buffer.subarray(0, buffered).sort();
+    this.bufferedCount = 0;
+    if (ones.length < buffered) ones = new Float64Array(buffered).fill(1);
+    this.current = compressToBins(
+      [this.current, { means: sorted, counts: ones.subarray(0, buffered) }],
+      this.bins,
+    );
   }
 
   /** Empty the digest for the next bucket, keeping its buffer. */
   reset(): void {
-    this.c = EMPTY_CENTROIDS;
-    this.bufLen = 0;
+    this.current = EMPTY_CENTROIDS;
+    this.bufferedCount = 0;
   }
 
   /** Centroids and buffered values, for encoding. */
   snapshot(): OpenDigestSnapshot {
-    return { means: this.c.means, counts: this.c.counts, buffer: this.buf.slice(0, this.bufLen) };
+    return {
+      means: this.current.means,
+      counts: this.current.counts,
+      buffer: this.buffer.slice(0, this.bufferedCount),
+    };
   }
 
   /** A digest from its snapshot (throws RangeError when the buffer exceeds its capacity). */
-  static restore(s: OpenDigestSnapshot, bins: number, bufferSize: number): OpenDigest {
-    if (s.buffer.length >= bufferSize) throw new RangeError('open digest buffer larger than its capacity');
-    const o = new OpenDigest(bins, bufferSize);
-    o.c = { means: s.means, counts: s.counts };
-    o.buf.set(s.buffer);
-    o.bufLen = s.buffer.length;
-    return o;
+  static restore(snapshot: OpenDigestSnapshot, bins: number, bufferSize: number): OpenDigest {
+    if (snapshot.buffer.length >= bufferSize)
+      throw new RangeError('open digest buffer larger than its capacity');
+    const digest = new OpenDigest(bins, bufferSize);
+    digest.current = { means: snapshot.means, counts: snapshot.counts };
+    digest.buffer.set(snapshot.buffer);
+    digest.bufferedCount = snapshot.buffer.length;
+    return digest;
   }
 }

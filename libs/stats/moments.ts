@@ -15,23 +15,23 @@ export function emptyMoments(): Moments {
 }
 
 /** Welford's update, in place. */
-export function addValue(moments: Moments, x: number): void {
+export function addValue(moments: Moments, value: number): void {
   moments.n += 1;
-  const delta = x - moments.mean;
+  const delta = value - moments.mean;
   moments.mean += delta / moments.n;
-  moments.m2 += delta * (x - moments.mean);
+  moments.m2 += delta * (value - moments.mean);
 }
 
 /** Chan et al. pairwise merge; returns a new summary and leaves the inputs untouched. */
 export function mergeMoments(left: Moments, right: Moments): Moments {
   if (left.n === 0) return { ...right };
   if (right.n === 0) return { ...left };
-  const n = left.n + right.n;
+  const count = left.n + right.n;
   const delta = right.mean - left.mean;
   return {
-    n,
-    mean: left.mean + (delta * right.n) / n,
-    m2: left.m2 + right.m2 + (delta * delta * left.n * right.n) / n,
+    n: count,
+    mean: left.mean + (delta * right.n) / count,
+    m2: left.m2 + right.m2 + (delta * delta * left.n * right.n) / count,
   };
 }
 

@@ -138,12 +138,12 @@ export function verdictFor(spec: TopicSpec, found: TopicFound | undefined, creat
  * The report line of one verdict, names padded to `nameWidth`:
  * `alert    sensor-alerts  ok       partitions 6, replication 3, retention 7d`.
  */
-export function verdictLine(v: TopicVerdict, nameWidth = 0): string {
-  const head = `${v.role.padEnd(9)}${v.name.padEnd(nameWidth)}  ${v.status.padEnd(7)}`;
-  if (v.found === null)
-    return `${head}  (asked: partitions ${v.asked.partitions}, replication ${v.asked.replicationFactor}, retention ${retentionText(v.asked.retentionMs)})`;
-  if (v.status === 'differs') return `${head}  ${v.differences.join('; ')}`;
-  return `${head}  partitions ${v.found.partitions}, replication ${v.found.replicationFactor}, retention ${retentionText(v.found.retentionMs)}`;
+export function verdictLine(verdict: TopicVerdict, nameWidth = 0): string {
+  const head = `${verdict.role.padEnd(9)}${verdict.name.padEnd(nameWidth)}  ${verdict.status.padEnd(7)}`;
+  if (verdict.found === null)
+    return `${head}  (asked: partitions ${verdict.asked.partitions}, replication ${verdict.asked.replicationFactor}, retention ${retentionText(verdict.asked.retentionMs)})`;
+  if (verdict.status === 'differs') return `${head}  ${verdict.differences.join('; ')}`;
+  return `${head}  partitions ${verdict.found.partitions}, replication ${verdict.found.replicationFactor}, retention ${retentionText(verdict.found.retentionMs)}`;
 }
 
 /**

@@ -8,12 +8,12 @@ import type { SensorSettings } from '../config/settings.js';
 import type { GridPoint } from './grid.js';
 
 /** The config with a grid point's settings applied (validated again). */
-export function applyPoint(base: EngineConfig, p: GridPoint): EngineConfig {
-  const tuned = p as unknown as Partial<SensorSettings>;
-  const keys = Object.keys(p) as (keyof SensorSettings)[];
+export function applyPoint(base: EngineConfig, point: GridPoint): EngineConfig {
+  const tuned = point as unknown as Partial<SensorSettings>;
+  const keys = Object.keys(point) as (keyof SensorSettings)[];
   const sensors = base.sensors.map((rule) => {
     const overrides: Partial<SensorSettings> = { ...rule.overrides };
-    for (const k of keys) if (k in overrides) (overrides as Record<string, unknown>)[k] = tuned[k];
+    for (const key of keys) if (key in overrides) (overrides as Record<string, unknown>)[key] = tuned[key];
     return { match: rule.match, overrides };
   });
   const cfg: EngineConfig = { defaults: { ...base.defaults, ...tuned }, sensors };

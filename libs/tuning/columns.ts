@@ -21,12 +21,12 @@ const QUALITY_CODE: Readonly<Record<DoubtfulQuality, number>> = { uncertain: 1, 
 const QUALITY_OF_CODE: readonly (DoubtfulQuality | undefined)[] = [undefined, 'uncertain', 'bad'];
 
 /** Reading i of the columns, as the engine takes it. */
-export function readingAt(columns: ReadingColumns, i: number): Reading {
-  const quality = QUALITY_OF_CODE[columns.quality[i]];
-  const sensor = columns.names[columns.sensor[i]];
+export function readingAt(columns: ReadingColumns, index: number): Reading {
+  const quality = QUALITY_OF_CODE[columns.quality[index]];
+  const sensor = columns.names[columns.sensor[index]];
   return quality === undefined
-    ? { sensor, ts: columns.ts[i], value: columns.value[i] }
-    : { sensor, ts: columns.ts[i], value: columns.value[i], quality };
+    ? { sensor, ts: columns.ts[index], value: columns.value[index] }
+    : { sensor, ts: columns.ts[index], value: columns.value[index], quality };
 }
 
 /** Grows typed arrays by doubling while readings are appended; `finish` copies them to shared memory. */
@@ -107,14 +107,14 @@ export const INTERVALS_PER_SENSOR = 100;
  * out-of-order times say nothing about the rate); null when no sensor read twice. The median of
  * an even count is the mean of the middle two.
  */
-export function medianReadingInterval(c: ReadingColumns): number | null {
-  const previous = new Float64Array(c.names.length).fill(NaN);
-  const taken = new Uint32Array(c.names.length);
+export function medianReadingInterval(columns: ReadingColumns): number | null {
+  const previous = new Float64Array(columns.names.length).fill(NaN);
+  const taken = new Uint32Array(columns.names.length);
   const gaps: number[] = [];
-  for (let i = 0; i < c.count; i++) {
-    const sensor = c.sensor[i];
-    const gap = c.ts[i] - previous[sensor];
-    previous[sensor] = c.ts[i];
+  for (let i = 0; i < columns.count; i++) {
+    const sensor = columns.sensor[i];
+    const gap = columns.ts[i] - previous[sensor];
+    previous[sensor] = columns.ts[i];
     if (!(gap > 0) || taken[sensor] >= INTERVALS_PER_SENSOR) continue;
     taken[sensor]++;
     gaps.push(gap);

@@ -28,19 +28,19 @@ export interface PointEvaluation {
  * out: no figure uses them). The event's own sensor and time count: a reading can raise an alert
  * for another sensor (one gone silent).
  */
-export function replayEvents(cfg: EngineConfig, c: ReadingColumns): KpiEvent[] {
+export function replayEvents(cfg: EngineConfig, columns: ReadingColumns): KpiEvent[] {
   const engine = new Engine(cfg);
   const out: KpiEvent[] = [];
-  for (let i = 0; i < c.count; i++) {
-    const o = engine.process(readingAt(c, i));
-    for (const e of o.events) if (e.state !== 'updated') out.push(kpiEventOf(e));
+  for (let i = 0; i < columns.count; i++) {
+    const outcome = engine.process(readingAt(columns, i));
+    for (const event of outcome.events) if (event.state !== 'updated') out.push(kpiEventOf(event));
   }
   return out;
 }
 
 /** Raised alerts (sensor, event time) of a replay of the columns in their order. */
-export function replayRaised(cfg: EngineConfig, c: ReadingColumns): RaisedAlert[] {
-  return raisedOf(replayEvents(cfg, c));
+export function replayRaised(cfg: EngineConfig, columns: ReadingColumns): RaisedAlert[] {
+  return raisedOf(replayEvents(cfg, columns));
 }
 
 const raisedOf = (events: readonly KpiEvent[]): RaisedAlert[] =>
@@ -52,11 +52,11 @@ const raisedOf = (events: readonly KpiEvent[]): RaisedAlert[] =>
  */
 export function evaluateConfig(
   cfg: EngineConfig,
-  c: ReadingColumns,
+  columns: ReadingColumns,
   incidents: readonly Incident[],
   opts: ScoreOptions,
 ): PointEvaluation {
-  const events = replayEvents(cfg, c);
+  const events = replayEvents(cfg, columns);
   const kpis = alertKpis(
     events,
     { start: opts.dataStart, end: opts.dataEnd },

@@ -89,28 +89,28 @@ function rangeValues(part: string, item: string, range: string[]): number[] {
   }
   if (step <= 0) bad(part, `range "${item}" needs a positive step`);
   if (to < from) bad(part, `range "${item}" ends before it starts`);
-  const n = Math.floor((to - from) / step + 1e-9) + 1;
-  if (n > MAX_GRID_POINTS) bad(part, `range "${item}" has too many values`);
-  return Array.from({ length: n }, (_, i) => Number((from + i * step).toPrecision(12)));
+  const count = Math.floor((to - from) / step + 1e-9) + 1;
+  if (count > MAX_GRID_POINTS) bad(part, `range "${item}" has too many values`);
+  return Array.from({ length: count }, (_, i) => Number((from + i * step).toPrecision(12)));
 }
 
 function numbers(part: string, text: string, opts: { integer: boolean; min: number }): number[] {
   const out: number[] = [];
   for (const item of text.split(',')) {
-    const t = item.trim();
-    if (t === '') bad(part, 'empty value in the list');
-    const range = t.split(':');
+    const entry = item.trim();
+    if (entry === '') bad(part, 'empty value in the list');
+    const range = entry.split(':');
     let vals: number[] = [];
-    if (range.length === 3) vals = rangeValues(part, t, range);
+    if (range.length === 3) vals = rangeValues(part, entry, range);
     else if (range.length === 1) {
-      const v = Number(t);
-      if (!Number.isFinite(v)) bad(part, `"${t}" is not a number`);
-      vals = [v];
-    } else bad(part, `"${t}" is neither a number nor a from:to:step range`);
-    for (const v of vals) {
-      if (opts.integer && !Number.isInteger(v)) bad(part, `${v} must be a whole number`);
-      if (v < opts.min) bad(part, `${v} is below the smallest allowed value ${opts.min}`);
-      if (!out.includes(v)) out.push(v);
+      const value = Number(entry);
+      if (!Number.isFinite(value)) bad(part, `"${entry}" is not a number`);
+      vals = [value];
+    } else bad(part, `"${entry}" is neither a number nor a from:to:step range`);
+    for (const value of vals) {
+      if (opts.integer && !Number.isInteger(value)) bad(part, `${value} must be a whole number`);
+      if (value < opts.min) bad(part, `${value} is below the smallest allowed value ${opts.min}`);
+      if (!out.includes(value)) out.push(value);
     }
   }
   return out;
@@ -118,23 +118,23 @@ function numbers(part: string, text: string, opts: { integer: boolean; min: numb
 
 function triggers(part: string, values: string): Trigger[] {
   const list: Trigger[] = [];
-  for (const t of values.split(',').map((x) => x.trim())) {
-    if (!(TRIGGERS as readonly string[]).includes(t))
-      bad(part, `"${t}" is not one of ${TRIGGERS.join(', ')}`);
-    if (!list.includes(t as Trigger)) list.push(t as Trigger);
+  for (const entry of values.split(',').map((x) => x.trim())) {
+    if (!(TRIGGERS as readonly string[]).includes(entry))
+      bad(part, `"${entry}" is not one of ${TRIGGERS.join(', ')}`);
+    if (!list.includes(entry as Trigger)) list.push(entry as Trigger);
   }
   return list;
 }
 
 function debounces(part: string, values: string): [number, number][] {
   const list: [number, number][] = [];
-  for (const t of values.split(',').map((x) => x.trim())) {
-    const m = /^(\d+)\/(\d+)$/.exec(t);
-    if (!m) bad(part, `"${t}" must be raiseAfter/raiseWindow, e.g. 2/3`);
-    const after = Number(m[1]);
-    const window = Number(m[2]);
+  for (const entry of values.split(',').map((x) => x.trim())) {
+    const match = /^(\d+)\/(\d+)$/.exec(entry);
+    if (!match) bad(part, `"${entry}" must be raiseAfter/raiseWindow, e.g. 2/3`);
+    const after = Number(match[1]);
+    const window = Number(match[2]);
     if (after < 1 || window < after || window > 64)
-      bad(part, `"${t}" needs 1 <= raiseAfter <= raiseWindow <= 64`);
+      bad(part, `"${entry}" needs 1 <= raiseAfter <= raiseWindow <= 64`);
     if (!list.some(([x, y]) => x === after && y === window)) list.push([after, window]);
   }
   return list;
@@ -146,16 +146,16 @@ const sameDelay = (a: GridDelay, b: GridDelay): boolean =>
 /** Clear delays: durations ("30s", "2m", 0) or whole numbers of reading intervals ("10readings"). */
 function delays(part: string, values: string): GridDelay[] {
   const list: GridDelay[] = [];
-  for (const t of values.split(',').map((x) => x.trim())) {
-    const counted = /^(\d+)\s*readings?$/.exec(t);
+  for (const entry of values.split(',').map((x) => x.trim())) {
+    const counted = /^(\d+)\s*readings?$/.exec(entry);
     let delay: GridDelay;
     if (counted) delay = { readings: Number(counted[1]) };
     else {
-      const ms = parseDuration(t);
+      const ms = parseDuration(entry);
       if (ms === null || ms > MAX_DELAY_MS)
         bad(
           part,
-          `"${t}" must be a duration up to 31d (e.g. 30s, 2m, 0) or a count of readings (e.g. 10readings)`,
+          `"${entry}" must be a duration up to 31d (e.g. 30s, 2m, 0) or a count of readings (e.g. 10readings)`,
         );
       delay = { ms };
     }
@@ -166,10 +166,10 @@ function delays(part: string, values: string): GridDelay[] {
 
 /** Parse one `key=values` part into the spec. */
 function parsePart(spec: GridSpec, part: string): void {
-  const eq = part.indexOf('=');
-  if (eq <= 0) bad(part, 'each part must be key=values, e.g. fenceK=1.5,2,3');
-  const key = part.slice(0, eq).trim();
-  const values = part.slice(eq + 1).trim();
+  const equals = part.indexOf('=');
+  if (equals <= 0) bad(part, 'each part must be key=values, e.g. fenceK=1.5,2,3');
+  const key = part.slice(0, equals).trim();
+  const values = part.slice(equals + 1).trim();
   if (values === '') bad(part, 'no values after "="');
   if (!(GRID_KEYS as readonly string[]).includes(key))
     bad(part, `unknown key "${key}"; known keys: ${GRID_KEYS.join(', ')}`);
@@ -253,8 +253,8 @@ export function delayMs(delay: GridDelay, readingIntervalMs: number | undefined)
 export function deadbandLeavesNoClear(point: GridPoint): boolean {
   if (point.deadband <= 0) return false;
   const fence = point.trigger !== 'z' && point.deadband >= point.fenceK;
-  const z = point.trigger !== 'fence' && point.deadband >= point.zLimit;
-  return fence || z;
+  const zRule = point.trigger !== 'fence' && point.deadband >= point.zLimit;
+  return fence || zRule;
 }
 
 /** Every combination of the lists, the first list slowest (the grid's stable order). */

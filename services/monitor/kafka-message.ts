@@ -45,7 +45,8 @@ export function parseMessage(key: Buffer | null, value: Buffer | null): ParseRes
       detail: `message has ${text.length} characters; the limit is ${LIMITS.maxLineLength}`,
     };
   }
-  const fields = scanReadingObject(text);
+  // The key names the sensor: the payload's `sensor` is checked as JSON but not copied out.
+  const fields = scanReadingObject(text, false);
   if (fields !== null) return validateFields(keyText, fields.ts, fields.value, false, fields.quality);
   let obj: unknown;
   try {

@@ -22,7 +22,6 @@ import kafkajs, {
   type Kafka,
   type Message,
   type Producer,
-  type TopicMessages,
 } from 'kafkajs';
 import { isClusterClient, type RedisClient } from '../connect/index.js';
 
@@ -49,6 +48,7 @@ import {
 } from '../connect/outage.js';
 import { backoffDelay, withBackoff, type BackoffHooks } from './backoff.js';
 import { parseMessage, rejectionRecord } from './kafka-message.js';
+import { partitionSends } from './partition-sends.js';
 
 // kafkajs is CommonJS: its enums come through the default export under ESM.
 const { ConfigResourceTypes } = kafkajs;
@@ -180,6 +180,11 @@ export class Monitor {
   /** The chain of alert/reject sends in flight, and how many messages it still holds. */
   private sending: Promise<void> = Promise.resolve();
   private unsent = 0;
+  /**
+   * Partitions of the alert and rejected topics when this monitor started: each message is sent
+   * to its partition by key over this count (a partition added later is used after a restart).
+   */
+  private readonly publishPartitions = new Map<string, number>();
   private readonly store: CheckpointStore;
   /** Shared by every partition's engine: the sensor limit is per process. */
   private readonly budget: SensorBudget;
@@ -292,6 +297,7 @@ export class Monitor {
     );
     await this.retry('kafka', () => this.admin.connect());
     await this.requireTopics();
+    await this.countPublishPartitions();
     const ends = await this.retry('kafka', () => this.admin.fetchTopicOffsets(this.settings.inputTopic));
     this.startOffsets = new Map(ends.map((o) => [o.partition, Number(o.high)]));
     await this.checkRetention();
@@ -323,6 +329,11 @@ export class Monitor {
       this.readWhat,
     );
     if (this.stopping) return;
+    // Joining can take up to the group's rebalance timeout (other members must rejoin first).
+    this.log.info(
+      { group: this.settings.group, topic: this.settings.inputTopic },
+      `joining group ${this.settings.group}`,
+    );
     await this.consumer.run({
       autoCommit: false,
       eachBatchAutoResolve: false,
@@ -397,6 +408,27 @@ export class Monitor {
           `kafka ${this.kafkaSettings.brokers.join(',')}: topic "${topic}" (${option}) does not exist; check the name or create it first`,
         );
     }
+  }
+
+  /** How many partitions the alert and rejected topics have (see publishPartitions). */
+  private async countPublishPartitions(): Promise<void> {
+    const { alertTopic, rejectedTopic } = this.settings;
+    const topics = [...new Set([alertTopic, rejectedTopic])];
+    const meta = await this.retry(
+      'kafka',
+      () => this.admin.fetchTopicMetadata({ topics }),
+      {},
+      'describe topics',
+    );
+    for (const t of meta.topics) this.publishPartitions.set(t.name, t.partitions.length);
+  }
+
+  /** The partition count of a topic the monitor publishes to (counted at start). */
+  private partitionsOf(topic: string): number {
+    const count = this.publishPartitions.get(topic);
+    if (count === undefined)
+      throw new Error(`partition count of topic ${topic} not known (start() reads it)`);
+    return count;
   }
 
   /**
@@ -1013,29 +1045,39 @@ export class Monitor {
       topic,
       part,
     );
-    this.outbox.rejects.push({ key: m.key ?? null, value: JSON.stringify(rec) });
+    const key = m.key ?? null;
+    // A reject without key goes with its input partition's other keyless rejects, in their order.
+    const partition = key === null ? part % this.partitionsOf(this.settings.rejectedTopic) : undefined;
+    this.outbox.rejects.push({ key, value: JSON.stringify(rec), partition });
     this.metrics.rejected.inc({ reason });
   }
 
   /**
-   * Start publishing everything waiting, without waiting for the acknowledgement: sends are
-   * chained, so they go out one after another in the order the readings were judged, and a batch
-   * does not stall on a round trip. `flushed()` waits for all of them (retrying while Kafka is
-   * down); every checkpoint calls it first, so no checkpoint ever covers an unsent event.
+   * Start publishing everything waiting, without waiting for the acknowledgement: one request per
+   * topic partition (see partition-sends.ts: a request spanning brokers can lose a partition's
+   * messages in a leader change), the partitions concurrently, each retried on its own. Flushes
+   * are chained, so each partition's messages go out in the order the readings were judged, and a
+   * batch does not stall on a round trip. `flushed()` waits for all of them (retrying while Kafka
+   * is down); every checkpoint calls it first, so no checkpoint ever covers an unsent event.
    */
   private flush(): void {
     const { alerts, rejects } = this.outbox;
     if (alerts.length === 0 && rejects.length === 0) return;
-    const topicMessages: TopicMessages[] = [];
-    if (alerts.length) topicMessages.push({ topic: this.settings.alertTopic, messages: alerts });
-    if (rejects.length) topicMessages.push({ topic: this.settings.rejectedTopic, messages: rejects });
+    const { alertTopic, rejectedTopic } = this.settings;
+    const sends = [
+      ...(alerts.length ? partitionSends(alertTopic, this.partitionsOf(alertTopic), alerts) : []),
+      ...(rejects.length ? partitionSends(rejectedTopic, this.partitionsOf(rejectedTopic), rejects) : []),
+    ];
     this.outbox.alerts = [];
     this.outbox.rejects = [];
     this.unsent += alerts.length + rejects.length;
-    const count = alerts.length + rejects.length;
     this.sending = this.sending.then(async () => {
-      await this.retry('kafka', () => this.producer.sendBatch({ acks: -1, topicMessages }));
-      this.unsent -= count;
+      await Promise.all(
+        sends.map(async ({ topic, messages }) => {
+          await this.retry('kafka', () => this.producer.send({ topic, acks: -1, messages }));
+          this.unsent -= messages.length;
+        }),
+      );
     });
     // A failed chain stays failed (flushed() rethrows); keep the rejection observed meanwhile.
     this.sending.catch(() => undefined);

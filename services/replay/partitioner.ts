@@ -4,20 +4,14 @@
  * producer would call it, so a file replay with `--partitions N` puts each sensor on the
  * partition a live monitor of an N-partition topic reads it from.
  */
-import { Partitioners, type PartitionMetadata } from 'kafkajs';
+import { Partitioners } from 'kafkajs';
+import { partitionMetadataFor } from '../connect/partition-metadata.js';
 
 /** A function from sensor id to partition, for a topic of `partitions` partitions (remembered for recent ids). */
 export function keyPartitioner(partitions: number): (sensor: string) => number {
   if (partitions <= 1) return () => 0;
   const partitioner = Partitioners.DefaultPartitioner();
-  const partitionMetadata: PartitionMetadata[] = Array.from({ length: partitions }, (_, partitionId) => ({
-    partitionId,
-    leader: 0,
-    partitionErrorCode: 0,
-    replicas: [0],
-    isr: [0],
-    offlineReplicas: [],
-  }));
+  const partitionMetadata = partitionMetadataFor(partitions);
   const cache = new Map<string, number>();
   return (sensor) => {
     let partition = cache.get(sensor);

@@ -4,18 +4,20 @@
  *    bare kafkajs consumer reading the same topic in the same run; both timed first to last message;
  *    on ISO-8601 and on epoch-millisecond timestamps, PASSES passes each, the median reported;
  *  - where the time goes: a CPU profile of the monitor's throughput pass, self time per area
- *    (STREAMFENCE_BENCH_CPU_PROFILE=<dir> also writes the .cpuprofile files);
+ *    (STREAMFENCE_BENCH_CPU_PROFILE=<dir> also writes the .cpuprofile files), and the share of the
+ *    timed wall time spent inside checkpoints (batches wait meanwhile);
  *  - scaling: aggregate readings/s of 1 and of 2 monitor processes (the built CLI) in one group on
  *    one topic, and each process's peak RSS;
  *  - Redis commands per 1,000 readings: INFO commandstats delta on a private redis-server;
  *  - restart: time for a fresh monitor to take over 10,000 sensors' checkpoints and catch up;
  *  - latency: reading-to-alert (alert received minus reading time) at a steady 5,000 readings/s.
  */
+import { createTopicsWithLeaders } from '../../services/connect/topics.js';
 import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { Session } from 'node:inspector/promises';
 import { freePort, privateRedis } from './private-redis.js';
-import { tmpdir } from 'node:os';
+import { loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { Kafka, logLevel, type Consumer } from 'kafkajs';
@@ -129,6 +131,8 @@ function isoWithOffset(epoch: number, offsetMin: number): string {
   const mm = String(abs % 60).padStart(2, '0');
   return `${local}${sign}${hh}:${mm}`;
 }
+
+const round1 = (x: number) => Math.round(x * 10) / 10;
 
 const median = (xs: number[]): number => {
   const s = [...xs].sort((a, b) => a - b);
@@ -309,6 +313,8 @@ interface ThroughputPass {
   monitorCpuUsPerReading: number;
   /** Bare CPU per message over monitor CPU per reading: the ratio with the machine's sharing taken out. */
   cpuRatioToBare: number;
+  /** Share of the monitor's timed wall time spent inside checkpoints (no batch runs meanwhile). */
+  checkpointWallShare: number;
 }
 
 /** The monitor in this process on `topic` from its start, timed from the first to the last reading counted. */
@@ -321,7 +327,14 @@ async function monitorPass(
   log: ReturnType<typeof createLogger>,
   profiler: Profiler | null,
   profileFile: string | null,
-): Promise<{ ms: number; cpuUs: number; prefix: string; group: string; profile: CpuProfile | null }> {
+): Promise<{
+  ms: number;
+  cpuUs: number;
+  checkpointMs: number;
+  prefix: string;
+  group: string;
+  profile: CpuProfile | null;
+}> {
   const config: EngineConfig = parseConfigText(BENCH_CONFIG, 'bench');
   const prefix = name('sf');
   const group = name('g');
@@ -335,6 +348,7 @@ async function monitorPass(
     log,
     metrics,
   });
+  const checkpointClock = timeCheckpoints(mon);
   await mon.start();
   let first = 0;
   let cpu0 = process.cpuUsage();
@@ -343,6 +357,7 @@ async function monitorPass(
     if (n > 0 && first === 0) {
       first = performance.now();
       cpu0 = process.cpuUsage();
+      checkpointClock.reset();
       await profiler?.start();
     }
     if (n >= total) break;
@@ -350,10 +365,31 @@ async function monitorPass(
   }
   const ms = performance.now() - first;
   const cpuUs = cpuSince(cpu0);
+  const checkpointMs = checkpointClock.ms();
   const profile = profiler ? await profiler.stop(profileFile) : null;
   await mon.stop();
   redis.disconnect();
-  return { ms, cpuUs, prefix, group, profile };
+  return { ms, cpuUs, checkpointMs, prefix, group, profile };
+}
+
+/**
+ * Wall time spent inside the monitor's checkpoints (flush wait, encode, Redis save, offset commit),
+ * during which no batch is processed (they share the partition lock). Measured by wrapping the
+ * private method: the bench's view only, the monitor is unchanged.
+ */
+function timeCheckpoints(mon: Monitor): { reset: () => void; ms: () => number } {
+  const target = mon as unknown as { checkpoint: (...args: unknown[]) => Promise<boolean> };
+  const original = target.checkpoint.bind(mon);
+  let spent = 0;
+  target.checkpoint = async (...args: unknown[]) => {
+    const t0 = performance.now();
+    try {
+      return await original(...args);
+    } finally {
+      spent += performance.now() - t0;
+    }
+  };
+  return { reset: () => (spent = 0), ms: () => spent };
 }
 
 /** The engine alone (parse + judge, no Kafka, no Redis): the ceiling the monitor can reach. */
@@ -379,10 +415,7 @@ async function throughput(
   const topic = name(`in-${form}`);
   const admin = kafka.admin();
   await admin.connect();
-  await admin.createTopics({
-    waitForLeaders: true,
-    topics: [{ topic, numPartitions: PARTITIONS, replicationFactor: 1 }],
-  });
+  await createTopicsWithLeaders(admin, [{ topic, numPartitions: PARTITIONS, replicationFactor: 1 }]);
   try {
     const msgs = readings(SENSORS, PER_SENSOR, Date.UTC(2026, 4, 1), 1, form);
     await produce(kafka, topic, msgs);
@@ -414,6 +447,7 @@ async function throughput(
         bareCpuUsPerReading: Number(bareCpu.toFixed(2)),
         monitorCpuUsPerReading: Number(monCpu.toFixed(2)),
         cpuRatioToBare: Number((bareCpu / monCpu).toFixed(3)),
+        checkpointWallShare: Number((run.checkpointMs / run.ms).toFixed(3)),
       });
       if (pass === 0) {
         const perCommand: Record<string, number> = {};
@@ -443,6 +477,7 @@ async function throughput(
         bareCpuUsPerReading: Number(med('bareCpuUsPerReading').toFixed(2)),
         monitorCpuUsPerReading: Number(med('monitorCpuUsPerReading').toFixed(2)),
         cpuRatioToBare: Number(med('cpuRatioToBare').toFixed(3)),
+        checkpointWallShare: Number(med('checkpointWallShare').toFixed(3)),
       },
       profileSelfTimePercent: areas,
       redis: redisFigures,
@@ -598,10 +633,7 @@ async function scaling(kafka: Kafka, redisUrl: string, alertTopic: string): Prom
       for (const processes of [1, 2]) {
         const topic = name(`scale-${processes}`);
         topics.push(topic);
-        await admin.createTopics({
-          waitForLeaders: true,
-          topics: [{ topic, numPartitions: PARTITIONS, replicationFactor: 1 }],
-        });
+        await createTopicsWithLeaders(admin, [{ topic, numPartitions: PARTITIONS, replicationFactor: 1 }]);
         await produce(kafka, topic, msgs);
         runs.push({
           pass,
@@ -639,23 +671,31 @@ export async function run(): Promise<Record<string, unknown>> {
   const alertTopic = name('alerts');
   const latTopic = name('lat-in');
   const latAlerts = name('lat-alerts');
-  await admin.createTopics({
-    waitForLeaders: true,
-    topics: [topic, alertTopic, latTopic, latAlerts].map((t) => ({
+  await createTopicsWithLeaders(
+    admin,
+    [topic, alertTopic, latTopic, latAlerts].map((t) => ({
       topic: t,
       numPartitions: PARTITIONS,
       replicationFactor: 1,
     })),
-  });
+  );
   const out: Record<string, unknown> = { passes: PASSES };
   const probe = new Redis(url);
   const config: EngineConfig = parseConfigText(BENCH_CONFIG, 'bench');
   const redis = buildRedis({ url });
   try {
+    // The machine is shared: each section says how busy it was (1-minute load average, 2 cores).
+    const loaded = async (section: () => Promise<Record<string, unknown>>) => {
+      const before = loadavg()[0];
+      const figures = await section();
+      return { ...figures, loadAverage: { start: round1(before), end: round1(loadavg()[0]) } };
+    };
     if (SECTIONS.has('throughput'))
       for (const form of TS_FORMS)
-        out[`throughput_${form}`] = await throughput(kafka, mkKafka, url, probe, alertTopic, form, log);
-    if (SECTIONS.has('scaling')) out.scaling = await scaling(kafka, url, alertTopic);
+        out[`throughput_${form}`] = await loaded(() =>
+          throughput(kafka, mkKafka, url, probe, alertTopic, form, log),
+        );
+    if (SECTIONS.has('scaling')) out.scaling = await loaded(() => scaling(kafka, url, alertTopic));
     const prefix = name('sf');
     const group = name('g');
     if (SECTIONS.has('restart')) {

@@ -25,20 +25,20 @@ const held = (): number => {
   // Twice: the first collection may leave objects that only finalisers or weak maps released.
   gc?.();
   gc?.();
-  const m = process.memoryUsage();
-  return m.heapUsed + m.external;
+  const usage = process.memoryUsage();
+  return usage.heapUsed + usage.external;
 };
 
 /** Per sensor, a level that follows the day (peak mid-afternoon) plus noise; the same every run. */
 function readings(): Float64Array[] {
   const rng = mulberry32(11);
-  return Array.from({ length: SENSORS }, (_, i) => {
+  return Array.from({ length: SENSORS }, (_, sensorIndex) => {
     const values = new Float64Array(PER_SENSOR);
-    const level = 40 + (i % 10);
-    for (let k = 0; k < PER_SENSOR; k++) {
-      const dayShare = ((k * STEP_MS) % 86_400_000) / 86_400_000;
+    const level = 40 + (sensorIndex % 10);
+    for (let step = 0; step < PER_SENSOR; step++) {
+      const dayShare = ((step * STEP_MS) % 86_400_000) / 86_400_000;
       const noise = rng() + rng() + rng() + rng() - 2;
-      values[k] = level + 12 * Math.sin(2 * Math.PI * (dayShare - 0.375)) + 1.5 * noise;
+      values[step] = level + 12 * Math.sin(2 * Math.PI * (dayShare - 0.375)) + 1.5 * noise;
     }
     return values;
   });
@@ -54,9 +54,10 @@ let measured: Engine | null = null;
 function feed(config: EngineConfig, names: string[], values: Float64Array[]): number {
   measured = new Engine(config);
   const started = performance.now();
-  for (let k = 0; k < PER_SENSOR; k++) {
-    const ts = T0 + k * STEP_MS;
-    for (let i = 0; i < SENSORS; i++) measured.process({ sensor: names[i], ts, value: values[i][k] });
+  for (let step = 0; step < PER_SENSOR; step++) {
+    const ts = T0 + step * STEP_MS;
+    for (let sensor = 0; sensor < SENSORS; sensor++)
+      measured.process({ sensor: names[sensor], ts, value: values[sensor][step] });
   }
   return (performance.now() - started) / 1000;
 }
@@ -85,7 +86,10 @@ function memory(config: EngineConfig, names: string[], values: Float64Array[]) {
 }
 
 export function run(): Promise<Record<string, unknown>> {
-  const names = Array.from({ length: SENSORS }, (_, i) => `zone-${Math.floor(i / 20)}/flow-${i % 20}`);
+  const names = Array.from(
+    { length: SENSORS },
+    (_, sensor) => `zone-${Math.floor(sensor / 20)}/flow-${sensor % 20}`,
+  );
   const values = readings();
   const off = validateConfig({});
   const on = validateConfig({ defaults: { profile: 'daily', timeZone: 'Europe/Berlin', profileDays: 7 } });

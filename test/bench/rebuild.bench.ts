@@ -12,6 +12,7 @@
  *    at the measured count and at 10,000 sensors, from which the 10,000-sensor rebuild is
  *    estimated (see `target` in the result). STREAMFENCE_BENCH_REBUILD_HOURS shortens the span.
  */
+import { createTopicsWithLeaders } from '../../services/connect/topics.js';
 import { privateRedis } from './private-redis.js';
 import { Kafka, logLevel, type Consumer } from 'kafkajs';
 import pino from 'pino';
@@ -271,18 +272,15 @@ export async function run(): Promise<Record<string, unknown>> {
   const minutes = Math.round(HOURS * 60);
   // The history ends a minute ago, so all of it lies inside the span a warm start re-reads.
   const startMs = Math.floor(Date.now() / MINUTE) * MINUTE - (minutes + 1) * MINUTE;
-  await admin.createTopics({
-    waitForLeaders: true,
-    topics: [
-      {
-        topic,
-        numPartitions: PARTITIONS,
-        replicationFactor: 1,
-        configEntries: [{ name: 'retention.ms', value: String(3 * 24 * HOUR) }],
-      },
-      { topic: alertTopic, numPartitions: 1, replicationFactor: 1 },
-    ],
-  });
+  await createTopicsWithLeaders(admin, [
+    {
+      topic,
+      numPartitions: PARTITIONS,
+      replicationFactor: 1,
+      configEntries: [{ name: 'retention.ms', value: String(3 * 24 * HOUR) }],
+    },
+    { topic: alertTopic, numPartitions: 1, replicationFactor: 1 },
+  ]);
   const { url, proc } = await privateRedis();
   try {
     const p0 = performance.now();

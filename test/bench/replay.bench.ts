@@ -5,7 +5,8 @@
  * epoch milliseconds, against raw baselines measured in the same run on the same file:
  * `node:readline` + JSON.parse (NDJSON) or split(',') (CSV) (the headline baseline), bare stream +
  * indexOf line split with and without the parse, readline alone, and the reader alone (split +
- * parse + validate, no engine). Each figure is the best of two passes. Figures are rows/s and time
+ * parse + validate, no engine), and the engine alone on the same readings held in memory (no
+ * reading, no output: the floor under the replay's time). Each figure is the best of two passes. Figures are rows/s and time
  * ratios: `timeVsReadlineParse` = replay time / baseline time (lower is better).
  */
 import { createReadStream, createWriteStream, rmSync, mkdtempSync, statSync } from 'node:fs';
@@ -14,6 +15,8 @@ import { createInterface } from 'node:readline';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { defaultConfig } from '../../libs/config/config.js';
+import { Engine } from '../../libs/engine/engine.js';
+import type { Reading } from '../../libs/engine/reading.js';
 import { readInput, type InputFormat } from '../../services/replay/input.js';
 import { runReplay } from '../../services/replay/replay.js';
 import { mulberry32 } from './prng.js';
@@ -35,41 +38,41 @@ async function generate(dir: string, form: TsForm): Promise<{ ndjson: string; cs
   );
   const ndjson = join(dir, `bench-${form}.ndjson`);
   const csv = join(dir, `bench-${form}.csv`);
-  const wj = createWriteStream(ndjson);
-  const wc = createWriteStream(csv);
-  wc.write('sensor,ts,value,unit\n');
-  for (let k = 0; k < PER_SENSOR; k++) {
-    const epoch = START + k * 60_000;
+  const ndjsonOut = createWriteStream(ndjson);
+  const csvOut = createWriteStream(csv);
+  csvOut.write('sensor,ts,value,unit\n');
+  for (let minute = 0; minute < PER_SENSOR; minute++) {
+    const epoch = START + minute * 60_000;
     const ts = form === 'iso' ? new Date(epoch).toISOString() : String(epoch);
     const tsJson = form === 'iso' ? `"${ts}"` : ts;
-    let j = '';
-    let c = '';
-    for (let s = 0; s < SENSORS; s++) {
-      const v = (50 + (s % 7) * 3 + gauss() * (1 + (s % 5))).toFixed(3);
-      j += `{"sensor":"${ids[s]}","ts":${tsJson},"value":${v}}\n`;
-      c += `${ids[s]},${ts},${v},degC\n`;
+    let ndjsonText = '';
+    let csvText = '';
+    for (let sensor = 0; sensor < SENSORS; sensor++) {
+      const value = (50 + (sensor % 7) * 3 + gauss() * (1 + (sensor % 5))).toFixed(3);
+      ndjsonText += `{"sensor":"${ids[sensor]}","ts":${tsJson},"value":${value}}\n`;
+      csvText += `${ids[sensor]},${ts},${value},degC\n`;
     }
-    if (!wj.write(j)) await once(wj, 'drain');
-    if (!wc.write(c)) await once(wc, 'drain');
+    if (!ndjsonOut.write(ndjsonText)) await once(ndjsonOut, 'drain');
+    if (!csvOut.write(csvText)) await once(csvOut, 'drain');
   }
-  wj.end();
-  wc.end();
-  await Promise.all([once(wj, 'finish'), once(wc, 'finish')]);
+  ndjsonOut.end();
+  csvOut.end();
+  await Promise.all([once(ndjsonOut, 'finish'), once(csvOut, 'finish')]);
   return { ndjson, csv, rows: SENSORS * PER_SENSOR };
 }
 
-async function timedOnce<T>(f: () => Promise<T>): Promise<{ secs: number; value: T }> {
+async function timedOnce<T>(task: () => Promise<T>): Promise<{ secs: number; value: T }> {
   (globalThis as { gc?: () => void }).gc?.();
-  const t0 = performance.now();
-  const value = await f();
-  return { secs: (performance.now() - t0) / 1000, value };
+  const started = performance.now();
+  const value = await task();
+  return { secs: (performance.now() - started) / 1000, value };
 }
 
 /** Best of PASSES runs (the machine is shared: the fastest pass is the least disturbed one). */
-async function timed<T>(f: () => Promise<T>): Promise<{ secs: number; value: T }> {
-  let best = await timedOnce(f);
-  for (let i = 1; i < PASSES; i++) {
-    const next = await timedOnce(f);
+async function timed<T>(task: () => Promise<T>): Promise<{ secs: number; value: T }> {
+  let best = await timedOnce(task);
+  for (let pass = 1; pass < PASSES; pass++) {
+    const next = await timedOnce(task);
     if (next.secs < best.secs) best = next;
   }
   return best;
@@ -77,57 +80,70 @@ async function timed<T>(f: () => Promise<T>): Promise<{ secs: number; value: T }
 
 /** Bare baseline: stream the file as text and split lines with indexOf; `each` sees every line. */
 async function bareLines(path: string, each: (line: string) => void): Promise<number> {
-  let n = 0;
+  let lines = 0;
   let carry = '';
   const stream = createReadStream(path, { highWaterMark: 256 * 1024, encoding: 'utf8' });
   for await (const chunk of stream as AsyncIterable<string>) {
     let start = 0;
-    let nl = chunk.indexOf('\n');
-    if (nl >= 0 && carry) {
-      each(carry + chunk.slice(0, nl));
-      n++;
+    let newline = chunk.indexOf('\n');
+    if (newline >= 0 && carry) {
+      each(carry + chunk.slice(0, newline));
+      lines++;
       carry = '';
-      start = nl + 1;
-      nl = chunk.indexOf('\n', start);
+      start = newline + 1;
+      newline = chunk.indexOf('\n', start);
     }
-    while (nl >= 0) {
-      each(chunk.slice(start, nl));
-      n++;
-      start = nl + 1;
-      nl = chunk.indexOf('\n', start);
+    while (newline >= 0) {
+      each(chunk.slice(start, newline));
+      lines++;
+      start = newline + 1;
+      newline = chunk.indexOf('\n', start);
     }
     carry += chunk.slice(start);
   }
   if (carry) {
     each(carry);
-    n++;
+    lines++;
   }
-  return n;
+  return lines;
 }
 
 /** `node:readline` over the file; `each` sees every line. */
 async function readlineLines(path: string, each: (line: string) => void): Promise<number> {
-  let n = 0;
-  const rl = createInterface({
+  let lines = 0;
+  const reader = createInterface({
     input: createReadStream(path, { highWaterMark: 256 * 1024 }),
     crlfDelay: Infinity,
   });
-  for await (const line of rl) {
+  for await (const line of reader) {
     each(line);
-    n++;
+    lines++;
   }
-  return n;
+  return lines;
 }
 
-async function readerOnly(path: string, format: InputFormat): Promise<number> {
-  let n = 0;
-  let ok = 0;
+/** The reader alone (split, parse, validate); with `keep`, the readings are collected too. */
+async function readerOnly(path: string, format: InputFormat, keep?: Reading[]): Promise<number> {
+  let records = 0;
+  let accepted = 0;
   for await (const batch of readInput(path, format)) {
-    n += batch.length;
-    for (const r of batch) if (r.result.ok) ok++;
+    records += batch.length;
+    for (const record of batch) {
+      if (!record.result.ok) continue;
+      accepted++;
+      keep?.push(record.result.reading);
+    }
   }
-  if (ok !== n) throw new Error(`reader rejected ${n - ok} generated lines`);
-  return n;
+  if (accepted !== records) throw new Error(`reader rejected ${records - accepted} generated lines`);
+  return records;
+}
+
+/** The engine alone on readings already in memory: the floor under a replay's time. */
+function engineOnly(readings: readonly Reading[]): number {
+  const engine = new Engine(defaultConfig());
+  let events = 0;
+  for (const reading of readings) events += engine.process(reading, 0).events.length;
+  return events;
 }
 
 const rate = (rows: number, secs: number) => Math.round(rows / secs);
@@ -136,19 +152,23 @@ async function measure(path: string, format: InputFormat, outDir: string, rows: 
   let sink = 0;
   const parseLine =
     format === 'ndjson'
-      ? (l: string) => {
-          sink += (JSON.parse(l) as { value: number }).value;
+      ? (line: string) => {
+          sink += (JSON.parse(line) as { value: number }).value;
         }
-      : (l: string) => {
-          sink += l.split(',').length;
+      : (line: string) => {
+          sink += line.split(',').length;
         };
   const split = await timed(() => bareLines(path, () => {}));
   const parse = await timed(() => bareLines(path, parseLine));
-  const rl = await timed(() => readlineLines(path, () => {}));
-  const rlParse = await timed(() => readlineLines(path, parseLine));
+  const readline = await timed(() => readlineLines(path, () => {}));
+  const readlineParse = await timed(() => readlineLines(path, parseLine));
   const reader = await timed(() => readerOnly(path, format));
+  const parsed: Reading[] = [];
+  await readerOnly(path, format, parsed);
+  const engine = await timed(() => Promise.resolve(engineOnly(parsed)));
+  parsed.length = 0;
   const rssBefore = process.memoryUsage().rss;
-  const e2e = await timed(() =>
+  const endToEnd = await timed(() =>
     runReplay({
       source: readInput(path, format),
       config: defaultConfig(),
@@ -156,21 +176,24 @@ async function measure(path: string, format: InputFormat, outDir: string, rows: 
       inputInfo: { path, format },
     }),
   );
-  const s = e2e.value;
-  if (s.readings !== rows) throw new Error(`replay accepted ${s.readings} of ${rows}`);
+  const summary = endToEnd.value;
+  if (summary.readings !== rows) throw new Error(`replay accepted ${summary.readings} of ${rows}`);
   return {
-    readlineParseRowsPerSec: rate(rows, rlParse.secs),
-    readlineRowsPerSec: rate(rows, rl.secs),
+    readlineParseRowsPerSec: rate(rows, readlineParse.secs),
+    readlineRowsPerSec: rate(rows, readline.secs),
     rawSplitRowsPerSec: rate(rows, split.secs),
     rawParseRowsPerSec: rate(rows, parse.secs),
     readerRowsPerSec: rate(rows, reader.secs),
-    endToEndRowsPerSec: rate(rows, e2e.secs),
-    endToEndSeconds: +e2e.secs.toFixed(2),
-    timeVsReadlineParse: +(e2e.secs / rlParse.secs).toFixed(3),
-    timeVsRawParse: +(e2e.secs / parse.secs).toFixed(3),
-    readerTimeVsReadlineParse: +(reader.secs / rlParse.secs).toFixed(3),
-    evaluated: s.evaluated,
-    alertsRaised: s.alerts.raised,
+    engineOnlyRowsPerSec: rate(rows, engine.secs),
+    endToEndRowsPerSec: rate(rows, endToEnd.secs),
+    endToEndSeconds: +endToEnd.secs.toFixed(2),
+    timeVsReadlineParse: +(endToEnd.secs / readlineParse.secs).toFixed(3),
+    timeVsRawParse: +(endToEnd.secs / parse.secs).toFixed(3),
+    readerTimeVsReadlineParse: +(reader.secs / readlineParse.secs).toFixed(3),
+    engineTimeVsReadlineParse: +(engine.secs / readlineParse.secs).toFixed(3),
+    evaluated: summary.evaluated,
+    alertsRaised: summary.alerts.raised,
+    engineEvents: engine.value,
     rssGrowthMB: +((process.memoryUsage().rss - rssBefore) / 1e6).toFixed(1),
     sink: sink > 0,
   };

@@ -2,7 +2,8 @@
  * Benchmark runner (`npm run bench`): runs every test/bench/*.bench.js compiled next to this file,
  * one after another (never in parallel: they would measure each other), and prints each one's
  * figures as JSON. Results also go to test-artifacts/bench.json. Run `npm run bench -- engine`
- * to run only the benches whose file name contains "engine".
+ * to run only the benches whose file name contains "engine". A bench exporting `onlyWhenNamed`
+ * (failover: it starts three brokers) runs only when a filter names it.
  */
 import { existsSync, mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
@@ -36,7 +37,13 @@ async function main(): Promise<void> {
     process.stderr.write(`bench ${name} ...\n`);
     const mod = (await import(pathToFileURL(join(here, f)).href)) as {
       run: () => Promise<Record<string, unknown>>;
+      /** A bench that starts servers of its own and takes minutes runs only when named. */
+      onlyWhenNamed?: boolean;
     };
+    if (mod.onlyWhenNamed && !filter) {
+      process.stderr.write(`bench ${name} skipped (only when named: npm run bench -- ${name})\n`);
+      continue;
+    }
     const started = Date.now();
     results[name] = await mod.run();
     process.stderr.write(`bench ${name} done in ${((Date.now() - started) / 1000).toFixed(1)} s\n`);

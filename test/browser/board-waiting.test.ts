@@ -2,15 +2,15 @@
  * A live board whose Redis does not answer yet, in real headless Chromium: the page loads at once,
  * says above the alerts what it waits for (the retry line the terminal shows), its header says
  * "waiting for Kafka/Redis" instead of "live", and the caution is visible. Nothing listens on the
- * ports given (i15's range in coord.md), so the board stays waiting for the whole test.
+ * ports given (23520-23521, below Linux's ephemeral range 32768-60999), so the board stays waiting for the whole test.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { chromium, type Browser } from 'playwright-core';
 import { startDemo, type DemoProcess } from './demo-process.js';
 
 const ARGS = ['--headless', '--no-sandbox', '--disable-gpu', '--no-first-run'];
-const CLOSED_REDIS_PORT = 38_120;
-const CLOSED_KAFKA_PORT = 38_121;
+const CLOSED_REDIS_PORT = 23_520;
+const CLOSED_KAFKA_PORT = 23_521;
 
 describe('live board page while Kafka/Redis do not answer', () => {
   let board: DemoProcess;

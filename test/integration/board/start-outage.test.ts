@@ -10,9 +10,9 @@ import { createTopic, deleteTopics, kafkaBrokers, redisUrl, uniqueName } from '.
 import { killOwnRedis, startOwnRedis, type OwnRedis } from '../../harness/own-redis.js';
 
 const CLI = 'dist/services/cli/main.js';
-/** Ports of this test's own (i15's range in coord.md): nothing listens there until the test starts it. */
-const LATE_REDIS_PORT = 38_110;
-const DEAD_KAFKA_PORT = 38_111;
+/** Ports of this test's own, below Linux's ephemeral range (32768-60999) so no client socket holds them: nothing listens there until the test starts it. */
+const LATE_REDIS_PORT = 23_510;
+const DEAD_KAFKA_PORT = 23_511;
 
 interface Board {
   child: ChildProcess;

@@ -2,29 +2,30 @@
  * A broker leader dies under a running monitor, on a real three-broker KRaft cluster that this file
  * starts for itself (deploy/local/stack-up.sh --brokers 3 in a stack folder of its own, on ports
  * 24092-24094 with controllers on 24192-24194, below Linux's ephemeral port range (32768-60999), so
- * no client socket can hold one; the shared
- * broker is untouched). Topics: replication factor 3, min.insync.replicas 2.
+ * no client socket can hold one; the shared broker is untouched). Topics: replication factor 3,
+ * min.insync.replicas 2.
  *  1. The leader of the busiest input partition is SIGKILLed mid-stream and restarted later.
  *  2. The leader of the alert partition with the most events is SIGKILLed mid-stream and restarted
  *     later.
  * Each time the monitor keeps going in the same process, every sensor's `seen` is exact, no alert
- * event is lost or invented against the in-process reference (replay's engine), the Kafka backoff is
- * counted, and the pause (SIGKILL to the monitor's next progress) is printed for README.
+ * event is lost or invented against the in-process reference (replay's engine), each sensor's
+ * events come in the reference's order, the Kafka backoff is counted, and the pause (SIGKILL to the
+ * monitor's next progress) is printed. `npm run bench -- failover` measures that pause over several
+ * runs (test/bench/failover.bench.ts).
  *
- * The readings are produced as a plant gateway should: acks from all in-sync replicas, the
- * idempotent producer, each send to one partition (so a send that failed is sent again to that
- * partition only, never doubling what landed elsewhere) and retried until acknowledged. What the
- * topic holds is then compared with what the producer had acknowledged, message by message, so a
- * reading lost by the producer is never blamed on the monitor (or hidden by it).
+ * The readings are produced as a plant gateway should (test/support/kafka-gateway.ts): acks from
+ * all in-sync replicas, the idempotent producer, each send to one partition, retried until
+ * acknowledged. What the topic holds is then compared with what the producer had acknowledged,
+ * message by message, so a reading lost by the producer is never blamed on the monitor (or hidden
+ * by it).
  */
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
-import { Kafka, logLevel, type Admin, type Producer } from 'kafkajs';
+import { Kafka, logLevel, type Admin } from 'kafkajs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { Reading } from '../../../libs/engine/reading.js';
 import { createTopicsWithLeaders } from '../../../services/connect/topics.js';
-import { keyPartitioner } from '../../../services/replay/partitioner.js';
+import { KafkaGateway } from '../../support/kafka-gateway.js';
 import { redisUrl } from '../../harness/services.js';
 import {
   expectExactState,
@@ -44,7 +45,10 @@ const KAFKA_PORT = Number(process.env.STREAMFENCE_TEST_FAILOVER_KAFKA_PORT ?? 24
 const CONTROLLER_PORT = Number(process.env.STREAMFENCE_TEST_FAILOVER_CONTROLLER_PORT ?? 24192);
 const BROKERS = [0, 1, 2].map((i) => `127.0.0.1:${KAFKA_PORT + i}`);
 const INPUT_PARTITIONS = 6;
-/** Several alert partitions: one send of the monitor then goes to several brokers. */
+/**
+ * Several alert partitions on different leaders: the monitor publishes to several brokers at once
+ * (one request per partition, see services/monitor/partition-sends.ts).
+ */
 const ALERT_PARTITIONS = 3;
 const SENSORS = 20;
 const PER_SENSOR = 900;
@@ -58,61 +62,6 @@ interface Cluster {
   kafka: Kafka;
   /** The pid of broker node n (node.id n, 1..3). */
   pid(node: number): number;
-}
-
-/** Sends readings to their partition (as keyed by sensor) until Kafka acknowledges each send. */
-class Gateway {
-  /** Per partition, the readings Kafka acknowledged, in order. */
-  readonly acknowledged = new Map<number, Reading[]>();
-  /** Wall-clock times of failed sends (each sent again). */
-  readonly failures: number[] = [];
-  /** The longest time one send took until acknowledged (retries included). */
-  longestSendMs = 0;
-  private readonly partitionOf = keyPartitioner(INPUT_PARTITIONS);
-
-  constructor(
-    private readonly producer: Producer,
-    private readonly topic: string,
-  ) {}
-
-  /**
-   * Each partition's readings go in sends of `chunk`, `gapMs` apart, one partition independent of
-   * the others (a partition without a leader stalls only its own readings, as with a real client).
-   */
-  async stream(readings: Reading[], chunk: number, gapMs: number): Promise<void> {
-    const byPartition = new Map<number, Reading[]>();
-    for (const r of readings) {
-      const p = this.partitionOf(r.sensor);
-      byPartition.set(p, [...(byPartition.get(p) ?? []), r]);
-    }
-    await Promise.all(
-      [...byPartition].map(async ([partition, list]) => {
-        for (let i = 0; i < list.length; i += chunk) {
-          await this.sendUntilAcknowledged(partition, list.slice(i, i + chunk));
-          if (gapMs > 0) await sleep(gapMs);
-        }
-      }),
-    );
-  }
-
-  private async sendUntilAcknowledged(partition: number, readings: Reading[]): Promise<void> {
-    const messages = readings.map((r) => ({ key: r.sensor, value: JSON.stringify(r), partition }));
-    const started = Date.now();
-    for (let attempt = 1; ; attempt++) {
-      try {
-        await this.producer.send({ topic: this.topic, acks: -1, messages });
-        this.longestSendMs = Math.max(this.longestSendMs, Date.now() - started);
-        this.acknowledged.set(partition, [...(this.acknowledged.get(partition) ?? []), ...readings]);
-        return;
-      } catch (err) {
-        // The idempotent producer sends the same batch again with its sequence numbers, so a send
-        // that did land before the error is not written twice.
-        this.failures.push(Date.now());
-        if (attempt >= 60) throw err;
-        await sleep(500);
-      }
-    }
-  }
 }
 
 /** Every partition of the topics has all three replicas in sync again (after a restart). */
@@ -177,7 +126,12 @@ function longestGap(times: number[], from: number, to: number): number {
 }
 
 /** The topic holds exactly the readings the gateway had acknowledged, per partition, in order. */
-async function expectTopicHoldsAcknowledged(kafka: Kafka, topic: string, gateway: Gateway, produced: number) {
+async function expectTopicHoldsAcknowledged(
+  kafka: Kafka,
+  topic: string,
+  gateway: KafkaGateway,
+  produced: number,
+) {
   const admin = kafka.admin();
   await admin.connect();
   const ends = await admin.fetchTopicOffsets(topic);
@@ -274,7 +228,7 @@ describe('streamfence run: a broker leader dies (three brokers, replication 3, m
     const cut = (share: number) => Math.floor(readings.length * share);
     const producer = kafka.producer({ idempotent: true, maxInFlightRequests: 1 });
     await producer.connect();
-    const gateway = new Gateway(producer, bed.topic);
+    const gateway = new KafkaGateway(producer, bed.topic, INPUT_PARTITIONS);
     await gateway.stream(readings.slice(0, cut(0.25)), 500, 0);
     const mon = bed.spawn(writeTestConfig(), { extra: ['--brokers', BROKERS.join(',')] });
     await waitCheckpointedToEnd(bed.redis, bed.prefix, bed.group, bed.topic, 60_000, kafka);
@@ -288,7 +242,7 @@ describe('streamfence run: a broker leader dies (three brokers, replication 3, m
     const inputLeader = await leaderOf(admin, bed.topic, busiest);
     // Offsets from here on were sent after the kill (one send of CHUNK may be in flight), so only
     // the new leader can have taken them: judging one is the monitor reading that partition again.
-    const sentAfterKill = (gateway.acknowledged.get(busiest)?.length ?? 0) + CHUNK;
+    const sentAfterKill = gateway.acknowledgedCount(busiest) + CHUNK;
     const inputKilledAt = killBroker(inputLeader);
     const inputResumedAt = await checkpointedPast(mon, busiest, sentAfterKill, inputKilledAt);
     await Promise.all([streaming, runStackScript('stack-up.sh', env, ['--brokers', '3'])]);
@@ -318,6 +272,7 @@ describe('streamfence run: a broker leader dies (three brokers, replication 3, m
     await expectExactState(bed, readings, config);
     const checked = await expectNoLostAlerts(bed.alertTopic, readings, config, {
       onlyReferenceEvents: true,
+      inOrder: true,
       kafka,
     });
     expect(checked).toBeGreaterThan(0);

@@ -469,13 +469,19 @@ export async function expectExactState(at: StateLocation, readings: Reading[], c
 /**
  * Every alert event of the reference (`${id}:${state}:${ts}`) is on the alert topic; duplicates are
  * allowed. With onlyReferenceEvents, every live event must also be one of the reference's (a
- * duplicate, never an invented one). Returns how many reference events were checked.
+ * duplicate, never an invented one), and no sensor without reference events has any. With inOrder,
+ * each sensor's events, duplicates dropped, come in the reference's order (a sensor's events share
+ * one partition, read in offset order). Returns how many reference events were checked.
  */
 export async function expectNoLostAlerts(
   alertTopic: string,
   readings: Reading[],
   config: EngineConfig,
-  { onlyReferenceEvents = false, kafka }: { onlyReferenceEvents?: boolean; kafka?: Kafka } = {},
+  {
+    onlyReferenceEvents = false,
+    inOrder = false,
+    kafka,
+  }: { onlyReferenceEvents?: boolean; inOrder?: boolean; kafka?: Kafka } = {},
 ): Promise<number> {
   const key = (e: AlertEvent) => `${e.id}:${e.state}:${e.ts}`;
   const reference = referenceEvents(readings, config);
@@ -492,7 +498,13 @@ export async function expectNoLostAlerts(
       const ref = new Set(events.map(key));
       for (const e of got) expect(ref.has(key(e))).toBe(true);
     }
+    if (inOrder) expect([...ids], `order of ${sensor}'s alert events`).toEqual(events.map(key));
   }
+  if (onlyReferenceEvents)
+    expect(
+      [...live.keys()].filter((sensor) => !reference.has(sensor)),
+      'sensors with alert events the reference does not raise',
+    ).toEqual([]);
   return checked;
 }
 

@@ -9,7 +9,7 @@
  *    an offset it did not write, writes the exact memory state in full, logs and counts it. Only
  *    some sensors read after that, so writing just the changed ones would leave the others behind
  *    and the exact-state check would fail.
- * Ports 37010 (this test only, inside the range coord.md gives this work).
+ * Port 23530 (this test only), below Linux's ephemeral port range (32768-60999), where a client socket could hold it.
  */
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -32,7 +32,7 @@ import {
   writeTestConfig,
 } from './helpers.js';
 
-const PORT = Number(process.env.STREAMFENCE_TEST_RESTART_REDIS_PORT ?? 37010);
+const PORT = Number(process.env.STREAMFENCE_TEST_RESTART_REDIS_PORT ?? 23530);
 const PARTITIONS = 4;
 const AOF_ARGS = ['--save', '', '--appendonly', 'yes', '--appendfsync', 'everysec'];
 

@@ -113,6 +113,21 @@ describe('reading-object fast path', () => {
     );
   });
 
+  it('without the sensor (a Kafka key names it) accepts the same lines and gives the same other fields', () => {
+    fc.assert(
+      fc.property(fc.oneof(readingLike, spelledNumbers, edited), (line) => {
+        const full = scanReadingObject(line);
+        const keyed = scanReadingObject(line, false);
+        if (full === null) {
+          expect(keyed).toBeNull();
+          return;
+        }
+        expect(keyed).toEqual({ ...full, sensor: undefined });
+      }),
+      { numRuns: 30_000 },
+    );
+  });
+
   it('parseJsonReading gives the result of JSON.parse and validation', () => {
     fc.assert(
       fc.property(

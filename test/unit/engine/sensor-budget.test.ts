@@ -2,7 +2,7 @@
 import { describe, expect, it } from 'vitest';
 import { defaultConfig, validateConfig } from '../../../libs/config/config.js';
 import { Engine } from '../../../libs/engine/engine.js';
-import { SensorBudget } from '../../../libs/engine/sensor-budget.js';
+import { PROFILED_SENSOR_WEIGHT, SensorBudget } from '../../../libs/engine/sensor-budget.js';
 
 const T0 = Date.parse('2026-03-01T00:00:00.000Z');
 const HOUR = 3_600_000;
@@ -49,6 +49,52 @@ describe('sensor limit', () => {
     dst.forget('a');
     dst.forget('b');
     expect(dst.process({ sensor: 'd', ts: T0, value: 1 }).accepted).toBe(true);
+  });
+});
+
+describe('sensor limit, weighted by memory', () => {
+  const profiledLines = validateConfig({ sensors: [{ match: 'line-1/*', profile: 'daily' }] });
+
+  it('a profiled sensor takes PROFILED_SENSOR_WEIGHT places, a plain one 1; forgetting gives them back', () => {
+    expect(PROFILED_SENSOR_WEIGHT).toBe(3);
+    const budget = new SensorBudget(7);
+    const engine = new Engine(profiledLines, budget);
+    expect(engine.process({ sensor: 'line-1/a', ts: T0, value: 1 }).accepted).toBe(true);
+    expect(engine.process({ sensor: 'line-1/b', ts: T0, value: 1 }).accepted).toBe(true);
+    expect(budget.used).toBe(6);
+    // One place is left: a plain sensor fits, a profiled one does not.
+    const refused = engine.process({ sensor: 'line-1/c', ts: T0, value: 1 });
+    expect(refused.accepted).toBe(false);
+    if (!refused.accepted) expect(refused.reason).toBe('sensor_limit');
+    expect(engine.process({ sensor: 'line-2/a', ts: T0, value: 1 }).accepted).toBe(true);
+    expect(budget.used).toBe(7);
+    engine.forget('line-1/a');
+    expect(budget.used).toBe(4);
+    expect(engine.process({ sensor: 'line-1/c', ts: T0, value: 1 }).accepted).toBe(true);
+    engine.releaseAll();
+    expect(budget.used).toBe(0);
+  });
+
+  it('restored profiled state counts its weight; replacing a sensor state does not count it twice', () => {
+    const src = new Engine(profiledLines);
+    src.process({ sensor: 'line-1/a', ts: T0, value: 1 });
+    const budget = new SensorBudget(10);
+    const dst = new Engine(profiledLines, budget);
+    dst.restore(src.encode('line-1/a')!);
+    dst.restore(src.encode('line-1/a')!);
+    expect(budget.used).toBe(3);
+  });
+
+  it('idle eviction gives back the places of a profiled sensor', () => {
+    const budget = new SensorBudget(6);
+    const engine = new Engine(validateConfig({ defaults: { profile: 'daily', profileDays: 1 } }), budget);
+    engine.process({ sensor: 'quiet', ts: T0, value: 1 });
+    engine.process({ sensor: 'live', ts: T0 + 2 * DAY, value: 1 });
+    expect(budget.used).toBe(6);
+    // Past both the window and profileDays of silence, a new sensor needs the room: quiet goes.
+    expect(engine.process({ sensor: 'new', ts: T0 + 2 * DAY, value: 1 }).accepted).toBe(true);
+    expect(engine.takeEvicted()).toEqual(['quiet']);
+    expect(budget.used).toBe(6);
   });
 });
 
