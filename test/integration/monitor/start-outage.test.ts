@@ -76,6 +76,11 @@ describe('run started during an outage', () => {
     for (const e of redisLines)
       expect(e.msg).toMatch(/^redis 127\.0\.0\.1:\d+: connection refused; retrying in [\d.]+ s$/);
   }, 90_000);
+});
+
+// Its own topics and group: the test above already created and joined the bed's.
+describe('run stopped while joining its group', () => {
+  const bed = useMonitorBed();
 
   it('SIGTERM while the group join waits on the broker: exit 0 within 10 s, nothing claimed', async () => {
     await bed.createTopics([1, 1, 1]);
