@@ -6,7 +6,11 @@
  * is reported to the caller, which logs its one line (and counts it); the caller also hears when the
  * viewer follows again, to flip its readiness back.
  */
+import { StreamfenceError } from '../../libs/errors/index.js';
+import { kafkaOutage, type Outage } from '../connect/outage.js';
+import type { KafkaSettings } from '../connect/options.js';
 import { backoffDelay } from '../monitor/backoff.js';
+import { onStopSignal } from '../setup/signals.js';
 import { follow, type FollowMessage, type FollowOptions, type Follower } from './follow.js';
 
 /** A follower that ran this long before failing counts as having recovered (the wait starts short). */
@@ -130,4 +134,71 @@ export class ResumingFollower {
     await this.follower?.stop();
     this.resolveDone();
   }
+}
+
+/** How a long-running viewer starts while its dependencies may not answer yet (see startWaitingOutOutages). */
+export interface OutageStartOptions {
+  /** One attempt to start; rejects when a dependency failed. */
+  attempt: () => Promise<void>;
+  /** The failure in words: an outage to wait out (unless its `refusal` is set), or an error to end with. */
+  classify: (err: unknown) => Outage | Error;
+  /** Told once per failed attempt, before waiting `delayMs`: the caller writes its one line. */
+  onRetry: (outage: Outage, delayMs: number, attempt: number) => void;
+  /** Closes what a failed attempt opened, so a refused command exits at once. */
+  cleanUp?: () => Promise<void>;
+}
+
+/**
+ * Starts a long-running viewer (`board`, following `alerts`) whose Kafka or Redis may not answer
+ * yet: an unreachable dependency is an outage that may end, retried with a growing wait and one
+ * line per attempt until it answers or a stop signal comes. A refusal waiting cannot fix (auth,
+ * certificate, ACL, a missing topic) is thrown, so the command ends with its one line (exit 2).
+ * Resolves 'stopped' when a stop signal came before the viewer started (the caller stops whatever
+ * the last attempt started).
+ */
+export async function startWaitingOutOutages(o: OutageStartOptions): Promise<'started' | 'stopped'> {
+  let stopRequested = false;
+  let wake: (() => void) | null = null;
+  const releaseSignals = onStopSignal(() => {
+    stopRequested = true;
+    wake?.();
+  });
+  try {
+    for (let attempt = 1; ; attempt++) {
+      try {
+        await o.attempt();
+        return stopRequested ? 'stopped' : 'started';
+      } catch (err) {
+        await o.cleanUp?.().catch(() => {});
+        const failure = o.classify(err);
+        if (failure instanceof Error) throw failure;
+        if (failure.refusal !== null) throw failure.refusal;
+        if (stopRequested) return 'stopped';
+        const delayMs = backoffDelay(attempt, 1_000);
+        o.onRetry(failure, delayMs, attempt);
+        await new Promise<void>((resolve) => {
+          const timer = setTimeout(resolve, delayMs);
+          wake = () => {
+            clearTimeout(timer);
+            resolve();
+          };
+        });
+        wake = null;
+        if (stopRequested) return 'stopped';
+      }
+    }
+  } finally {
+    releaseSignals();
+  }
+}
+
+/**
+ * A follower's failed start, for startWaitingOutOutages: a typed refusal (a missing topic, an ACL)
+ * ends the command; an unreachable Kafka (follow() wraps it as SERVICE_UNAVAILABLE) or a raw client
+ * error is an outage, worded by its address and cause. `what`: the operation, for ACL wording.
+ */
+export function followStartFailure(err: unknown, s: KafkaSettings, what: string): Outage | Error {
+  if (err instanceof StreamfenceError && err.code !== 'SERVICE_UNAVAILABLE') return err;
+  const cause = err instanceof StreamfenceError ? (err.cause ?? err) : err;
+  return kafkaOutage(cause, s, what);
 }

@@ -18,13 +18,20 @@ import { isSeverity, SEVERITIES, type Severity } from '../../../libs/schema/voca
 import { NOTICE } from '../../../libs/schema/notice.js';
 import { ENV } from '../../config/env.js';
 import { follow } from '../../board/follow.js';
-import { ResumingFollower, type ResumingFollowOptions } from '../../board/resume.js';
+import {
+  ResumingFollower,
+  followStartFailure,
+  startWaitingOutOutages,
+  type ResumingFollowOptions,
+} from '../../board/resume.js';
+import { StreamfenceError } from '../../../libs/errors/index.js';
 import { kafkaOutage, retryLine } from '../../connect/outage.js';
 import {
   KAFKA_OPTIONS,
   buildKafka,
   checkKafka,
   connectionHelp,
+  kafkaFailure,
   kafkaRefusal,
   parseArgsOptions,
   readKafkaSettings,
@@ -166,7 +173,8 @@ function readRequest(args: ParsedArgs): AlertsRequest {
 /**
  * The topics to follow: the alert topic, and the action topic unless --no-actions. A named action
  * topic must exist; the default one is skipped with a note when it does not. `existing` is the
- * one-shot check's topic list, or null when following (then the topics are listed here).
+ * one-shot check's topic list, or null when following (then the topics are listed here, and a
+ * Kafka that does not answer rejects: the start is retried as an outage).
  */
 async function topicsToFollow(
   request: AlertsRequest,
@@ -176,14 +184,12 @@ async function topicsToFollow(
   const topics = [request.alertTopic];
   if (request.noActions) return topics;
   const actionTopic = request.actionTopicOption ?? 'sensor-alert-actions';
-  let exists = existing === null ? true : existing.has(actionTopic);
+  let exists = existing?.has(actionTopic) ?? false;
   if (existing === null) {
     const admin = kafka.admin();
     try {
       await admin.connect();
       exists = (await admin.listTopics()).includes(actionTopic);
-    } catch {
-      // follow() reports an unreachable Kafka with a clear message below.
     } finally {
       await admin.disconnect().catch(() => {});
     }
@@ -350,27 +356,55 @@ async function untilDoneOrStopped(
   }
 }
 
+/** What a follower of `topics` does, for ACL wording. */
+const readWhat = (topics: string[]): string =>
+  `read ${topics.length > 1 ? 'topics' : 'topic'} ${topics.join(' and ')}`;
+
+type FollowBase = Omit<ResumingFollowOptions, 'onRetry' | 'onFollowing' | 'topics'>;
+
 /**
- * Following (not --once): a follower that fails once started (an ACL taken away, a topic deleted,
- * a broker gone) is an outage that may end, as for the board: one line per attempt naming the
- * dependency and the cause, then it goes on from the offsets it had reached. Never an exit.
+ * Following (not --once), as the board does: an unreachable Kafka, at start or later, is an outage
+ * that may end: one line per attempt naming the address and the cause, and once it answers the
+ * view follows (a follower that fails later goes on from the offsets it had reached). A refusal no
+ * wait can fix (a missing topic, an ACL, a certificate) ends the start with its one line. Resolves
+ * null when a stop signal came before following began.
  */
-async function startResumingFollower(
-  options: Omit<ResumingFollowOptions, 'onRetry' | 'onFollowing'>,
-  kafkaSettings: KafkaSettings,
-  readWhat: string,
-): Promise<ResumingFollower> {
-  const follower = new ResumingFollower({
-    ...options,
-    onRetry: (err, delayMs) =>
-      process.stderr.write(
-        `streamfence alerts: ${retryLine(kafkaOutage(err, kafkaSettings, readWhat), delayMs)}\n`,
-      ),
-    onFollowing: () =>
-      process.stderr.write(`streamfence alerts: following ${options.topics.join(' and ')} again\n`),
+async function startFollowing(
+  request: AlertsRequest,
+  kafka: Kafka,
+  options: FollowBase,
+): Promise<ResumingFollower | null> {
+  const { kafkaSettings } = request;
+  const say = (line: string) => process.stderr.write(`streamfence alerts: ${line}\n`);
+  let topics: string[] | null = null;
+  let follower: ResumingFollower | null = null;
+  let waited = false;
+  const started = await startWaitingOutOutages({
+    attempt: async () => {
+      topics ??= await topicsToFollow(request, kafka, null);
+      const followed = topics;
+      follower = new ResumingFollower({
+        ...options,
+        topics: followed,
+        onRetry: (err, delayMs) =>
+          say(retryLine(kafkaOutage(err, kafkaSettings, readWhat(followed)), delayMs)),
+        onFollowing: () => say(`following ${followed.join(' and ')} again`),
+      });
+      await follower.start();
+    },
+    classify: (err) => followStartFailure(err, kafkaSettings, readWhat(topics ?? [request.alertTopic])),
+    onRetry: (outage, delayMs) => {
+      waited = true;
+      say(retryLine(outage, delayMs));
+    },
   });
-  await follower.start();
-  return follower;
+  const last = follower as ResumingFollower | null;
+  if (started === 'stopped') {
+    await last?.stop();
+    return null;
+  }
+  if (waited) say(`following ${topics!.join(' and ')}`);
+  return last;
 }
 
 export async function main(argv: string[]): Promise<number> {
@@ -398,8 +432,9 @@ export async function main(argv: string[]): Promise<number> {
   const tagger = new GroupTagger(readGroupRule(args, process.env, CMD));
 
   printBanner(CMD);
-  const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-alerts', retries: 5 });
-  const topics = await topicsToFollow(request, kafka, existing);
+  // Following retries fewer times per attempt (as the board): each start attempt is then one line
+  // within a few seconds; a one-shot look keeps more, to ride out a broker's short hiccup.
+  const kafka = buildKafka(kafkaSettings, { clientId: 'streamfence-alerts', retries: once ? 5 : 2 });
   const printer = new TimeOrderedPrinter();
   let caughtUp = false;
   // Unref'd: a failed start must not be kept alive by this timer.
@@ -407,10 +442,8 @@ export async function main(argv: string[]): Promise<number> {
     if (caughtUp && !once) printer.flush();
   }, REORDER_MS).unref();
 
-  const readWhat = `read ${topics.length > 1 ? 'topics' : 'topic'} ${topics.join(' and ')}`;
-  const followOptions = {
+  const followOptions: FollowBase = {
     kafka,
-    topics,
     sinceMs: request.sinceMs,
     role: 'alerts',
     maxWaitMs: FETCH_WAIT_MS,
@@ -421,12 +454,20 @@ export async function main(argv: string[]): Promise<number> {
     onMessage: messageHandler(request, printer, tagger),
   };
   try {
-    const follower = once
-      ? await follow({ ...followOptions, untilEnd: true })
-      : await startResumingFollower(followOptions, kafkaSettings, readWhat);
-    await untilDoneOrStopped(follower, printer);
-  } catch (err) {
-    throw kafkaRefusal(err, kafkaSettings, readWhat) ?? err;
+    if (once) {
+      const topics = await topicsToFollow(request, kafka, existing);
+      try {
+        await untilDoneOrStopped(await follow({ ...followOptions, topics, untilEnd: true }), printer);
+      } catch (err) {
+        // The broker went away since the check: the same one line as the check gives.
+        throw err instanceof StreamfenceError && err.code === 'SERVICE_UNAVAILABLE'
+          ? kafkaFailure(err.cause ?? err, kafkaSettings, readWhat(topics))
+          : (kafkaRefusal(err, kafkaSettings, readWhat(topics)) ?? err);
+      }
+    } else {
+      const follower = await startFollowing(request, kafka, followOptions);
+      if (follower !== null) await untilDoneOrStopped(follower, printer);
+    }
   } finally {
     clearInterval(reorder);
   }

@@ -39,8 +39,8 @@ import {
   stringOption,
 } from '../../setup/args.js';
 import { kafkaOutage, redisOutage, retryLine, RedisErrorWatch, type Outage } from '../../connect/outage.js';
-import { backoffDelay } from '../../monitor/backoff.js';
-import { onStopSignal, untilStopSignal } from '../../setup/signals.js';
+import { followStartFailure, startWaitingOutOutages } from '../../board/resume.js';
+import { untilStopSignal } from '../../setup/signals.js';
 import { parseSince } from './alerts.js';
 
 const CMD = 'board';
@@ -197,10 +197,10 @@ async function shareOrRefuse(
 
 /**
  * Starts the feed, waiting out an unreachable Kafka or Redis as an outage that may end (as `run`
- * does): one line per attempt, retried until it answers or a stop signal comes; the board (already
- * serving) shows the same line and stays not ready meanwhile. A refusal waiting cannot fix (auth,
- * certificate, ACL, a missing topic) is thrown (exit 2). Resolves 'stopped' when a stop signal
- * came first.
+ * does, with the loop following `alerts` shares): one line per attempt, retried until it answers or
+ * a stop signal comes; the board (already serving) shows the same line and stays not ready
+ * meanwhile. A refusal waiting cannot fix (auth, certificate, ACL, a missing topic) is thrown
+ * (exit 2). Resolves 'stopped' when a stop signal came first.
  */
 async function startFeedWaitingOutOutages(
   feed: LiveFeed,
@@ -210,51 +210,24 @@ async function startFeedWaitingOutOutages(
   metrics: LiveBoardMetrics,
 ): Promise<'started' | 'stopped'> {
   const redisWatch = new RedisErrorWatch(redis);
-  let stopRequested = false;
-  let wake: (() => void) | null = null;
-  const releaseEarlyStop = onStopSignal(() => {
-    stopRequested = true;
-    wake?.();
+  let dependency: 'kafka' | 'redis' = 'redis';
+  const started = await startWaitingOutOutages({
+    attempt: async () => {
+      dependency = 'redis';
+      await redis.ping();
+      dependency = 'kafka';
+      await feed.start();
+    },
+    // Whatever the feed opened (its producer) is closed, so a refused board exits at once.
+    cleanUp: () => feed.stop(),
+    classify: (err) =>
+      dependency === 'redis'
+        ? redisOutage(err, request.redisSettings, redisWatch.lastError)
+        : followStartFailure(err, request.kafkaSettings, readWhat(request)),
+    onRetry: (outage, delayMs) => readiness.wait(noteRetry(metrics, outage, delayMs)),
   });
-  try {
-    for (let attempt = 1; ; attempt++) {
-      let dependency: 'kafka' | 'redis' = 'redis';
-      try {
-        await redis.ping();
-        dependency = 'kafka';
-        await feed.start();
-        readiness.markReady();
-        return 'started';
-      } catch (err) {
-        // Whatever the feed opened (its producer) is closed, so a refused board exits at once.
-        await feed.stop().catch(() => {});
-        // follow() wraps an unreachable Kafka as SERVICE_UNAVAILABLE: that one is an outage too.
-        const typed = err instanceof StreamfenceError && err.code !== 'SERVICE_UNAVAILABLE' ? err : null;
-        const cause = err instanceof StreamfenceError && typed === null ? (err.cause ?? err) : err;
-        const outage =
-          typed !== null
-            ? null
-            : dependency === 'redis'
-              ? redisOutage(cause, request.redisSettings, redisWatch.lastError)
-              : kafkaOutage(cause, request.kafkaSettings, readWhat(request));
-        const final = typed ?? outage!.refusal;
-        if (final !== null) throw final;
-        const delayMs = backoffDelay(attempt, 1_000);
-        readiness.wait(noteRetry(metrics, outage!, delayMs));
-        await new Promise<void>((resolve) => {
-          const timer = setTimeout(resolve, delayMs);
-          wake = () => {
-            clearTimeout(timer);
-            resolve();
-          };
-        });
-        wake = null;
-        if (stopRequested) return 'stopped';
-      }
-    }
-  } finally {
-    releaseEarlyStop();
-  }
+  if (started === 'started') readiness.markReady();
+  return started;
 }
 
 export async function main(argv: string[]): Promise<number> {
