@@ -170,7 +170,7 @@ export function profileNote(base: EngineConfig): string {
     overridden.length === 0
       ? ''
       : ` and the profile overrides of ${overridden.map((rule) => `"${rule.match}"`).join(', ')}`;
-  return `tune: every point keeps the config's profile setting (${own}${rules}); the grid does not vary profile, timeZone or profileDays: tune once per setting to compare them`;
+  return `streamfence tune: every point keeps the config's profile setting (${own}${rules}); the grid does not vary profile, timeZone or profileDays: tune once per setting to compare them`;
 }
 
 /** Replay and score the labelled history with every grid point, recommend one and write the outputs. */

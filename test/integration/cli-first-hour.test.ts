@@ -179,6 +179,9 @@ const ROWS: Row[] = [
   // The shared broker's listener is PLAINTEXT: it drops a TLS hello.
   ['alerts --once: --kafka-tls against a plain listener', () => ['alerts', '--once', '--brokers', brokers(), '--kafka-tls'], none, 'TLS_FAILED', () => /^streamfence: kafka: \S+ ended the connection during the TLS handshake; check that this port is a TLS listener/],
   ['replay: --kafka-tls against a plain listener', () => ['replay', `kafka://${missingTopic}`, '--brokers', brokers(), '--kafka-tls', '--from', '2026-04-01T00:00:00Z', '--to', '2026-04-02T00:00:00Z', '--out', p('o6')], none, 'TLS_FAILED', () => /ended the connection during the TLS handshake/],
+  // alerts following (no --once): a missing topic is a refusal too; a closed port is waited out (board/alerts-outage.test.ts)
+  ['alerts (following): missing alert topic', () => ['alerts', '--brokers', brokers(), '--alert-topic', missingTopic, '--no-actions'], none, 'NOT_FOUND', () => new RegExp(`topic "${missingTopic}" does not exist`)],
+  ['alerts (following): missing action topic named', () => ['alerts', '--brokers', brokers(), '--alert-topic', presentTopic, '--action-topic', missingTopic], none, 'NOT_FOUND', () => new RegExp(`topic "${missingTopic}" does not exist \\(--action-topic\\)`)],
   ['alerts: --since without a zone', () => ['alerts', '--once', '--brokers', brokers(), '--since', '2026-12-02T05:00:00'], none, 'ARGS_INVALID', () => /--since "2026-12-02T05:00:00" must be a time with a zone/],
   // topics
   ['topics: closed Kafka port', () => ['topics', 'check', '--brokers', `127.0.0.1:${deadPort}`], none, 'SERVICE_UNAVAILABLE', () => new RegExp(`^streamfence: kafka 127\\.0\\.0\\.1:${deadPort}: connection refused`)],

@@ -196,7 +196,11 @@ async function topicsToFollow(
   }
   if (exists) topics.push(actionTopic);
   else if (request.actionTopicOption !== undefined)
-    usageError(`the action topic "${actionTopic}" does not exist`, CMD);
+    // Worded as the board and follow() word a missing topic (not an argument mistake: the name may be right).
+    throw new StreamfenceError(
+      'NOT_FOUND',
+      `Kafka topic "${actionTopic}" does not exist (--action-topic); check the topic name or create it first`,
+    );
   else
     process.stderr.write(`streamfence alerts: no action topic "${actionTopic}"; showing alert events only\n`);
   return topics;

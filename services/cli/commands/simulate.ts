@@ -241,7 +241,7 @@ export async function main(argv: string[]): Promise<number> {
   }
   const labels = sim.labels().length;
   progress.finish(
-    `simulate: ${scenario}, ${sim.sensors().length} sensors, ${formatCount(n)} readings, ${labels} labelled faults` +
+    `streamfence simulate: ${scenario}, ${sim.sensors().length} sensors, ${formatCount(n)} readings, ${labels} labelled faults` +
       (where ? ` -> ${where}` : '') +
       ` in ${formatSeconds(progress.elapsedSeconds)}`,
   );

@@ -9,7 +9,7 @@ import { profileNote } from '../../../services/tune/tune.js';
 describe('tune profile note', () => {
   it('names the default profile when none is set', () => {
     expect(profileNote(validateConfig({}))).toBe(
-      "tune: every point keeps the config's profile setting (profile none); the grid does not vary profile, timeZone or profileDays: tune once per setting to compare them",
+      "streamfence tune: every point keeps the config's profile setting (profile none); the grid does not vary profile, timeZone or profileDays: tune once per setting to compare them",
     );
   });
 
@@ -23,7 +23,7 @@ describe('tune profile note', () => {
       ],
     });
     expect(profileNote(config)).toBe(
-      'tune: every point keeps the config\'s profile setting (profile daily, timeZone Europe/Berlin, profileDays 5 and the profile overrides of "boiler-*/flow", "yard/*"); the grid does not vary profile, timeZone or profileDays: tune once per setting to compare them',
+      'streamfence tune: every point keeps the config\'s profile setting (profile daily, timeZone Europe/Berlin, profileDays 5 and the profile overrides of "boiler-*/flow", "yard/*"); the grid does not vary profile, timeZone or profileDays: tune once per setting to compare them',
     );
   });
 });

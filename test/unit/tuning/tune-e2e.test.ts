@@ -62,7 +62,7 @@ describe('simulate + tune', () => {
     expect(readFileSync(p('out/report.html'), 'utf8')).toContain('<html');
     // The grid leaves the profile as the config has it, and says so first.
     expect(sink.chunks.join('')).toMatch(
-      /^tune: every point keeps the config's profile setting \(profile none\);/,
+      /^streamfence tune: every point keeps the config's profile setting \(profile none\);/,
     );
     expect(sink.chunks.join('')).toMatch(
       /^streamfence tune: 8 points x 34\.\dk readings .* recommended #\d+ \(fenceK=[^)]*\): recall .*within the budget/m,
