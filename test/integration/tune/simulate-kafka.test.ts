@@ -69,9 +69,10 @@ describe('simulate to Kafka', () => {
     );
   });
 
-  it('the CLI produces to a new topic; an unreachable broker fails with SERVICE_UNAVAILABLE', async () => {
+  it('the CLI produces to a new topic, by default ending the span at the current time; an unreachable broker fails with SERVICE_UNAVAILABLE', async () => {
     const topic = uniqueName('sim-cli');
     topics.push(topic);
+    const before = Date.now();
     const code = await simulate([
       '--kafka',
       topic,
@@ -85,7 +86,17 @@ describe('simulate to Kafka', () => {
       '9',
     ]);
     expect(code).toBe(0);
-    expect(await consumeAll(topic, 180)).toHaveLength(180);
+    const after = Date.now();
+    const got = await consumeAll(topic, 180);
+    expect(got).toHaveLength(180);
+    // Without --start the hour ends now (so a topic's retention keeps it): readings a minute apart,
+    // the last one within two intervals before the call, none after it; message time = reading time.
+    const times = got.map((m) => Number(m.timestamp));
+    expect(Math.max(...times)).toBeGreaterThan(before - 2 * 60_000);
+    expect(Math.max(...times)).toBeLessThanOrEqual(after);
+    expect(Math.min(...times)).toBeGreaterThan(before - 3_600_000 - 2 * 60_000);
+    for (const m of got)
+      expect((JSON.parse(m.value) as { ts: string }).ts).toBe(new Date(Number(m.timestamp)).toISOString());
     await expect(
       produceReadings(new PlantSimulator(OPTS), uniqueName('nowhere'), { brokers: ['127.0.0.1:1'] }),
     ).rejects.toMatchObject({
