@@ -153,8 +153,10 @@ describe('processMemoryBudget', () => {
     expect(HEAP_BYTES_PER_SENSOR).toBe(40_960);
     // 50,000 x 40 KiB x 1.25 = 2,441.4 MiB; + 256 = 2,697.4 -> 2,698 (the deploy/k8s figure).
     expect(processMemoryBudget(DEFAULT_MAX_SENSORS)).toEqual({ memoryMiB: 2_698, heapMiB: 2_570 });
-    // 1,000 x 40 KiB x 1.25 = 48.8 MiB; + 256 -> 305 (the live test's budget).
+    // 1,000 x 40 KiB x 1.25 = 48.8 MiB; + 256 -> 305.
     expect(processMemoryBudget(1_000)).toEqual({ memoryMiB: 305, heapMiB: 177 });
+    // 200 x 40 KiB x 1.25 = 9.8 MiB; + 256 -> 266 (the live test's budget, sensor-limit-memory.test.ts).
+    expect(processMemoryBudget(200)).toEqual({ memoryMiB: 266, heapMiB: 138 });
     expect(processMemoryBudget(1)).toEqual({ memoryMiB: 257, heapMiB: 129 });
   });
 
