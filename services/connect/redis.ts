@@ -132,3 +132,36 @@ export async function connectRedis(redis: RedisClient, s: RedisSettings): Promis
     redis.off('error', keep);
   }
 }
+
+/** What a readiness check found: Redis answers, and on a cluster how many primaries were asked. */
+export interface RedisAnswer {
+  ok: boolean;
+  /** Primaries in the client's slot map (a cluster only); ok means every one answered PING. */
+  primaries?: number;
+}
+
+/**
+ * Whether Redis answers, for /readyz. One server: PING. A cluster: PING to every primary of the
+ * client's slot map, each within timeoutMs; one PING to any node would pass while a dead primary's
+ * slots (and the checkpoints of partitions there) are down, until its replica is promoted and the
+ * client's map names the new primary.
+ */
+export async function redisAnswers(redis: RedisClient, timeoutMs: number): Promise<RedisAnswer> {
+  const pong = async (node: Redis): Promise<boolean> => {
+    let timer: NodeJS.Timeout | undefined;
+    const late = new Promise<string>((resolve) => {
+      timer = setTimeout(() => resolve('timeout'), timeoutMs);
+    });
+    try {
+      return (await Promise.race([node.ping(), late])) === 'PONG';
+    } catch {
+      return false;
+    } finally {
+      clearTimeout(timer);
+    }
+  };
+  if (!isClusterClient(redis)) return { ok: await pong(redis) };
+  const primaries = redis.nodes('master');
+  const answers = await Promise.all(primaries.map(pong));
+  return { ok: primaries.length > 0 && answers.every(Boolean), primaries: primaries.length };
+}
