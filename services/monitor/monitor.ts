@@ -480,7 +480,9 @@ export class Monitor {
         joined: this.joined,
         kafka: !this.kafkaDown,
         redis: redis.ok,
-        ...(redis.primaries === undefined ? {} : { redisPrimaries: redis.primaries }),
+        ...(redis.primaries === undefined
+          ? {}
+          : { redisPrimaries: redis.primaries, redisSlotsDown: redis.slotsDown }),
         partitions: [...this.assigned].sort((a, b) => a - b),
       },
     };

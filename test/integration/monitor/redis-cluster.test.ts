@@ -11,7 +11,8 @@
  * `inspect` reads every sensor back by scanning every primary, and stack-up run again brings the
  * killed node back as a replica. On the TLS cluster the monitor runs as the ACL user `monitor`
  * (keys sf*), `inspect` as the read-only `reader`, `board` records an acknowledgement as
- * `monitor`, `/readyz` answers 200 once every primary answers, and no password is printed.
+ * `monitor`, and no password is printed. On both, `/readyz` answers 503 after the kill (slots
+ * without a live primary) and 200 again once the replica is promoted.
  * Ports (below Linux's ephemeral port range, 32768-60999): plain 21021-21026, TLS 21100-21105;
  * bus ports port + 10000.
  */
@@ -108,7 +109,24 @@ async function killSlotPrimaryMidStream(
     }
   })();
   await sleep(1_000);
+  const metricsPort = await mon.metricsPort();
+  const readyz = async () => {
+    const res = await fetch(`http://127.0.0.1:${metricsPort}/readyz`);
+    return { status: res.status, body: (await res.json()) as Record<string, unknown> };
+  };
+  expect((await readyz()).status).toBe(200);
   process.kill(cluster.pidOf(victim), 'SIGKILL');
+  // Until the replica is promoted, /readyz says Redis is not all there (the dead primary's slots).
+  const notReady = await waitFor(
+    '/readyz 503 after the kill',
+    async () => {
+      const r = await readyz();
+      return r.status === 503 ? r.body : null;
+    },
+    10_000,
+  );
+  expect(notReady).toMatchObject({ ready: false, redis: false });
+  expect(notReady.redisSlotsDown).toBeGreaterThan(0);
   const successor = await waitFor('a replica promoted for the slot', async () => {
     const p = await cluster.primaryOfSlot(witness, slot);
     return p !== null && p !== victim ? p : null;
@@ -193,7 +211,7 @@ describe('run, inspect and board on a TLS Redis Cluster with ACL users', () => {
       .poll(async () => (await fetch(`http://127.0.0.1:${port}/readyz`)).status, { timeout: 20_000 })
       .toBe(200);
     const ready = (await (await fetch(`http://127.0.0.1:${port}/readyz`)).json()) as Record<string, unknown>;
-    expect(ready).toMatchObject({ ready: true, redis: true, redisPrimaries: 3 });
+    expect(ready).toMatchObject({ ready: true, redis: true, redisPrimaries: 3, redisSlotsDown: 0 });
 
     // The read-only user cannot write: the ACL holds on every node.
     const reader = cluster.settings('reader');
