@@ -9,7 +9,8 @@ import { isIP } from 'node:net';
 import { Cluster, Redis, type ClusterOptions, type RedisOptions } from 'ioredis';
 import { readPem } from './files.js';
 import type { RedisSettings } from './options.js';
-import { parseRedisUrl, type RedisTarget } from './redis-url.js';
+import { noteRedisAnswered } from './answered.js';
+import { parseRedisUrl, redisAddresses, type RedisTarget } from './redis-url.js';
 import { redisFailure, redisRefusal } from './refusals.js';
 
 /** A client of one Redis server or of a Redis Cluster: both take the same commands and scripts. */
@@ -104,6 +105,8 @@ export function buildRedis(s: RedisSettings, o: RedisClientOptions = {}): RedisC
     : new Redis(redisOptions(s, o));
   // Errors are reported by the calls that fail; without a listener ioredis prints them itself.
   r.on('error', () => {});
+  // Once ready, a later close of this address is a connection lost, not a TLS hint (answered.ts).
+  r.on('ready', () => noteRedisAnswered(redisAddresses(t)));
   return r;
 }
 
