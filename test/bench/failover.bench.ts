@@ -3,18 +3,25 @@
  * a three-broker KRaft cluster of the bench's own (deploy/local/stack-up.sh --brokers 3 in a stack
  * folder of its own, with its own Redis), replication 3, min.insync.replicas 2. Each run makes
  * fresh topics, starts `streamfence run` (the built CLI), streams readings as a plant gateway does
- * (test/support/kafka-gateway.ts), SIGKILLs the leader of the busiest input partition and reports
- *  - input pause: SIGKILL to the first checkpoint past a reading of that partition that was sent
- *    after the kill (the monitor judged it; checkpoints every 200 ms, the resolution);
+ * (test/support/kafka-gateway.ts), SIGKILLs one broker and reports
+ *  - input pause: SIGKILL to the first checkpoint past a reading of the watched input partition
+ *    (one the dead broker led) that was sent after the kill (the monitor judged it; checkpoints
+ *    every 200 ms, the resolution);
  *  - alert pause: SIGKILL to the first alert event appended (broker LogAppendTime) on the alert
  *    partition the dead broker led, with the longest gap between appends there in the 5 s before
  *    the kill (the figure's resolution: alerts are raised every few hundred milliseconds);
- * then restarts the broker and waits until every replica is in sync again. The machine's load
- * average is reported with each run, and the monitor's log lines between the kill and the resume
- * (what it waited on). Runs: STREAMFENCE_BENCH_FAILOVER_RUNS (default 3); the monitor's
- * --session-timeout-ms: STREAMFENCE_BENCH_FAILOVER_SESSION_MS (default: the monitor's). Ports
- * (all below Linux's ephemeral range): STREAMFENCE_BENCH_FAILOVER_PORT (default 20592: brokers
- * 20592-20594, controllers 20692-20694, Redis 20600).
+ *  - the phases in between (`phases`): the partitions' new leader in the survivors' metadata
+ *    (polled every 200 ms), the gateway's first acknowledged send, the monitor's first fetch of a
+ *    reading sent after the kill (its debug 'batch' line), the checkpoint, the alert append;
+ * then restarts the broker and waits until every replica is in sync again. The broker killed is
+ * the leader of the busiest input partition that the group's coordinator does not lead, or the
+ * coordinator itself (STREAMFENCE_BENCH_FAILOVER_KILL: leader, coordinator, or alternate, the
+ * default). The machine's load average is reported with each run, the monitor's log lines between
+ * the kill and the resume by message (count, first time), and each run's whole monitor log is
+ * kept in test-artifacts/bench-failover/. Runs: STREAMFENCE_BENCH_FAILOVER_RUNS (default 3); the
+ * monitor's --session-timeout-ms: STREAMFENCE_BENCH_FAILOVER_SESSION_MS (default: the monitor's).
+ * Ports (all below Linux's ephemeral range): STREAMFENCE_BENCH_FAILOVER_PORT (default 20592:
+ * brokers 20592-20594, controllers 20692-20694, Redis 20600).
  */
 import { spawn, type ChildProcess } from 'node:child_process';
 import {
@@ -171,6 +178,22 @@ async function checkpointedPast(mon: MonitorChild, partition: number, offset: nu
   }
 }
 
+/**
+ * A topic's offsets, asked again (every 500 ms, 20 times at most) while leaders move: a broker
+ * restarted by the previous run takes its preferred leaderships back, and a request that lands
+ * meanwhile fails with "not the leader" (it ended a run once).
+ */
+async function offsetsOf(admin: Admin, topic: string) {
+  for (let attempt = 1; ; attempt++) {
+    try {
+      return await admin.fetchTopicOffsets(topic);
+    } catch (err) {
+      if (attempt >= 20) throw err;
+      await sleep(500);
+    }
+  }
+}
+
 /** When the monitor first fetched a batch of `partition` reaching `offset` after `after` (its debug 'batch' line), or null. */
 function fetchedPast(mon: MonitorChild, partition: number, offset: number, after: number): number | null {
   const hit = mon.entries.find(
@@ -282,7 +305,7 @@ async function waitFullySynced(admin: Admin, topics: string[]): Promise<void> {
 async function appendTimes(kafka: Kafka, topic: string, partition: number, until: number): Promise<number[]> {
   const admin = kafka.admin();
   await admin.connect();
-  const end = Number((await admin.fetchTopicOffsets(topic)).find((o) => o.partition === partition)!.high);
+  const end = Number((await offsetsOf(admin, topic)).find((o) => o.partition === partition)!.high);
   await admin.disconnect();
   const times: number[] = [];
   if (end === 0) return times;
@@ -337,6 +360,13 @@ interface RunResult {
      * lead, from the kill to the resume: whether the partitions on live brokers stood still too.
      */
     othersLongestGapMs: number | null;
+    /**
+     * The first time the Kafka client's consumer gave up and restarted after the kill (its
+     * 'Crash:' line), or null: after a coordinator's death it does so once its heartbeats to the
+     * dead broker have failed, and joins again as a new member, which the new coordinator holds
+     * until the old member's session expires (firstRejoinMs): a second stop after the resume.
+     */
+    firstConsumerCrashMs: number | null;
     /** 'partitions assigned' lines after the kill (each a rejoin of the group). */
     rejoins: number;
     firstRejoinMs: number | null;
@@ -375,7 +405,7 @@ function linesBetween(
 async function waitAlerts(admin: Admin, topic: string, count: number): Promise<void> {
   const deadline = Date.now() + 180_000;
   for (;;) {
-    const ends = await admin.fetchTopicOffsets(topic);
+    const ends = await offsetsOf(admin, topic);
     if (ends.every((o) => Number(o.high) >= count)) return;
     if (Date.now() > deadline)
       throw new Error(`alert topic ${topic}: fewer than ${count} events per partition in 180 s`);
@@ -448,7 +478,7 @@ async function oneRun(stack: Stack, run: number, victim: Victim): Promise<RunRes
   const streaming = streamUntil(gateway, stop);
   try {
     await waitAlerts(admin, names.alerts, 20);
-    const ends = await admin.fetchTopicOffsets(names.input);
+    const ends = await offsetsOf(admin, names.input);
     const meta = await admin.fetchTopicMetadata({ topics: [names.input, names.alerts] });
     const partitionsOf = (topic: string) => meta.topics.find((t) => t.name === topic)!.partitions;
     const coordinatorNode = await coordinatorOf(admin, names.group);
@@ -468,9 +498,7 @@ async function oneRun(stack: Stack, run: number, victim: Victim): Promise<RunRes
     const alertEnd =
       alertPartition === null
         ? 0
-        : Number(
-            (await admin.fetchTopicOffsets(names.alerts)).find((o) => o.partition === alertPartition)!.high,
-          );
+        : Number((await offsetsOf(admin, names.alerts)).find((o) => o.partition === alertPartition)!.high);
     // Offsets from here on were sent after the kill (one send of CHUNK may be in flight).
     const sentAfterKill = gateway.acknowledgedCount(busiest) + CHUNK;
     const loadAverage1m = loadavg()[0];
@@ -534,6 +562,7 @@ async function oneRun(stack: Stack, run: number, victim: Victim): Promise<RunRes
         .map((e) => e.time),
       resumedAt,
     ];
+    const crash = mon.entries.find((e) => e.time > killedAt && String(e.msg).startsWith('Crash:'));
     const rejoins = mon.entries.filter((e) => e.msg === 'partitions assigned' && e.time > killedAt);
     return {
       victim,
@@ -551,6 +580,7 @@ async function oneRun(stack: Stack, run: number, victim: Victim): Promise<RunRes
         alertAppendedMs: alertPauseMs,
         othersLongestGapMs:
           others.size === 0 ? null : Math.max(...otherBatches.slice(1).map((t, i) => t - otherBatches[i])),
+        firstConsumerCrashMs: since(crash?.time),
         rejoins: rejoins.filter((e) => e.time <= resumedAt).length,
         firstRejoinMs: since(rejoins[0]?.time),
       },
