@@ -127,31 +127,14 @@ start_kafka_cluster() {
 
 # Stops every node this folder started (found by pid file), all at once: stopped one by one, the
 # last ones would wait for a controller quorum that is already gone.
+kafka_cluster_node_of() {
+  local n="${1##*/kafka-}"
+  echo "${n%.pid}"
+}
+kafka_cluster_node_name() { echo "Kafka node $(kafka_cluster_node_of "$1")"; }
+kafka_cluster_node_marker() { echo "$(cluster_dir "$(kafka_cluster_node_of "$1")")/server.properties"; }
 stop_kafka_cluster() {
-  local file n pids=() pid
-  for file in "$STACK_DIR"/kafka-*.pid; do
-    [[ -e "$file" ]] || continue
-    n="${file##*/kafka-}"
-    n="${n%.pid}"
-    if pid_alive "$file" "$(cluster_dir "$n")/server.properties"; then
-      pid="$(cat "$file")"
-      say "stopping Kafka node $n (pid $pid)"
-      kill -TERM "$pid" 2>/dev/null || true
-      pids+=("$pid")
-    fi
-    rm -f "$file"
-  done
-  local waited=0
-  for pid in "${pids[@]}"; do
-    while kill -0 "$pid" 2>/dev/null && ((waited < 150)); do
-      sleep 0.2
-      waited=$((waited + 1))
-    done
-    if kill -0 "$pid" 2>/dev/null; then
-      say "Kafka pid $pid did not stop in 30s; killing it"
-      kill -KILL "$pid" 2>/dev/null || true
-    fi
-  done
+  stop_pid_files_together 30 kafka_cluster_node_name kafka_cluster_node_marker "$STACK_DIR"/kafka-*.pid
 }
 
 wipe_kafka_cluster() {

@@ -29,19 +29,24 @@ STACK_SECURE=no
 STACK_WIPE=no
 STACK_BROKERS=1
 STACK_REDIS_CLUSTER=no
+STACK_REDIS_CLUSTER_TLS=no
 parse_stack_args() {
   while (($# > 0)); do
     case "$1" in
       --secure) STACK_SECURE=yes ;;
       --wipe) STACK_WIPE=yes ;;
       --redis-cluster) STACK_REDIS_CLUSTER=yes ;;
+      --redis-cluster-tls)
+        STACK_REDIS_CLUSTER=yes
+        STACK_REDIS_CLUSTER_TLS=yes
+        ;;
       --brokers=*) STACK_BROKERS="${1#--brokers=}" ;;
       --brokers)
         (($# > 1)) || die "--brokers needs a count: 1 or 3"
         STACK_BROKERS="$2"
         shift
         ;;
-      *) die "unknown argument '$1' (known: --secure, --wipe, --brokers 1|3, --redis-cluster)" ;;
+      *) die "unknown argument '$1' (known: --secure, --wipe, --brokers 1|3, --redis-cluster, --redis-cluster-tls)" ;;
     esac
     shift
   done
@@ -51,7 +56,7 @@ parse_stack_args() {
     die "--brokers 3 --secure is not supported: the secure stack has one broker; run the three-broker stack without --secure"
   fi
   if [[ "$STACK_SECURE" == yes && "$STACK_REDIS_CLUSTER" == yes ]]; then
-    die "--redis-cluster --secure is not supported: the secure stack has one TLS Redis; run the Redis Cluster without --secure"
+    die "--redis-cluster --secure is not supported: the secure stack has one TLS Redis; for a TLS Redis Cluster with ACL users beside the plain stack use --redis-cluster-tls"
   fi
   return 0
 }
@@ -75,4 +80,34 @@ pid_alive() {
 
 port_open() {
   timeout 1 bash -c "exec 3<>/dev/tcp/127.0.0.1/$1" 2>/dev/null
+}
+
+# Stops the processes of several pid files at once (SIGTERM to all, then waits up to grace seconds
+# in all before SIGKILL) and removes the files; the cluster scripts' stop. name_fn and marker_fn
+# map a pid file to its log name and to the command-line marker pid_alive checks.
+#   stop_pid_files_together <grace seconds> <name_fn> <marker_fn> <pid file>...
+stop_pid_files_together() {
+  local grace="$1" name_fn="$2" marker_fn="$3" file pid pids=() waited=0
+  shift 3
+  for file in "$@"; do
+    [[ -e "$file" ]] || continue
+    if pid_alive "$file" "$("$marker_fn" "$file")"; then
+      pid="$(cat "$file")"
+      say "stopping $("$name_fn" "$file") (pid $pid)"
+      kill -TERM "$pid" 2>/dev/null || true
+      pids+=("$pid")
+    fi
+    rm -f "$file"
+  done
+  for pid in "${pids[@]}"; do
+    while kill -0 "$pid" 2>/dev/null && ((waited < grace * 5)); do
+      sleep 0.2
+      waited=$((waited + 1))
+    done
+    if kill -0 "$pid" 2>/dev/null; then
+      say "pid $pid did not stop in ${grace}s; killing it"
+      kill -KILL "$pid" 2>/dev/null || true
+    fi
+  done
+  return 0
 }

@@ -135,6 +135,23 @@ secure_kafka_ready() {
   }
 }
 
+# The Redis ACL users, for the secure Redis and the TLS Redis Cluster (redis-cluster.sh), which adds
+# the cluster commands its clients need as the second argument. Keys of the state prefix "sf..." and
+# their hash-tagged form "{sf...": the monitor may read and write them and run the checkpoint
+# script; reader may only read; default is off.
+write_secure_redis_acl() {
+  local file="$1" extra="${2:-}"
+  (
+    umask 077
+    cat >"$file" <<ACL
+user default off
+user admin on >$(secret admin) ~* &* +@all
+user monitor on >$(secret monitor) ~sf* ~{sf* resetchannels -@all +@read +@write +@scripting +@connection +@transaction -@dangerous +scan +info $extra
+user reader on >$(secret reader) ~sf* ~{sf* resetchannels -@all +@read +@connection -@dangerous +scan +info $extra
+ACL
+  )
+}
+
 start_secure_redis() {
   mkdir -p "$SECURE_REDIS_DIR"
   if pid_alive "$SECURE_REDIS_PID_FILE" "redis-server"; then
@@ -143,17 +160,7 @@ start_secure_redis() {
   fi
   port_open "$SECURE_REDIS_PORT" && die "port $SECURE_REDIS_PORT is taken; set STREAMFENCE_SECURE_REDIS_PORT"
   need redis-server "install redis-server (Debian: apt-get install -y redis-server)"
-  # Keys of the state prefix "sf..." and their hash-tagged form "{sf...". The monitor may read and
-  # write them and run the checkpoint script; reader may only read; default is off.
-  (
-    umask 077
-    cat >"$SECURE_REDIS_DIR/users.acl" <<ACL
-user default off
-user admin on >$(secret admin) ~* &* +@all
-user monitor on >$(secret monitor) ~sf* ~{sf* resetchannels -@all +@read +@write +@scripting +@connection +@transaction -@dangerous +scan +info
-user reader on >$(secret reader) ~sf* ~{sf* resetchannels -@all +@read +@connection -@dangerous +scan
-ACL
-  )
+  write_secure_redis_acl "$SECURE_REDIS_DIR/users.acl"
   say "starting secure Redis (TLS only, ACL users) on rediss://127.0.0.1:$SECURE_REDIS_PORT"
   redis-server --bind 127.0.0.1 --port 0 --tls-port "$SECURE_REDIS_PORT" \
     --tls-cert-file "$SECURE_TLS_DIR/server.pem" --tls-key-file "$SECURE_TLS_DIR/server.key" \

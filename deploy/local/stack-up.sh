@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Bring up the local stack for development and tests: a real Kafka (KRaft, one node or, with
 # --brokers 3, three; run from Maven Central jars) and Redis, plus with --redis-cluster a
-# 3-primary, 3-replica Redis Cluster (deploy/local/redis-cluster.sh). Idempotent: a second run finds what is running and only re-checks it.
+# 3-primary, 3-replica Redis Cluster (deploy/local/redis-cluster.sh; --redis-cluster-tls: the same
+# with TLS only and ACL users). Idempotent: a second run finds what is running and only re-checks it.
 # Writes the addresses to $STACK_DIR/env for the test harness. See DEVELOPERS.md "Local stack".
 set -euo pipefail
 source "$(dirname "${BASH_SOURCE[0]}")/common.sh"
@@ -229,6 +230,7 @@ STREAMFENCE_STACK_REDIS_OWNED=$REDIS_OWNED
 ENV
 if [[ -n "$REDIS_CLUSTER_URL" ]]; then
   printf 'STREAMFENCE_STACK_REDIS_CLUSTER_URL=%s\n' "$REDIS_CLUSTER_URL" >>"$tmp_env"
+  redis_cluster_env_lines >>"$tmp_env"
 fi
 mv "$tmp_env" "$ENV_FILE"
 
@@ -236,7 +238,7 @@ elapsed=$(awk -v s="$started_at" -v e="$(date +%s.%N)" 'BEGIN { printf "%.1f", e
 cat <<INFO
 stack: up in ${elapsed}s
   Kafka brokers : $KAFKA_BROKERS   (Kafka $KAFKA_VERSION, KRaft, $STACK_BROKERS node(s); topics are not auto-created)
-  Redis URL     : $REDIS_URL$([[ -n "$REDIS_CLUSTER_URL" ]] && printf '\n  Redis Cluster : %s   (3 primaries, 3 replicas; STREAMFENCE_REDIS_URL in the env file)' "$REDIS_CLUSTER_URL")
+  Redis URL     : $REDIS_URL$([[ -n "$REDIS_CLUSTER_URL" ]] && printf '\n  Redis Cluster : %s   (3 primaries, 3 replicas%s; STREAMFENCE_REDIS_URL in the env file)' "$REDIS_CLUSTER_URL" "$([[ "$REDIS_CLUSTER_MODE" == tls ]] && echo "; TLS only, ACL users admin, monitor, reader; CA $SECURE_TLS_DIR/ca.pem")")
   env file      : $ENV_FILE   (set -a; . $ENV_FILE; set +a)
   logs          : $([[ "$STACK_BROKERS" == 1 ]] && echo "$KAFKA_DIR/logs" || echo "$STACK_DIR/kafka-<n>/logs"), $REDIS_DIR (own Redis only), $([[ -n "$REDIS_CLUSTER_URL" ]] && echo "$STACK_DIR/redis-cluster/<port>, ")$STACK_DIR/logs
   stop          : npm run stack:down

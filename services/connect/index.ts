@@ -29,7 +29,9 @@ export {
   clusterOptions,
   connectRedis,
   isClusterClient,
+  redisAnswers,
   redisOptions,
+  type RedisAnswer,
   type RedisClient,
   type RedisClientOptions,
 } from './redis.js';

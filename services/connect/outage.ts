@@ -14,10 +14,11 @@ import {
   kafkaConnectionLost,
   kafkaRefusal,
   networkCause,
+  redisConnectionLost,
   redisRefusal,
   unreachableLine,
 } from './refusals.js';
-import { kafkaAnswered } from './answered.js';
+import { kafkaAnswered, redisAnswered } from './answered.js';
 
 /** The label values of `cause` on streamfence_backoff_total (a fixed, small set). */
 export const OUTAGE_CAUSES = [
@@ -141,44 +142,45 @@ export function kafkaOutage(
 /**
  * A failed Redis call. ioredis rejects a command with "Reached the max retries per request limit"
  * or "Connection is closed"; the real cause (ECONNREFUSED, WRONGPASS, a certificate) arrived
- * earlier as the client's 'error' event: pass it as `socketError` (see RedisErrorWatch).
+ * earlier as the client's 'error' event: pass it as `socketError` (see RedisErrorWatch). Like
+ * Kafka's: a Redis that had been ready for this process and then drops the connection is a
+ * connection lost (`disconnected`), a refused reconnect is "connection refused"; the TLS hint is
+ * only for an address that never answered.
  */
-export function redisOutage(err: unknown, s: RedisSettings, socketError: unknown = null): Outage {
+export function redisOutage(
+  err: unknown,
+  s: RedisSettings,
+  socketError: unknown = null,
+  answered: ReadonlySet<string> = redisAnswered,
+): Outage {
   const at = redisAddresses(parseRedisUrl(s.url));
-  for (const candidate of socketError === null ? [err] : [socketError, err]) {
-    const refusal = redisRefusal(candidate, s);
+  const candidates = socketError === null ? [err] : [socketError, err];
+  for (const candidate of candidates) {
+    const refusal = redisRefusal(candidate, s, answered);
     if (refusal !== null) return fromRefusal('redis', refusal);
     const network = networkOutage('redis', candidate, at);
     if (network !== null) return network;
   }
+  // Before a timeout: a reset seen on the socket is why the command got no answer.
+  if (candidates.some((candidate) => redisConnectionLost(candidate, s, answered) !== null))
+    return redisLine('disconnected', at, 'connection lost');
   const reason = shortReason(err);
-  if (/timed? ?out/i.test(reason))
-    return {
-      dependency: 'redis',
-      cause: 'timeout',
-      line: unreachableLine('redis', at, 'no answer (timed out)'),
-      refusal: null,
-    };
+  if (/timed? ?out/i.test(reason)) return redisLine('timeout', at, 'no answer (timed out)');
   // A cluster whose primary for the key's slot is gone until its replica is promoted.
   if (/CLUSTERDOWN|TRYAGAIN|Too many Cluster redirections/i.test(reason))
-    return {
-      dependency: 'redis',
-      cause: 'connection',
-      line: unreachableLine('redis', at, 'cluster slot without a primary (failing over)'),
-      refusal: null,
-    };
+    return redisLine('connection', at, 'cluster slot without a primary (failing over)');
   if (
     /max retries per request|Connection is closed|Stream isn't writeable|None of startup nodes|Failed to refresh slots cache/i.test(
       reason,
     )
   )
-    return {
-      dependency: 'redis',
-      cause: 'connection',
-      line: unreachableLine('redis', at, 'connection lost'),
-      refusal: null,
-    };
+    // Never ready for this process: there was no connection to lose.
+    return redisLine('connection', at, 'no connection');
   return { dependency: 'redis', cause: 'other', line: `redis ${at}: ${reason}`, refusal: null };
+}
+
+function redisLine(cause: OutageCause, at: string, words: string): Outage {
+  return { dependency: 'redis', cause, line: unreachableLine('redis', at, words), refusal: null };
 }
 
 /**

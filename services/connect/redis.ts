@@ -9,7 +9,8 @@ import { isIP } from 'node:net';
 import { Cluster, Redis, type ClusterOptions, type RedisOptions } from 'ioredis';
 import { readPem } from './files.js';
 import type { RedisSettings } from './options.js';
-import { parseRedisUrl, type RedisTarget } from './redis-url.js';
+import { noteRedisAnswered } from './answered.js';
+import { parseRedisUrl, redisAddresses, type RedisTarget } from './redis-url.js';
 import { redisFailure, redisRefusal } from './refusals.js';
 
 /** A client of one Redis server or of a Redis Cluster: both take the same commands and scripts. */
@@ -104,6 +105,8 @@ export function buildRedis(s: RedisSettings, o: RedisClientOptions = {}): RedisC
     : new Redis(redisOptions(s, o));
   // Errors are reported by the calls that fail; without a listener ioredis prints them itself.
   r.on('error', () => {});
+  // Once ready, a later close of this address is a connection lost, not a TLS hint (answered.ts).
+  r.on('ready', () => noteRedisAnswered(redisAddresses(t)));
   return r;
 }
 
@@ -131,4 +134,52 @@ export async function connectRedis(redis: RedisClient, s: RedisSettings): Promis
   } finally {
     redis.off('error', keep);
   }
+}
+
+/** What a readiness check found: Redis answers, and on a cluster how many primaries were asked. */
+export interface RedisAnswer {
+  ok: boolean;
+  /** The primaries the client's slot map names (a cluster only); ok means each answered PING. */
+  primaries?: number;
+  /** Slots the map gives no primary, or one the client has lost (a cluster only; ok needs 0). */
+  slotsDown?: number;
+}
+
+/** Redis Cluster's fixed number of hash slots. */
+const CLUSTER_SLOTS = 16_384;
+
+/**
+ * Whether Redis answers, for /readyz. One server: PING. A cluster: every one of the 16,384 slots
+ * has a primary in the client's slot map whose connection is still in the client's pool, and
+ * every such primary answers PING within timeoutMs. One PING to any node would pass while a dead
+ * primary's slots (and the checkpoints of partitions there) are down; ioredis drops a dead node
+ * from its pool at once but keeps it in the slot map until its replica is promoted and the map
+ * re-read, so this stays false for exactly that time.
+ */
+export async function redisAnswers(redis: RedisClient, timeoutMs: number): Promise<RedisAnswer> {
+  const pong = async (node: Redis): Promise<boolean> => {
+    let timer: NodeJS.Timeout | undefined;
+    const late = new Promise<string>((resolve) => {
+      timer = setTimeout(() => resolve('timeout'), timeoutMs);
+    });
+    try {
+      return (await Promise.race([node.ping(), late])) === 'PONG';
+    } catch {
+      return false;
+    } finally {
+      clearTimeout(timer);
+    }
+  };
+  if (!isClusterClient(redis)) return { ok: await pong(redis) };
+  // ioredis names nodes "host:port" in both its slot map and its pool.
+  const pool = new Map(redis.nodes('master').map((n) => [`${n.options.host}:${n.options.port}`, n]));
+  const owners = new Set<string>();
+  let slotsDown = 0;
+  for (let slot = 0; slot < CLUSTER_SLOTS; slot++) {
+    const owner = redis.slots[slot]?.[0];
+    if (owner !== undefined) owners.add(owner);
+    if (owner === undefined || !pool.has(owner)) slotsDown++;
+  }
+  const answers = await Promise.all([...owners].filter((k) => pool.has(k)).map((k) => pong(pool.get(k)!)));
+  return { ok: slotsDown === 0 && answers.every(Boolean), primaries: owners.size, slotsDown };
 }

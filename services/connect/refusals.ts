@@ -6,7 +6,7 @@
 import { StreamfenceError } from '../../libs/errors/index.js';
 import type { KafkaSettings, RedisSettings } from './options.js';
 import { parseRedisUrl, redisAddresses } from './redis-url.js';
-import { kafkaAnswered } from './answered.js';
+import { kafkaAnswered, redisAnswered } from './answered.js';
 
 /** One error of a failure's chain, as the classifiers below read it. */
 interface ChainLink {
@@ -137,8 +137,37 @@ export function kafkaRefusal(
   return null;
 }
 
+/**
+ * ioredis' and node's words for a connection that was there and is gone: closed or reset by the
+ * peer, a command given up after the reconnects, a cluster whose nodes stopped answering.
+ */
+const REDIS_CLOSED_WORDS =
+  /Connection is closed|ECONNRESET|EPIPE|socket hang up|Stream isn't writeable|max retries per request|before secure TLS connection was established|None of startup nodes|Failed to refresh slots cache/i;
+
+/**
+ * A Redis that had been ready for this process before closed, reset or dropped the connection: it
+ * went away (a crash, a restart, a failover), which waiting may fix. Returns its address, or null
+ * when the failure is not that (at start-up the same words mean a port that expects TLS).
+ */
+export function redisConnectionLost(
+  err: unknown,
+  s: RedisSettings,
+  answered: ReadonlySet<string> = redisAnswered,
+): string | null {
+  const at = redisAddresses(parseRedisUrl(s.url));
+  if (!answered.has(at)) return null;
+  const all = chain(err);
+  return all.some((e) => REDIS_CLOSED_WORDS.test(e.message) || REDIS_CLOSED_WORDS.test(e.code ?? ''))
+    ? at
+    : null;
+}
+
 /** A typed refusal for a Redis failure, or null when the cause is not one of the known refusals. */
-export function redisRefusal(err: unknown, s: RedisSettings): StreamfenceError | null {
+export function redisRefusal(
+  err: unknown,
+  s: RedisSettings,
+  answered: ReadonlySet<string> = redisAnswered,
+): StreamfenceError | null {
   const all = chain(err);
   const t = parseRedisUrl(s.url);
   const at = redisAddresses(t);
@@ -160,6 +189,8 @@ export function redisRefusal(err: unknown, s: RedisSettings): StreamfenceError |
       'TLS_FAILED',
       `redis: TLS handshake with ${at} failed: ${tls.message}; check --redis-ca-file and the server's certificate`,
     );
+  // A Redis that had been ready before and now closes went away: a connection lost, no TLS hint.
+  if (answered.has(at)) return null;
   if (t.tls && all.some((e) => TLS_DROPPED.test(e.message)))
     return new StreamfenceError(
       'TLS_FAILED',
@@ -229,8 +260,16 @@ export function kafkaUnreachable(
 }
 
 /** SERVICE_UNAVAILABLE for a Redis that cannot be reached at all, or null for other failures. */
-export function redisUnreachable(err: unknown, s: RedisSettings): StreamfenceError | null {
-  const n = networkCause(err) ?? clusterUnreachable(err, s);
+export function redisUnreachable(
+  err: unknown,
+  s: RedisSettings,
+  answered: ReadonlySet<string> = redisAnswered,
+): StreamfenceError | null {
+  const lost = redisConnectionLost(err, s, answered);
+  const n =
+    networkCause(err) ??
+    (lost === null ? null : { cause: 'connection lost', address: lost }) ??
+    clusterUnreachable(err, s);
   if (n === null) return null;
   const at = n.address ?? redisAddresses(parseRedisUrl(s.url));
   return new StreamfenceError(

@@ -23,7 +23,7 @@ import kafkajs, {
   type Message,
   type Producer,
 } from 'kafkajs';
-import { isClusterClient, type RedisClient } from '../connect/index.js';
+import { isClusterClient, redisAnswers, type RedisClient } from '../connect/index.js';
 
 import { Engine } from '../../libs/engine/engine.js';
 import { DEFAULT_MAX_SENSORS, SensorBudget } from '../../libs/engine/sensor-budget.js';
@@ -476,22 +476,21 @@ export class Monitor {
     return `read topic ${this.settings.inputTopic} in group ${this.settings.group}`;
   }
 
-  /** Joined the group, Kafka and Redis answer, not stopping. */
+  /** Joined the group, Kafka and Redis answer (on a cluster every primary), not stopping. */
   async readiness(): Promise<{ ready: boolean; detail: Record<string, unknown> }> {
-    let redisOk = false;
-    try {
-      redisOk = (await withTimeout(this.redis.ping(), 1_000)) === 'PONG';
-    } catch {
-      redisOk = false;
-    }
-    const ready = this.joined && redisOk && !this.kafkaDown && !this.stopping;
+    // On a Redis Cluster: every primary of the slot map answers (see redisAnswers).
+    const redis = await redisAnswers(this.redis, 1_000);
+    const ready = this.joined && redis.ok && !this.kafkaDown && !this.stopping;
     this.metrics.ready.set(ready ? 1 : 0);
     return {
       ready,
       detail: {
         joined: this.joined,
         kafka: !this.kafkaDown,
-        redis: redisOk,
+        redis: redis.ok,
+        ...(redis.primaries === undefined
+          ? {}
+          : { redisPrimaries: redis.primaries, redisSlotsDown: redis.slotsDown }),
         partitions: [...this.assigned].sort((a, b) => a - b),
       },
     };

@@ -2,8 +2,9 @@
  * Benchmark runner (`npm run bench`): runs every test/bench/*.bench.js compiled next to this file,
  * one after another (never in parallel: they would measure each other), and prints each one's
  * figures as JSON. Results also go to test-artifacts/bench.json. Run `npm run bench -- engine`
- * to run only the benches whose file name contains "engine". A bench exporting `onlyWhenNamed`
- * (failover: it starts three brokers) runs only when a filter names it.
+ * to run only the benches whose file name contains "engine" (a filter that is one bench's whole
+ * name runs that one alone). A bench exporting `onlyWhenNamed` (failover, redis-failover: they
+ * start servers of their own) runs only when a filter names it.
  */
 import { existsSync, mkdirSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
@@ -25,9 +26,11 @@ function loadStackEnv(): void {
 async function main(): Promise<void> {
   loadStackEnv();
   const filter = process.argv[2];
-  const files = readdirSync(here)
-    .filter((f) => f.endsWith('.bench.js') && (!filter || f.includes(filter)))
-    .sort();
+  const all = readdirSync(here).filter((f) => f.endsWith('.bench.js'));
+  // A filter that is a bench's whole name runs that bench alone ("failover" is also part of
+  // "redis-failover"); otherwise every bench whose name contains it.
+  const exact = all.filter((f) => f === `${filter}.bench.js`);
+  const files = (exact.length > 0 ? exact : all.filter((f) => !filter || f.includes(filter))).sort();
   const results: Record<string, unknown> = {
     node: process.version,
     cpus: (await import('node:os')).cpus().length,

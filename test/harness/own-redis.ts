@@ -4,7 +4,11 @@
  * restart a server use only their own.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
 import { Redis } from 'ioredis';
+import { afterAll } from 'vitest';
 
 /** A redis-server started by a test: its port and process. */
 export interface OwnRedis {
@@ -57,4 +61,55 @@ export async function waitPing(port: number, timeoutMs = 10_000): Promise<void> 
 export async function killOwnRedis(server: OwnRedis): Promise<void> {
   if (server.child.exitCode === null && server.child.signalCode === null) server.child.kill('SIGKILL');
   await server.exited;
+}
+
+/** How deploy/local and docker-compose run Redis: the append-only file, fsync once a second. */
+export const APPEND_ONLY_ARGS = ['--save', '', '--appendonly', 'yes', '--appendfsync', 'everysec'];
+/** No persistence: a restart comes back empty. */
+export const NO_PERSISTENCE_ARGS = ['--save', '', '--appendonly', 'no'];
+
+/** A test's own redis-server that it may kill and start again, and a client of it. */
+export interface OwnRedisBed {
+  port: number;
+  /** `redis://127.0.0.1:<port>` */
+  url: string;
+  /** A client of the server (connected by the first start; reconnects after a restart). */
+  client: Redis;
+  /** Starts the server (again: same port and data folder, so the append-only file brings its data back). */
+  start(): Promise<void>;
+  /** SIGKILL (a crash: no shutdown, no final fsync) and wait until it is gone. */
+  kill(): Promise<void>;
+}
+
+/**
+ * Call in a describe block: a redis-server of the test's own on `port` (one the test owns, see
+ * DEVELOPERS.md), its data in a temp folder, with `persistence` (APPEND_ONLY_ARGS by default).
+ * Registers an afterAll that disconnects the client, kills the server and removes the folder.
+ */
+export function useOwnRedis(port: number, persistence: string[] = APPEND_ONLY_ARGS): OwnRedisBed {
+  const dir = mkdtempSync(path.join(tmpdir(), `sf-own-redis-${port}-`));
+  const url = `redis://127.0.0.1:${port}`;
+  const client = new Redis(url, { maxRetriesPerRequest: 2, lazyConnect: true });
+  client.on('error', () => {});
+  let server: OwnRedis | null = null;
+
+  afterAll(async () => {
+    client.disconnect();
+    if (server) await killOwnRedis(server);
+    rmSync(dir, { recursive: true, force: true });
+  });
+
+  return {
+    port,
+    url,
+    client,
+    async start() {
+      server = await startOwnRedis(port, [...persistence, '--dir', dir]);
+      if (client.status === 'wait') await client.connect();
+    },
+    async kill() {
+      if (server) await killOwnRedis(server);
+      server = null;
+    },
+  };
 }

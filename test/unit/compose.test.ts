@@ -20,6 +20,7 @@ const ROOT = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '../..')
 
 interface ComposeService {
   image?: string;
+  profiles?: string[];
   build?: string | { context?: string; dockerfile?: string };
   command?: string | string[];
   environment?: Record<string, string | number | boolean | null> | string[];
@@ -79,6 +80,83 @@ function sourceFiles(dir: string): string[] {
     if (statSync(p).isDirectory()) return sourceFiles(p);
     return p.endsWith('.ts') && !p.endsWith('.test.ts') ? [p] : [];
   });
+}
+
+/** A service's command as words. */
+function words(s: ComposeService): string[] {
+  if (s.command === undefined) return [];
+  return Array.isArray(s.command) ? s.command.map(String) : String(s.command).split(/\s+/);
+}
+/** The value after a flag in a command, or undefined (the last one: redis-server takes the last). */
+function flagValue(cmd: string[], name: string): string | undefined {
+  const i = cmd.lastIndexOf(name);
+  return i < 0 ? undefined : cmd[i + 1];
+}
+/** A service that runs redis-server (the image's default command is redis-server too). */
+function runsRedisServer(s: ComposeService): boolean {
+  const cmd = words(s);
+  return cmd[0] === 'redis-server' || (/^redis:/.test(s.image ?? '') && cmd.length === 0);
+}
+
+/** What a Redis service lacks for the README's promise (lose at most about a second on a restart). */
+function persistenceProblems(name: string, s: ComposeService): string[] {
+  const cmd = words(s);
+  const problems: string[] = [];
+  for (const [flag, want] of [
+    ['--appendonly', 'yes'],
+    ['--appendfsync', 'everysec'],
+  ]) {
+    const got = flagValue(cmd, flag);
+    if (got !== want) problems.push(`${name}: ${flag} is ${got ?? 'not set'}, not ${want}`);
+  }
+  const volumes = (s as { volumes?: string[] }).volumes ?? [];
+  if (!volumes.some((v) => v.endsWith(':/data'))) problems.push(`${name}: no volume on /data`);
+  return problems;
+}
+
+/**
+ * A Redis Cluster profile's consistency: every node runs with cluster mode on and the same
+ * cluster-node-timeout, on a port of its own, and a `redis-cli --cluster create` service names
+ * exactly those nodes (service:port), six of them with one replica each (the local stack's shape).
+ * No cluster nodes, no problems.
+ */
+function clusterProblems(services: Record<string, ComposeService>): string[] {
+  const nodes = Object.entries(services).filter(
+    ([, s]) => flagValue(words(s), '--cluster-enabled') === 'yes',
+  );
+  const creates = Object.entries(services).filter(([, s]) => words(s).join(' ').includes('--cluster create'));
+  if (nodes.length === 0 && creates.length === 0) return [];
+  const problems: string[] = [];
+  const portOf = new Map(nodes.map(([name, s]) => [name, Number(flagValue(words(s), '--port') ?? 6379)]));
+  const timeouts = nodes.map(
+    ([, s]) => flagValue(words(s), '--cluster-node-timeout') ?? '15000 (the default)',
+  );
+  const common = timeouts.sort(
+    (a, b) => timeouts.filter((t) => t === b).length - timeouts.filter((t) => t === a).length,
+  )[0];
+  for (const [name, s] of nodes) {
+    const timeout = flagValue(words(s), '--cluster-node-timeout') ?? '15000 (the default)';
+    if (timeout !== common)
+      problems.push(`${name}: --cluster-node-timeout ${timeout} differs from the other nodes (${common})`);
+  }
+  if (new Set(portOf.values()).size !== nodes.length) problems.push('two cluster nodes listen on one port');
+  if (creates.length !== 1)
+    problems.push(`${creates.length} services run redis-cli --cluster create; want one`);
+  for (const [name, s] of creates) {
+    const cmd = words(s);
+    const targets = cmd.filter((w) => /^[\w.-]+:\d+$/.test(w));
+    for (const target of targets) {
+      const [host, port] = target.split(':');
+      if (!portOf.has(host)) problems.push(`${name}: names ${target}, which is not a cluster node service`);
+      else if (portOf.get(host) !== Number(port))
+        problems.push(`${name}: names ${target}, but ${host} listens on ${portOf.get(host)}`);
+    }
+    const named = new Set(targets.map((t) => t.split(':')[0]));
+    for (const [node] of nodes) if (!named.has(node)) problems.push(`${name}: does not name ${node}`);
+    if (flagValue(cmd, '--cluster-replicas') !== '1' || nodes.length !== 6)
+      problems.push(`${name}: want six nodes with --cluster-replicas 1 (three primaries, one replica each)`);
+  }
+  return problems;
 }
 
 describe('docker-compose.yml', () => {
@@ -155,14 +233,14 @@ describe('docker-compose.yml', () => {
     });
   });
 
-  it('runs Redis with the append-only file, fsync every second, on a volume', () => {
-    const redis = service('redis');
-    const cmd = Array.isArray(redis.command) ? redis.command : String(redis.command).split(/\s+/);
-    const flag = (name: string) => cmd[cmd.indexOf(name) + 1];
-    expect(flag('--appendonly')).toBe('yes');
-    expect(flag('--appendfsync')).toBe('everysec');
-    const volumes = (redis as { volumes?: string[] }).volumes ?? [];
-    expect(volumes.some((v) => v.endsWith(':/data'))).toBe(true);
+  it('runs every Redis service with the append-only file, fsync every second, on a volume', () => {
+    const redisServices = Object.entries(compose.services).filter(([, s]) => runsRedisServer(s));
+    expect(redisServices.map(([name]) => name)).toContain('redis');
+    for (const [name, s] of redisServices) expect(persistenceProblems(name, s)).toEqual([]);
+  });
+
+  it('keeps the nodes of a Redis Cluster profile, if there is one, consistent', () => {
+    expect(clusterProblems(compose.services)).toEqual([]);
   });
 
   it('serves metrics on the default port and publishes it', () => {
@@ -173,6 +251,54 @@ describe('docker-compose.yml', () => {
       host: DEFAULT_METRICS_PORT,
       container: DEFAULT_METRICS_PORT,
     });
+  });
+});
+
+// The checks run on the real file above; here they are shown to catch what they are for, on
+// invented compose fragments (a cluster profile that is not in docker-compose.yml today).
+describe('the compose Redis checks', () => {
+  const node = (port: number, extra: string[] = []): ComposeService =>
+    ({
+      image: 'redis:7.2-alpine',
+      profiles: ['cluster'],
+      command: [
+        ...['redis-server', '--port', String(port), '--cluster-enabled', 'yes'],
+        ...['--cluster-node-timeout', '2000', '--appendonly', 'yes', '--appendfsync', 'everysec'],
+        ...extra,
+      ],
+      volumes: [`node-${port}:/data`],
+    }) as ComposeService;
+  const create = (targets: string[]): ComposeService =>
+    ({
+      image: 'redis:7.2-alpine',
+      profiles: ['cluster'],
+      command: ['redis-cli', '--cluster', 'create', ...targets, '--cluster-replicas', '1', '--cluster-yes'],
+    }) as ComposeService;
+  const six = [7001, 7002, 7003, 7004, 7005, 7006];
+  const good = (): Record<string, ComposeService> => ({
+    ...Object.fromEntries(six.map((p, i) => [`redis-node-${i + 1}`, node(p)])),
+    'redis-cluster-create': create(six.map((p, i) => `redis-node-${i + 1}:${p}`)),
+  });
+
+  it('accept a consistent six-node cluster profile', () => {
+    expect(clusterProblems(good())).toEqual([]);
+    for (const [name, s] of Object.entries(good()).filter(([, x]) => runsRedisServer(x)))
+      expect(persistenceProblems(name, s)).toEqual([]);
+  });
+
+  it('catch a node without persistence, a different node timeout, and a create naming a wrong port', () => {
+    const bad = good();
+    bad['redis-node-2'] = node(7002, ['--cluster-node-timeout', '15000']);
+    const cmd = bad['redis-node-3'].command as string[];
+    cmd[cmd.indexOf('--appendonly') + 1] = 'no';
+    bad['redis-cluster-create'] = create(six.map((p, i) => `redis-node-${i + 1}:${i === 5 ? 6379 : p}`));
+    expect(persistenceProblems('redis-node-3', bad['redis-node-3'])).toEqual([
+      'redis-node-3: --appendonly is no, not yes',
+    ]);
+    expect(clusterProblems(bad)).toEqual([
+      'redis-node-2: --cluster-node-timeout 15000 differs from the other nodes (2000)',
+      'redis-cluster-create: names redis-node-6:6379, but redis-node-6 listens on 7006',
+    ]);
   });
 });
 

@@ -11,7 +11,7 @@ import { NOTICE } from '../../../libs/schema/notice.js';
 import type { AlertEvent } from '../../../libs/schema/alert-event.js';
 import { FIXTURE_BASELINE } from '../../support/alert-fixture.js';
 import { createTopic, deleteTopics, kafkaBrokers, kafkaClient, uniqueName } from '../../harness/services.js';
-import { killOwnRedis, startOwnRedis, type OwnRedis } from '../../harness/own-redis.js';
+import { NO_PERSISTENCE_ARGS, useOwnRedis } from '../../harness/own-redis.js';
 
 const CLI = 'dist/services/cli/main.js';
 /** This test's own redis-server (i9-follow's range in coord.md; nothing else listens there). */
@@ -51,7 +51,7 @@ describe('board: an operator action Redis refuses', () => {
   const alertTopic = uniqueName('board-refused-alerts');
   const actionTopic = uniqueName('board-refused-actions');
   const id = uniqueName('refused');
-  let redis: OwnRedis | null = null;
+  const redis = useOwnRedis(OWN_REDIS_PORT, NO_PERSISTENCE_ARGS);
   let board: ChildProcess | null = null;
 
   beforeAll(async () => {
@@ -61,7 +61,7 @@ describe('board: an operator action Redis refuses', () => {
     await producer.connect();
     await producer.send({ topic: alertTopic, messages: [{ value: JSON.stringify(alertEvent(id)) }] });
     await producer.disconnect();
-    redis = await startOwnRedis(OWN_REDIS_PORT, ['--save', '', '--appendonly', 'no']);
+    await redis.start();
   }, 60_000);
 
   afterAll(async () => {
@@ -69,7 +69,6 @@ describe('board: an operator action Redis refuses', () => {
       board.kill('SIGTERM');
       await new Promise((r) => board!.once('exit', r));
     }
-    if (redis) await killOwnRedis(redis);
     await deleteTopics(alertTopic, actionTopic);
   });
 
@@ -107,8 +106,7 @@ describe('board: an operator action Redis refuses', () => {
       })
       .toBe(1);
 
-    await killOwnRedis(redis!);
-    redis = null;
+    await redis.kill();
     const refusedLine = `redis 127.0.0.1:${OWN_REDIS_PORT}: connection refused`;
     const ack = await post(`${url}/api/alerts/${id}/acknowledge`, { by: 'Ossian Marl' });
     expect(ack.status).toBe(503);
@@ -137,7 +135,7 @@ describe('board: an operator action Redis refuses', () => {
     }[];
     expect(alert).toMatchObject({ acknowledged: false, status: 'active' });
 
-    redis = await startOwnRedis(OWN_REDIS_PORT, ['--save', '', '--appendonly', 'no']);
+    await redis.start();
     await expect
       .poll(async () => (await post(`${url}/api/alerts/${id}/acknowledge`, { by: 'Ossian Marl' })).status, {
         timeout: 30_000,

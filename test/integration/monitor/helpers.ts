@@ -519,3 +519,29 @@ export async function freePort(): Promise<number> {
     });
   });
 }
+
+/** One JSON log line of a monitor (the fields the outage tests read). */
+export interface MonitorLogEntry {
+  level: string;
+  msg: string;
+  dependency?: 'kafka' | 'redis';
+  cause?: string;
+  attempt?: number;
+  delayMs?: number | null;
+}
+
+/** The monitor's JSON log lines, parsed (anything else on stderr is skipped). */
+export function monitorLogEntries(logs: string[]): MonitorLogEntry[] {
+  return logs.filter((l) => l.startsWith('{')).map((l) => JSON.parse(l) as MonitorLogEntry);
+}
+
+/** The sum of `streamfence_backoff_total` per cause for one dependency, from a /metrics text. */
+export function backoffByCause(metricsText: string, dependency: 'kafka' | 'redis'): Record<string, number> {
+  const out: Record<string, number> = {};
+  const re = new RegExp(
+    `^streamfence_backoff_total\\{dependency="${dependency}",cause="(\\w+)"\\} (\\S+)$`,
+    'gm',
+  );
+  for (const m of metricsText.matchAll(re)) out[m[1]] = Number(m[2]);
+  return out;
+}

@@ -11,14 +11,10 @@
  *    and the exact-state check would fail.
  * Port 23530 (this test only), below Linux's ephemeral port range (32768-60999), where a client socket could hold it.
  */
-import { mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import path from 'node:path';
-import { Redis } from 'ioredis';
-import { afterAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { keyPartitioner } from '../../../services/replay/partitioner.js';
 import { partitionKeys } from '../../../services/redis/keys.js';
-import { killOwnRedis, startOwnRedis, type OwnRedis } from '../../harness/own-redis.js';
+import { useOwnRedis } from '../../harness/own-redis.js';
 import { kafkaClient } from '../../harness/services.js';
 import {
   expectExactState,
@@ -34,20 +30,10 @@ import {
 
 const PORT = Number(process.env.STREAMFENCE_TEST_RESTART_REDIS_PORT ?? 23530);
 const PARTITIONS = 4;
-const AOF_ARGS = ['--save', '', '--appendonly', 'yes', '--appendfsync', 'everysec'];
 
 describe('streamfence run: its Redis restarts (append-only file) and comes back older', () => {
-  const dir = mkdtempSync(path.join(tmpdir(), 'sf-redis-restart-'));
-  let server: OwnRedis | undefined;
-  const url = `redis://127.0.0.1:${PORT}`;
-  const redis = new Redis(url, { maxRetriesPerRequest: 2, lazyConnect: true });
-  redis.on('error', () => {});
-
-  afterAll(async () => {
-    redis.disconnect();
-    if (server) await killOwnRedis(server);
-    rmSync(dir, { recursive: true, force: true });
-  });
+  const own = useOwnRedis(PORT);
+  const { url, client: redis } = own;
 
   const bed = useMonitorBed();
   const { topic, group, prefix } = bed;
@@ -60,8 +46,7 @@ describe('streamfence run: its Redis restarts (append-only file) and comes back 
   }
 
   it('keeps exact state across SIGKILL + restart, and rewrites in full when Redis went back in time', async () => {
-    server = await startOwnRedis(PORT, [...AOF_ARGS, '--dir', dir]);
-    await redis.connect();
+    await own.start();
     const config = testConfig();
     const readings = generateReadings(12, 420, 23);
     const third = Math.floor(readings.length / 3);
@@ -81,9 +66,9 @@ describe('streamfence run: its Redis restarts (append-only file) and comes back 
     })();
     await sleep(1_000);
     const before = await offsets();
-    await killOwnRedis(server);
+    await own.kill();
     await sleep(1_500);
-    server = await startOwnRedis(PORT, [...AOF_ARGS, '--dir', dir]);
+    await own.start();
     const after = await offsets();
     for (let p = 0; p < PARTITIONS; p++) expect(Number(after[p])).toBeGreaterThanOrEqual(Number(before[p]));
     await producing;

@@ -9,6 +9,9 @@ import {
   kafkaFailure,
   kafkaRefusal,
   kafkaUnreachable,
+  redisConnectionLost,
+  redisRefusal,
+  redisUnreachable,
 } from '../../../services/connect/refusals.js';
 
 const refused = Object.assign(new Error('connect ECONNREFUSED 127.0.0.1:6399'), { code: 'ECONNREFUSED' });
@@ -147,5 +150,100 @@ describe('a broker that closes the connection: TLS hint at start-up, connection 
       new Set(['127.0.0.1:20001']),
     );
     expect(outage).toMatchObject({ cause: 'disconnected', refusal: null });
+  });
+});
+
+describe('a Redis that closes the connection: TLS hint only if it never answered, connection lost later', () => {
+  // What ioredis reports (its 'error' event: node's socket errors; the rejected command: its own).
+  const reset = Object.assign(new Error('read ECONNRESET'), { code: 'ECONNRESET', errno: -104 });
+  const pipe = Object.assign(new Error('write EPIPE'), { code: 'EPIPE' });
+  const maxRetries = new Error(
+    'Reached the max retries per request limit (which is 1). Refer to "maxRetriesPerRequest" option for details.',
+  );
+  const closed = new Error('Connection is closed.');
+  const refusedHere = Object.assign(new Error('connect ECONNREFUSED 127.0.0.1:20001'), {
+    code: 'ECONNREFUSED',
+  });
+  const plain = { url: 'redis://127.0.0.1:20001' };
+  const answered = new Set(['127.0.0.1:20001']);
+  const never = new Set<string>();
+  const TLS_ADVICE = /TLS|rediss/;
+
+  it('never ready for this process: a reset is the TLS hint (as before)', () => {
+    const outage = redisOutage(maxRetries, plain, reset, never);
+    expect(outage.cause).toBe('tls');
+    expect(outage.line).toBe(
+      'redis: 127.0.0.1:20001 closed the connection; if it expects TLS, use a rediss:// URL',
+    );
+    expect(redisConnectionLost(reset, plain, never)).toBeNull();
+  });
+
+  it('had been ready: a reset, a broken pipe or a closed connection is "connection lost", cause disconnected', () => {
+    for (const [err, socketError] of [
+      [maxRetries, reset],
+      [maxRetries, pipe],
+      [closed, null],
+      [closed, reset],
+      [maxRetries, null],
+    ] as const) {
+      const outage = redisOutage(err, plain, socketError, answered);
+      expect(outage).toEqual({
+        dependency: 'redis',
+        cause: 'disconnected',
+        line: 'redis 127.0.0.1:20001: connection lost',
+        refusal: null,
+      });
+      expect(retryLine(outage, 400)).toBe('redis 127.0.0.1:20001: connection lost; retrying in 0.4 s');
+      expect(outage.line).not.toMatch(TLS_ADVICE);
+    }
+    expect(redisRefusal(reset, plain, answered)).toBeNull();
+    expect(redisRefusal(closed, plain, answered)).toBeNull();
+    expect(redisConnectionLost(reset, plain, answered)).toBe('127.0.0.1:20001');
+    expect(redisUnreachable(closed, plain, answered)?.message).toBe(
+      'redis 127.0.0.1:20001: connection lost; check --redis (or STREAMFENCE_REDIS_URL) and that Redis is running there',
+    );
+  });
+
+  it('a refused reconnect is "connection refused", answered before or not', () => {
+    for (const set of [answered, never]) {
+      const outage = redisOutage(maxRetries, plain, refusedHere, set);
+      expect(outage).toMatchObject({ cause: 'connection', refusal: null });
+      expect(outage.line).toBe('redis 127.0.0.1:20001: connection refused');
+    }
+  });
+
+  it('a command timed out after the socket was reset is the lost connection; without a reset, a timeout', () => {
+    const timedOut = new Error('Command timed out');
+    expect(redisOutage(timedOut, plain, reset, answered).cause).toBe('disconnected');
+    expect(redisOutage(timedOut, plain, null, answered)).toMatchObject({
+      cause: 'timeout',
+      line: 'redis 127.0.0.1:20001: no answer (timed out)',
+    });
+  });
+
+  it('never ready and no socket error: "no connection", never "lost"', () => {
+    expect(redisOutage(maxRetries, plain, null, never)).toMatchObject({
+      cause: 'connection',
+      line: 'redis 127.0.0.1:20001: no connection',
+    });
+  });
+
+  it('a TLS Redis that had answered and drops a handshake is lost; a bad certificate stays a TLS refusal', () => {
+    const tlsUrl = { url: 'rediss://127.0.0.1:20001' };
+    const dropped = Object.assign(
+      new Error('Client network socket disconnected before secure TLS connection was established'),
+      { code: 'ECONNRESET' },
+    );
+    expect(redisOutage(closed, tlsUrl, dropped, answered)).toMatchObject({ cause: 'disconnected' });
+    expect(redisOutage(closed, tlsUrl, dropped, never).refusal?.code).toBe('TLS_FAILED');
+    const expired = Object.assign(new Error('certificate has expired'), { code: 'CERT_HAS_EXPIRED' });
+    const outage = redisOutage(closed, tlsUrl, expired, answered);
+    expect(outage).toMatchObject({ cause: 'tls' });
+    expect(outage.refusal?.code).toBe('TLS_FAILED');
+  });
+
+  it('a wrong password after a restart stays a final refusal, answered before or not', () => {
+    const wrongPass = new Error('WRONGPASS invalid username-password pair or user is disabled.');
+    expect(redisOutage(closed, plain, wrongPass, answered).refusal?.code).toBe('AUTH_FAILED');
   });
 });
