@@ -12,11 +12,11 @@
  */
 import { addValue, emptyMoments, mergeMoments, sampleStdDev, type Moments } from '../stats/moments.js';
 import {
+  compressPackedToBins,
   compressToBins,
   FrozenDigest,
   OpenDigest,
   packCentroids,
-  unpackCentroids,
   type PackedCentroids,
   type OpenDigestSnapshot,
 } from '../stats/digest.js';
@@ -195,8 +195,8 @@ export class SensorWindow {
       if (bucket.lastTs > to) to = bucket.lastTs;
     }
     const digest = new FrozenDigest(
-      compressToBins(
-        this.closed.map((bucket) => unpackCentroids(bucket.centroids)),
+      compressPackedToBins(
+        this.closed.map((bucket) => bucket.centroids),
         SKETCH.baselineBins,
       ),
     );

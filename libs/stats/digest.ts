@@ -116,13 +116,189 @@ export function compressToBins(parts: readonly Centroids[], bins: number): Centr
     total += totalCount(parts[part]);
   }
   if (len === 0) return EMPTY_CENTROIDS;
+  if (partCount === 1) return binsOf(parts[0].means, parts[0].counts, len, total, bins);
+  growMergeScratch(len);
+  let at = 0;
+  for (let part = 0; part < partCount; part++) {
+    runStarts[part] = at;
+    mergeMeans.set(parts[part].means, at);
+    mergeCounts.set(parts[part].counts, at);
+    at += parts[part].means.length;
+  }
+  runStarts[partCount] = at;
+  return binsOfRuns(partCount, len, total, bins);
+}
+
+/**
+ * compressToBins of the centroid lists packed lists stand for (`unpackCentroids` of each), without
+ * building them one by one: the baseline rebuild at every bucket roll merges a dozen of them.
+ */
+export function compressPackedToBins(parts: readonly PackedCentroids[], bins: number): Centroids {
+  const partCount = parts.length;
+  let len = 0;
+  for (let part = 0; part < partCount; part++) len += parts[part].steps.length;
+  if (len === 0) return EMPTY_CENTROIDS;
+  growMergeScratch(len);
+  let at = 0;
+  let total = 0;
+  for (let part = 0; part < partCount; part++) {
+    runStarts[part] = at;
+    const { first, steps, counts } = parts[part];
+    const length = steps.length;
+    let partTotal = 0;
+    // The same additions in the same order as unpackCentroids, so the means are the same doubles.
+    if (length > 0) mergeMeans[at] = first;
+    for (let index = 1; index < length; index++)
+      mergeMeans[at + index] = mergeMeans[at + index - 1] + steps[index];
+    for (let index = 0; index < length; index++) {
+      mergeCounts[at + index] = counts[index];
+      partTotal += counts[index];
+    }
+    total += partTotal;
+    at += length;
+  }
+  runStarts[partCount] = at;
+  return binsOfRuns(partCount, len, total, bins);
+}
+
+// Merge scratch: the runs side by side (mergeMeans/mergeCounts), the other buffer of the ping-pong
+// merge (spareMeans/spareCounts) and where each run starts. Reused like the output scratch.
+let mergeMeans = new Float64Array(2048);
+let mergeCounts = new Float64Array(2048);
+let spareMeans = new Float64Array(2048);
+let spareCounts = new Float64Array(2048);
+let runStarts = new Int32Array(64);
+let nextStarts = new Int32Array(64);
+
+function growMergeScratch(len: number): void {
+  if (mergeMeans.length < len) {
+    mergeMeans = new Float64Array(len * 2);
+    mergeCounts = new Float64Array(len * 2);
+    spareMeans = new Float64Array(len * 2);
+    spareCounts = new Float64Array(len * 2);
+  }
+}
+
+function growRunStarts(runs: number): void {
+  if (runStarts.length <= runs) {
+    const grown = new Int32Array((runs + 1) * 2);
+    grown.set(runStarts);
+    runStarts = grown;
+    nextStarts = new Int32Array((runs + 1) * 2);
+  }
+}
+
+/** Whether every run in the merge scratch is in ascending order of mean (compression output always is; a NaN is not). */
+function runsSorted(runs: number): boolean {
+  for (let run = 0; run < runs; run++) {
+    for (let index = runStarts[run] + 1; index < runStarts[run + 1]; index++) {
+      if (!(mergeMeans[index] >= mergeMeans[index - 1])) return false;
+    }
+  }
+  return true;
+}
+
+/**
+ * The runs in the merge scratch in k-way merge order (smallest head first, ties to the earlier
+ * run), binned. Sorted runs are merged pairwise, neighbours with neighbours, taking the left one
+ * on ties: that is a stable merge sort, which gives exactly the k-way order for sorted runs at
+ * about log2(runs) comparisons per centroid instead of one per run. Two runs merge the same way
+ * whatever their order; more that are not sorted (never produced here) take the k-way walk.
+ */
+function binsOfRuns(partCount: number, len: number, total: number, bins: number): Centroids {
+  if (partCount > 2 && !runsSorted(partCount)) return kWayBins(partCount, len, total, bins);
+  growRunStarts(partCount);
+  let runs = partCount;
+  while (runs > 1) {
+    let next = 0;
+    for (let run = 0; run < runs; run += 2) {
+      nextStarts[next++] = runStarts[run];
+      const from = runStarts[run];
+      const middle = runStarts[run + 1];
+      const to = run + 1 < runs ? runStarts[run + 2] : middle;
+      mergeTwo(from, middle, to);
+    }
+    nextStarts[next] = runStarts[runs];
+    const swapStarts = runStarts;
+    runStarts = nextStarts;
+    nextStarts = swapStarts;
+    swapMergeBuffers();
+    runs = next;
+  }
+  return binsOf(mergeMeans, mergeCounts, len, total, bins);
+}
+
+/** Merge runs [from, middle) and [middle, to) of the merge scratch into the spare buffer, left first on ties. */
+function mergeTwo(from: number, middle: number, to: number): void {
+  const means = mergeMeans;
+  const counts = mergeCounts;
+  const outMeans = spareMeans;
+  const outCounts = spareCounts;
+  let left = from;
+  let right = middle;
+  let out = from;
+  while (left < middle && right < to) {
+    if (means[right] < means[left]) {
+      outMeans[out] = means[right];
+      outCounts[out++] = counts[right++];
+    } else {
+      outMeans[out] = means[left];
+      outCounts[out++] = counts[left++];
+    }
+  }
+  while (left < middle) {
+    outMeans[out] = means[left];
+    outCounts[out++] = counts[left++];
+  }
+  while (right < to) {
+    outMeans[out] = means[right];
+    outCounts[out++] = counts[right++];
+  }
+}
+
+function swapMergeBuffers(): void {
+  const means = mergeMeans;
+  const counts = mergeCounts;
+  mergeMeans = spareMeans;
+  mergeCounts = spareCounts;
+  spareMeans = means;
+  spareCounts = counts;
+}
+
+/** The k-way walk over the runs in the merge scratch (smallest head, ties to the earlier run), binned. */
+function kWayBins(partCount: number, len: number, total: number, bins: number): Centroids {
+  const positions = Int32Array.from(runStarts.subarray(0, partCount));
+  for (let taken = 0; taken < len; taken++) {
+    let best = -1;
+    let bestMean = Infinity;
+    for (let part = 0; part < partCount; part++) {
+      const index = positions[part];
+      if (index < runStarts[part + 1] && (best < 0 || mergeMeans[index] < bestMean)) {
+        best = part;
+        bestMean = mergeMeans[index];
+      }
+    }
+    const index = positions[best]++;
+    spareMeans[taken] = bestMean;
+    spareCounts[taken] = mergeCounts[index];
+  }
+  return binsOf(spareMeans, spareCounts, len, total, bins);
+}
+
+/** Bin one list in mean order (the first `len` entries of means/counts) into at most `bins` centroids. */
+function binsOf(
+  means: Float64Array,
+  counts: Float64Array,
+  len: number,
+  total: number,
+  bins: number,
+): Centroids {
   if (scratchMeans.length < len) {
     scratchMeans = new Float64Array(len * 2);
     scratchCounts = new Float64Array(len * 2);
   }
   const outMeans = scratchMeans;
   const outCounts = scratchCounts;
-  const positions = new Int32Array(partCount);
   const lastBin = bins - 1;
   let out = 0;
   let currentMean = 0;
@@ -130,22 +306,13 @@ export function compressToBins(parts: readonly Centroids[], bins: number): Centr
   let currentBin = -1;
   let cumulative = 0;
   for (let taken = 0; taken < len; taken++) {
-    let best = -1;
-    let bestMean = Infinity;
-    for (let part = 0; part < partCount; part++) {
-      const index = positions[part];
-      const means = parts[part].means;
-      if (index < means.length && (best < 0 || means[index] < bestMean)) {
-        best = part;
-        bestMean = means[index];
-      }
-    }
-    const count = parts[best].counts[positions[best]++];
+    const mean = means[taken];
+    const count = counts[taken];
     const bin = Math.min(lastBin, Math.floor((bins * (cumulative + count / 2)) / total));
     cumulative += count;
     if (bin === currentBin) {
       const merged = currentCount + count;
-      currentMean += ((bestMean - currentMean) * count) / merged;
+      currentMean += ((mean - currentMean) * count) / merged;
       currentCount = merged;
       continue;
     }
@@ -153,7 +320,7 @@ export function compressToBins(parts: readonly Centroids[], bins: number): Centr
       outMeans[out] = currentMean;
       outCounts[out++] = currentCount;
     }
-    currentMean = bestMean;
+    currentMean = mean;
     currentCount = count;
     currentBin = bin;
   }

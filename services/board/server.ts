@@ -31,6 +31,8 @@ export interface BoardServerOptions {
   tickMs?: number;
   /** Whether the live feed follows its topics yet (absent: always ready, as the demo is). */
   readiness?: BoardReadiness;
+  /** Where the one line about a request the board failed to answer goes (default: stderr, "streamfence board: …"). */
+  log?: (line: string) => void;
 }
 
 export interface RunningBoard {
@@ -85,10 +87,16 @@ async function readJsonBody(req: IncomingMessage): Promise<unknown> {
   if (declared > MAX_BODY_BYTES) throw new BodyError(413, `the body must be at most ${MAX_BODY_BYTES} bytes`);
   const chunks: Buffer[] = [];
   let size = 0;
-  for await (const c of req) {
-    size += (c as Buffer).length;
-    if (size > MAX_BODY_BYTES) throw new BodyError(413, `the body must be at most ${MAX_BODY_BYTES} bytes`);
-    chunks.push(c as Buffer);
+  try {
+    for await (const c of req) {
+      size += (c as Buffer).length;
+      if (size > MAX_BODY_BYTES) throw new BodyError(413, `the body must be at most ${MAX_BODY_BYTES} bytes`);
+      chunks.push(c as Buffer);
+    }
+  } catch (err) {
+    // The client went away mid-body: its problem, not the board's.
+    if (err instanceof BodyError) throw err;
+    throw new BodyError(400, 'the body did not arrive whole (the connection closed while sending it)');
   }
   const text = Buffer.concat(chunks).toString('utf8').trim();
   if (text.length === 0) return undefined;
@@ -113,6 +121,7 @@ interface BoardContext {
   token: string | null;
   streams: Set<ServerResponse>;
   readiness: () => BoardReadinessState;
+  log: (line: string) => void;
 }
 
 /** POST /api/alerts|groups/<id>/<action>: an operator action, behind the token. */
@@ -236,6 +245,37 @@ function openStream(context: BoardContext, req: IncomingMessage, res: ServerResp
   res.on('error', done);
 }
 
+/**
+ * A request the board failed to answer for a reason of its own (a fault in the board, never the
+ * request or an outage, which have their own answers): 500 with a plain line naming the request,
+ * one log line, one count. Our own typed errors keep their words; anything else (a library's or
+ * node's error) is named by its class and code only, never by its text or stack.
+ */
+function answerFailure(context: BoardContext, req: IncomingMessage, res: ServerResponse, err: unknown): void {
+  const method = req.method ?? 'GET';
+  const path = new URL(req.url ?? '/', 'http://board.local').pathname;
+  const request = method === 'POST' ? 'action' : 'read';
+  context.metrics.requestFailures.inc({ request });
+  const why = isStreamfenceError(err) ? err.message : `an internal error (${errorKind(err)})`;
+  context.log(`could not answer ${method} ${path}: ${why}`);
+  if (res.headersSent) {
+    res.end();
+    return;
+  }
+  const message =
+    request === 'action'
+      ? `the board could not take this action: ${why}; it is in the board's log; try again`
+      : `the board could not answer ${path}: ${why}; it is in the board's log; try again`;
+  fail(res, 500, 'internal', message);
+}
+
+/** "TypeError", "Error ECONNRESET": what kind of failure, without the library's words. */
+function errorKind(err: unknown): string {
+  if (!(err instanceof Error)) return typeof err;
+  const code = (err as { code?: unknown }).code;
+  return typeof code === 'string' && /^[A-Z0-9_]+$/.test(code) ? `${err.name} ${code}` : err.name;
+}
+
 async function handle(context: BoardContext, req: IncomingMessage, res: ServerResponse): Promise<void> {
   const path = new URL(req.url ?? '/', 'http://board.local').pathname;
   const method = req.method ?? 'GET';
@@ -254,6 +294,7 @@ export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard
     token: opts.token,
     streams: new Set<ServerResponse>(),
     readiness: () => opts.readiness?.state ?? ALWAYS_READY,
+    log: opts.log ?? ((line) => process.stderr.write(`streamfence board: ${line}\n`)),
   };
   const { streams } = context;
   // The page reloads on a readiness change (it then shows or hides what the board waits for).
@@ -261,11 +302,7 @@ export function startBoardServer(opts: BoardServerOptions): Promise<RunningBoard
     for (const stream of streams) stream.write(`event: readiness\ndata: ${JSON.stringify(state)}\n\n`);
   });
   const server = createServer((req, res) => {
-    handle(context, req, res).catch((err: unknown) => {
-      if (!res.headersSent)
-        fail(res, 500, 'internal', `the board failed to answer: ${(err as Error).message}`);
-      else res.end();
-    });
+    handle(context, req, res).catch((err: unknown) => answerFailure(context, req, res, err));
   });
   server.requestTimeout = 30_000;
   server.headersTimeout = 10_000;

@@ -13,9 +13,14 @@ import {
   type EngineMetrics,
 } from './metrics.js';
 
-/** What a board server serves on /metrics. */
+/** What a board server serves on /metrics, and counts of its own. */
 export interface BoardMetrics {
   registry: Registry;
+  /**
+   * Requests the board could not answer for a reason other than the request or a dependency's
+   * outage (answered 500 with a plain line, logged once), by `request`: `action` or `read`.
+   */
+  requestFailures: Counter<'request'>;
 }
 
 /** The metrics of `streamfence board`, which follows Kafka and Redis and waits out their outages. */
@@ -33,14 +38,15 @@ export interface DemoMetrics extends BoardMetrics {
 
 /** The metrics of `streamfence board`: the board's figures and the retries after Kafka or Redis failed. */
 export function createBoardMetrics(hub: BoardHub): LiveBoardMetrics {
-  const { registry } = boardFigures(hub);
+  const figures = boardFigures(hub);
+  const { registry } = figures;
   const actionFailures = new Counter({
     name: 'streamfence_board_action_failures_total',
     help: 'Operator actions not taken because Kafka or Redis refused them (answered 503), by dependency and cause',
     labelNames: ['dependency', 'cause'],
     registers: [registry],
   });
-  return { registry, backoff: createBackoffCounter(registry), actionFailures };
+  return { ...figures, backoff: createBackoffCounter(registry), actionFailures };
 }
 
 /** Alerts by status, events and actions applied, the rate meter (board and demo alike). */
@@ -48,6 +54,12 @@ function boardFigures(hub: BoardHub): BoardMetrics {
   const registry = new Registry();
   collectProcessMetrics(registry);
   const registers = [registry];
+  const requestFailures = new Counter({
+    name: 'streamfence_board_request_failures_total',
+    help: 'Requests the board failed to answer for a reason of its own (answered 500 and logged), by request kind',
+    labelNames: ['request'],
+    registers,
+  });
   new Gauge({
     name: 'streamfence_board_alerts',
     help: 'Alerts on the board by status',
@@ -95,7 +107,7 @@ function boardFigures(hub: BoardHub): BoardMetrics {
       this.set(hub.listenerCount);
     },
   });
-  return { registry };
+  return { registry, requestFailures };
 }
 
 /** The metrics of `streamfence demo`: the board's, and the engine metrics `run` exposes. */

@@ -1,13 +1,15 @@
 /**
  * A buffered line writer over a file stream: lines collect in memory and go out as one write per
- * ~256 KiB, and a write that the stream refuses (backpressure) is awaited before more is queued.
+ * ~64 KiB, and a write that the stream refuses (backpressure) is awaited before more is queued.
  */
 import { createWriteStream, type WriteStream } from 'node:fs';
 import { once } from 'node:events';
 import { StreamfenceError } from '../../libs/errors/index.js';
 import { fileProblem } from '../fs-errors.js';
 
-const FLUSH_AT = 256 * 1024;
+// 64 KiB, not more: on Node 20 a joined string past about 128 KiB is allocated outside V8's
+// ordinary pages, and joining and writing 256 KiB at a time measured 2 to 6 times slower.
+const FLUSH_AT = 64 * 1024;
 
 export class LineWriter {
   private readonly stream: WriteStream;

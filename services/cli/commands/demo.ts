@@ -112,17 +112,18 @@ export async function main(argv: string[]): Promise<number> {
     },
   });
   const metrics = createDemoMetrics(hub);
+  const demoLog = (line: string) => process.stderr.write(`streamfence demo: ${line}\n`);
   feed = new DemoFeed(hub, { scenario, seed, speed, prerollMs, wallStart }, metrics.engine);
   // The port first: one taken (or needing privileges) is refused before a second of pre-rolling.
   let board: Awaited<ReturnType<typeof startBoardServer>>;
   try {
-    board = await startBoardServer({ hub, metrics, host, port, token });
+    board = await startBoardServer({ hub, metrics, host, port, token, log: demoLog });
   } catch (err) {
     // The default port is often taken on a desktop; the demo then takes a free one and says so.
     // A port the user chose is never swapped silently.
     const cause = (err as { cause?: unknown } | null)?.cause;
     if (portChosen || (errorCode(err) !== 'EADDRINUSE' && errorCode(cause) !== 'EADDRINUSE')) throw err;
-    board = await startBoardServer({ hub, metrics, host, port: 0, token });
+    board = await startBoardServer({ hub, metrics, host, port: 0, token, log: demoLog });
     process.stderr.write(
       `streamfence demo: port ${DEFAULT_PORT} is in use; serving on free port ${new URL(board.url).port} instead (choose one with --port)\n`,
     );

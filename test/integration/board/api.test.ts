@@ -331,3 +331,72 @@ describe('board API: grouped alerts', () => {
     }
   });
 });
+
+describe("board API: a fault of the board's own", () => {
+  it('answers 500 with a plain line naming the request (no library text, no stack), logs it once and counts it', async () => {
+    // A fault inside the board (here: the share step and the alert list fail as a bug would),
+    // not the request and not an outage, which have their own answers (400s, 503).
+    const libraryText = "Cannot read properties of undefined (reading 'xadd')\n    at share (file.js:1:1)";
+    const hub = new BoardHub({
+      mode: 'demo',
+      clock: { wall: () => wall, plant: () => wall },
+      share: () => Promise.reject(new TypeError(libraryText)),
+    });
+    const metrics = createBoardMetrics(hub);
+    const logged: string[] = [];
+    const board = await startBoardServer({
+      hub,
+      metrics,
+      host: '127.0.0.1',
+      port: 0,
+      token: null,
+      log: (line) => logged.push(line),
+    });
+    try {
+      hub.applyEvent(ev('valve', 'raised', 'warning'));
+      const ack = await call(board.url, 'POST', '/api/alerts/valve/acknowledge', { by: 'Ines' });
+      expect(ack.status).toBe(500);
+      expect(ack.json).toEqual({
+        error: 'internal',
+        message:
+          "the board could not take this action: an internal error (TypeError); it is in the board's log; try again",
+      });
+      const shelve = await call(board.url, 'POST', '/api/alerts/valve/shelve', {
+        reason: 'swap',
+        minutes: 15,
+      });
+      expect(shelve.status).toBe(500);
+      // Nothing was applied that was not shared.
+      const [alert] = (await call(board.url, 'GET', '/api/alerts')).json as unknown as Record<
+        string,
+        unknown
+      >[];
+      expect(alert).toMatchObject({ acknowledged: false, status: 'active' });
+
+      const list = hub.store.list.bind(hub.store);
+      hub.store.list = () => {
+        throw Object.assign(new Error('socket hang up'), { code: 'ECONNRESET' });
+      };
+      const read = await call(board.url, 'GET', '/api/alerts');
+      expect(read.status).toBe(500);
+      expect(read.json.message).toBe(
+        "the board could not answer /api/alerts: an internal error (Error ECONNRESET); it is in the board's log; try again",
+      );
+
+      hub.store.list = list;
+
+      expect(logged).toEqual([
+        'could not answer POST /api/alerts/valve/acknowledge: an internal error (TypeError)',
+        'could not answer POST /api/alerts/valve/shelve: an internal error (TypeError)',
+        'could not answer GET /api/alerts: an internal error (Error ECONNRESET)',
+      ]);
+      const text = `${ack.text}${shelve.text}${read.text}${logged.join('\n')}`;
+      expect(text).not.toMatch(/Cannot read|xadd|\s+at |socket hang up/);
+      const metricsText = (await call(board.url, 'GET', '/metrics')).text;
+      expect(metricsText).toMatch(/^streamfence_board_request_failures_total\{request="action"\} 2$/m);
+      expect(metricsText).toMatch(/^streamfence_board_request_failures_total\{request="read"\} 1$/m);
+    } finally {
+      await board.close();
+    }
+  });
+});
