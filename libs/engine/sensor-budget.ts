@@ -18,6 +18,48 @@ export const DEFAULT_MAX_SENSORS = 50_000;
  */
 export const PROFILED_SENSOR_WEIGHT = 3;
 
+const MIB = 2 ** 20;
+
+/**
+ * Memory of a monitor process before its sensors: an idle `streamfence run` (connected, partitions
+ * assigned, no readings) measured 80 MB resident, 32 MB of it V8 heap (2026-12-03, metrics
+ * endpoint); the rest of the 256 MiB is for the batches in flight (fetched messages, the outbox of
+ * alerts and rejects, a checkpoint's encoded states).
+ */
+export const PROCESS_BASE_BYTES = 256 * MIB;
+/**
+ * Part of PROCESS_BASE_BYTES outside the V8 heap: Node's code and stacks and the Kafka socket and
+ * fetch buffers (48 MB resident beyond the heap when idle, measured as above).
+ */
+export const OUTSIDE_HEAP_BYTES = 128 * MIB;
+/** Headroom on the sensors' bytes for garbage not yet collected (common practice, not measured). */
+export const GC_SLACK = 1.25;
+
+/** What one monitor process or replay at its sensor limit should stay under, in whole MiB. */
+export interface ProcessMemoryBudget {
+  /** Resident memory: the container's memory request and limit (`deploy/k8s/monitor.yaml`). */
+  memoryMiB: number;
+  /** V8 heap cap (`--max-old-space-size`): the memory less OUTSIDE_HEAP_BYTES. */
+  heapMiB: number;
+}
+
+/**
+ * The memory budget of a process holding `maxSensors` places: PROCESS_BASE_BYTES plus every place
+ * at HEAP_BYTES_PER_SENSOR with GC_SLACK, rounded up to a MiB. The heap cap leaves the sensors'
+ * whole share inside the heap: a sensor's bytes are heap (about 1 KB for a sensor with one reading)
+ * or typed arrays outside it (most of a full window), never both in full, so heap plus the rest stay
+ * within the memory figure.
+ */
+export function processMemoryBudget(
+  maxSensors: number,
+  bytesPerPlace = HEAP_BYTES_PER_SENSOR,
+): ProcessMemoryBudget {
+  if (!Number.isInteger(maxSensors) || maxSensors < 1)
+    throw new RangeError(`sensor limit must be a whole number >= 1, got ${maxSensors}`);
+  const memoryMiB = Math.ceil((PROCESS_BASE_BYTES + maxSensors * bytesPerPlace * GC_SLACK) / MIB);
+  return { memoryMiB, heapMiB: memoryMiB - OUTSIDE_HEAP_BYTES / MIB };
+}
+
 /** Places in the limit a sensor takes: PROFILED_SENSOR_WEIGHT with a daily profile, else 1. */
 export function sensorWeight(profiled: boolean): number {
   return profiled ? PROFILED_SENSOR_WEIGHT : 1;

@@ -48,7 +48,7 @@ import {
 } from '../connect/outage.js';
 import { backoffDelay, withBackoff, type BackoffHooks } from './backoff.js';
 import { parseMessage, rejectionRecord } from './kafka-message.js';
-import { partitionSends } from './partition-sends.js';
+import { partitionSends, requestChunks } from './partition-sends.js';
 import { CommitHints } from './commit-hints.js';
 
 // kafkajs is CommonJS: its enums come through the default export under ESM.
@@ -1085,8 +1085,11 @@ export class Monitor {
     this.sending = this.sending.then(async () => {
       await Promise.all(
         sends.map(async ({ topic, messages }) => {
-          await this.retry('kafka', () => this.producer.send({ topic, acks: -1, messages }));
-          this.unsent -= messages.length;
+          // Under the broker's request size limit, one after another so the partition's order holds.
+          for (const chunk of requestChunks(messages)) {
+            await this.retry('kafka', () => this.producer.send({ topic, acks: -1, messages: chunk }));
+            this.unsent -= chunk.length;
+          }
         }),
       );
     });

@@ -50,3 +50,39 @@ export function partitionSends(topic: string, partitions: number, messages: Mess
     .sort(([a], [b]) => a - b)
     .map(([partition, list]) => ({ topic, partition, messages: list }));
 }
+
+/**
+ * Bytes of messages in one produce request. Kafka refuses a record batch above the broker's
+ * `message.max.bytes` (1,048,588 by default) with "message larger than the max message size",
+ * and a retry sends the same batch again: a checkpoint holding tens of thousands of rejects (a
+ * producer flooding new sensor ids past the limit) would retry forever. Half the default leaves
+ * room for the records' own framing.
+ */
+export const MAX_REQUEST_BYTES = 512 * 1024;
+/** Framing of one record in a batch beyond its key and value (varints, attributes), rounded up. */
+const RECORD_OVERHEAD_BYTES = 32;
+
+const sizeOf = (part: Message['key'] | Message['value']): number =>
+  part === null || part === undefined ? 0 : typeof part === 'string' ? Buffer.byteLength(part) : part.length;
+
+/**
+ * One partition's messages cut into consecutive requests of at most `maxBytes` each (a message
+ * larger than that goes alone), order kept: send them one after another.
+ */
+export function requestChunks(messages: Message[], maxBytes = MAX_REQUEST_BYTES): Message[][] {
+  const chunks: Message[][] = [];
+  let chunk: Message[] = [];
+  let bytes = 0;
+  for (const message of messages) {
+    const size = sizeOf(message.key) + sizeOf(message.value) + RECORD_OVERHEAD_BYTES;
+    if (chunk.length > 0 && bytes + size > maxBytes) {
+      chunks.push(chunk);
+      chunk = [];
+      bytes = 0;
+    }
+    chunk.push(message);
+    bytes += size;
+  }
+  if (chunk.length > 0) chunks.push(chunk);
+  return chunks;
+}

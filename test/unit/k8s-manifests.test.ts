@@ -13,7 +13,11 @@ import { ConfigMap, Secret, Service } from 'kubernetes-models/v1';
 import { describe, expect, it } from 'vitest';
 import { parseAllDocuments } from 'yaml';
 import { parseConfigText } from '../../libs/config/config.js';
-import { DEFAULT_MAX_SENSORS, HEAP_BYTES_PER_SENSOR } from '../../libs/engine/sensor-budget.js';
+import {
+  DEFAULT_MAX_SENSORS,
+  HEAP_BYTES_PER_SENSOR,
+  processMemoryBudget,
+} from '../../libs/engine/sensor-budget.js';
 import { STOP_DEADLINE_MS } from '../../services/cli/commands/run.js';
 import { DEFAULT_METRICS_PORT, ENV, ENV_NAMES } from '../../services/config/env.js';
 
@@ -216,19 +220,21 @@ describe('deploy/k8s manifests', () => {
     expect(() => parseConfigText(text, 'streamfence-engine')).not.toThrow();
   });
 
-  it('sizes memory from the sensor limit and the measured bytes per sensor, heap below the limit', () => {
+  it('sizes memory and the heap cap from the sensor limit: processMemoryBudget, exactly', () => {
     const { requests, limits } = monitorContainer.resources ?? {};
-    const limit = bytesOf(limits!.memory);
-    expect(bytesOf(requests!.memory)).toBeLessThanOrEqual(limit);
     const maxSensors = Number(envOf(monitorContainer).get(ENV.maxSensors)?.value ?? DEFAULT_MAX_SENSORS);
-    // 256 MiB for Node itself, plus every sensor at its measured budget, plus 25 % GC slack.
-    const needed = 256 * 2 ** 20 + maxSensors * HEAP_BYTES_PER_SENSOR * 1.25;
-    expect(limit).toBeGreaterThanOrEqual(needed);
-    expect(bytesOf(requests!.memory)).toBeGreaterThanOrEqual(needed);
+    const budget = processMemoryBudget(maxSensors);
+    expect(bytesOf(limits!.memory)).toBe(budget.memoryMiB * 2 ** 20);
+    expect(bytesOf(requests!.memory)).toBe(budget.memoryMiB * 2 ** 20);
+    // At least every place at its measured bytes on top of the process's own 256 MiB.
+    expect(budget.memoryMiB * 2 ** 20).toBeGreaterThanOrEqual(
+      256 * 2 ** 20 + maxSensors * HEAP_BYTES_PER_SENSOR,
+    );
     const heapMb = Number(
       /--max-old-space-size=(\d+)/.exec(envOf(monitorContainer).get('NODE_OPTIONS')?.value ?? '')?.[1],
     );
-    expect(heapMb * 2 ** 20).toBeLessThan(limit);
+    expect(heapMb).toBe(budget.heapMiB);
+    expect(heapMb).toBeLessThan(budget.memoryMiB);
   });
 
   it('guards the monitors with a PodDisruptionBudget that selects their pods', () => {

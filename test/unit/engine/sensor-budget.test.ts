@@ -2,7 +2,13 @@
 import { describe, expect, it } from 'vitest';
 import { defaultConfig, validateConfig } from '../../../libs/config/config.js';
 import { Engine } from '../../../libs/engine/engine.js';
-import { PROFILED_SENSOR_WEIGHT, SensorBudget } from '../../../libs/engine/sensor-budget.js';
+import {
+  DEFAULT_MAX_SENSORS,
+  HEAP_BYTES_PER_SENSOR,
+  processMemoryBudget,
+  PROFILED_SENSOR_WEIGHT,
+  SensorBudget,
+} from '../../../libs/engine/sensor-budget.js';
 
 const T0 = Date.parse('2026-03-01T00:00:00.000Z');
 const HOUR = 3_600_000;
@@ -137,5 +143,36 @@ describe('idle eviction', () => {
     expect(engine.takeEvicted()).toEqual(['old']);
     // Nothing idle left: the next new sensor is rejected.
     expect(engine.process({ sensor: 'newer', ts: T0 + 2 * DAY, value: 1 }).accepted).toBe(false);
+  });
+});
+
+describe('processMemoryBudget', () => {
+  const MIB = 2 ** 20;
+
+  it('is 256 MiB plus every place at 40 KiB with 25 % slack, rounded up to a MiB; heap 128 MiB below', () => {
+    expect(HEAP_BYTES_PER_SENSOR).toBe(40_960);
+    // 50,000 x 40 KiB x 1.25 = 2,441.4 MiB; + 256 = 2,697.4 -> 2,698 (the deploy/k8s figure).
+    expect(processMemoryBudget(DEFAULT_MAX_SENSORS)).toEqual({ memoryMiB: 2_698, heapMiB: 2_570 });
+    // 1,000 x 40 KiB x 1.25 = 48.8 MiB; + 256 -> 305.
+    expect(processMemoryBudget(1_000)).toEqual({ memoryMiB: 305, heapMiB: 177 });
+    // 200 x 40 KiB x 1.25 = 9.8 MiB; + 256 -> 266 (the live test's budget, sensor-limit-memory.test.ts).
+    expect(processMemoryBudget(200)).toEqual({ memoryMiB: 266, heapMiB: 138 });
+    expect(processMemoryBudget(1)).toEqual({ memoryMiB: 257, heapMiB: 129 });
+  });
+
+  it('grows with the limit and the bytes per place, never below the places at their bytes', () => {
+    for (const places of [1, 7, 1_000, 16_666, 50_000, 200_000]) {
+      const { memoryMiB, heapMiB } = processMemoryBudget(places);
+      expect(memoryMiB * MIB).toBeGreaterThanOrEqual(256 * MIB + places * HEAP_BYTES_PER_SENSOR * 1.25);
+      expect(memoryMiB * MIB).toBeLessThan(256 * MIB + places * HEAP_BYTES_PER_SENSOR * 1.25 + MIB);
+      expect(heapMiB).toBe(memoryMiB - 128);
+      expect(processMemoryBudget(places + 1_000).memoryMiB).toBeGreaterThan(memoryMiB);
+    }
+    expect(processMemoryBudget(1_000, 2 * HEAP_BYTES_PER_SENSOR).memoryMiB).toBe(354);
+  });
+
+  it('refuses a limit that is not a whole number >= 1', () => {
+    expect(() => processMemoryBudget(0)).toThrow(RangeError);
+    expect(() => processMemoryBudget(2.5)).toThrow(/whole number/);
   });
 });

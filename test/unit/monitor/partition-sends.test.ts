@@ -8,7 +8,11 @@ import { createRequire } from 'node:module';
 import fc from 'fast-check';
 import { Partitioners, type Message, type PartitionMetadata } from 'kafkajs';
 import { describe, expect, it } from 'vitest';
-import { partitionSends } from '../../../services/monitor/partition-sends.js';
+import {
+  MAX_REQUEST_BYTES,
+  partitionSends,
+  requestChunks,
+} from '../../../services/monitor/partition-sends.js';
 
 type Grouping = (args: {
   topic: string;
@@ -105,5 +109,56 @@ describe('partitionSends', () => {
 
   it('sends nothing for no messages', () => {
     expect(partitionSends('t', 3, [])).toEqual([]);
+  });
+});
+
+describe('requestChunks', () => {
+  const bytes = (m: Message) =>
+    Buffer.byteLength(String(m.key ?? '')) + Buffer.byteLength(String(m.value ?? '')) + 32;
+
+  it('cuts a partition into consecutive requests under the size, order kept, nothing lost', () => {
+    fc.assert(
+      fc.property(
+        fc.array(fc.string({ maxLength: 300 }), { maxLength: 300 }),
+        fc.integer({ min: 64, max: 4_000 }),
+        (values, maxBytes) => {
+          const messages: Message[] = values.map((value, index) => ({ key: `k${index}`, value }));
+          const chunks = requestChunks(messages, maxBytes);
+          expect(chunks.flat()).toEqual(messages);
+          for (const chunk of chunks) {
+            expect(chunk.length).toBeGreaterThan(0);
+            const size = chunk.reduce((sum, m) => sum + bytes(m), 0);
+            if (chunk.length > 1) expect(size).toBeLessThanOrEqual(maxBytes);
+          }
+          // Greedy: each cut was needed (the next message would not have fitted).
+          for (let i = 0; i + 1 < chunks.length; i++) {
+            const size = chunks[i].reduce((sum, m) => sum + bytes(m), 0);
+            expect(size + bytes(chunks[i + 1][0])).toBeGreaterThan(maxBytes);
+          }
+        },
+      ),
+    );
+  });
+
+  it('keeps a flood of rejects under the broker default (1,048,588 bytes per batch)', () => {
+    const reject = JSON.stringify({ reason: 'sensor_limit', detail: 'x'.repeat(120), raw: 'y'.repeat(200) });
+    const messages: Message[] = Array.from({ length: 50_000 }, (_, i) => ({
+      key: `gateway/seq-${i}`,
+      value: reject,
+    }));
+    const chunks = requestChunks(messages);
+    expect(chunks.length).toBeGreaterThan(1);
+    expect(MAX_REQUEST_BYTES).toBeLessThan(1_048_588);
+    for (const chunk of chunks)
+      expect(chunk.reduce((sum, m) => sum + bytes(m), 0)).toBeLessThanOrEqual(MAX_REQUEST_BYTES);
+  });
+
+  it('sends a message larger than the size alone', () => {
+    const big = { key: 'a', value: 'z'.repeat(1_000) };
+    expect(requestChunks([{ key: 'b', value: '1' }, big, { key: 'c', value: '2' }], 100)).toEqual([
+      [{ key: 'b', value: '1' }],
+      [big],
+      [{ key: 'c', value: '2' }],
+    ]);
   });
 });
