@@ -49,6 +49,7 @@ import {
 import { backoffDelay, withBackoff, type BackoffHooks } from './backoff.js';
 import { parseMessage, rejectionRecord } from './kafka-message.js';
 import { partitionSends, requestChunks } from './partition-sends.js';
+import { CommitHints } from './commit-hints.js';
 
 // kafkajs is CommonJS: its enums come through the default export under ESM.
 const { ConfigResourceTypes } = kafkajs;
@@ -189,6 +190,8 @@ export class Monitor {
   /** Shared by every partition's engine: the sensor limit is per process. */
   private readonly budget: SensorBudget;
   private consumer: Consumer;
+  /** Offset commits (hints), sent off the partition lock. */
+  private readonly commits: CommitHints;
   private readonly producer: Producer;
   private readonly admin: Admin;
   private lockTail: Promise<unknown> = Promise.resolve();
@@ -248,6 +251,11 @@ export class Monitor {
     this.budget = new SensorBudget(settings.maxSensors ?? DEFAULT_MAX_SENSORS);
     metrics.sensorLimit.set(this.budget.limit);
     this.consumer = this.makeConsumer();
+    this.commits = new CommitHints(
+      (offsets) =>
+        this.consumer.commitOffsets(offsets.map((o) => ({ topic: this.settings.inputTopic, ...o }))),
+      (e) => this.log.debug({ err: errText(e) }, 'offset commit skipped'),
+    );
     this.producer = kafka.producer({
       idempotent: true,
       maxInFlightRequests: 1,
@@ -524,6 +532,8 @@ export class Monitor {
         }
       }
     });
+    // The last checkpoints' commits, before the consumer leaves (a hint; bounded like the rest).
+    await withTimeout(this.commits.settled(), 1_500).catch(() => undefined);
     await withTimeout(this.consumer.disconnect(), 1_500).catch(() => undefined);
     await withTimeout(this.producer.disconnect(), 1_000).catch(() => undefined);
     await withTimeout(this.admin.disconnect(), 1_000).catch(() => undefined);
@@ -822,6 +832,8 @@ export class Monitor {
     const part = batch.partition;
     const w = this.workers.get(part) ?? (await this.claim(part, heartbeat));
     const msgs = batch.messages;
+    // Debug only: when each partition's fetches arrive (the failover bench times a leader move by it).
+    this.log.debug({ partition: part, first: msgs[0].offset, last: msgs[msgs.length - 1].offset }, 'batch');
 
     if (w.start !== 'done' && this.seekedToCheckpoint(w, Number(msgs[0].offset), batch.topic, part)) return;
     if (w.rebuild?.phase === 'locate' && (await this.locateRebuild(w, msgs, batch.topic))) return;
@@ -1179,15 +1191,14 @@ export class Monitor {
       { partition: w.partition, offset: offset.toString(), sensors: entries.length },
       'checkpoint',
     );
-    // A hint only (the Redis offset is the truth): lets a fresh group start near the right place.
-    await this.consumer
-      .commitOffsets([{ topic: this.settings.inputTopic, partition: w.partition, offset: offset.toString() }])
-      .catch((e: unknown) => this.log.debug({ err: errText(e) }, 'offset commit skipped'));
+    // A hint only (the Redis offset is the truth), sent off the lock: see commit-hints.ts.
+    this.commits.note(w.partition, offset.toString());
     return true;
   }
 
   private drop(w: PartitionWorker, why: string): void {
     this.workers.delete(w.partition);
+    this.commits.forget(w.partition);
     if (w.rebuild) {
       this.metrics.rebuildingPartitions.dec();
       w.rebuild = null;

@@ -3,21 +3,36 @@
  * a three-broker KRaft cluster of the bench's own (deploy/local/stack-up.sh --brokers 3 in a stack
  * folder of its own, with its own Redis), replication 3, min.insync.replicas 2. Each run makes
  * fresh topics, starts `streamfence run` (the built CLI), streams readings as a plant gateway does
- * (test/support/kafka-gateway.ts), SIGKILLs the leader of the busiest input partition and reports
- *  - input pause: SIGKILL to the first checkpoint past a reading of that partition that was sent
- *    after the kill (the monitor judged it; checkpoints every 200 ms, the resolution);
+ * (test/support/kafka-gateway.ts), SIGKILLs one broker and reports
+ *  - input pause: SIGKILL to the first checkpoint past a reading of the watched input partition
+ *    (one the dead broker led) that was sent after the kill (the monitor judged it; checkpoints
+ *    every 200 ms, the resolution);
  *  - alert pause: SIGKILL to the first alert event appended (broker LogAppendTime) on the alert
  *    partition the dead broker led, with the longest gap between appends there in the 5 s before
  *    the kill (the figure's resolution: alerts are raised every few hundred milliseconds);
- * then restarts the broker and waits until every replica is in sync again. The machine's load
- * average is reported with each run, and the monitor's log lines between the kill and the resume
- * (what it waited on). Runs: STREAMFENCE_BENCH_FAILOVER_RUNS (default 3); the monitor's
- * --session-timeout-ms: STREAMFENCE_BENCH_FAILOVER_SESSION_MS (default: the monitor's). Ports
- * (all below Linux's ephemeral range): STREAMFENCE_BENCH_FAILOVER_PORT (default 20592: brokers
- * 20592-20594, controllers 20692-20694, Redis 20600).
+ *  - the phases in between (`phases`): the partitions' new leader in the survivors' metadata
+ *    (polled every 200 ms), the gateway's first acknowledged send, the monitor's first fetch of a
+ *    reading sent after the kill (its debug 'batch' line), the checkpoint, the alert append;
+ * then restarts the broker and waits until every replica is in sync again. The broker killed is
+ * the leader of the busiest input partition that the group's coordinator does not lead, or the
+ * coordinator itself (STREAMFENCE_BENCH_FAILOVER_KILL: leader, coordinator, or alternate, the
+ * default). The machine's load average is reported with each run, the monitor's log lines between
+ * the kill and the resume by message (count, first time), and each run's whole monitor log is
+ * kept in test-artifacts/bench-failover/. Runs: STREAMFENCE_BENCH_FAILOVER_RUNS (default 3); the
+ * monitor's --session-timeout-ms: STREAMFENCE_BENCH_FAILOVER_SESSION_MS (default: the monitor's).
+ * Ports (all below Linux's ephemeral range): STREAMFENCE_BENCH_FAILOVER_PORT (default 20592:
+ * brokers 20592-20594, controllers 20692-20694, Redis 20600).
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import {
+  appendFileSync,
+  existsSync,
+  mkdirSync,
+  mkdtempSync,
+  readFileSync,
+  rmSync,
+  writeFileSync,
+} from 'node:fs';
 import { loadavg, tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -46,6 +61,17 @@ const RUNS = Number(process.env.STREAMFENCE_BENCH_FAILOVER_RUNS ?? 3);
 const SESSION_TIMEOUT_MS = process.env.STREAMFENCE_BENCH_FAILOVER_SESSION_MS
   ? Number(process.env.STREAMFENCE_BENCH_FAILOVER_SESSION_MS)
   : null;
+type Victim = 'leader' | 'coordinator';
+/**
+ * Which broker each run kills (STREAMFENCE_BENCH_FAILOVER_KILL): `leader` (an input partition's
+ * leader that is not the group coordinator), `coordinator`, or `alternate` (the default: leader,
+ * coordinator, leader, ...). The two pause for different reasons (README, Failover pause).
+ */
+const KILL = process.env.STREAMFENCE_BENCH_FAILOVER_KILL ?? 'alternate';
+if (!['leader', 'coordinator', 'alternate'].includes(KILL))
+  throw new Error(`STREAMFENCE_BENCH_FAILOVER_KILL=${KILL}: use leader, coordinator or alternate`);
+const victimOf = (run: number): Victim =>
+  KILL === 'alternate' ? (run % 2 === 0 ? 'leader' : 'coordinator') : (KILL as Victim);
 const BASE_PORT = Number(process.env.STREAMFENCE_BENCH_FAILOVER_PORT ?? 20592);
 const BROKERS = [0, 1, 2].map((i) => `127.0.0.1:${BASE_PORT + i}`);
 const REDIS_PORT = BASE_PORT + 8;
@@ -80,10 +106,21 @@ function stackScript(script: string, env: NodeJS.ProcessEnv, args: string[]): Pr
 /** The spawned monitor and its parsed JSON log lines. */
 interface MonitorChild {
   child: ChildProcess;
-  entries: { time: number; level: number; msg: string; partition?: number; offset?: string }[];
+  entries: {
+    time: number;
+    level: number;
+    msg: string;
+    partition?: number;
+    offset?: string;
+    /** A 'batch' line's last offset. */
+    last?: string;
+  }[];
 }
 
-function spawnMonitor(names: Names, configFile: string): MonitorChild {
+/** Where each run's whole monitor log goes (debug lines included), for a closer look. */
+const LOG_DIR = join(REPO, 'test-artifacts', 'bench-failover');
+
+function spawnMonitor(names: Names, configFile: string, run: number): MonitorChild {
   const child = spawn(
     process.execPath,
     [
@@ -99,7 +136,11 @@ function spawnMonitor(names: Names, configFile: string): MonitorChild {
   );
   const entries: MonitorChild['entries'] = [];
   let buffered = '';
+  mkdirSync(LOG_DIR, { recursive: true });
+  const logFile = join(LOG_DIR, `run-${run + 1}-monitor.ndjson`);
+  writeFileSync(logFile, '');
   child.stderr!.on('data', (d: Buffer) => {
+    appendFileSync(logFile, d);
     buffered += d.toString('utf8');
     const lines = buffered.split('\n');
     buffered = lines.pop() ?? '';
@@ -111,6 +152,7 @@ function spawnMonitor(names: Names, configFile: string): MonitorChild {
           msg: string;
           partition?: number;
           offset?: string;
+          last?: string;
         };
         entries.push({ ...o, time: Date.parse(o.time) });
       } catch {
@@ -134,6 +176,72 @@ async function checkpointedPast(mon: MonitorChild, partition: number, offset: nu
       throw new Error(`partition ${partition} not checkpointed past ${offset} in 120 s`);
     await sleep(100);
   }
+}
+
+/**
+ * A topic's offsets, asked again (every 500 ms, 20 times at most) while leaders move: a broker
+ * restarted by the previous run takes its preferred leaderships back, and a request that lands
+ * meanwhile fails with "not the leader" (it ended a run once).
+ */
+async function offsetsOf(admin: Admin, topic: string) {
+  for (let attempt = 1; ; attempt++) {
+    try {
+      return await admin.fetchTopicOffsets(topic);
+    } catch (err) {
+      if (attempt >= 20) throw err;
+      await sleep(500);
+    }
+  }
+}
+
+/** When the monitor first fetched a batch of `partition` reaching `offset` after `after` (its debug 'batch' line), or null. */
+function fetchedPast(mon: MonitorChild, partition: number, offset: number, after: number): number | null {
+  const hit = mon.entries.find(
+    (e) => e.msg === 'batch' && e.partition === partition && e.time > after && Number(e.last) >= offset,
+  );
+  return hit?.time ?? null;
+}
+
+/** Java's String.hashCode, as Kafka's group coordinator places a group (Utils.abs(hash) % partitions). */
+function javaStringHash(text: string): number {
+  let hash = 0;
+  for (let i = 0; i < text.length; i++) hash = (Math.imul(31, hash) + text.charCodeAt(i)) | 0;
+  return hash;
+}
+
+/** The broker that coordinates `group`: the leader of its __consumer_offsets partition. */
+async function coordinatorOf(admin: Admin, group: string): Promise<number> {
+  const meta = await admin.fetchTopicMetadata({ topics: ['__consumer_offsets'] });
+  const partitions = meta.topics[0].partitions;
+  const hash = javaStringHash(group);
+  const index = (hash === -2147483648 ? 0 : Math.abs(hash)) % partitions.length;
+  return partitions.find((p) => p.partitionId === index)!.leader;
+}
+
+/**
+ * Polls the brokers' metadata (every 200 ms, each request a fresh Metadata call) until the given
+ * partitions have a leader other than `dead`; resolves with when each was first seen moved.
+ */
+async function leadersMoved(
+  admin: Admin,
+  watched: { topic: string; partition: number }[],
+  dead: number,
+  stop: { done: boolean },
+): Promise<(number | null)[]> {
+  const seen: (number | null)[] = watched.map(() => null);
+  const topics = [...new Set(watched.map((w) => w.topic))];
+  while (!stop.done && seen.some((t) => t === null)) {
+    const meta = await admin.fetchTopicMetadata({ topics }).catch(() => null);
+    const at = Date.now();
+    watched.forEach((w, i) => {
+      const leader = meta?.topics
+        .find((t) => t.name === w.topic)
+        ?.partitions.find((p) => p.partitionId === w.partition)?.leader;
+      if (seen[i] === null && leader !== undefined && leader >= 0 && leader !== dead) seen[i] = at;
+    });
+    await sleep(200);
+  }
+  return seen;
 }
 
 interface Names {
@@ -197,7 +305,7 @@ async function waitFullySynced(admin: Admin, topics: string[]): Promise<void> {
 async function appendTimes(kafka: Kafka, topic: string, partition: number, until: number): Promise<number[]> {
   const admin = kafka.admin();
   await admin.connect();
-  const end = Number((await admin.fetchTopicOffsets(topic)).find((o) => o.partition === partition)!.high);
+  const end = Number((await offsetsOf(admin, topic)).find((o) => o.partition === partition)!.high);
   await admin.disconnect();
   const times: number[] = [];
   if (end === 0) return times;
@@ -226,38 +334,78 @@ async function appendTimes(kafka: Kafka, topic: string, partition: number, until
 
 /** One run's figures (times in ms). */
 interface RunResult {
+  /** Which broker was killed: an input partition's leader that is not the group's coordinator, or the coordinator. */
+  victim: Victim;
   inputPartition: number;
   killedNode: number;
+  /** The group's coordinator before the kill, and whether it was the broker killed. */
+  coordinatorNode: number;
+  coordinatorKilled: boolean;
   inputPauseMs: number;
+  /**
+   * The input pause in phases, ms after the SIGKILL: a new leader of the input partition in the
+   * brokers' metadata; the gateway's first send to it acknowledged; the monitor's first fetch of a
+   * reading sent after the kill; its first checkpoint past it (= inputPauseMs). And for the alert
+   * partition: its new leader, then the first alert event appended (= alertPauseMs).
+   */
+  phases: {
+    inputLeaderMovedMs: number | null;
+    inputWrittenMs: number | null;
+    firstFetchMs: number | null;
+    checkpointedMs: number;
+    alertLeaderMovedMs: number | null;
+    alertAppendedMs: number | null;
+    /**
+     * The longest time without a fetched batch of any input partition the dead broker did not
+     * lead, from the kill to the resume: whether the partitions on live brokers stood still too.
+     */
+    othersLongestGapMs: number | null;
+    /**
+     * The first time the Kafka client's consumer gave up and restarted after the kill (its
+     * 'Crash:' line), or null: after a coordinator's death it does so once its heartbeats to the
+     * dead broker have failed, and joins again as a new member, which the new coordinator holds
+     * until the old member's session expires (firstRejoinMs): a second stop after the resume.
+     */
+    firstConsumerCrashMs: number | null;
+    /** 'partitions assigned' lines after the kill (each a rejoin of the group). */
+    rejoins: number;
+    firstRejoinMs: number | null;
+  };
   alertPartition: number | null;
   alertPauseMs: number | null;
   alertGapBeforeKillMs: number | null;
   longestProducerSendMs: number;
   failedProducerSends: number;
   loadAverage1m: number;
-  /** The monitor's log lines from the kill to the resume, by message (what it waited on). */
-  monitorAfterKill: Record<string, number>;
+  /** The monitor's log lines from the kill to the resume, by message: count and first time after the kill (ms). */
+  monitorAfterKill: Record<string, { count: number; firstMs: number }>;
 }
 
 /**
- * The monitor's log lines between two times, counted by message (cut to 90 characters); debug
- * lines too (the Kafka client's own retries are logged there), checkpoints left out.
+ * The monitor's log lines between two times, by message (cut to 90 characters): how many and the
+ * first one's time after `from`; debug lines too (the Kafka client's own retries are logged
+ * there), checkpoints and batches left out.
  */
-function linesBetween(mon: MonitorChild, from: number, to: number): Record<string, number> {
-  const counts: Record<string, number> = {};
+function linesBetween(
+  mon: MonitorChild,
+  from: number,
+  to: number,
+): Record<string, { count: number; firstMs: number }> {
+  const lines: Record<string, { count: number; firstMs: number }> = {};
   for (const e of mon.entries)
-    if (e.msg !== 'checkpoint' && e.time >= from && e.time <= to) {
+    if (e.msg !== 'checkpoint' && e.msg !== 'batch' && e.time >= from && e.time <= to) {
       const msg = String(e.msg).slice(0, 90);
-      counts[msg] = (counts[msg] ?? 0) + 1;
+      const line = (lines[msg] ??= { count: 0, firstMs: e.time - from });
+      line.count++;
     }
-  return counts;
+  return lines;
 }
 
 /** Waits until each alert partition holds at least `count` events (judging is live). */
 async function waitAlerts(admin: Admin, topic: string, count: number): Promise<void> {
   const deadline = Date.now() + 180_000;
   for (;;) {
-    const ends = await admin.fetchTopicOffsets(topic);
+    const ends = await offsetsOf(admin, topic);
     if (ends.every((o) => Number(o.high) >= count)) return;
     if (Date.now() > deadline)
       throw new Error(`alert topic ${topic}: fewer than ${count} events per partition in 180 s`);
@@ -311,14 +459,18 @@ interface Stack {
   pid(node: number): number;
 }
 
-/** One run: fresh topics and monitor, stream, SIGKILL the busiest input partition's leader, measure, restart it. */
-async function oneRun(stack: Stack, run: number): Promise<RunResult> {
+/**
+ * One run: fresh topics and monitor, stream, SIGKILL a broker (the leader of the busiest input
+ * partition that the group's coordinator does not lead, or the coordinator and the busiest input
+ * partition it leads), measure, restart it.
+ */
+async function oneRun(stack: Stack, run: number, victim: Victim): Promise<RunResult> {
   const { kafka, admin } = stack;
   const names = namesFor(run);
   await createTopics(admin, names);
   const configFile = join(stack.dir, `engine-${run}.yaml`);
   writeFileSync(configFile, CONFIG);
-  const mon = spawnMonitor(names, configFile);
+  const mon = spawnMonitor(names, configFile, run);
   const producer = kafka.producer({ idempotent: true, maxInFlightRequests: 1 });
   await producer.connect();
   const gateway = new KafkaGateway(producer, names.input, INPUT_PARTITIONS);
@@ -326,25 +478,56 @@ async function oneRun(stack: Stack, run: number): Promise<RunResult> {
   const streaming = streamUntil(gateway, stop);
   try {
     await waitAlerts(admin, names.alerts, 20);
-    const ends = await admin.fetchTopicOffsets(names.input);
-    const busiest = ends.reduce((a, b) => (Number(b.high) > Number(a.high) ? b : a)).partition;
+    const ends = await offsetsOf(admin, names.input);
     const meta = await admin.fetchTopicMetadata({ topics: [names.input, names.alerts] });
     const partitionsOf = (topic: string) => meta.topics.find((t) => t.name === topic)!.partitions;
-    const node = partitionsOf(names.input).find((p) => p.partitionId === busiest)!.leader;
+    const coordinatorNode = await coordinatorOf(admin, names.group);
+    const leaderOf = (partition: number) =>
+      partitionsOf(names.input).find((p) => p.partitionId === partition)!.leader;
+    // The busiest input partition among those the chosen kind of broker leads (any, if none).
+    const candidates = ends.filter((o) =>
+      victim === 'coordinator'
+        ? leaderOf(o.partition) === coordinatorNode
+        : leaderOf(o.partition) !== coordinatorNode,
+    );
+    const busiest = (candidates.length > 0 ? candidates : ends).reduce((a, b) =>
+      Number(b.high) > Number(a.high) ? b : a,
+    ).partition;
+    const node = victim === 'coordinator' ? coordinatorNode : leaderOf(busiest);
     const alertPartition = partitionsOf(names.alerts).find((p) => p.leader === node)?.partitionId ?? null;
     const alertEnd =
       alertPartition === null
         ? 0
-        : Number(
-            (await admin.fetchTopicOffsets(names.alerts)).find((o) => o.partition === alertPartition)!.high,
-          );
+        : Number((await offsetsOf(admin, names.alerts)).find((o) => o.partition === alertPartition)!.high);
     // Offsets from here on were sent after the kill (one send of CHUNK may be in flight).
     const sentAfterKill = gateway.acknowledgedCount(busiest) + CHUNK;
     const loadAverage1m = loadavg()[0];
+    // Metadata from the two survivors only: a client that also knows the dead broker retries on it
+    // with growing waits, which blurred this phase by seconds.
+    const survivors = new Kafka({
+      clientId: 'bench-failover-watch',
+      brokers: BROKERS.filter((_, i) => i + 1 !== node),
+      logLevel: logLevel.NOTHING,
+      retry: { initialRetryTime: 100, maxRetryTime: 200, retries: 2 },
+    }).admin();
+    await survivors.connect();
     const killedAt = Date.now();
     process.kill(stack.pid(node), 'SIGKILL');
+    const watching = { done: false };
+    const moved = leadersMoved(
+      survivors,
+      [
+        { topic: names.input, partition: busiest },
+        ...(alertPartition === null ? [] : [{ topic: names.alerts, partition: alertPartition }]),
+      ],
+      node,
+      watching,
+    );
     const resumedAt = await checkpointedPast(mon, busiest, sentAfterKill, killedAt);
     if (alertPartition !== null) await waitEndPast(admin, names.alerts, alertPartition, alertEnd);
+    watching.done = true;
+    const [inputMovedAt, alertMovedAt] = await moved;
+    await survivors.disconnect();
     // A few more seconds of alerts, so the partition holds some appended after the kill for sure.
     await sleep(3_000);
     stop.done = true;
@@ -364,10 +547,43 @@ async function oneRun(stack: Stack, run: number): Promise<RunResult> {
     }
     await stackScript('stack-up.sh', stack.env, ['--brokers', '3']);
     await waitFullySynced(admin, [names.input, names.alerts, names.rejected]);
+    const since = (t: number | null | undefined) => (t === null || t === undefined ? null : t - killedAt);
+    const others = new Set(
+      partitionsOf(names.input)
+        .filter((p) => p.leader !== node)
+        .map((p) => p.partitionId),
+    );
+    const otherBatches = [
+      killedAt,
+      ...mon.entries
+        .filter(
+          (e) => e.msg === 'batch' && others.has(e.partition!) && e.time > killedAt && e.time < resumedAt,
+        )
+        .map((e) => e.time),
+      resumedAt,
+    ];
+    const crash = mon.entries.find((e) => e.time > killedAt && String(e.msg).startsWith('Crash:'));
+    const rejoins = mon.entries.filter((e) => e.msg === 'partitions assigned' && e.time > killedAt);
     return {
+      victim,
       inputPartition: busiest,
       killedNode: node,
+      coordinatorNode,
+      coordinatorKilled: coordinatorNode === node,
       inputPauseMs: resumedAt - killedAt,
+      phases: {
+        inputLeaderMovedMs: since(inputMovedAt),
+        inputWrittenMs: since((gateway.acknowledgedAt.get(busiest) ?? []).find((t) => t > killedAt)),
+        firstFetchMs: since(fetchedPast(mon, busiest, sentAfterKill, killedAt)),
+        checkpointedMs: resumedAt - killedAt,
+        alertLeaderMovedMs: since(alertMovedAt),
+        alertAppendedMs: alertPauseMs,
+        othersLongestGapMs:
+          others.size === 0 ? null : Math.max(...otherBatches.slice(1).map((t, i) => t - otherBatches[i])),
+        firstConsumerCrashMs: since(crash?.time),
+        rejoins: rejoins.filter((e) => e.time <= resumedAt).length,
+        firstRejoinMs: since(rejoins[0]?.time),
+      },
       alertPartition,
       alertPauseMs,
       alertGapBeforeKillMs,
@@ -438,18 +654,28 @@ export async function run(): Promise<Record<string, unknown>> {
   const runs: RunResult[] = [];
   try {
     for (let i = 0; i < RUNS; i++) {
-      const result = await oneRun(stack, i);
+      const result = await oneRun(stack, i, victimOf(i));
       process.stderr.write(`failover run ${i + 1}/${RUNS}: ${JSON.stringify(result)}\n`);
       runs.push(result);
     }
   } finally {
     await stopStack(stack);
   }
-  const alerts = runs.flatMap((r) => (r.alertPauseMs === null ? [] : [r.alertPauseMs]));
+  const summary = (kind: Victim) => {
+    const of = runs.filter((r) => r.victim === kind);
+    return {
+      runs: of.length,
+      inputPauseMs: spread(of.map((r) => r.inputPauseMs)),
+      alertPauseMs: spread(of.flatMap((r) => (r.alertPauseMs === null ? [] : [r.alertPauseMs]))),
+      leaderMovedMs: spread(
+        of.flatMap((r) => (r.phases.inputLeaderMovedMs === null ? [] : [r.phases.inputLeaderMovedMs])),
+      ),
+    };
+  };
   return {
     setup: `3 brokers (replication 3, min.insync.replicas 2, broker defaults), ${INPUT_PARTITIONS} input / ${ALERT_PARTITIONS} alert partitions, ${SENSORS} sensors, about ${Math.round((INPUT_PARTITIONS * CHUNK * 1000) / GAP_MS)} readings/s offered, monitor checkpoints every 200 ms, --session-timeout-ms ${SESSION_TIMEOUT_MS ?? 'default (30000)'}`,
-    inputPauseMs: spread(runs.map((r) => r.inputPauseMs)),
-    alertPauseMs: spread(alerts),
+    leaderKilled: summary('leader'),
+    coordinatorKilled: summary('coordinator'),
     runs,
   };
 }

@@ -19,6 +19,8 @@ export class KafkaGateway {
   readonly failures: number[] = [];
   /** The longest time one send took until acknowledged (retries included). */
   longestSendMs = 0;
+  /** Per partition, the wall-clock time of each acknowledged send, in order. */
+  readonly acknowledgedAt = new Map<number, number[]>();
   readonly partitionOf: (sensor: string) => number;
 
   constructor(
@@ -65,6 +67,9 @@ export class KafkaGateway {
         const list = this.acknowledged.get(partition);
         if (list) list.push(...readings);
         else this.acknowledged.set(partition, [...readings]);
+        const times = this.acknowledgedAt.get(partition);
+        if (times) times.push(Date.now());
+        else this.acknowledgedAt.set(partition, [Date.now()]);
         return;
       } catch (err) {
         // The idempotent producer sends the same batch again with its sequence numbers, so a send
